@@ -1,0 +1,52 @@
+//! Arguments shared by the subcommands that read a circuit.
+
+use std::path::PathBuf;
+use std::sync::Arc;
+
+use crate::ir::Circuit;
+use crate::lang::{Diagnostic, Source};
+
+/// A circuit file and its parameter overrides.
+#[derive(Debug, clap::Args)]
+pub struct CircuitArgs {
+    /// The circuit file (`-` reads standard input).
+    pub file: PathBuf,
+    /// Override a parameter, e.g. `--set distance=5` (repeatable).
+    #[arg(long = "set", value_name = "NAME=INT", value_parser = parse_setting)]
+    pub set: Vec<(String, i64)>,
+}
+
+impl CircuitArgs {
+    /// Reads, parses, expands and checks the circuit.
+    pub fn load(&self) -> Result<Circuit, Vec<Diagnostic>> {
+        let source = read_source(&self.file).map_err(|d| vec![d])?;
+        crate::load_source(&source, &self.set)
+    }
+}
+
+/// Parses `NAME=INT`.
+pub fn parse_setting(s: &str) -> Result<(String, i64), String> {
+    let (k, v) = s
+        .split_once('=')
+        .ok_or_else(|| format!("expected NAME=INT, found `{s}`"))?;
+    let v: i64 = v
+        .trim()
+        .parse()
+        .map_err(|_| format!("`{v}` is not an integer"))?;
+    Ok((k.trim().to_string(), v))
+}
+
+/// Reads a file (or standard input for `-`) into a [`Source`]. Bytes that are not UTF-8 are
+/// rejected with the location of the first bad byte.
+pub fn read_source(path: &std::path::Path) -> Result<Arc<Source>, Diagnostic> {
+    let name = path.display().to_string();
+    let bytes = if name == "-" {
+        let mut buf = Vec::new();
+        std::io::Read::read_to_end(&mut std::io::stdin(), &mut buf)
+            .map_err(|e| Diagnostic::bare(format!("cannot read standard input: {e}")))?;
+        buf
+    } else {
+        std::fs::read(path).map_err(|e| Diagnostic::bare(format!("cannot read `{name}`: {e}")))?
+    };
+    crate::lang::source_from_bytes(name, bytes)
+}

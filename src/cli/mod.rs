@@ -1,0 +1,139 @@
+//! Command-line front end: argument parsing, dispatch and exit codes.
+//!
+//! Each subcommand lives in its own file with an `Args` struct and a `run` function returning
+//! [`CliError`] on failure. Only this module prints diagnostics and chooses exit codes.
+//!
+//! Exit codes (also in `--help` and the README):
+//!
+//! | code | meaning |
+//! |------|---------|
+//! | 0 | success |
+//! | 1 | input rejected: a diagnostic was printed |
+//! | 2 | usage error (bad flags) |
+//! | 3 | the answer is "no" (e.g. `fmt --check` found a file that is not canonical) |
+//! | 4 | internal error: a bug, please report it |
+
+pub mod check;
+pub mod common;
+pub mod fmt;
+pub mod graph;
+pub mod new;
+pub mod output;
+pub mod shots;
+pub mod trace;
+
+use std::io::IsTerminal;
+
+use clap::{Parser, Subcommand};
+
+use crate::lang::Diagnostic;
+
+/// Exit code: success.
+pub const EXIT_OK: i32 = 0;
+/// Exit code: the input was rejected and a diagnostic printed.
+pub const EXIT_REJECTED: i32 = 1;
+/// Exit code: bad command-line usage.
+pub const EXIT_USAGE: i32 = 2;
+/// Exit code: a yes/no command answers "no".
+pub const EXIT_NO: i32 = 3;
+/// Exit code: an internal error (a bug).
+pub const EXIT_INTERNAL: i32 = 4;
+
+const EXIT_TABLE: &str = "Exit codes: 0 success, 1 input rejected (a diagnostic was printed), \
+2 usage error, 3 the answer is no (e.g. `fmt --check` found changes), 4 internal error (please report).";
+
+/// slant: syndrome-extraction circuits under biased noise.
+#[derive(Debug, Parser)]
+#[command(name = "slant", version, about, after_help = EXIT_TABLE)]
+pub struct Cli {
+    /// What to do.
+    #[command(subcommand)]
+    pub command: Command,
+}
+
+/// The subcommands.
+#[derive(Debug, Subcommand)]
+pub enum Command {
+    /// Parse, expand and verify a circuit; print a summary.
+    Check(check::Args),
+    /// Print a circuit in canonical form.
+    Fmt(fmt::Args),
+    /// Write the weighted fault graph of a noisy circuit.
+    Graph(graph::Args),
+    /// Generate a code-family circuit in slant's language.
+    New(new::Args),
+    /// Sample detection events and observable flips.
+    Shots(shots::Args),
+    /// Show which circuit faults make up a fault-graph mechanism.
+    Trace(trace::Args),
+}
+
+/// Why a subcommand failed.
+#[derive(Debug)]
+pub enum CliError {
+    /// Input rejected with located diagnostics.
+    Rejected(Vec<Diagnostic>),
+    /// A yes/no command answered no; the message has been printed already.
+    No,
+    /// A bug.
+    Internal(String),
+}
+
+impl From<Vec<Diagnostic>> for CliError {
+    fn from(d: Vec<Diagnostic>) -> CliError {
+        CliError::Rejected(d)
+    }
+}
+
+impl From<Diagnostic> for CliError {
+    fn from(d: Diagnostic) -> CliError {
+        CliError::Rejected(vec![d])
+    }
+}
+
+/// Runs the CLI on the process arguments and returns the exit code.
+pub fn main() -> i32 {
+    let cli = match Cli::try_parse() {
+        Ok(cli) => cli,
+        Err(e) => {
+            let _ = e.print();
+            return if e.use_stderr() { EXIT_USAGE } else { EXIT_OK };
+        }
+    };
+    let result = match cli.command {
+        Command::Check(a) => check::run(a),
+        Command::Fmt(a) => fmt::run(a),
+        Command::Graph(a) => graph::run(a),
+        Command::New(a) => new::run(a),
+        Command::Shots(a) => shots::run(a),
+        Command::Trace(a) => trace::run(a),
+    };
+    match result {
+        Ok(()) => EXIT_OK,
+        Err(CliError::Rejected(diags)) => {
+            print_diagnostics(&diags);
+            EXIT_REJECTED
+        }
+        Err(CliError::No) => EXIT_NO,
+        Err(CliError::Internal(msg)) => {
+            eprintln!("slant: internal error: {msg}\nThis is a bug; please report it with the input that caused it.");
+            EXIT_INTERNAL
+        }
+    }
+}
+
+fn print_diagnostics(diags: &[Diagnostic]) {
+    let color = std::io::stderr().is_terminal() && std::env::var_os("NO_COLOR").is_none();
+    for d in diags {
+        let text = d.render();
+        if color {
+            // Colour only the severity word; the rest stays plain so tests and logs match.
+            let text = text
+                .replacen("error:", "\x1b[1;31merror\x1b[0m:", 1)
+                .replacen("warning:", "\x1b[1;33mwarning\x1b[0m:", 1);
+            eprint!("{text}");
+        } else {
+            eprint!("{text}");
+        }
+    }
+}

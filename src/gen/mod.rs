@@ -1,0 +1,1 @@
+//! Code-family generators: each writes a circuit in slant's language.

@@ -1,0 +1,198 @@
+//! The backward sensitivity sweep: which detectors and observables a Pauli at a given point of the
+//! circuit would flip.
+//!
+//! Walking the circuit from the end to the start, we keep for every qubit the set of *symptoms*
+//! (detector ids `0..D`, then observable ids `D..D+O`) that an X and a Z at the current point would
+//! flip. Past a gate, the sets follow the gate's Heisenberg images ([`Gate::heisenberg`]); past a
+//! measurement of `P`, every Pauli that anticommutes with `P` also flips that record's symptoms;
+//! past a reset, the qubit forgets everything (errors before a reset do nothing).
+//!
+//! One sweep serves two clients: the determinism check (a detector is deterministic iff no
+//! *gauge* Pauli flips it: the measured Pauli right after a measurement, the reset basis right
+//! after a reset, Z on every qubit at the start) and the fault-graph extractor (a fault's
+//! symptom is the XOR of the sensitivities of its Pauli terms). Each costs one pass over the
+//! circuit, never one simulation per fault.
+//!
+//! Sets are sorted `Vec<u32>`: in codes with local checks each set holds a handful of ids, so
+//! merging two short sorted vectors beats bitsets of width D+O.
+
+use crate::ir::{Circuit, Gate, Op, OpKind, Pauli};
+
+/// A sorted set of symptom ids.
+pub type SymSet = Vec<u32>;
+
+/// XOR of two sorted sets.
+pub fn xor_sets(a: &[u32], b: &[u32]) -> SymSet {
+    let mut out = Vec::with_capacity(a.len() + b.len());
+    let (mut i, mut j) = (0, 0);
+    while i < a.len() && j < b.len() {
+        match a[i].cmp(&b[j]) {
+            std::cmp::Ordering::Less => {
+                out.push(a[i]);
+                i += 1;
+            }
+            std::cmp::Ordering::Greater => {
+                out.push(b[j]);
+                j += 1;
+            }
+            std::cmp::Ordering::Equal => {
+                i += 1;
+                j += 1;
+            }
+        }
+    }
+    out.extend_from_slice(&a[i..]);
+    out.extend_from_slice(&b[j..]);
+    out
+}
+
+/// Where the sweep is when it calls the visitor.
+#[derive(Clone, Copy, Debug)]
+pub enum Point<'c> {
+    /// Just after `op` (layer `layer`, position `index` in it), before the sweep undoes it.
+    After {
+        /// Layer index.
+        layer: usize,
+        /// Position in the layer.
+        index: usize,
+        /// The operation.
+        op: &'c Op,
+    },
+    /// The start of the circuit, where every qubit is in |0>.
+    Start,
+}
+
+/// Per-qubit X and Z sensitivities at the sweep's current point.
+#[derive(Clone, Debug)]
+pub struct Sensitivity {
+    /// `x[q]`: symptoms an X on qubit q would flip.
+    pub x: Vec<SymSet>,
+    /// `z[q]`: symptoms a Z on qubit q would flip.
+    pub z: Vec<SymSet>,
+    /// For each record, the symptoms that contain it.
+    pub record_symptoms: Vec<SymSet>,
+    /// Number of detectors (observable ids start here).
+    pub detectors: u32,
+}
+
+impl Sensitivity {
+    /// Symptoms flipped by one Pauli on one qubit.
+    pub fn of(&self, pauli: Pauli, qubit: u32) -> SymSet {
+        let q = qubit as usize;
+        match pauli {
+            Pauli::I => Vec::new(),
+            Pauli::X => self.x[q].clone(),
+            Pauli::Z => self.z[q].clone(),
+            Pauli::Y => xor_sets(&self.x[q], &self.z[q]),
+        }
+    }
+
+    /// Symptoms flipped by a Pauli product.
+    pub fn of_product(&self, factors: impl IntoIterator<Item = (Pauli, u32)>) -> SymSet {
+        let mut acc = Vec::new();
+        for (p, q) in factors {
+            if p.has_x() {
+                acc = xor_sets(&acc, &self.x[q as usize]);
+            }
+            if p.has_z() {
+                acc = xor_sets(&acc, &self.z[q as usize]);
+            }
+        }
+        acc
+    }
+
+    fn undo(&mut self, op: &Op) {
+        match &op.kind {
+            OpKind::Noise(_) => {}
+            OpKind::Reset(_) => {
+                for &q in &op.targets {
+                    self.x[q as usize].clear();
+                    self.z[q as usize].clear();
+                }
+            }
+            OpKind::Measure { record, .. } => {
+                let flips = &self.record_symptoms[*record as usize];
+                if flips.is_empty() {
+                    return;
+                }
+                for (&q, &p) in op.targets.iter().zip(&op.paulis) {
+                    let q = q as usize;
+                    // An X flips the result iff P has a Z part, and vice versa.
+                    if p.has_z() {
+                        self.x[q] = xor_sets(&self.x[q], flips);
+                    }
+                    if p.has_x() {
+                        self.z[q] = xor_sets(&self.z[q], flips);
+                    }
+                }
+            }
+            OpKind::Gate(g) => self.undo_gate(*g, &op.targets),
+        }
+    }
+
+    fn undo_gate(&mut self, gate: Gate, targets: &[u32]) {
+        let h = gate.heisenberg();
+        for chunk in targets.chunks(gate.arity()) {
+            let before: Vec<SymSet> = (0..2 * chunk.len())
+                .map(|k| {
+                    let image = h[k];
+                    self.of_product(chunk.iter().zip(image).map(|(&q, p)| (p, q)))
+                })
+                .collect();
+            for (i, &q) in chunk.iter().enumerate() {
+                self.x[q as usize] = before[2 * i].clone();
+                self.z[q as usize] = before[2 * i + 1].clone();
+            }
+        }
+    }
+}
+
+/// Runs the backward sweep over `circuit`, calling `visit` at every operation (with the
+/// sensitivities just after it) and finally at the start.
+pub fn sweep<'c>(circuit: &'c Circuit, mut visit: impl FnMut(Point<'c>, &Sensitivity)) {
+    let n = circuit.qubits.len();
+    let d = circuit.detectors.len() as u32;
+    let mut record_symptoms = vec![Vec::new(); circuit.records.len()];
+    for (i, det) in circuit.detectors.iter().enumerate() {
+        for &r in &det.records {
+            record_symptoms[r as usize].push(i as u32);
+        }
+    }
+    for (i, obs) in circuit.observables.iter().enumerate() {
+        for &r in &obs.records {
+            record_symptoms[r as usize].push(d + i as u32);
+        }
+    }
+    let mut s = Sensitivity {
+        x: vec![Vec::new(); n],
+        z: vec![Vec::new(); n],
+        record_symptoms,
+        detectors: d,
+    };
+    for (li, layer) in circuit.layers.iter().enumerate().rev() {
+        for (oi, op) in layer.ops.iter().enumerate().rev() {
+            visit(
+                Point::After {
+                    layer: li,
+                    index: oi,
+                    op,
+                },
+                &s,
+            );
+            s.undo(op);
+        }
+    }
+    visit(Point::Start, &s);
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn xor_of_sorted_sets() {
+        assert_eq!(xor_sets(&[1, 3, 5], &[2, 3, 6]), vec![1, 2, 5, 6]);
+        assert_eq!(xor_sets(&[], &[4]), vec![4]);
+        assert_eq!(xor_sets(&[4], &[4]), Vec::<u32>::new());
+    }
+}

@@ -1,0 +1,1 @@
+//! Canonical printer (in progress).

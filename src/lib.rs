@@ -1,0 +1,57 @@
+//! slant: syndrome-extraction circuits under biased noise.
+//!
+//! The crate has the shape of a compiler. Each stage has one entry function taking the previous
+//! stage's type:
+//!
+//! ```text
+//! text ──lang::parse──▶ Ast ──ir::expand──▶ Circuit ──ir::check──▶ checked Circuit
+//!                                              │
+//!                         noise::apply (presets, model files) writes explicit channels
+//!                                              │
+//!             ┌────────────────────────────────┼────────────────────────────┐
+//!             ▼                                ▼                            ▼
+//!   sim (tableau reference,          faults (backward sweep ──▶      gen (code families,
+//!        Pauli-frame sampler)         FaultGraph ──▶ exports)          emits language text)
+//!             │                                │
+//!             └──────────────┬─────────────────┘
+//!                            ▼
+//!              analysis (bias, distance, comparison) · decode (matching, estimates, sweeps)
+//!                            ▼
+//!                     cli (one file per subcommand)
+//! ```
+//!
+//! Imports go one way: `lang ← ir ← noise ← sim ← faults ← {analysis, decode} ← cli`. Nothing
+//! imports `cli`; `gen` only produces text, which tests parse back. nom types stay inside `lang`;
+//! the rest of the crate sees [`lang::Ast`] and [`lang::Diagnostic`]. Library modules never print
+//! or exit: they return values or diagnostics, and `cli` renders them and picks the exit code.
+//!
+//! Results of the simulators and the fault graph are estimates under the stated noise model:
+//! Pauli channels (twirled where the hardware is not Pauli), independent between locations.
+//!
+//! ```
+//! let src = slant::lang::Source::new("bell.slant", "qubit a\nqubit b\nh a\ncx a b\n\
+//!     measure z a -> ma\nmeasure z b -> mb\ndetector = ma ^ mb\n");
+//! let circuit = slant::load_source(&src, &[]).unwrap();
+//! assert_eq!(circuit.detectors.len(), 1);
+//! ```
+
+pub mod cli;
+pub mod gen;
+pub mod ir;
+pub mod lang;
+
+use std::sync::Arc;
+
+use crate::lang::{Diagnostic, Source};
+
+/// Parses, expands and checks a source with parameter overrides: the front half of every
+/// subcommand.
+pub fn load_source(
+    source: &Arc<Source>,
+    overrides: &[(String, i64)],
+) -> Result<ir::Circuit, Vec<Diagnostic>> {
+    let ast = lang::parse(source)?;
+    let circuit = ir::expand::expand(&ast, overrides, &ir::expand::Limits::default())?;
+    ir::check::check(&circuit)?;
+    Ok(circuit)
+}

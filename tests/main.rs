@@ -1,0 +1,1 @@
+//! The one integration-test binary: runs the real `slant` executable, one module per subcommand.
