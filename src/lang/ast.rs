@@ -153,6 +153,10 @@ pub enum NoiseTargets {
 /// Statement forms.
 #[derive(Clone, Debug, PartialEq)]
 pub enum StmtKind {
+    /// A blank line between statements (kept so `slant fmt` preserves paragraphs).
+    Blank,
+    /// A comment on a line of its own (text after `#`).
+    Comment(String),
     /// `detector name? (at (..))? = parity`
     Detector {
         /// Optional name.
@@ -252,4 +256,6 @@ pub struct Stmt {
     pub kind: StmtKind,
     /// From the leading keyword to the end of the statement (blocks included).
     pub span: Span,
+    /// A comment after the statement on the same line (text after `#`).
+    pub comment: Option<String>,
 }
