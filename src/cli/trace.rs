@@ -1,12 +1,116 @@
-//! `slant trace` (in progress).
+//! `slant trace`: which circuit faults make up a fault-graph mechanism.
 
+use std::fmt::Write;
+
+use crate::cli::common::CircuitArgs;
 use crate::cli::CliError;
+use crate::faults::{ExtractOptions, FaultGraph};
+use crate::lang::Diagnostic;
 
 /// Arguments of `slant trace`.
 #[derive(Debug, clap::Args)]
-pub struct Args {}
+#[command(group(clap::ArgGroup::new("which").required(true).args(["mechanism", "detectors"])))]
+pub struct Args {
+    /// The circuit.
+    #[command(flatten)]
+    pub circuit: CircuitArgs,
+    /// Noise model applied before extraction.
+    #[arg(long, value_name = "MODEL")]
+    pub noise: Option<String>,
+    /// Index of the mechanism (as in `slant graph --format text`).
+    #[arg(long)]
+    pub mechanism: Option<usize>,
+    /// The mechanisms with exactly these detectors, e.g. `3,7` (one detector: a boundary edge).
+    #[arg(long, value_delimiter = ',')]
+    pub detectors: Option<Vec<u32>>,
+}
+
+/// Renders the contributors of mechanism `k`, naming qubits by `names` (indices if absent).
+pub fn describe(graph: &FaultGraph, k: usize, names: &[&str]) -> String {
+    let m = &graph.mechanisms[k];
+    let list = |v: &[u32]| {
+        v.iter()
+            .map(u32::to_string)
+            .collect::<Vec<_>>()
+            .join(",")
+    };
+    let mut s = String::new();
+    let _ = writeln!(
+        s,
+        "mechanism {k}: p={:.6e} weight={:.4} class={} detectors=[{}] observables=[{}], {} fault(s)",
+        m.probability,
+        m.weight(),
+        m.classes.name(),
+        list(&m.detectors),
+        list(&m.observables),
+        m.provenance.len()
+    );
+    for c in graph.contributors(k) {
+        let qubits: Vec<String> = c
+            .qubits
+            .iter()
+            .map(|&q| names.get(q as usize).map_or(format!("#{q}"), |n| n.to_string()))
+            .collect();
+        let what = match c.record {
+            Some(r) => format!("flip of record {r} measured on {}", qubits.join(" ")),
+            None => format!("{} on {}", c.term_text(), qubits.join(" ")),
+        };
+        let _ = writeln!(
+            s,
+            "  {}: `{}` — {what}, p={:.6e} (independent {:.6e}), {}",
+            graph.location(c),
+            graph.op_text(c),
+            c.term_probability,
+            c.probability,
+            c.class.name()
+        );
+    }
+    s
+}
 
 /// Runs `slant trace`.
-pub fn run(_args: Args) -> Result<(), CliError> {
-    Err(CliError::Internal("`trace` is not built yet".into()))
+pub fn run(args: Args) -> Result<(), CliError> {
+    let circuit = crate::cli::graph::load_noisy(&args.circuit, args.noise.as_deref())?;
+    let graph = crate::faults::extract(&circuit, &ExtractOptions::default());
+    let names: Vec<&str> = circuit.qubits.iter().map(|q| q.name.as_str()).collect();
+    let ks: Vec<usize> = match (args.mechanism, &args.detectors) {
+        (Some(k), _) => {
+            if k >= graph.mechanisms.len() {
+                return Err(Diagnostic::bare(format!(
+                    "there is no mechanism {k}: the graph has {} (0..{})",
+                    graph.mechanisms.len(),
+                    graph.mechanisms.len()
+                ))
+                .into());
+            }
+            vec![k]
+        }
+        (None, Some(dets)) => {
+            let mut dets = dets.clone();
+            dets.sort_unstable();
+            dets.dedup();
+            let found = graph.find_by_detectors(&dets);
+            if found.is_empty() {
+                return Err(Diagnostic::bare(format!(
+                    "no mechanism flips exactly the detectors {dets:?}"
+                ))
+                .with_hint("list the mechanisms with `slant graph FILE --format text`")
+                .into());
+            }
+            found
+        }
+        (None, None) => unreachable_group()?,
+    };
+    let mut out = String::new();
+    for k in ks {
+        out.push_str(&describe(&graph, k, &names));
+    }
+    print!("{out}");
+    Ok(())
+}
+
+fn unreachable_group() -> Result<Vec<usize>, CliError> {
+    Err(CliError::Internal(
+        "clap should require `--mechanism` or `--detectors`".into(),
+    ))
 }

@@ -263,6 +263,9 @@ pub struct FaultGraph {
     pub decompositions: Vec<Decomposition>,
     /// Hyperedge summary.
     pub hyperedges: HyperedgeStats,
+    /// Channel applications whose terms could not be converted exactly into independent
+    /// mechanisms and used the first-order conversion instead (see [`crate::faults`]).
+    pub inexact_channels: usize,
 }
 
 impl FaultGraph {

@@ -1,0 +1,53 @@
+//! Exports of the fault graph: JSON, Matrix Market + NumPy, Graphviz and plain text.
+//!
+//! In: a [`FaultGraph`] (or its [`crate::faults::MatchingGraph`] view with `graphlike`). Out:
+//! bytes; the CLI writes them atomically. Every format is parsed back by the tests into the same
+//! graph. Schemas:
+//! - [`json`]: `format = "slant-fault-graph"` or `"slant-matching-graph"`, `version = 1`;
+//! - [`mtx`]: `H.mtx` (detectors × columns), `L.mtx` (observables × columns) in Matrix Market
+//!   coordinate integer general format, `priors.npy` (float64, NumPy format 1.0); a column is a
+//!   mechanism, or an edge of the matching graph with `graphlike`;
+//! - [`dot`]: Graphviz `graph`, detectors pinned at their first two coordinates;
+//! - [`text`]: one line per mechanism or edge.
+
+pub mod dot;
+pub mod json;
+pub mod mtx;
+pub mod npy;
+pub mod text;
+
+use crate::faults::graph::{FaultGraph, GraphlikeStats, MatchingGraph};
+
+/// An output format of `slant graph`.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
+pub enum Format {
+    /// Graphviz.
+    Dot,
+    /// JSON with the documented schema.
+    Json,
+    /// Directory with `H.mtx`, `L.mtx` and `priors.npy`.
+    Mtx,
+    /// Compact listing.
+    Text,
+}
+
+/// What to export: every mechanism, or the graphlike view.
+pub enum View<'g> {
+    /// Every mechanism of the graph, hyperedges included.
+    Full(&'g FaultGraph),
+    /// The matching graph built from it, with the stats of building it.
+    Graphlike(&'g FaultGraph, &'g MatchingGraph, &'g GraphlikeStats),
+}
+
+/// Files of an export: `(name, bytes)`; a single unnamed entry for one-file formats.
+pub type Files = Vec<(String, Vec<u8>)>;
+
+/// Renders a view in a format.
+pub fn render(view: &View<'_>, format: Format) -> Files {
+    match format {
+        Format::Dot => vec![(String::new(), dot::render(view).into_bytes())],
+        Format::Json => vec![(String::new(), json::render(view))],
+        Format::Mtx => mtx::render(view),
+        Format::Text => vec![(String::new(), text::render(view).into_bytes())],
+    }
+}
