@@ -36,6 +36,7 @@
 //! ```
 
 pub mod cli;
+pub mod decode;
 pub mod faults;
 pub mod gen;
 pub mod ir;
