@@ -1,1 +1,4 @@
 //! The one integration-test binary: runs the real `slant` executable, one module per subcommand.
+mod lang;
+mod graph;
+mod decode;
