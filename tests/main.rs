@@ -1,4 +1,2 @@
 //! The one integration-test binary: runs the real `slant` executable, one module per subcommand.
-mod lang;
 mod graph;
-mod decode;
