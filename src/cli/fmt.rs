@@ -1,12 +1,63 @@
-//! `slant fmt` (in progress).
+//! `slant fmt`: print a circuit in canonical form.
 
+use std::path::PathBuf;
+
+use crate::cli::common::read_source;
+use crate::cli::output::write_atomic;
 use crate::cli::CliError;
 
 /// Arguments of `slant fmt`.
 #[derive(Debug, clap::Args)]
-pub struct Args {}
+pub struct Args {
+    /// Circuit files (`-` reads standard input).
+    #[arg(required = true)]
+    pub files: Vec<PathBuf>,
+    /// Do not print; exit with code 3 if a file is not in canonical form.
+    #[arg(long, conflicts_with = "write")]
+    pub check: bool,
+    /// Rewrite the files in place (atomically).
+    #[arg(long)]
+    pub write: bool,
+}
 
 /// Runs `slant fmt`.
-pub fn run(_args: Args) -> Result<(), CliError> {
-    Err(CliError::Internal("`fmt` is not built yet".into()))
+pub fn run(args: Args) -> Result<(), CliError> {
+    let mut differs = false;
+    let mut errors = Vec::new();
+    for path in &args.files {
+        let source = match read_source(path) {
+            Ok(s) => s,
+            Err(d) => {
+                errors.push(d);
+                continue;
+            }
+        };
+        let ast = match crate::lang::parse(&source) {
+            Ok(a) => a,
+            Err(d) => {
+                errors.extend(d);
+                continue;
+            }
+        };
+        let text = crate::lang::print::print(&ast);
+        if args.check {
+            if text != source.text {
+                differs = true;
+                println!("{}: not in canonical form (run `slant fmt --write`)", path.display());
+            }
+        } else if args.write {
+            if text != source.text {
+                write_atomic(path, text.as_bytes()).map_err(|d| CliError::Rejected(vec![d]))?;
+            }
+        } else {
+            print!("{text}");
+        }
+    }
+    if !errors.is_empty() {
+        return Err(CliError::Rejected(errors));
+    }
+    if differs {
+        return Err(CliError::No);
+    }
+    Ok(())
 }

@@ -145,7 +145,7 @@ fn render_label(out: &mut String, label: &Label) {
     let _ = writeln!(out, "{pad} |");
     let _ = writeln!(out, "{gutter} | {prefix}{}", shown.replace('\t', " "));
     let caret_col = col - 1 - first + prefix.len();
-    let width = width.min(MAX_SHOWN.saturating_sub(caret_col).max(1));
+    let width = width.min((MAX_SHOWN + prefix.len()).saturating_sub(caret_col).max(1));
     let _ = write!(
         out,
         "{pad} | {}{}",

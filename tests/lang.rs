@@ -1,0 +1,485 @@
+//! The language front end: bad-input catalogue, canonical printer round trips, grammar samples,
+//! and the `check` and `fmt` subcommands end to end.
+
+use std::io::Write;
+use std::process::{Command, Stdio};
+
+use proptest::prelude::*;
+use slant::lang::{Diagnostic, Source};
+
+/// Runs the real binary with optional standard input; returns (exit code, stdout, stderr).
+fn slant(args: &[&str], stdin: Option<&str>) -> (i32, String, String) {
+    let mut child = Command::new(env!("CARGO_BIN_EXE_slant"))
+        .args(args)
+        .env("NO_COLOR", "1")
+        .stdin(Stdio::piped())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .expect("binary runs");
+    if let Some(text) = stdin {
+        child.stdin.take().unwrap().write_all(text.as_bytes()).unwrap();
+    } else {
+        drop(child.stdin.take());
+    }
+    let out = child.wait_with_output().unwrap();
+    (
+        out.status.code().unwrap_or(-1),
+        String::from_utf8_lossy(&out.stdout).into_owned(),
+        String::from_utf8_lossy(&out.stderr).into_owned(),
+    )
+}
+
+fn load(text: &str) -> Result<slant::ir::Circuit, Vec<Diagnostic>> {
+    slant::load_source(&Source::new("t.slant", text), &[])
+}
+
+/// Asserts that `text` is rejected with a first diagnostic whose message contains `message` and
+/// whose primary location is `line:col`.
+fn rejects(text: &str, message: &str, line: usize, col: usize) {
+    rejects_with(text, &[], message, line, col);
+}
+
+fn rejects_with(text: &str, sets: &[(String, i64)], message: &str, line: usize, col: usize) {
+    let errs = match slant::load_source(&Source::new("t.slant", text), sets) {
+        Ok(_) => panic!("accepted but should reject with `{message}`:\n{text}"),
+        Err(e) => e,
+    };
+    let d = &errs[0];
+    assert!(
+        d.message.contains(message),
+        "message `{}` lacks `{message}`\n{}",
+        d.message,
+        d.render()
+    );
+    let (_, l, c) = d.location().expect("located");
+    assert_eq!((l, c), (line, col), "location of `{}`\n{}", d.message, d.render());
+}
+
+// ---- the bad-input catalogue ------------------------------------------------------------------
+
+#[test]
+fn unknown_gate_with_suggestion() {
+    let errs = load("qubit a\nqubit b\nczz a b\n").unwrap_err();
+    assert_eq!(errs[0].message, "unknown statement or gate `czz`");
+    assert_eq!(errs[0].hint.as_deref(), Some("did you mean `cz`?"));
+    rejects("qubit a\nqubit b\nczz a b\n", "unknown statement or gate", 3, 1);
+}
+
+#[test]
+fn upper_case_gate_gets_a_hint() {
+    let errs = load("qubit a\nH a\n").unwrap_err();
+    assert_eq!(errs[0].hint.as_deref(), Some("gate names are lower-case: `h`"));
+}
+
+#[test]
+fn wrong_arity_two_qubit() {
+    rejects("qubit a\nqubit b\nqubit c\ncx a b c\n", "`cx` acts on 2 qubits but this group has 3", 4, 4);
+}
+
+#[test]
+fn wrong_arity_one_qubit() {
+    rejects("qubit a\nqubit b\nh a b\n", "`h` acts on 1 qubit but this group has 2", 3, 3);
+}
+
+#[test]
+fn qubit_twice_in_layer() {
+    rejects("qubit a\nlayer { h a; x a }\n", "qubit `a` is used twice in one layer", 2, 16);
+}
+
+#[test]
+fn qubit_twice_in_one_gate() {
+    rejects("qubit a\ncx a a\n", "qubit `a` is used twice in one layer", 2, 6);
+}
+
+#[test]
+fn undefined_qubit() {
+    rejects("qubit alpha\nh alpah\n", "undefined qubit `alpah`", 2, 3);
+    let errs = load("qubit alpha\nh alpah\n").unwrap_err();
+    assert_eq!(errs[0].hint.as_deref(), Some("did you mean `alpha`?"));
+}
+
+#[test]
+fn undefined_result() {
+    rejects("qubit a\nmeasure z a -> m\ndetector = mm\n", "undefined result `mm`", 3, 12);
+}
+
+#[test]
+fn result_of_a_later_iteration() {
+    let text = "qubit a\nfor r in 0..3 {\n    measure z a -> m[r]\n    detector = m[r] ^ m[r + 1]\n}\n";
+    rejects(text, "result `m[1]` is used before it is measured", 4, 23);
+}
+
+#[test]
+fn index_out_of_range() {
+    rejects("qubit q[0..3]\nh q[3]\n", "index out of range: qubit `q[3]` is not declared", 2, 3);
+}
+
+#[test]
+fn duplicate_qubit() {
+    let errs = load("qubit a\nqubit a\n").unwrap_err();
+    assert_eq!(errs[0].secondary[0].text, "first declared here");
+    rejects("qubit a\nqubit a\n", "qubit `a` is declared twice", 2, 7);
+}
+
+#[test]
+fn duplicate_result() {
+    rejects("qubit a\nmeasure z a -> m\nmeasure z a -> m\n", "result `m` is measured twice", 3, 16);
+}
+
+#[test]
+fn probability_out_of_range() {
+    rejects("qubit a\nnoise dephasing p=1.5 a\n", "probability `1.5` is outside [0, 1]", 2, 19);
+}
+
+#[test]
+fn channel_sum_above_one() {
+    rejects("qubit a\nnoise pauli x=0.6 z=0.6 a\n", "sum to 1.2, above 1", 2, 1);
+}
+
+#[test]
+fn malformed_number() {
+    rejects("qubit a\nnoise dephasing p=1e a\n", "malformed number `1e`", 2, 19);
+    rejects("qubit a\nnoise dephasing p=.5 a\n", "malformed number", 2, 19);
+}
+
+#[test]
+fn unterminated_block() {
+    rejects("qubit a\nlayer {\n    h a\n", "unterminated block", 2, 7);
+}
+
+#[test]
+fn unexpected_closing_brace() {
+    rejects("qubit a\nh a\n}\n", "unexpected `}` with no open block", 3, 1);
+}
+
+#[test]
+fn loop_past_the_size_limit() {
+    let text = "qubit a\nfor i in 0..100000 {\n    for j in 0..100000 {\n        h a\n    }\n}\n";
+    rejects(text, "this loop would expand to about 10000000000 items", 2, 1);
+}
+
+#[test]
+fn override_of_unknown_parameter() {
+    let sets = vec![("distanse".to_string(), 5)];
+    let errs = slant::load_source(&Source::new("t", "param distance = 3\nqubit a\n"), &sets).unwrap_err();
+    assert_eq!(errs[0].message, "`--set distanse=...` names no parameter of this circuit");
+    assert_eq!(errs[0].hint.as_deref(), Some("did you mean `distance`?"));
+}
+
+#[test]
+fn non_deterministic_detector_names_the_culprit() {
+    let text = "qubit a\nqubit b\nh b\nmeasure z a -> ma\nmeasure z b -> mb\ndetector both = ma ^ mb\n";
+    let errs = load(text).unwrap_err();
+    assert!(errs[0].message.contains("detector `both` is not deterministic"));
+    let (_, l, c) = errs[0].location().unwrap();
+    assert_eq!((l, c), (6, 1));
+    assert!(errs[0].secondary[0].text.contains("initial |0> state of `b`"));
+}
+
+#[test]
+fn non_deterministic_detector_from_a_measurement() {
+    // The X measurement in between randomises the second Z result.
+    let text = "qubit a\nmeasure z a -> m1\nmeasure x a -> m2\nmeasure z a -> m3\ndetector = m1 ^ m3\n";
+    let errs = load(text).unwrap_err();
+    let label = &errs[0].secondary[0];
+    assert!(label.text.contains("randomised by this measurement"), "{}", errs[0].render());
+    assert_eq!(label.source.line_col(label.span.start).0, 3);
+}
+
+#[test]
+fn non_deterministic_observable() {
+    rejects("qubit a\nh a\nmeasure z a -> m\nobservable logical = m\n", "observable `logical` is not deterministic", 4, 1);
+}
+
+#[test]
+fn empty_file_is_rejected() {
+    rejects("", "the circuit declares no qubits", 1, 1);
+    rejects("# only a comment\n", "the circuit declares no qubits", 1, 1);
+}
+
+#[test]
+fn non_utf8_bytes() {
+    let err = slant::lang::source_from_bytes("t.slant".into(), b"qubit a\n\xffh a\n".to_vec()).unwrap_err();
+    assert_eq!(err.message, "the file is not valid UTF-8");
+    assert_eq!(err.location().map(|l| (l.1, l.2)), Some((2, 1)));
+}
+
+#[test]
+fn very_long_line_is_windowed() {
+    let mut text = String::from("qubit a\n");
+    for _ in 0..2000 {
+        text.push_str("h a; ");
+    }
+    text.push_str("hh a\n");
+    let errs = load(&text).unwrap_err();
+    let (_, l, c) = errs[0].location().unwrap();
+    assert_eq!((l, c), (2, 10001));
+    let rendered = errs[0].render();
+    assert!(rendered.lines().all(|line| line.len() < 200), "{rendered}");
+    assert!(rendered.contains("2 | ... h a;") && rendered.contains("hh a\n"), "{rendered}");
+    assert!(rendered.contains("^^\n"), "{rendered}");
+}
+
+#[test]
+fn deep_nesting_is_refused() {
+    let mut text = String::from("qubit a\n");
+    for _ in 0..100 {
+        text.push_str("if 1 {\n");
+    }
+    rejects(&text, "nests deeper than 64 levels", 66, 6);
+}
+
+#[test]
+fn unknown_channel_and_parameter() {
+    rejects("qubit a\nnoise depolarising p=0.1 a\n", "unknown noise channel `depolarising`", 2, 7);
+    rejects("qubit a\nnoise dephasing q=0.1 a\n", "`dephasing` takes no parameter `q`", 2, 17);
+    rejects("qubit a\nnoise dephasing a\n", "`noise dephasing` needs `p=`", 2, 1);
+}
+
+#[test]
+fn measurement_without_result_name() {
+    rejects("qubit a\nmeasure z a m\n", "expected `->` and a result name", 2, 13);
+}
+
+#[test]
+fn missing_basis() {
+    rejects("qubit a\nreset a\n", "expected a basis `x`, `y` or `z`, found `a`", 2, 7);
+}
+
+#[test]
+fn reserved_word_as_name() {
+    rejects("qubit at\n", "`at` is a reserved word", 1, 7);
+}
+
+#[test]
+fn unknown_name_in_expression() {
+    rejects("param distance = 3\nqubit a\nfor k in 0..distanc {\n    h a\n}\n", "unknown name `distanc`", 3, 13);
+}
+
+#[test]
+fn division_by_zero() {
+    rejects("qubit q[0..2]\nh q[1 / 0]\n", "division by zero", 2, 9);
+}
+
+#[test]
+fn trailing_junk_after_statement() {
+    rejects("qubit a\nh a )\n", "expected the end of the statement, found `)`", 2, 5);
+}
+
+#[test]
+fn extending_an_undeclared_observable() {
+    rejects("qubit a\nmeasure z a -> m\nobservable l ^= m\n", "extended before it is declared", 3, 12);
+}
+
+#[test]
+fn zipped_ranges_of_different_length() {
+    rejects("qubit a[0..3]\nqubit b[0..2]\ncx a[0..3] b[0..2]\n", "different lengths (3 and 2)", 3, 4);
+}
+
+#[test]
+fn chained_comparison() {
+    rejects("qubit a\nif 1 < 2 < 3 {\n    h a\n}\n", "comparisons cannot be chained", 2, 10);
+}
+
+#[test]
+fn several_independent_errors_are_reported() {
+    let errs = load("qubit a\nczz a\nh a\nmesure z a -> m\n").unwrap_err();
+    assert_eq!(errs.len(), 2, "{errs:?}");
+    assert_eq!(errs[1].location().map(|l| l.1), Some(4));
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 300, .. ProptestConfig::default() })]
+
+    /// Random bytes never panic the front end.
+    #[test]
+    fn random_bytes_never_panic(bytes in proptest::collection::vec(any::<u8>(), 0..400)) {
+        if let Ok(src) = slant::lang::source_from_bytes("r".into(), bytes) {
+            let _ = slant::load_source(&src, &[]);
+        }
+    }
+
+    /// Random edits of valid circuits never panic the front end.
+    #[test]
+    fn mutated_circuits_never_panic(pos in 0usize..2000, len in 0usize..8, insert in "[ -~\n]{0,6}", which in 0usize..2) {
+        let base = [BELL, REPETITION][which];
+        let pos = pos.min(base.len());
+        let end = (pos + len).min(base.len());
+        if base.is_char_boundary(pos) && base.is_char_boundary(end) {
+            let text = format!("{}{}{}", &base[..pos], insert, &base[end..]);
+            let _ = load(&text);
+            if let Ok(ast) = slant::lang::parse(&Source::new("m", text)) {
+                let _ = slant::lang::print::print(&ast);
+            }
+        }
+    }
+}
+
+const BELL: &str = include_str!("../circuits/bell.slant");
+const REPETITION: &str = include_str!("../circuits/repetition_d3.slant");
+
+// ---- canonical printer ------------------------------------------------------------------------
+
+/// The AST's debug form with every span erased, for comparing trees parsed from different text.
+fn shape(text: &str) -> String {
+    let ast = slant::lang::parse(&Source::new("s", text)).unwrap_or_else(|e| panic!("{}\n{text}", e[0].render()));
+    let dbg = format!("{:?}", ast.stmts);
+    let mut out = String::with_capacity(dbg.len());
+    let mut rest = dbg.as_str();
+    while let Some(i) = rest.find("Span {") {
+        out.push_str(&rest[..i]);
+        let j = rest[i..].find('}').unwrap();
+        rest = &rest[i + j + 1..];
+    }
+    out.push_str(rest);
+    out
+}
+
+fn fmt(text: &str) -> String {
+    slant::lang::print::print(&slant::lang::parse(&Source::new("s", text)).unwrap())
+}
+
+fn round_trip(text: &str) {
+    let printed = fmt(text);
+    assert_eq!(shape(text), shape(&printed), "tree changed by printing:\n{printed}");
+    assert_eq!(printed, fmt(&printed), "printing is not idempotent");
+}
+
+#[test]
+fn library_circuits_are_canonical() {
+    for entry in std::fs::read_dir(concat!(env!("CARGO_MANIFEST_DIR"), "/circuits")).unwrap() {
+        let path = entry.unwrap().path();
+        if path.extension().is_some_and(|e| e == "slant") {
+            let text = std::fs::read_to_string(&path).unwrap();
+            round_trip(&text);
+            assert_eq!(fmt(&text), text, "{} is not in canonical form", path.display());
+        }
+    }
+}
+
+#[test]
+fn printer_normalises_layout() {
+    let messy = "param  d=3 # size\nqubit q[0..d]   role data,edge\nfor k in 0 .. d by 2{\n h q[k]\n}\nif d>2 and not d==4{ x q[0] }else if d<0 { y q[0] } else { z q[0] }\nnoise pauli2 zz=1e-3 ix=0.5 q[0] q[1]\nmeasure x q[0]*z q[1]->m flip 0.25\ndetector at(1,2.5,0)=m\n";
+    let expected = "param d = 3 # size\nqubit q[0..d] role data, edge\nfor k in 0..d by 2 {\n    h q[k]\n}\nif d > 2 and not d == 4 {\n    x q[0]\n} else if d < 0 {\n    y q[0]\n} else {\n    z q[0]\n}\nnoise pauli2 zz=0.001 ix=0.5 q[0] q[1]\nmeasure x q[0] * z q[1] -> m flip 0.25\ndetector at (1, 2.5, 0) = m\n";
+    assert_eq!(fmt(messy), expected);
+    round_trip(messy);
+}
+
+#[test]
+fn parentheses_are_kept_only_where_needed() {
+    assert_eq!(fmt("qubit q[(1 + 2) * 3 - (4 - 5) - -(6 + 1)]\n"), "qubit q[(1 + 2) * 3 - (4 - 5) - -(6 + 1)]\n");
+    assert_eq!(fmt("qubit q[((1 * 2)) + 3]\n"), "qubit q[1 * 2 + 3]\n");
+}
+
+/// Random well-formed programs for the round-trip property.
+fn arb_expr() -> impl Strategy<Value = String> {
+    let leaf = prop_oneof![
+        (0i64..50).prop_map(|v| v.to_string()),
+        prop_oneof![Just("k"), Just("d")].prop_map(str::to_string),
+        (0u32..1000).prop_map(|v| format!("{}.5", v)),
+    ];
+    leaf.prop_recursive(4, 24, 2, |inner| {
+        prop_oneof![
+            (inner.clone(), prop_oneof![Just("+"), Just("-"), Just("*"), Just("/"), Just("%"), Just("<"), Just("=="), Just("and"), Just("or")], inner.clone())
+                .prop_map(|(a, op, b)| format!("({a} {op} {b})")),
+            inner.clone().prop_map(|a| format!("-{a}")),
+            inner.prop_map(|a| format!("not ({a})")),
+        ]
+    })
+}
+
+fn arb_stmt() -> impl Strategy<Value = String> {
+    prop_oneof![
+        arb_expr().prop_map(|e| format!("qubit q[{e}] at ({e}, 1)")),
+        arb_expr().prop_map(|e| format!("h q[{e}], q[0..{e}]")),
+        arb_expr().prop_map(|e| format!("if {e} {{\n x q[0]\n}} else {{ # c\n y q[1] }}")),
+        arb_expr().prop_map(|e| format!("measure z q[{e}] * x r -> m[{e}, 0..2] flip 0.125")),
+        arb_expr().prop_map(|e| format!("for k in 0..{e} by 2 {{ detector s[k] at (k, {e}) = m[k] ^ m[k - 1] }}")),
+        arb_expr().prop_map(|e| format!("noise pauli x=0.25 z={e} q[0], q[1]")),
+        Just("# a comment".to_string()),
+        Just("layer { cx a b, c d }".to_string()),
+        Just("round {\n\n  reset x a, b\n  noise correlated p=0.5 x a * y b\n}".to_string()),
+        Just("observable l ^= m ^ n # trailing".to_string()),
+    ]
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 200, .. ProptestConfig::default() })]
+
+    /// parse(print(parse(x))) == parse(x), and printing is idempotent.
+    #[test]
+    fn print_round_trips(stmts in proptest::collection::vec(arb_stmt(), 1..8), blank in any::<bool>()) {
+        let sep = if blank { "\n\n" } else { "\n" };
+        let text = stmts.join(sep) + "\n";
+        round_trip(&text);
+    }
+}
+
+// ---- grammar reference ------------------------------------------------------------------------
+
+/// Every ```slant block of the reference parses, and the complete examples (those declaring a
+/// qubit) also expand and pass the determinism check, so documentation and parser cannot drift.
+#[test]
+fn reference_examples_parse() {
+    let text = include_str!("../grammar/reference.md");
+    let mut count = 0;
+    for block in text.split("```slant").skip(1) {
+        let code = block.split("```").next().unwrap();
+        let source = Source::new("reference.md", code);
+        let ast = slant::lang::parse(&source).unwrap_or_else(|e| panic!("{}\n{code}", e[0].render()));
+        if code.contains("qubit") {
+            slant::load_source(&source, &[]).unwrap_or_else(|e| panic!("{}\n{code}", e[0].render()));
+        }
+        round_trip(code);
+        let _ = ast;
+        count += 1;
+    }
+    assert!(count >= 15, "only {count} examples found");
+}
+
+// ---- subcommands end to end -------------------------------------------------------------------
+
+#[test]
+fn check_prints_a_summary() {
+    let (code, out, err) = slant(&["check", "circuits/repetition_d3.slant", "--set", "rounds=2"], None);
+    assert_eq!(code, 0, "{err}");
+    assert_eq!(
+        out,
+        "circuits/repetition_d3.slant: ok\n  parameters    distance=3 rounds=2\n  qubits        5 (ancilla 2, data 3)\n  layers        10 in 2 round(s)\n  operations    cx 8, measure 7, reset 9\n  measurements  7\n  detectors     6 (all deterministic)\n  observables   1 (all deterministic)\n  noise         none (expected faults per shot 0.0000e0)\n"
+    );
+}
+
+#[test]
+fn check_json_and_stdin() {
+    let (code, out, _) = slant(&["check", "-", "--json"], Some("qubit a\nnoise depolarizing p=0.03 a\nmeasure z a -> m flip 0.01\ndetector = m\n"));
+    assert_eq!(code, 0);
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    assert_eq!(v["detectors"], 1);
+    assert_eq!(v["noise_channels"]["depolarizing"], 1);
+    assert!((v["noise_total_probability"].as_f64().unwrap() - 0.04).abs() < 1e-12);
+}
+
+#[test]
+fn check_exit_codes_and_rendered_error() {
+    let (code, out, err) = slant(&["check", "-"], Some("qubit a\nczz a\n"));
+    assert_eq!(code, 1);
+    assert_eq!(out, "");
+    assert_eq!(err, "error: unknown statement or gate `czz`\n  --> -:2:1\n  |\n2 | czz a\n  | ^^^\n  = hint: did you mean `cz`?\n");
+    let (code, _, _) = slant(&["check"], None);
+    assert_eq!(code, 2);
+    let (code, _, err) = slant(&["check", "no/such/file.slant"], None);
+    assert_eq!(code, 1);
+    assert!(err.contains("cannot read `no/such/file.slant`"), "{err}");
+}
+
+#[test]
+fn fmt_check_answers_no_with_code_3() {
+    let (code, out, _) = slant(&["fmt", "--check", "-"], Some("qubit   a\n"));
+    assert_eq!(code, 3);
+    assert!(out.contains("not in canonical form"));
+    let (code, out, _) = slant(&["fmt", "-"], Some("qubit   a\n"));
+    assert_eq!((code, out.as_str()), (0, "qubit a\n"));
+    let (code, _, _) = slant(&["fmt", "--check", "circuits/bell.slant"], None);
+    assert_eq!(code, 0);
+}
