@@ -1,0 +1,18 @@
+//! Simulators: the stabilizer tableau (noiseless reference run) and the bit-packed Pauli-frame
+//! sampler (noisy shots).
+//!
+//! In: a checked [`crate::ir::Circuit`], usually with explicit noise from [`crate::noise::apply`].
+//! Out: a [`tableau::Reference`] (noiseless value of every record, detector and observable) and
+//! streamed [`frame::Batch`]es of detection events, observable flips and raw measurement results.
+//!
+//! Conventions shared by both simulators: every qubit starts in |0>; a measurement result `0`
+//! means eigenvalue +1 of the measured Pauli product; a reset prepares the +1 eigenstate of its
+//! basis; gate semantics are those of [`crate::ir::clifford`] (tests compare against it).
+
+pub mod bits;
+pub mod frame;
+pub mod npy;
+pub mod tableau;
+
+pub use frame::{sample, Batch, Outputs, Sampler};
+pub use tableau::{reference_run, Reference};
