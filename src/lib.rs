@@ -41,6 +41,8 @@ pub mod faults;
 pub mod gen;
 pub mod ir;
 pub mod lang;
+pub mod noise;
+pub mod sim;
 
 use std::sync::Arc;
 

@@ -24,6 +24,27 @@ impl CircuitArgs {
     }
 }
 
+/// The `--noise` option shared by the subcommands that simulate or analyse noisy circuits.
+#[derive(Debug, Default, clap::Args)]
+pub struct NoiseArgs {
+    /// Noise to write into the circuit: a preset `circuit p=P [bias=ETA]`, `capacity p=P
+    /// [bias=ETA]` or `phenomenological p=P [q=Q] [bias=ETA]` (bias = pZ/(pX+pY), `inf` for pure
+    /// Z; default depolarizing). Noise written in the circuit file is kept as well.
+    #[arg(long, value_name = "MODEL")]
+    pub noise: Option<String>,
+}
+
+impl NoiseArgs {
+    /// Returns the circuit with the requested noise written in (unchanged without `--noise`).
+    pub fn apply(&self, circuit: Circuit) -> Result<Circuit, Vec<Diagnostic>> {
+        let Some(text) = &self.noise else {
+            return Ok(circuit);
+        };
+        let spec = crate::noise::NoiseSpec::parse(text).map_err(|d| vec![d])?;
+        crate::noise::apply(&circuit, &spec)
+    }
+}
+
 /// Parses `NAME=INT`.
 pub fn parse_setting(s: &str) -> Result<(String, i64), String> {
     let (k, v) = s
