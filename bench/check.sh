@@ -5,7 +5,8 @@
 set -euo pipefail
 cd "$(dirname "$0")/.."
 cargo build --release --quiet
-bin=target/release/slant
+bin=${CARGO_TARGET_DIR:-target}/release/slant
+
 tmp=$(mktemp -d)
 trap 'rm -rf "$tmp"' EXIT
 "$bin" new surface --distance 25 --rounds 25 -o "$tmp/d25.slant"
