@@ -22,8 +22,10 @@
 //!   patch), `--dz` the weight of the shortest Z-type logical (the number of columns). For XZZX
 //!   these name the CSS parent's logicals; for the torus they are simply rows and columns.
 //!
-//! The generators never check their own output: tests parse every generated circuit with
-//! [`crate::load_source`] and verify the code independently.
+//! The text goes through the parser and the canonical printer of [`crate::lang`] before it is
+//! returned, so generated files are in `slant fmt` form. The generators do not otherwise check
+//! their output: tests run every generated circuit through [`crate::load_source`] (determinism)
+//! and verify the codes independently of the generator.
 
 mod repetition;
 mod rotated;
@@ -495,7 +497,20 @@ pub fn generate(spec: &GenSpec) -> Result<String, GenError> {
         Family::Surface => rotated::write(&mut w, spec, &r, false)?,
         Family::Xzzx => rotated::write(&mut w, spec, &r, true)?,
     }
-    Ok(w.finish())
+    canonical(w.finish())
+}
+
+/// Passes the text through the parser and the canonical printer, so generated files are already
+/// in `slant fmt` form (byte-stable under `fmt --check`). A parse failure here is a generator bug.
+fn canonical(text: String) -> Result<String, GenError> {
+    let source = crate::lang::Source::new("generated.slant", text);
+    let ast = crate::lang::parse(&source).map_err(|diags| {
+        let first = diags.first().map(|d| d.render()).unwrap_or_default();
+        GenError(format!(
+            "internal error: the generator wrote text the parser rejects (please report):\n{first}"
+        ))
+    })?;
+    Ok(crate::lang::print::print(&ast))
 }
 
 fn gcd(a: u32, b: u32) -> u32 {

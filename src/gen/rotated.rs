@@ -291,16 +291,14 @@ fn write_ancilla_round(w: &mut Text, r: &Resolved, xzzx: bool, any_check: &str) 
                 )
             })
             .collect();
-        for (k, lines) in [&hadamards, &gates, &hadamards].into_iter().enumerate() {
+        w.line(&format!(
+            "# step {step}: X-type checks couple to {}, Z-type checks to {}",
+            order.x_type[step].name(),
+            order.z_type[step].name()
+        ));
+        for lines in [&hadamards, &gates, &hadamards] {
             if lines.is_empty() {
                 continue;
-            }
-            if k == 1 {
-                w.line(&format!(
-                    "# step {step}: X-type checks couple to {}, Z-type checks to {}",
-                    order.x_type[step].name(),
-                    order.z_type[step].name()
-                ));
             }
             w.open("layer");
             open_checks(w);
