@@ -2,3 +2,5 @@
 mod decode;
 mod graph;
 mod lang;
+mod codes;
+mod gen;
