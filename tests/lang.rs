@@ -483,3 +483,77 @@ fn fmt_check_answers_no_with_code_3() {
     let (code, _, _) = slant(&["fmt", "--check", "circuits/bell.slant"], None);
     assert_eq!(code, 0);
 }
+
+// ---- determinism: sensitivity sweep against the Pauli-frame sampler ---------------------------
+
+/// Random small Clifford circuits with measurements, resets and random detector parities.
+fn arb_random_circuit() -> impl Strategy<Value = String> {
+    let op = (0u8..8, 0u32..4, 1u32..4, 0u8..3).prop_map(|(kind, a, off, basis)| {
+        let b = (a + off) % 4;
+        let basis = ["x", "y", "z"][basis as usize];
+        match kind {
+            0 => format!("h q{a}"),
+            1 => format!("s q{a}"),
+            2 => format!("cx q{a} q{b}"),
+            3 => format!("cz q{a} q{b}"),
+            4 => format!("sx q{a}"),
+            5 => format!("reset {basis} q{a}"),
+            6 => format!("measure {basis} q{a} * z q{b} -> M"),
+            _ => format!("measure {basis} q{a} -> M"),
+        }
+    });
+    (
+        proptest::collection::vec(op, 1..14),
+        proptest::collection::vec(proptest::collection::vec(0usize..64, 1..4), 1..5),
+    )
+        .prop_map(|(ops, parities)| {
+            let mut text = String::from("qubit q0\nqubit q1\nqubit q2\nqubit q3\n");
+            let mut records = 0;
+            for op in ops {
+                if op.contains("-> M") {
+                    text += &op.replace("-> M", &format!("-> m{records}"));
+                    records += 1;
+                } else {
+                    text += &op;
+                }
+                text.push('\n');
+            }
+            if records == 0 {
+                text += "measure z q0 -> m0\n";
+                records = 1;
+            }
+            for (k, parity) in parities.iter().enumerate() {
+                let terms: Vec<String> = parity.iter().map(|r| format!("m{}", r % records)).collect();
+                text += &format!("detector d{k} = {}\n", terms.join(" ^ "));
+            }
+            text
+        })
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 150, .. ProptestConfig::default() })]
+
+    /// The determinism check (backward sensitivity sweep) and the noiseless Pauli-frame sampler
+    /// (forward frames with randomised gauge) are independent implementations; they must agree
+    /// on which detectors are random. A random detector stays silent in 512 shots with
+    /// probability 2^-512.
+    #[test]
+    fn determinism_check_agrees_with_noiseless_sampling(text in arb_random_circuit()) {
+        let source = Source::new("r.slant", text.clone());
+        let ast = slant::lang::parse(&source).unwrap();
+        let circuit = slant::ir::expand::expand(&ast, &[], &Default::default()).unwrap();
+        let flagged: Vec<bool> = match slant::ir::check::check(&circuit) {
+            Ok(()) => vec![false; circuit.detectors.len()],
+            Err(errs) => (0..circuit.detectors.len())
+                .map(|k| errs.iter().any(|e| e.message.contains(&format!("detector `d{k}`"))))
+                .collect(),
+        };
+        let mut fired = vec![false; circuit.detectors.len()];
+        slant::sim::frame::sample(&circuit, 512, 7, slant::sim::frame::Outputs::syndromes(), |batch| {
+            for (k, f) in fired.iter_mut().enumerate() {
+                *f |= (0..batch.shots).any(|s| batch.get(&batch.detectors, k, s));
+            }
+        });
+        prop_assert_eq!(flagged, fired, "{}", text);
+    }
+}
