@@ -161,7 +161,14 @@ pub fn run(args: Args) -> Result<(), CliError> {
                 let tables = [&b.detectors, &b.observables, &b.measurements];
                 for (k, f) in files.iter_mut().enumerate() {
                     buf.clear();
-                    append_shot_rows(tables[k], counts[k], b.words, b.shots, args.packed, &mut buf);
+                    append_shot_rows(
+                        tables[k],
+                        counts[k],
+                        b.words,
+                        b.shots,
+                        args.packed,
+                        &mut buf,
+                    );
                     if let Err(d) = f.write(&buf) {
                         failure = Some(d);
                         return;
@@ -300,7 +307,11 @@ fn bench(circuit: &crate::ir::Circuit, shots: u64, seed: u64) {
     let t1 = Instant::now();
     for b in 0..batches {
         let batch = sampler.run_batch(b, BATCH_SHOTS, seed, Outputs::syndromes());
-        events += batch.detectors.iter().map(|w| u64::from(w.count_ones())).sum::<u64>();
+        events += batch
+            .detectors
+            .iter()
+            .map(|w| u64::from(w.count_ones()))
+            .sum::<u64>();
     }
     let sample_s = t1.elapsed().as_secs_f64();
     let sampled = batches * BATCH_SHOTS as u64;
@@ -318,7 +329,10 @@ fn bench(circuit: &crate::ir::Circuit, shots: u64, seed: u64) {
     println!("shots: {sampled}");
     println!("sample_seconds: {sample_s:.6}");
     println!("shots_per_second: {:.0}", sampled as f64 / sample_s);
-    println!("detection_events_per_shot: {:.4}", events as f64 / sampled as f64);
+    println!(
+        "detection_events_per_shot: {:.4}",
+        events as f64 / sampled as f64
+    );
     println!("sampler_word_ops_per_second: {rate:.4e}");
     println!("xor_loop_words_per_second: {xor_rate:.4e}");
     println!("fraction_of_xor_loop: {:.3}", rate / xor_rate);

@@ -27,6 +27,9 @@
 //! The enum grows with new kinds of specification (noise-model files, gate implementations);
 //! callers match on it only through [`apply`].
 
+pub mod compile;
+pub mod implement;
+pub mod model;
 pub mod preset;
 
 use std::sync::Arc;
@@ -39,6 +42,9 @@ pub use preset::{Preset, PresetKind};
 /// A parsed `--noise` value.
 #[derive(Clone, Debug, PartialEq)]
 pub enum NoiseSpec {
+    /// A hardware model: a model file (`--noise FILE.toml`) or a `circuit` preset with a
+    /// non-ideal `cx=` implementation (see [`model`] and [`implement`]).
+    Model(Box<model::NoiseModel>),
     /// A standard preset (`capacity`, `phenomenological`, `circuit`).
     Preset(Preset),
 }
@@ -53,6 +59,9 @@ impl NoiseSpec {
 
     /// Parses a specification held in a [`Source`].
     pub fn parse_source(source: &Arc<Source>) -> Result<NoiseSpec, Diagnostic> {
+        if let Some(spec) = model::parse_extension(source) {
+            return spec;
+        }
         Preset::parse(source).map(NoiseSpec::Preset)
     }
 }
@@ -60,6 +69,7 @@ impl NoiseSpec {
 /// Returns a copy of `circuit` with the noise of `spec` written in as explicit operations.
 pub fn apply(circuit: &Circuit, spec: &NoiseSpec) -> Result<Circuit, Vec<Diagnostic>> {
     match spec {
+        NoiseSpec::Model(m) => compile::compile(circuit, m).map(|c| c.circuit),
         NoiseSpec::Preset(p) => p.apply(circuit),
     }
 }

@@ -99,15 +99,25 @@ impl Preset {
         let toks = tokens(text);
         let examples = "e.g. `circuit p=0.001`, `capacity p=0.05 bias=100` or `phenomenological p=0.01 q=0.02`";
         let Some(&(at, name)) = toks.first() else {
-            return Err(Diagnostic::error(src, Span::new(0, text.len()), "the noise specification is empty")
-                .with_hint(format!("give a preset, {examples}")));
+            return Err(Diagnostic::error(
+                src,
+                Span::new(0, text.len()),
+                "the noise specification is empty",
+            )
+            .with_hint(format!("give a preset, {examples}")));
         };
         let span = |start: usize, s: &str| Span::new(start, start + s.len());
         let Some(kind) = PresetKind::ALL.into_iter().find(|k| k.name() == name) else {
-            let mut d = Diagnostic::error(src, span(at, name), format!("unknown noise preset `{name}`"));
+            let mut d = Diagnostic::error(
+                src,
+                span(at, name),
+                format!("unknown noise preset `{name}`"),
+            );
             d = match did_you_mean(name, PresetKind::ALL.iter().map(|k| k.name())) {
                 Some(s) => d.with_hint(format!("did you mean `{s}`?")),
-                None => d.with_hint(format!("presets are `capacity`, `phenomenological` and `circuit`, {examples}")),
+                None => d.with_hint(format!(
+                    "presets are `capacity`, `phenomenological` and `circuit`, {examples}"
+                )),
             };
             return Err(d);
         };
@@ -120,8 +130,12 @@ impl Preset {
         let mut seen: Vec<&str> = Vec::new();
         for &(at, tok) in &toks[1..] {
             let Some((key, value)) = tok.split_once('=') else {
-                return Err(Diagnostic::error(src, span(at, tok), format!("expected `key=value`, found `{tok}`"))
-                    .with_hint(format!("`{}` takes {}", kind.name(), key_list(kind))));
+                return Err(Diagnostic::error(
+                    src,
+                    span(at, tok),
+                    format!("expected `key=value`, found `{tok}`"),
+                )
+                .with_hint(format!("`{}` takes {}", kind.name(), key_list(kind))));
             };
             if !kind.keys().contains(&key) {
                 let mut d = Diagnostic::error(
@@ -136,7 +150,11 @@ impl Preset {
                 return Err(d);
             }
             if seen.contains(&key) {
-                return Err(Diagnostic::error(src, span(at, key), format!("key `{key}` is given twice")));
+                return Err(Diagnostic::error(
+                    src,
+                    span(at, key),
+                    format!("key `{key}` is given twice"),
+                ));
             }
             seen.push(key);
             let vat = at + key.len() + 1;
@@ -147,8 +165,12 @@ impl Preset {
                 match value.parse::<f64>() {
                     Ok(v) if v.is_finite() => v,
                     _ => {
-                        return Err(Diagnostic::error(src, vspan, format!("`{value}` is not a number"))
-                            .with_hint("write plain decimals such as `0.001` or `1e-3`"))
+                        return Err(Diagnostic::error(
+                            src,
+                            vspan,
+                            format!("`{value}` is not a number"),
+                        )
+                        .with_hint("write plain decimals such as `0.001` or `1e-3`"))
                     }
                 }
             };
@@ -193,7 +215,11 @@ impl Preset {
             None => Channel::Depolarizing1(p),
             Some(eta) => {
                 // PRL 120, 050505 (2018): eta = pZ / (pX + pY).
-                let high = if eta.is_infinite() { 1.0 } else { eta / (eta + 1.0) };
+                let high = if eta.is_infinite() {
+                    1.0
+                } else {
+                    eta / (eta + 1.0)
+                };
                 Channel::Pauli1 {
                     px: p * (1.0 - high) / 2.0,
                     py: p * (1.0 - high) / 2.0,
@@ -209,7 +235,11 @@ impl Preset {
         match self.bias {
             None => Channel::Depolarizing2(p),
             Some(eta) => {
-                let high = if eta.is_infinite() { 1.0 } else { eta / (eta + 1.0) };
+                let high = if eta.is_infinite() {
+                    1.0
+                } else {
+                    eta / (eta + 1.0)
+                };
                 let mut probs = [p * (1.0 - high) / 12.0; 15];
                 for name in ["zi", "iz", "zz"] {
                     let k = Pauli::pair_index(name).unwrap_or(1);
@@ -379,23 +409,49 @@ mod tests {
     #[test]
     fn parses_presets() {
         let p = parse("circuit p=0.001").unwrap();
-        assert_eq!((p.kind, p.p, p.q, p.bias), (PresetKind::Circuit, 0.001, None, None));
+        assert_eq!(
+            (p.kind, p.p, p.q, p.bias),
+            (PresetKind::Circuit, 0.001, None, None)
+        );
         let p = parse("  phenomenological   p=0.01 q=0.02 bias=10 ").unwrap();
         assert_eq!(p.kind, PresetKind::Phenomenological);
         assert_eq!((p.q, p.bias), (Some(0.02), Some(10.0)));
-        assert_eq!(parse("capacity p=1e-2 bias=inf").unwrap().bias, Some(f64::INFINITY));
+        assert_eq!(
+            parse("capacity p=1e-2 bias=inf").unwrap().bias,
+            Some(f64::INFINITY)
+        );
     }
 
     /// Every rejection names the place in the option text and, where one exists, a suggestion.
     #[test]
     fn rejects_bad_specs_with_located_hints() {
         let cases: &[(&str, &str, usize, Option<&str>)] = &[
-            ("circiut p=0.1", "unknown noise preset `circiut`", 1, Some("did you mean `circuit`?")),
-            ("capacity p=0.1 biass=3", "unknown key `biass`", 16, Some("did you mean `bias`?")),
+            (
+                "circiut p=0.1",
+                "unknown noise preset `circiut`",
+                1,
+                Some("did you mean `circuit`?"),
+            ),
+            (
+                "capacity p=0.1 biass=3",
+                "unknown key `biass`",
+                16,
+                Some("did you mean `bias`?"),
+            ),
             ("circuit p=0.1 q=0.2", "unknown key `q`", 15, None),
-            ("circuit p=1.5", "probability `1.5` is outside [0, 1]", 11, None),
+            (
+                "circuit p=1.5",
+                "probability `1.5` is outside [0, 1]",
+                11,
+                None,
+            ),
             ("circuit p=abc", "`abc` is not a number", 11, None),
-            ("circuit bias=-2 p=0.1", "bias `-2` must be positive", 14, None),
+            (
+                "circuit bias=-2 p=0.1",
+                "bias `-2` must be positive",
+                14,
+                None,
+            ),
             ("circuit p=0.1 p=0.2", "key `p` is given twice", 15, None),
             ("circuit bias=3", "needs a probability `p=`", 15, None),
             ("circuit 0.1", "expected `key=value`", 9, None),
@@ -425,7 +481,9 @@ mod tests {
         let Channel::Pauli1 { px, py, pz } = half.one_qubit(0.03) else {
             panic!("expected a Pauli channel")
         };
-        assert!((px - 0.01).abs() < 1e-15 && (py - 0.01).abs() < 1e-15 && (pz - 0.01).abs() < 1e-15);
+        assert!(
+            (px - 0.01).abs() < 1e-15 && (py - 0.01).abs() < 1e-15 && (pz - 0.01).abs() < 1e-15
+        );
         let Channel::Pauli2(probs) = p.two_qubit(0.03) else {
             panic!("expected a two-qubit Pauli channel")
         };

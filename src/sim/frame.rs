@@ -234,11 +234,21 @@ impl Sampler {
                 }
             }
         }
-        let detectors: Vec<Vec<u32>> =
-            circuit.detectors.iter().map(|d| d.records.clone()).collect();
-        let observables: Vec<Vec<u32>> =
-            circuit.observables.iter().map(|o| o.records.clone()).collect();
-        word_ops += detectors.iter().chain(&observables).map(|r| r.len() as u64).sum::<u64>();
+        let detectors: Vec<Vec<u32>> = circuit
+            .detectors
+            .iter()
+            .map(|d| d.records.clone())
+            .collect();
+        let observables: Vec<Vec<u32>> = circuit
+            .observables
+            .iter()
+            .map(|o| o.records.clone())
+            .collect();
+        word_ops += detectors
+            .iter()
+            .chain(&observables)
+            .map(|r| r.len() as u64)
+            .sum::<u64>();
         Sampler {
             qubits: circuit.qubits.len(),
             records: circuit.records.len(),
@@ -507,10 +517,16 @@ fn xor_into(dst: &mut [u64], src: &[u64], at: usize, w: usize) {
 fn xor_within(v: &mut [u64], dst: usize, src: usize, w: usize) {
     if dst < src {
         let (lo, hi) = v.split_at_mut(src);
-        lo[dst..dst + w].iter_mut().zip(&hi[..w]).for_each(|(d, s)| *d ^= s);
+        lo[dst..dst + w]
+            .iter_mut()
+            .zip(&hi[..w])
+            .for_each(|(d, s)| *d ^= s);
     } else {
         let (lo, hi) = v.split_at_mut(dst);
-        hi[..w].iter_mut().zip(&lo[src..src + w]).for_each(|(d, s)| *d ^= s);
+        hi[..w]
+            .iter_mut()
+            .zip(&lo[src..src + w])
+            .for_each(|(d, s)| *d ^= s);
     }
 }
 
@@ -518,10 +534,14 @@ fn xor_within(v: &mut [u64], dst: usize, src: usize, w: usize) {
 /// the baseline the benchmark compares the sampler's word throughput with.
 pub fn xor_baseline(words: usize, reps: usize) -> f64 {
     let mut a = vec![0x5555_5555_5555_5555u64; words];
-    let b: Vec<u64> = (0..words as u64).map(|i| i.wrapping_mul(0x9e37_79b9)).collect();
+    let b: Vec<u64> = (0..words as u64)
+        .map(|i| i.wrapping_mul(0x9e37_79b9))
+        .collect();
     let start = std::time::Instant::now();
     for r in 0..reps {
-        a.iter_mut().zip(&b).for_each(|(x, y)| *x ^= y.rotate_left(r as u32 & 1));
+        a.iter_mut()
+            .zip(&b)
+            .for_each(|(x, y)| *x ^= y.rotate_left(r as u32 & 1));
         std::hint::black_box(&mut a);
     }
     (words * reps) as f64 / start.elapsed().as_secs_f64()

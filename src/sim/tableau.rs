@@ -71,9 +71,21 @@ pub fn reference_run(circuit: &Circuit) -> Reference {
             OpKind::Noise(_) => {}
         }
     }
-    let parity = |records: &[u32]| records.iter().fold(false, |a, &r| a ^ measurements[r as usize]);
-    let detectors = circuit.detectors.iter().map(|d| parity(&d.records)).collect();
-    let observables = circuit.observables.iter().map(|o| parity(&o.records)).collect();
+    let parity = |records: &[u32]| {
+        records
+            .iter()
+            .fold(false, |a, &r| a ^ measurements[r as usize])
+    };
+    let detectors = circuit
+        .detectors
+        .iter()
+        .map(|d| parity(&d.records))
+        .collect();
+    let observables = circuit
+        .observables
+        .iter()
+        .map(|o| parity(&o.records))
+        .collect();
     Reference {
         measurements,
         random,
@@ -233,7 +245,12 @@ impl Tableau {
         let mut plus = 0u32;
         let mut minus = 0u32;
         for i in 0..w {
-            let (x1, z1, x2, z2) = (self.x[d0 + i], self.z[d0 + i], self.x[s0 + i], self.z[s0 + i]);
+            let (x1, z1, x2, z2) = (
+                self.x[d0 + i],
+                self.z[d0 + i],
+                self.x[s0 + i],
+                self.z[s0 + i],
+            );
             let (a_x, a_z, a_y) = (x1 & !z1, !x1 & z1, x1 & z1);
             let p = (a_x & x2 & z2) | (a_z & x2 & !z2) | (a_y & z2 & !x2);
             let m = (a_x & !x2 & z2) | (a_z & x2 & z2) | (a_y & x2 & !z2);
@@ -258,7 +275,10 @@ impl Tableau {
     /// Scratch ← product of rows (a power of `i` tracked in `exp`).
     fn scratch_mul_row(&mut self, row: usize, exp: &mut u32) {
         let w = self.w;
-        let (rx, rz) = (&self.x[row * w..(row + 1) * w], &self.z[row * w..(row + 1) * w]);
+        let (rx, rz) = (
+            &self.x[row * w..(row + 1) * w],
+            &self.z[row * w..(row + 1) * w],
+        );
         *exp += phase_of_product(&self.sx, &self.sz, rx, rz) + 2 * u32::from(self.sign[row]);
         for i in 0..w {
             self.sx[i] ^= rx[i];
@@ -328,8 +348,12 @@ impl Tableau {
         let w = self.w;
         let mut new_rows: Vec<(Vec<u64>, Vec<u64>, bool)> = Vec::with_capacity(2 * k);
         for g in 0..2 * k {
-            let factors: Vec<(u32, Pauli)> =
-                targets.iter().copied().zip(images[g].iter().copied()).take(k).collect();
+            let factors: Vec<(u32, Pauli)> = targets
+                .iter()
+                .copied()
+                .zip(images[g].iter().copied())
+                .take(k)
+                .collect();
             let neg = self.load_product(&factors) ^ signs[g];
             new_rows.push((self.sx.clone(), self.sz.clone(), neg));
         }
@@ -502,7 +526,13 @@ mod tests {
         let q = prod(&[X, Z, Y]);
         let first = t.measure(&q);
         assert!(first.random);
-        assert_eq!(t.measure(&q), Measured { outcome: false, random: false });
+        assert_eq!(
+            t.measure(&q),
+            Measured {
+                outcome: false,
+                random: false
+            }
+        );
     }
 
     #[test]
