@@ -1,6 +1,8 @@
 //! The one integration-test binary: runs the real `slant` executable, one module per subcommand.
-mod decode;
-mod graph;
 mod lang;
+mod graph;
+mod decode;
+mod shots;
+mod support;
 mod codes;
 mod gen;
