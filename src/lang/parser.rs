@@ -941,8 +941,7 @@ impl Parser {
 
     fn expr_prec<'a>(&self, i: In<'a>, min: u8) -> PResult<'a, Expr> {
         let (mut i, mut lhs) = self.unary(i)?;
-        loop {
-            let Ok((j, op)) = self.binop(i) else { break };
+        while let Ok((j, op)) = self.binop(i) {
             let prec = op.precedence();
             if prec < min || prec == 0 {
                 break;

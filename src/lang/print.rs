@@ -148,7 +148,7 @@ fn stmt(out: &mut String, st: &Stmt, level: usize) {
 }
 
 fn if_chain(out: &mut String, cond: &Expr, then: &[Stmt], otherwise: &[Stmt], level: usize) {
-    let _ = write!(out, "if {} {{\n", expr(cond));
+    let _ = writeln!(out, "if {} {{", expr(cond));
     block(out, then, level + 1);
     indent(out, level);
     out.push('}');
