@@ -293,13 +293,17 @@ fn exact_by_enumeration(c: &Circuit) -> (Vec<f64>, Vec<Vec<f64>>) {
         let fired: Vec<bool> = c
             .detectors
             .iter()
-            .map(|d| d.records.iter().fold(false, |acc, &r| acc ^ rec[r as usize]))
+            .map(|d| {
+                d.records
+                    .iter()
+                    .fold(false, |acc, &r| acc ^ rec[r as usize])
+            })
             .collect();
         for i in 0..nd {
             if fired[i] {
                 marg[i] += prob;
-                for j in 0..nd {
-                    if fired[j] {
+                for (j, &fj) in fired.iter().enumerate() {
+                    if fj {
                         pair[i][j] += prob;
                     }
                 }
@@ -322,6 +326,7 @@ fn exact_by_enumeration(c: &Circuit) -> (Vec<f64>, Vec<Vec<f64>>) {
 }
 
 #[test]
+#[allow(clippy::needless_range_loop)] // i and j index two matrices at once
 fn detector_statistics_match_exhaustive_enumeration() {
     // Exact check: marginals and pair probabilities from the graph's independent mechanisms,
     // P(odd number of touching mechanisms fire), against exhaustive enumeration of the written
@@ -397,7 +402,7 @@ fn read_npy_f64(bytes: &[u8]) -> Vec<f64> {
     let hl = u16::from_le_bytes([bytes[8], bytes[9]]) as usize;
     let header = std::str::from_utf8(&bytes[10..10 + hl]).unwrap();
     assert!(header.contains("'descr': '<f8'") && header.contains("'fortran_order': False"));
-    assert!(header.ends_with('\n') && (10 + hl) % 64 == 0);
+    assert!(header.ends_with('\n') && (10 + hl).is_multiple_of(64));
     let n: usize = header
         .split("'shape': (")
         .nth(1)
@@ -447,12 +452,12 @@ fn exports_parse_back_to_the_same_graph() {
         assert_eq!(j["term"], c.term_text());
         let op = &ops[j["operation"].as_u64().unwrap() as usize];
         assert_eq!(op["location"], g.location(c));
-        assert!(op["text"].as_str().unwrap().starts_with("noise depolarizing"));
+        assert!(op["text"]
+            .as_str()
+            .unwrap()
+            .starts_with("noise depolarizing"));
     }
-    assert_eq!(
-        v["detectors"].as_array().unwrap().len(),
-        g.detectors.len()
-    );
+    assert_eq!(v["detectors"].as_array().unwrap().len(), g.detectors.len());
     // JSON, graphlike.
     let (mg, st) = g.graphlike();
     let gl = View::Graphlike(&g, &mg, &st);
@@ -502,8 +507,8 @@ fn exports_parse_back_to_the_same_graph() {
         }
     }
     // Text: one line per mechanism after the header, with its detectors.
-    let text = String::from_utf8(export::render(&View::Full(&g), Format::Text)[0].1.clone())
-        .unwrap();
+    let text =
+        String::from_utf8(export::render(&View::Full(&g), Format::Text)[0].1.clone()).unwrap();
     let lines: Vec<&str> = text.lines().collect();
     assert_eq!(lines.len(), 1 + g.mechanisms.len());
     for (m, l) in g.mechanisms.iter().zip(&lines[1..]) {
@@ -532,7 +537,15 @@ fn cli_graph_and_trace() {
     std::fs::write(&file, REPETITION).unwrap();
     let out = dir.path().join("g.json");
     let st = slant_cmd()
-        .args(["graph", file.to_str().unwrap(), "--set", "d=5", "--format", "json", "-o"])
+        .args([
+            "graph",
+            file.to_str().unwrap(),
+            "--set",
+            "d=5",
+            "--format",
+            "json",
+            "-o",
+        ])
         .arg(&out)
         .status()
         .unwrap();
@@ -541,7 +554,14 @@ fn cli_graph_and_trace() {
     assert_eq!(v["detectors"].as_array().unwrap().len(), 8);
     let mtx = dir.path().join("mtx");
     let st = slant_cmd()
-        .args(["graph", file.to_str().unwrap(), "--format", "mtx", "--graphlike", "-o"])
+        .args([
+            "graph",
+            file.to_str().unwrap(),
+            "--format",
+            "mtx",
+            "--graphlike",
+            "-o",
+        ])
         .arg(&mtx)
         .status()
         .unwrap();

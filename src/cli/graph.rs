@@ -2,8 +2,9 @@
 
 use std::io::Write;
 use std::path::{Path, PathBuf};
+use std::time::{Duration, Instant};
 
-use crate::cli::common::CircuitArgs;
+use crate::cli::common::{CircuitArgs, NoiseArgs};
 use crate::cli::{output, CliError};
 use crate::faults::export::{self, Format, View};
 use crate::faults::{ExtractOptions, FaultGraph};
@@ -16,9 +17,9 @@ pub struct Args {
     /// The circuit.
     #[command(flatten)]
     pub circuit: CircuitArgs,
-    /// Noise model applied before extraction (circuits with explicit noise need none).
-    #[arg(long, value_name = "MODEL")]
-    pub noise: Option<String>,
+    /// Noise written into the circuit before extraction (explicit noise is kept as well).
+    #[command(flatten)]
+    pub noise: NoiseArgs,
     /// Output format.
     #[arg(long, value_enum)]
     pub format: Format,
@@ -29,32 +30,42 @@ pub struct Args {
     /// Tag measurement flips as high-rate faults.
     #[arg(long)]
     pub high_rate_flips: bool,
+    /// Print the time of each phase (load, extract, render, write) to standard error.
+    #[arg(long)]
+    pub timings: bool,
     /// Output path (a directory for `mtx`); `-` or absent prints to standard output.
     #[arg(short = 'o', long = "output", value_name = "PATH")]
     pub output: Option<PathBuf>,
 }
 
-/// Loads the circuit named by `circuit`, applying a `--noise` model when one is given.
-pub fn load_noisy(circuit: &CircuitArgs, noise: Option<&str>) -> Result<Circuit, CliError> {
-    let c = circuit.load()?;
-    if let Some(model) = noise {
-        // Noise models arrive with the noise module; until then only explicit noise works.
-        return Err(Diagnostic::bare(format!(
-            "`--noise {model}` is not supported by this build: write the noise into the circuit"
-        ))
-        .into());
-    }
-    Ok(c)
+/// Loads the circuit named by `circuit` and writes in the noise of `--noise`, if given.
+pub fn load_noisy(circuit: &CircuitArgs, noise: &NoiseArgs) -> Result<Circuit, CliError> {
+    Ok(noise.apply(circuit.load()?)?)
 }
 
 /// Runs `slant graph`.
 pub fn run(args: Args) -> Result<(), CliError> {
-    let circuit = load_noisy(&args.circuit, args.noise.as_deref())?;
+    let clock = Instant::now();
+    let circuit = load_noisy(&args.circuit, &args.noise)?;
+    let loaded = clock.elapsed();
     let opts = ExtractOptions {
         high_rate_flips: args.high_rate_flips,
     };
     let graph = crate::faults::extract(&circuit, &opts);
-    write(&graph, args.format, args.graphlike, args.output.as_deref())
+    let extracted = clock.elapsed();
+    let (rendered, written) = write(&graph, args.format, args.graphlike, args.output.as_deref())?;
+    if args.timings {
+        eprintln!(
+            "timings: load {:.3} s, extract {:.3} s, render {:.3} s, write {:.3} s; {} mechanisms, {} faults",
+            loaded.as_secs_f64(),
+            (extracted - loaded).as_secs_f64(),
+            rendered.as_secs_f64(),
+            written.as_secs_f64(),
+            graph.mechanisms.len(),
+            graph.provenance.len() + graph.silent.count,
+        );
+    }
+    Ok(())
 }
 
 fn write(
@@ -62,7 +73,8 @@ fn write(
     format: Format,
     graphlike: bool,
     out: Option<&Path>,
-) -> Result<(), CliError> {
+) -> Result<(Duration, Duration), CliError> {
+    let clock = Instant::now();
     let matching;
     let view = if graphlike {
         matching = graph.graphlike();
@@ -71,18 +83,18 @@ fn write(
         View::Full(graph)
     };
     let files = export::render(&view, format);
+    let rendered = clock.elapsed();
     let to_stdout = out.is_none_or(|p| p.as_os_str() == "-");
     if format == Format::Mtx {
         let dir = out.filter(|_| !to_stdout).ok_or_else(|| {
             Diagnostic::bare("`--format mtx` writes a directory: give it with `-o DIR`")
         })?;
-        std::fs::create_dir_all(dir).map_err(|e| {
-            Diagnostic::bare(format!("cannot create `{}`: {e}", dir.display()))
-        })?;
+        std::fs::create_dir_all(dir)
+            .map_err(|e| Diagnostic::bare(format!("cannot create `{}`: {e}", dir.display())))?;
         for (name, bytes) in &files {
             output::write_atomic(&dir.join(name), bytes)?;
         }
-        return Ok(());
+        return Ok((rendered, clock.elapsed() - rendered));
     }
     let bytes = &files[0].1;
     match out {
@@ -93,5 +105,5 @@ fn write(
             let _ = stdout.write_all(bytes).and_then(|()| stdout.flush());
         }
     }
-    Ok(())
+    Ok((rendered, clock.elapsed() - rendered))
 }

@@ -2,7 +2,7 @@
 
 use std::fmt::Write;
 
-use crate::cli::common::CircuitArgs;
+use crate::cli::common::{CircuitArgs, NoiseArgs};
 use crate::cli::CliError;
 use crate::faults::{ExtractOptions, FaultGraph};
 use crate::lang::Diagnostic;
@@ -14,9 +14,9 @@ pub struct Args {
     /// The circuit.
     #[command(flatten)]
     pub circuit: CircuitArgs,
-    /// Noise model applied before extraction.
-    #[arg(long, value_name = "MODEL")]
-    pub noise: Option<String>,
+    /// Noise written into the circuit before extraction.
+    #[command(flatten)]
+    pub noise: NoiseArgs,
     /// Index of the mechanism (as in `slant graph --format text`).
     #[arg(long)]
     pub mechanism: Option<usize>,
@@ -28,12 +28,7 @@ pub struct Args {
 /// Renders the contributors of mechanism `k`, naming qubits by `names` (indices if absent).
 pub fn describe(graph: &FaultGraph, k: usize, names: &[&str]) -> String {
     let m = &graph.mechanisms[k];
-    let list = |v: &[u32]| {
-        v.iter()
-            .map(u32::to_string)
-            .collect::<Vec<_>>()
-            .join(",")
-    };
+    let list = |v: &[u32]| v.iter().map(u32::to_string).collect::<Vec<_>>().join(",");
     let mut s = String::new();
     let _ = writeln!(
         s,
@@ -49,7 +44,11 @@ pub fn describe(graph: &FaultGraph, k: usize, names: &[&str]) -> String {
         let qubits: Vec<String> = c
             .qubits
             .iter()
-            .map(|&q| names.get(q as usize).map_or(format!("#{q}"), |n| n.to_string()))
+            .map(|&q| {
+                names
+                    .get(q as usize)
+                    .map_or(format!("#{q}"), |n| n.to_string())
+            })
             .collect();
         let what = match c.record {
             Some(r) => format!("flip of record {r} measured on {}", qubits.join(" ")),
@@ -70,7 +69,7 @@ pub fn describe(graph: &FaultGraph, k: usize, names: &[&str]) -> String {
 
 /// Runs `slant trace`.
 pub fn run(args: Args) -> Result<(), CliError> {
-    let circuit = crate::cli::graph::load_noisy(&args.circuit, args.noise.as_deref())?;
+    let circuit = crate::cli::graph::load_noisy(&args.circuit, &args.noise)?;
     let graph = crate::faults::extract(&circuit, &ExtractOptions::default());
     let names: Vec<&str> = circuit.qubits.iter().map(|q| q.name.as_str()).collect();
     let ks: Vec<usize> = match (args.mechanism, &args.detectors) {

@@ -97,6 +97,17 @@ fn exists(index: &Index, dets: &[u32], obs: &[u32]) -> bool {
 /// Finest grouping of the atoms whose blocks are all existing graphlike mechanisms.
 fn split_by_atoms(atoms: &Atoms, d: u32, index: &Index) -> Option<Vec<(Vec<u32>, Vec<u32>)>> {
     let n = atoms.len();
+    // The finest grouping (every atom alone) is the usual answer; try it before enumerating.
+    let singles: Option<Vec<_>> = atoms
+        .iter()
+        .map(|s| {
+            let (dets, obs) = split_ids(s, d);
+            exists(index, &dets, &obs).then_some((dets, obs))
+        })
+        .collect();
+    if let Some(parts) = singles.filter(|p| p.len() >= 2) {
+        return Some(parts);
+    }
     let mut best: Option<Vec<(Vec<u32>, Vec<u32>)>> = None;
     // Restricted growth strings enumerate each set partition once.
     let mut rgs = vec![0usize; n];

@@ -99,8 +99,8 @@ pub fn independent_terms(channel: &Channel) -> (Vec<IndependentTerm>, bool) {
     let mut q = vec![0.0; size];
     if exact {
         for (r, qr) in q.iter_mut().enumerate().skip(1) {
-            let ell: f64 = -2.0 / size as f64
-                * (0..size).map(|a| chi(a, r) * lambda[a].ln()).sum::<f64>();
+            let ell: f64 =
+                -2.0 / size as f64 * (0..size).map(|a| chi(a, r) * lambda[a].ln()).sum::<f64>();
             // -expm1 keeps precision for tiny probabilities.
             let v = -ell.exp_m1() / 2.0;
             // Round-off leaves |v| ~ 1e-17 where the true value is 0.
@@ -160,7 +160,11 @@ pub(crate) struct FxHasher(u64);
 
 impl Hasher for FxHasher {
     fn write(&mut self, bytes: &[u8]) {
-        for &b in bytes {
+        let mut chunks = bytes.chunks_exact(8);
+        for c in &mut chunks {
+            self.write_u64(u64::from_le_bytes(c.try_into().expect("8 bytes")));
+        }
+        for &b in chunks.remainder() {
             self.write_u64(u64::from(b));
         }
     }
@@ -174,7 +178,14 @@ impl Hasher for FxHasher {
         self.0 = (self.0.rotate_left(5) ^ v).wrapping_mul(0x51_7c_c1_b7_27_22_0a_95);
     }
     fn finish(&self) -> u64 {
-        self.0
+        // The multiply leaves the low bits poorly mixed, and hashbrown picks buckets by the low
+        // bits: finish with the murmur3 64-bit mixer so structured keys do not collide.
+        let mut x = self.0;
+        x ^= x >> 33;
+        x = x.wrapping_mul(0xff51_afd7_ed55_8ccd);
+        x ^= x >> 33;
+        x = x.wrapping_mul(0xc4ce_b9fe_1a85_ec53);
+        x ^ (x >> 33)
     }
 }
 
@@ -219,7 +230,8 @@ impl Builder<'_> {
     fn add(&mut self, symptom: &[u32], c: Contributor, atoms: impl FnOnce() -> Atoms) {
         if symptom.is_empty() {
             self.silent.count += 1;
-            self.silent.probability = super::graph::xor_prob(self.silent.probability, c.probability);
+            self.silent.probability =
+                super::graph::xor_prob(self.silent.probability, c.probability);
             return;
         }
         let k = match self.index.get(symptom) {
@@ -364,7 +376,10 @@ fn finish(circuit: &Circuit, b: Builder<'_>) -> Extracted {
     let mut order: Vec<u32> = (0..b.mechs.len() as u32).collect();
     let split = |s: &[u32]| {
         let k = s.iter().take_while(|&&x| x < d).count();
-        (s[..k].to_vec(), s[k..].iter().map(|&x| x - d).collect::<Vec<u32>>())
+        (
+            s[..k].to_vec(),
+            s[k..].iter().map(|&x| x - d).collect::<Vec<u32>>(),
+        )
     };
     let keys: Vec<(Vec<u32>, Vec<u32>)> = b.mechs.iter().map(|m| split(&m.symptom)).collect();
     order.sort_by(|&x, &y| keys[x as usize].cmp(&keys[y as usize]));

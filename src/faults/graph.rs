@@ -347,7 +347,7 @@ impl FaultGraph {
                 },
             }
         }
-        let mut list: Vec<((u32, u32), (f64, Vec<u32>))> = edges.into_iter().collect();
+        let mut list: Vec<_> = edges.into_iter().collect();
         list.sort_by_key(|e| (e.0 .0, if e.0 .1 == u32::MAX { 0 } else { 1 }, e.0 .1));
         let edges = list
             .into_iter()

@@ -44,7 +44,7 @@ pub mod graph;
 
 pub use extract::ExtractOptions;
 pub use graph::{
-    ClassSet, Contributor, FaultClass, FaultGraph, Mechanism, MatchingEdge, MatchingGraph,
+    ClassSet, Contributor, FaultClass, FaultGraph, MatchingEdge, MatchingGraph, Mechanism,
 };
 
 use crate::ir::Circuit;

@@ -45,7 +45,11 @@ pub fn render(view: &View<'_>) -> String {
             d.name.replace('"', "'")
         );
     }
-    let _ = writeln!(s, "  B [label=\"boundary\", shape=box, pos=\"{},0!\"];", min_x - 2.0);
+    let _ = writeln!(
+        s,
+        "  B [label=\"boundary\", shape=box, pos=\"{},0!\"];",
+        min_x - 2.0
+    );
     let edge = |s: &mut String, a: u32, b: Option<u32>, p: f64, obs: &[u32]| {
         let to = b.map_or("B".to_string(), |b| format!("D{b}"));
         let style = if obs.is_empty() { "" } else { ", color=red" };

@@ -10,9 +10,12 @@ use std::fmt::Write;
 
 use crate::faults::export::{npy, Files, View};
 
+/// A column: detectors, observables, probability.
+type Column<'a> = (Vec<u32>, &'a [u32], f64);
+
 /// Renders the three files.
 pub fn render(view: &View<'_>) -> Files {
-    let (rows_h, rows_l, cols): (usize, usize, Vec<(Vec<u32>, &[u32], f64)>) = match view {
+    let (rows_h, rows_l, cols): (usize, usize, Vec<Column<'_>>) = match view {
         View::Full(g) => (
             g.detectors.len(),
             g.observables.len(),

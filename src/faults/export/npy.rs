@@ -33,6 +33,9 @@ mod tests {
         let hl = u16::from_le_bytes([b[8], b[9]]) as usize;
         assert_eq!((10 + hl) % 64, 0);
         assert_eq!(b.len(), 10 + hl + 16);
-        assert_eq!(f64::from_le_bytes(b[10 + hl..18 + hl].try_into().unwrap()), 0.5);
+        assert_eq!(
+            f64::from_le_bytes(b[10 + hl..18 + hl].try_into().unwrap()),
+            0.5
+        );
     }
 }
