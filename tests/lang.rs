@@ -18,7 +18,12 @@ fn slant(args: &[&str], stdin: Option<&str>) -> (i32, String, String) {
         .spawn()
         .expect("binary runs");
     if let Some(text) = stdin {
-        child.stdin.take().unwrap().write_all(text.as_bytes()).unwrap();
+        child
+            .stdin
+            .take()
+            .unwrap()
+            .write_all(text.as_bytes())
+            .unwrap();
     } else {
         drop(child.stdin.take());
     }
@@ -53,7 +58,13 @@ fn rejects_with(text: &str, sets: &[(String, i64)], message: &str, line: usize, 
         d.render()
     );
     let (_, l, c) = d.location().expect("located");
-    assert_eq!((l, c), (line, col), "location of `{}`\n{}", d.message, d.render());
+    assert_eq!(
+        (l, c),
+        (line, col),
+        "location of `{}`\n{}",
+        d.message,
+        d.render()
+    );
 }
 
 // ---- the bad-input catalogue ------------------------------------------------------------------
@@ -63,33 +74,61 @@ fn unknown_gate_with_suggestion() {
     let errs = load("qubit a\nqubit b\nczz a b\n").unwrap_err();
     assert_eq!(errs[0].message, "unknown statement or gate `czz`");
     assert_eq!(errs[0].hint.as_deref(), Some("did you mean `cz`?"));
-    rejects("qubit a\nqubit b\nczz a b\n", "unknown statement or gate", 3, 1);
+    rejects(
+        "qubit a\nqubit b\nczz a b\n",
+        "unknown statement or gate",
+        3,
+        1,
+    );
 }
 
 #[test]
 fn upper_case_gate_gets_a_hint() {
     let errs = load("qubit a\nH a\n").unwrap_err();
-    assert_eq!(errs[0].hint.as_deref(), Some("gate names are lower-case: `h`"));
+    assert_eq!(
+        errs[0].hint.as_deref(),
+        Some("gate names are lower-case: `h`")
+    );
 }
 
 #[test]
 fn wrong_arity_two_qubit() {
-    rejects("qubit a\nqubit b\nqubit c\ncx a b c\n", "`cx` acts on 2 qubits but this group has 3", 4, 4);
+    rejects(
+        "qubit a\nqubit b\nqubit c\ncx a b c\n",
+        "`cx` acts on 2 qubits but this group has 3",
+        4,
+        4,
+    );
 }
 
 #[test]
 fn wrong_arity_one_qubit() {
-    rejects("qubit a\nqubit b\nh a b\n", "`h` acts on 1 qubit but this group has 2", 3, 3);
+    rejects(
+        "qubit a\nqubit b\nh a b\n",
+        "`h` acts on 1 qubit but this group has 2",
+        3,
+        3,
+    );
 }
 
 #[test]
 fn qubit_twice_in_layer() {
-    rejects("qubit a\nlayer { h a; x a }\n", "qubit `a` is used twice in one layer", 2, 16);
+    rejects(
+        "qubit a\nlayer { h a; x a }\n",
+        "qubit `a` is used twice in one layer",
+        2,
+        16,
+    );
 }
 
 #[test]
 fn qubit_twice_in_one_gate() {
-    rejects("qubit a\ncx a a\n", "qubit `a` is used twice in one layer", 2, 6);
+    rejects(
+        "qubit a\ncx a a\n",
+        "qubit `a` is used twice in one layer",
+        2,
+        6,
+    );
 }
 
 #[test]
@@ -101,18 +140,29 @@ fn undefined_qubit() {
 
 #[test]
 fn undefined_result() {
-    rejects("qubit a\nmeasure z a -> m\ndetector = mm\n", "undefined result `mm`", 3, 12);
+    rejects(
+        "qubit a\nmeasure z a -> m\ndetector = mm\n",
+        "undefined result `mm`",
+        3,
+        12,
+    );
 }
 
 #[test]
 fn result_of_a_later_iteration() {
-    let text = "qubit a\nfor r in 0..3 {\n    measure z a -> m[r]\n    detector = m[r] ^ m[r + 1]\n}\n";
+    let text =
+        "qubit a\nfor r in 0..3 {\n    measure z a -> m[r]\n    detector = m[r] ^ m[r + 1]\n}\n";
     rejects(text, "result `m[1]` is used before it is measured", 4, 23);
 }
 
 #[test]
 fn index_out_of_range() {
-    rejects("qubit q[0..3]\nh q[3]\n", "index out of range: qubit `q[3]` is not declared", 2, 3);
+    rejects(
+        "qubit q[0..3]\nh q[3]\n",
+        "index out of range: qubit `q[3]` is not declared",
+        2,
+        3,
+    );
 }
 
 #[test]
@@ -124,23 +174,48 @@ fn duplicate_qubit() {
 
 #[test]
 fn duplicate_result() {
-    rejects("qubit a\nmeasure z a -> m\nmeasure z a -> m\n", "result `m` is measured twice", 3, 16);
+    rejects(
+        "qubit a\nmeasure z a -> m\nmeasure z a -> m\n",
+        "result `m` is measured twice",
+        3,
+        16,
+    );
 }
 
 #[test]
 fn probability_out_of_range() {
-    rejects("qubit a\nnoise dephasing p=1.5 a\n", "probability `1.5` is outside [0, 1]", 2, 19);
+    rejects(
+        "qubit a\nnoise dephasing p=1.5 a\n",
+        "probability `1.5` is outside [0, 1]",
+        2,
+        19,
+    );
 }
 
 #[test]
 fn channel_sum_above_one() {
-    rejects("qubit a\nnoise pauli x=0.6 z=0.6 a\n", "sum to 1.2, above 1", 2, 1);
+    rejects(
+        "qubit a\nnoise pauli x=0.6 z=0.6 a\n",
+        "sum to 1.2, above 1",
+        2,
+        1,
+    );
 }
 
 #[test]
 fn malformed_number() {
-    rejects("qubit a\nnoise dephasing p=1e a\n", "malformed number `1e`", 2, 19);
-    rejects("qubit a\nnoise dephasing p=.5 a\n", "malformed number", 2, 19);
+    rejects(
+        "qubit a\nnoise dephasing p=1e a\n",
+        "malformed number `1e`",
+        2,
+        19,
+    );
+    rejects(
+        "qubit a\nnoise dephasing p=.5 a\n",
+        "malformed number",
+        2,
+        19,
+    );
 }
 
 #[test]
@@ -150,46 +225,75 @@ fn unterminated_block() {
 
 #[test]
 fn unexpected_closing_brace() {
-    rejects("qubit a\nh a\n}\n", "unexpected `}` with no open block", 3, 1);
+    rejects(
+        "qubit a\nh a\n}\n",
+        "unexpected `}` with no open block",
+        3,
+        1,
+    );
 }
 
 #[test]
 fn loop_past_the_size_limit() {
     let text = "qubit a\nfor i in 0..100000 {\n    for j in 0..100000 {\n        h a\n    }\n}\n";
-    rejects(text, "this loop would expand to about 10000000000 items", 2, 1);
+    rejects(
+        text,
+        "this loop would expand to about 10000000000 items",
+        2,
+        1,
+    );
 }
 
 #[test]
 fn override_of_unknown_parameter() {
     let sets = vec![("distanse".to_string(), 5)];
-    let errs = slant::load_source(&Source::new("t", "param distance = 3\nqubit a\n"), &sets).unwrap_err();
-    assert_eq!(errs[0].message, "`--set distanse=...` names no parameter of this circuit");
+    let errs =
+        slant::load_source(&Source::new("t", "param distance = 3\nqubit a\n"), &sets).unwrap_err();
+    assert_eq!(
+        errs[0].message,
+        "`--set distanse=...` names no parameter of this circuit"
+    );
     assert_eq!(errs[0].hint.as_deref(), Some("did you mean `distance`?"));
 }
 
 #[test]
 fn non_deterministic_detector_names_the_culprit() {
-    let text = "qubit a\nqubit b\nh b\nmeasure z a -> ma\nmeasure z b -> mb\ndetector both = ma ^ mb\n";
+    let text =
+        "qubit a\nqubit b\nh b\nmeasure z a -> ma\nmeasure z b -> mb\ndetector both = ma ^ mb\n";
     let errs = load(text).unwrap_err();
-    assert!(errs[0].message.contains("detector `both` is not deterministic"));
+    assert!(errs[0]
+        .message
+        .contains("detector `both` is not deterministic"));
     let (_, l, c) = errs[0].location().unwrap();
     assert_eq!((l, c), (6, 1));
-    assert!(errs[0].secondary[0].text.contains("initial |0> state of `b`"));
+    assert!(errs[0].secondary[0]
+        .text
+        .contains("initial |0> state of `b`"));
 }
 
 #[test]
 fn non_deterministic_detector_from_a_measurement() {
     // The X measurement in between randomises the second Z result.
-    let text = "qubit a\nmeasure z a -> m1\nmeasure x a -> m2\nmeasure z a -> m3\ndetector = m1 ^ m3\n";
+    let text =
+        "qubit a\nmeasure z a -> m1\nmeasure x a -> m2\nmeasure z a -> m3\ndetector = m1 ^ m3\n";
     let errs = load(text).unwrap_err();
     let label = &errs[0].secondary[0];
-    assert!(label.text.contains("randomised by this measurement"), "{}", errs[0].render());
+    assert!(
+        label.text.contains("randomised by this measurement"),
+        "{}",
+        errs[0].render()
+    );
     assert_eq!(label.source.line_col(label.span.start).0, 3);
 }
 
 #[test]
 fn non_deterministic_observable() {
-    rejects("qubit a\nh a\nmeasure z a -> m\nobservable logical = m\n", "observable `logical` is not deterministic", 4, 1);
+    rejects(
+        "qubit a\nh a\nmeasure z a -> m\nobservable logical = m\n",
+        "observable `logical` is not deterministic",
+        4,
+        1,
+    );
 }
 
 #[test]
@@ -200,7 +304,8 @@ fn empty_file_is_rejected() {
 
 #[test]
 fn non_utf8_bytes() {
-    let err = slant::lang::source_from_bytes("t.slant".into(), b"qubit a\n\xffh a\n".to_vec()).unwrap_err();
+    let err = slant::lang::source_from_bytes("t.slant".into(), b"qubit a\n\xffh a\n".to_vec())
+        .unwrap_err();
     assert_eq!(err.message, "the file is not valid UTF-8");
     assert_eq!(err.location().map(|l| (l.1, l.2)), Some((2, 1)));
 }
@@ -217,7 +322,10 @@ fn very_long_line_is_windowed() {
     assert_eq!((l, c), (2, 10001));
     let rendered = errs[0].render();
     assert!(rendered.lines().all(|line| line.len() < 200), "{rendered}");
-    assert!(rendered.contains("2 | ... h a;") && rendered.contains("hh a\n"), "{rendered}");
+    assert!(
+        rendered.contains("2 | ... h a;") && rendered.contains("hh a\n"),
+        "{rendered}"
+    );
     assert!(rendered.contains("^^\n"), "{rendered}");
 }
 
@@ -232,19 +340,44 @@ fn deep_nesting_is_refused() {
 
 #[test]
 fn unknown_channel_and_parameter() {
-    rejects("qubit a\nnoise depolarising p=0.1 a\n", "unknown noise channel `depolarising`", 2, 7);
-    rejects("qubit a\nnoise dephasing q=0.1 a\n", "`dephasing` takes no parameter `q`", 2, 17);
-    rejects("qubit a\nnoise dephasing a\n", "`noise dephasing` needs `p=`", 2, 1);
+    rejects(
+        "qubit a\nnoise depolarising p=0.1 a\n",
+        "unknown noise channel `depolarising`",
+        2,
+        7,
+    );
+    rejects(
+        "qubit a\nnoise dephasing q=0.1 a\n",
+        "`dephasing` takes no parameter `q`",
+        2,
+        17,
+    );
+    rejects(
+        "qubit a\nnoise dephasing a\n",
+        "`noise dephasing` needs `p=`",
+        2,
+        1,
+    );
 }
 
 #[test]
 fn measurement_without_result_name() {
-    rejects("qubit a\nmeasure z a m\n", "expected `->` and a result name", 2, 13);
+    rejects(
+        "qubit a\nmeasure z a m\n",
+        "expected `->` and a result name",
+        2,
+        13,
+    );
 }
 
 #[test]
 fn missing_basis() {
-    rejects("qubit a\nreset a\n", "expected a basis `x`, `y` or `z`, found `a`", 2, 7);
+    rejects(
+        "qubit a\nreset a\n",
+        "expected a basis `x`, `y` or `z`, found `a`",
+        2,
+        7,
+    );
 }
 
 #[test]
@@ -254,7 +387,12 @@ fn reserved_word_as_name() {
 
 #[test]
 fn unknown_name_in_expression() {
-    rejects("param distance = 3\nqubit a\nfor k in 0..distanc {\n    h a\n}\n", "unknown name `distanc`", 3, 13);
+    rejects(
+        "param distance = 3\nqubit a\nfor k in 0..distanc {\n    h a\n}\n",
+        "unknown name `distanc`",
+        3,
+        13,
+    );
 }
 
 #[test]
@@ -264,22 +402,42 @@ fn division_by_zero() {
 
 #[test]
 fn trailing_junk_after_statement() {
-    rejects("qubit a\nh a )\n", "expected the end of the statement, found `)`", 2, 5);
+    rejects(
+        "qubit a\nh a )\n",
+        "expected the end of the statement, found `)`",
+        2,
+        5,
+    );
 }
 
 #[test]
 fn extending_an_undeclared_observable() {
-    rejects("qubit a\nmeasure z a -> m\nobservable l ^= m\n", "extended before it is declared", 3, 12);
+    rejects(
+        "qubit a\nmeasure z a -> m\nobservable l ^= m\n",
+        "extended before it is declared",
+        3,
+        12,
+    );
 }
 
 #[test]
 fn zipped_ranges_of_different_length() {
-    rejects("qubit a[0..3]\nqubit b[0..2]\ncx a[0..3] b[0..2]\n", "different lengths (3 and 2)", 3, 4);
+    rejects(
+        "qubit a[0..3]\nqubit b[0..2]\ncx a[0..3] b[0..2]\n",
+        "different lengths (3 and 2)",
+        3,
+        4,
+    );
 }
 
 #[test]
 fn chained_comparison() {
-    rejects("qubit a\nif 1 < 2 < 3 {\n    h a\n}\n", "comparisons cannot be chained", 2, 10);
+    rejects(
+        "qubit a\nif 1 < 2 < 3 {\n    h a\n}\n",
+        "comparisons cannot be chained",
+        2,
+        10,
+    );
 }
 
 #[test]
@@ -323,7 +481,8 @@ const REPETITION: &str = include_str!("../circuits/repetition_d3.slant");
 
 /// The AST's debug form with every span erased, for comparing trees parsed from different text.
 fn shape(text: &str) -> String {
-    let ast = slant::lang::parse(&Source::new("s", text)).unwrap_or_else(|e| panic!("{}\n{text}", e[0].render()));
+    let ast = slant::lang::parse(&Source::new("s", text))
+        .unwrap_or_else(|e| panic!("{}\n{text}", e[0].render()));
     let dbg = format!("{:?}", ast.stmts);
     let mut out = String::with_capacity(dbg.len());
     let mut rest = dbg.as_str();
@@ -342,7 +501,11 @@ fn fmt(text: &str) -> String {
 
 fn round_trip(text: &str) {
     let printed = fmt(text);
-    assert_eq!(shape(text), shape(&printed), "tree changed by printing:\n{printed}");
+    assert_eq!(
+        shape(text),
+        shape(&printed),
+        "tree changed by printing:\n{printed}"
+    );
     assert_eq!(printed, fmt(&printed), "printing is not idempotent");
 }
 
@@ -353,7 +516,12 @@ fn library_circuits_are_canonical() {
         if path.extension().is_some_and(|e| e == "slant") {
             let text = std::fs::read_to_string(&path).unwrap();
             round_trip(&text);
-            assert_eq!(fmt(&text), text, "{} is not in canonical form", path.display());
+            assert_eq!(
+                fmt(&text),
+                text,
+                "{} is not in canonical form",
+                path.display()
+            );
         }
     }
 }
@@ -367,8 +535,18 @@ fn printer_normalises_layout() {
 }
 
 #[test]
+fn else_may_start_a_new_line() {
+    let text = "qubit a\nif 0 {\n    x a\n}\nelse {\n    z a\n}\n";
+    assert_eq!(fmt(text), "qubit a\nif 0 {\n    x a\n} else {\n    z a\n}\n");
+    assert!(load(text).is_ok());
+}
+
+#[test]
 fn parentheses_are_kept_only_where_needed() {
-    assert_eq!(fmt("qubit q[(1 + 2) * 3 - (4 - 5) - -(6 + 1)]\n"), "qubit q[(1 + 2) * 3 - (4 - 5) - -(6 + 1)]\n");
+    assert_eq!(
+        fmt("qubit q[(1 + 2) * 3 - (4 - 5) - -(6 + 1)]\n"),
+        "qubit q[(1 + 2) * 3 - (4 - 5) - -(6 + 1)]\n"
+    );
     assert_eq!(fmt("qubit q[((1 * 2)) + 3]\n"), "qubit q[1 * 2 + 3]\n");
 }
 
@@ -381,7 +559,21 @@ fn arb_expr() -> impl Strategy<Value = String> {
     ];
     leaf.prop_recursive(4, 24, 2, |inner| {
         prop_oneof![
-            (inner.clone(), prop_oneof![Just("+"), Just("-"), Just("*"), Just("/"), Just("%"), Just("<"), Just("=="), Just("and"), Just("or")], inner.clone())
+            (
+                inner.clone(),
+                prop_oneof![
+                    Just("+"),
+                    Just("-"),
+                    Just("*"),
+                    Just("/"),
+                    Just("%"),
+                    Just("<"),
+                    Just("=="),
+                    Just("and"),
+                    Just("or")
+                ],
+                inner.clone()
+            )
                 .prop_map(|(a, op, b)| format!("({a} {op} {b})")),
             inner.clone().prop_map(|a| format!("-{a}")),
             inner.prop_map(|a| format!("not ({a})")),
@@ -395,7 +587,9 @@ fn arb_stmt() -> impl Strategy<Value = String> {
         arb_expr().prop_map(|e| format!("h q[{e}], q[0..{e}]")),
         arb_expr().prop_map(|e| format!("if {e} {{\n x q[0]\n}} else {{ # c\n y q[1] }}")),
         arb_expr().prop_map(|e| format!("measure z q[{e}] * x r -> m[{e}, 0..2] flip 0.125")),
-        arb_expr().prop_map(|e| format!("for k in 0..{e} by 2 {{ detector s[k] at (k, {e}) = m[k] ^ m[k - 1] }}")),
+        arb_expr().prop_map(|e| format!(
+            "for k in 0..{e} by 2 {{ detector s[k] at (k, {e}) = m[k] ^ m[k - 1] }}"
+        )),
         arb_expr().prop_map(|e| format!("noise pauli x=0.25 z={e} q[0], q[1]")),
         Just("# a comment".to_string()),
         Just("layer { cx a b, c d }".to_string()),
@@ -427,9 +621,11 @@ fn reference_examples_parse() {
     for block in text.split("```slant").skip(1) {
         let code = block.split("```").next().unwrap();
         let source = Source::new("reference.md", code);
-        let ast = slant::lang::parse(&source).unwrap_or_else(|e| panic!("{}\n{code}", e[0].render()));
+        let ast =
+            slant::lang::parse(&source).unwrap_or_else(|e| panic!("{}\n{code}", e[0].render()));
         if code.contains("qubit") {
-            slant::load_source(&source, &[]).unwrap_or_else(|e| panic!("{}\n{code}", e[0].render()));
+            slant::load_source(&source, &[])
+                .unwrap_or_else(|e| panic!("{}\n{code}", e[0].render()));
         }
         round_trip(code);
         let _ = ast;
@@ -442,7 +638,10 @@ fn reference_examples_parse() {
 
 #[test]
 fn check_prints_a_summary() {
-    let (code, out, err) = slant(&["check", "circuits/repetition_d3.slant", "--set", "rounds=2"], None);
+    let (code, out, err) = slant(
+        &["check", "circuits/repetition_d3.slant", "--set", "rounds=2"],
+        None,
+    );
     assert_eq!(code, 0, "{err}");
     assert_eq!(
         out,
@@ -452,7 +651,10 @@ fn check_prints_a_summary() {
 
 #[test]
 fn check_json_and_stdin() {
-    let (code, out, _) = slant(&["check", "-", "--json"], Some("qubit a\nnoise depolarizing p=0.03 a\nmeasure z a -> m flip 0.01\ndetector = m\n"));
+    let (code, out, _) = slant(
+        &["check", "-", "--json"],
+        Some("qubit a\nnoise depolarizing p=0.03 a\nmeasure z a -> m flip 0.01\ndetector = m\n"),
+    );
     assert_eq!(code, 0);
     let v: serde_json::Value = serde_json::from_str(&out).unwrap();
     assert_eq!(v["detectors"], 1);
@@ -523,7 +725,8 @@ fn arb_random_circuit() -> impl Strategy<Value = String> {
                 records = 1;
             }
             for (k, parity) in parities.iter().enumerate() {
-                let terms: Vec<String> = parity.iter().map(|r| format!("m{}", r % records)).collect();
+                let terms: Vec<String> =
+                    parity.iter().map(|r| format!("m{}", r % records)).collect();
                 text += &format!("detector d{k} = {}\n", terms.join(" ^ "));
             }
             text

@@ -518,7 +518,13 @@ impl Parser {
             span: Span::default(),
         };
         let (i, then) = commit(self.block(i, &if_word))?;
-        let (i, otherwise) = match self.keyword(i, "else") {
+        // `else` may follow the closing brace on the same line or on the next lines; only
+        // whitespace may stand between them, so no comment is lost by the printer.
+        let after_newlines = {
+            let s = i.fragment();
+            i.take_from(s.len() - s.trim_start_matches([' ', '\t', '\r', '\n']).len())
+        };
+        let (i, otherwise) = match self.keyword(after_newlines, "else") {
             Ok((j, _)) => {
                 let k = self.sp(j);
                 if let Ok((rest, _)) = self.keyword(k, "if") {
