@@ -1,0 +1,415 @@
+//! The noise compiler: [`NoiseModel`] × [`Circuit`] → [`Circuit`] with every channel explicit.
+//!
+//! In: a checked circuit (its own noise statements are kept) and a model. Out: a [`Compiled`]
+//! circuit plus one [`Note`] per inserted channel saying what produced it, and
+//! [`to_text`], which writes the result as a flat, loop-free program in slant's language with
+//! each noise line commented.
+//!
+//! Placement (the same as the `circuit` preset, so a model with the preset's meaning gives the
+//! same circuit): in every layer holding at least one gate, reset or measurement —
+//! right after each gate its effective channel ([`crate::noise::implement::effective_channel`]
+//! of the gate section's rate and implementation); right after each reset the orthogonal flip;
+//! each measurement's flip combined with the model's (`f ⊕ q = f + q − 2fq`); at the end of the
+//! layer the idle channel on every qubit that no gate, reset or measurement of the layer touches.
+//! The layer's duration is the longest duration of its operations (0 when the model gives
+//! none); idle noise from `t1`/`t2` uses it. Qubits whose operation is shorter than the layer
+//! get no extra idle noise (their section's rate is taken to cover the whole layer). Idle qubits
+//! with equal channels share one operation. Layers holding only noise are left alone.
+
+use std::fmt::Write as _;
+
+use crate::ir::{Basis, Channel, Circuit, Gate, Op, OpKind, Pauli};
+use crate::lang::Diagnostic;
+use crate::noise::implement::{effective_channel, Implementation};
+use crate::noise::model::NoiseModel;
+
+/// What produced one inserted channel.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Note {
+    /// Layer of the inserted operation in the compiled circuit.
+    pub layer: usize,
+    /// Position of the inserted operation in its layer.
+    pub op: usize,
+    /// Operation class: a gate name, `reset` or `idle`.
+    pub class: String,
+    /// The gate it follows, if any.
+    pub gate: Option<Gate>,
+    /// How that gate is implemented.
+    pub implementation: Implementation,
+    /// The channel as the model writes it, before mid-gate faults are transformed.
+    pub input: Channel,
+    /// Human-readable origin, used as the comment in [`to_text`].
+    pub text: String,
+}
+
+/// A circuit with the model's noise written in.
+#[derive(Clone, Debug)]
+pub struct Compiled {
+    /// The circuit with explicit channels.
+    pub circuit: Circuit,
+    /// One note per inserted noise operation.
+    pub notes: Vec<Note>,
+    /// Total duration: the sum of the layer durations.
+    pub duration: f64,
+}
+
+fn combine(a: f64, b: f64) -> f64 {
+    a + b - 2.0 * a * b
+}
+
+/// Writes the model's noise into a copy of `circuit`.
+pub fn compile(circuit: &Circuit, model: &NoiseModel) -> Result<Compiled, Vec<Diagnostic>> {
+    let n = circuit.qubits.len();
+    let mut out = circuit.clone();
+    let mut notes = Vec::new();
+    let mut errors: Vec<Diagnostic> = Vec::new();
+    let mut missing: Vec<Gate> = Vec::new();
+    let mut total = 0.0;
+    let mut touched = vec![false; n];
+    let model_name = &model.source.name;
+    for (li, layer) in out.layers.iter_mut().enumerate() {
+        if layer
+            .ops
+            .iter()
+            .all(|op| matches!(op.kind, OpKind::Noise(_)))
+        {
+            continue;
+        }
+        touched.fill(false);
+        let mut duration: f64 = 0.0;
+        let mut ops = Vec::with_capacity(2 * layer.ops.len() + 1);
+        for mut op in std::mem::take(&mut layer.ops) {
+            let mut extra: Vec<(Vec<u32>, Channel, Note)> = Vec::new();
+            match &mut op.kind {
+                OpKind::Noise(_) => {}
+                OpKind::Gate(g) => {
+                    let g = *g;
+                    for app in op.targets.chunks(g.arity()) {
+                        let qs: Vec<_> = app.iter().map(|&q| &circuit.qubits[q as usize]).collect();
+                        let Some(sec) = model.gate(g, &qs) else {
+                            if !missing.contains(&g) {
+                                missing.push(g);
+                                errors.push(
+                                    Diagnostic::error(&circuit.source, op.span, format!("the noise model `{model_name}` gives no noise for gate `{}`", g.name()))
+                                        .with_hint(format!("add a `[gates.{}]` (or `[gates.default]`) table to the model", g.name())),
+                                );
+                            }
+                            continue;
+                        };
+                        duration = duration.max(sec.duration.unwrap_or(0.0));
+                        let input = if g.arity() == 2 {
+                            sec.rate.two()
+                        } else {
+                            sec.rate.one()
+                        };
+                        let Some(input) = input else {
+                            errors.push(Diagnostic::error(
+                                &model.source,
+                                sec.span,
+                                format!(
+                                    "the rate for `{}` has the wrong number of qubits",
+                                    g.name()
+                                ),
+                            ));
+                            continue;
+                        };
+                        let ch = effective_channel(g, sec.implementation, &input);
+                        let text = format!(
+                            "{} after `{}` ({})",
+                            model_name,
+                            g.name(),
+                            sec.implementation.name()
+                        );
+                        extra.push((
+                            app.to_vec(),
+                            ch,
+                            Note {
+                                layer: li,
+                                op: 0,
+                                class: g.name().to_string(),
+                                gate: Some(g),
+                                implementation: sec.implementation,
+                                input,
+                                text,
+                            },
+                        ));
+                    }
+                }
+                OpKind::Reset(basis) => {
+                    let basis = *basis;
+                    for &q in &op.targets {
+                        let r = model.reset_for(&circuit.qubits[q as usize]);
+                        duration = duration.max(r.duration.unwrap_or(0.0));
+                        let ch = if basis == Basis::X {
+                            Channel::Dephasing(r.p)
+                        } else {
+                            Channel::BitFlip(r.p)
+                        };
+                        let text =
+                            format!("{} reset error after `reset {}`", model_name, basis.name());
+                        extra.push((
+                            vec![q],
+                            ch.clone(),
+                            Note {
+                                layer: li,
+                                op: 0,
+                                class: "reset".into(),
+                                gate: None,
+                                implementation: Implementation::Ideal,
+                                input: ch,
+                                text,
+                            },
+                        ));
+                    }
+                }
+                OpKind::Measure { flip, .. } => {
+                    let qs: Vec<_> = op
+                        .targets
+                        .iter()
+                        .map(|&q| &circuit.qubits[q as usize])
+                        .collect();
+                    let m = model.measure_for(&qs);
+                    duration = duration.max(m.duration.unwrap_or(0.0));
+                    *flip = combine(*flip, m.flip);
+                }
+            }
+            if !matches!(op.kind, OpKind::Noise(_)) {
+                for &q in &op.targets {
+                    touched[q as usize] = true;
+                }
+            }
+            let span = op.span;
+            ops.push(op);
+            // Merge applications with equal channels into one operation, as the preset does.
+            let mut merged: Vec<(Vec<u32>, Channel, Note)> = Vec::new();
+            for (t, ch, note) in extra {
+                if ch.total() <= 0.0 {
+                    continue;
+                }
+                match merged
+                    .iter_mut()
+                    .find(|m| m.1 == ch && m.2.text == note.text)
+                {
+                    Some(m) => m.0.extend(t),
+                    None => merged.push((t, ch, note)),
+                }
+            }
+            for (targets, ch, mut note) in merged {
+                note.op = ops.len();
+                notes.push(note);
+                ops.push(Op {
+                    kind: OpKind::Noise(ch),
+                    targets,
+                    paulis: Vec::new(),
+                    span,
+                });
+            }
+        }
+        let mut idle: Vec<(Vec<u32>, Channel)> = Vec::new();
+        for q in 0..n {
+            if touched[q] {
+                continue;
+            }
+            let Some(ch) = model.idle_for(&circuit.qubits[q]).channel(duration) else {
+                continue;
+            };
+            if ch.total() <= 0.0 {
+                continue;
+            }
+            match idle.iter_mut().find(|i| i.1 == ch) {
+                Some(i) => i.0.push(q as u32),
+                None => idle.push((vec![q as u32], ch)),
+            }
+        }
+        for (targets, ch) in idle {
+            notes.push(Note {
+                layer: li,
+                op: ops.len(),
+                class: "idle".into(),
+                gate: None,
+                implementation: Implementation::Ideal,
+                input: ch.clone(),
+                text: format!("{model_name} idle for {duration}"),
+            });
+            ops.push(Op {
+                kind: OpKind::Noise(ch),
+                targets,
+                paulis: Vec::new(),
+                span: layer.span,
+            });
+        }
+        total += duration;
+        layer.ops = ops;
+    }
+    if !errors.is_empty() {
+        return Err(errors);
+    }
+    Ok(Compiled {
+        circuit: out,
+        notes,
+        duration: total,
+    })
+}
+
+/// A number as the language reads it: shortest round-trip decimal, never `NaN` or infinite.
+fn num(x: f64) -> String {
+    let s = format!("{x:?}");
+    // `{:?}` gives forms like `1e-5` and `0.001`, both valid FLOAT tokens; keep integers plain.
+    s.strip_suffix(".0").map_or(s.clone(), |t| t.to_string())
+}
+
+fn channel_text(ch: &Channel) -> String {
+    match ch {
+        Channel::BitFlip(p) => format!("bitflip p={}", num(*p)),
+        Channel::Dephasing(p) => format!("dephasing p={}", num(*p)),
+        Channel::Depolarizing1(p) => format!("depolarizing p={}", num(*p)),
+        Channel::Depolarizing2(p) => format!("depolarizing2 p={}", num(*p)),
+        Channel::Pauli1 { px, py, pz } => {
+            format!("pauli x={} y={} z={}", num(*px), num(*py), num(*pz))
+        }
+        Channel::Pauli2(t) => {
+            let mut s = "pauli2".to_string();
+            for (k, &p) in t.iter().enumerate() {
+                if p > 0.0 {
+                    let v = Pauli::pair_from_index(k + 1);
+                    let name: String = v.iter().map(|p| p.letter().to_ascii_lowercase()).collect();
+                    let _ = write!(s, " {name}={}", num(p));
+                }
+            }
+            if t.iter().all(|&p| p == 0.0) {
+                s.push_str(" zz=0");
+            }
+            s
+        }
+        Channel::Correlated { p, .. } => format!("correlated p={}", num(*p)),
+    }
+}
+
+/// Writes `circuit` as a flat program in slant's language: qubit declarations, one `layer { }`
+/// per layer (inside `round { }` blocks as marked), detectors and observables. `notes` become
+/// comments on the noise lines they describe; `header` lines start the file as comments.
+pub fn to_text(circuit: &Circuit, notes: &[Note], header: &[String]) -> String {
+    let mut s = String::new();
+    for h in header {
+        let _ = writeln!(s, "# {h}");
+    }
+    let name = |q: u32| circuit.qubits[q as usize].name.clone();
+    for q in &circuit.qubits {
+        let _ = write!(s, "qubit {}", q.name);
+        if !q.coords.is_empty() {
+            let c: Vec<String> = q.coords.iter().map(|&x| num(x)).collect();
+            let _ = write!(s, " at ({})", c.join(", "));
+        }
+        if !q.roles.is_empty() {
+            let _ = write!(s, " role {}", q.roles.join(", "));
+        }
+        s.push('\n');
+    }
+    let mut round: Option<u32> = None;
+    for (li, layer) in circuit.layers.iter().enumerate() {
+        if layer.ops.is_empty() {
+            continue;
+        }
+        if layer.round != round {
+            if round.is_some() {
+                s.push_str("}\n");
+            }
+            if layer.round.is_some() {
+                s.push_str("round {\n");
+            }
+            round = layer.round;
+        }
+        let ind = if round.is_some() { "  " } else { "" };
+        let _ = writeln!(s, "{ind}layer {{");
+        for (oi, op) in layer.ops.iter().enumerate() {
+            let line = match &op.kind {
+                OpKind::Gate(g) => {
+                    let groups: Vec<String> = op
+                        .targets
+                        .chunks(g.arity())
+                        .map(|c| c.iter().map(|&q| name(q)).collect::<Vec<_>>().join(" "))
+                        .collect();
+                    format!("{} {}", g.name(), groups.join(", "))
+                }
+                OpKind::Reset(b) => format!(
+                    "reset {} {}",
+                    b.name(),
+                    op.targets
+                        .iter()
+                        .map(|&q| name(q))
+                        .collect::<Vec<_>>()
+                        .join(", ")
+                ),
+                OpKind::Measure { record, flip } => {
+                    let product: Vec<String> = op
+                        .targets
+                        .iter()
+                        .zip(&op.paulis)
+                        .map(|(&q, p)| format!("{} {}", p.letter().to_ascii_lowercase(), name(q)))
+                        .collect();
+                    let mut l = format!(
+                        "measure {} -> {}",
+                        product.join(" * "),
+                        circuit.records[*record as usize].name
+                    );
+                    if *flip > 0.0 {
+                        let _ = write!(l, " flip {}", num(*flip));
+                    }
+                    l
+                }
+                OpKind::Noise(Channel::Correlated { p, paulis }) => {
+                    let product: Vec<String> = op
+                        .targets
+                        .iter()
+                        .zip(paulis)
+                        .map(|(&q, p)| format!("{} {}", p.letter().to_ascii_lowercase(), name(q)))
+                        .collect();
+                    format!("noise correlated p={} {}", num(*p), product.join(" * "))
+                }
+                OpKind::Noise(ch) => {
+                    let groups: Vec<String> = op
+                        .targets
+                        .chunks(ch.arity())
+                        .map(|c| c.iter().map(|&q| name(q)).collect::<Vec<_>>().join(" "))
+                        .collect();
+                    let mut l = format!("noise {} {}", channel_text(ch), groups.join(", "));
+                    if let Some(note) = notes.iter().find(|n| n.layer == li && n.op == oi) {
+                        let (line, _) = circuit.source.line_col(op.span.start);
+                        let _ = write!(
+                            l,
+                            "  # {} (from {}:{})",
+                            note.text, circuit.source.name, line
+                        );
+                    }
+                    l
+                }
+            };
+            let _ = writeln!(s, "{ind}  {line}");
+        }
+        let _ = writeln!(s, "{ind}}}");
+    }
+    if round.is_some() {
+        s.push_str("}\n");
+    }
+    let recs = |rs: &[u32]| {
+        rs.iter()
+            .map(|&r| circuit.records[r as usize].name.clone())
+            .collect::<Vec<_>>()
+            .join(" ^ ")
+    };
+    for d in &circuit.detectors {
+        s.push_str("detector");
+        if !d.name.starts_with("detector#") {
+            let _ = write!(s, " {}", d.name);
+        }
+        if !d.coords.is_empty() {
+            let c: Vec<String> = d.coords.iter().map(|&x| num(x)).collect();
+            let _ = write!(s, " at ({})", c.join(", "));
+        }
+        let _ = writeln!(s, " = {}", recs(&d.records));
+    }
+    for o in &circuit.observables {
+        let _ = writeln!(s, "observable {} = {}", o.name, recs(&o.records));
+    }
+    s
+}

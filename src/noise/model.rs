@@ -1,0 +1,968 @@
+//! Hardware noise-model files (TOML): schema, parsing and validation.
+//!
+//! In: the text of a model file in a [`Source`]. Out: a [`NoiseModel`], or a [`Diagnostic`] at
+//! `file:line:col` (unknown key with a suggestion, value of the wrong type or out of range,
+//! `t2 > 2·t1`, missing rate). Gates the circuit uses but the model does not describe are
+//! reported when the model is compiled into a circuit ([`crate::noise::compile`]).
+//!
+//! # Schema
+//!
+//! Every key is optional unless stated. Probabilities are in `[0, 1]`; durations and times are
+//! non-negative numbers in one unit of your choice (the same for durations, `t1`, `t2` and
+//! `t_bitflip`). A *rate* is either `p` (total probability) with an optional `bias`, or explicit
+//! Pauli probabilities.
+//!
+//! ```toml
+//! p = 0.001            # base total error probability, the default of every `p` below
+//! bias = 100           # base bias eta = pZ/(pX+pY); absent: depolarizing; "inf": pure Z
+//!
+//! [gates.cx]           # one table per gate name (`cx`, `cz`, `h`, ...) or `default`
+//! duration = 2.0       # needed when idle noise comes from t1/t2
+//! p = 0.002            # after-gate channel: p + bias, or
+//! # zz = 0.001, iz = 0.0005, ...   15 named two-qubit terms (one-qubit gates: x, y, z)
+//! implementation = "bias-preserving"   # ideal (default) | rotation | bias-preserving
+//!
+//! [measure]            # duration and flip probability (default p)
+//! duration = 5.0
+//! flip = 0.002
+//!
+//! [reset]              # duration and error probability (default p): the orthogonal flip
+//! duration = 5.0
+//!
+//! [idle]               # qubits no operation touches in a layer, for the layer's duration
+//! t1 = 1000.0          # Pauli-twirled amplitude and phase damping, or
+//! t2 = 500.0
+//! # t_bitflip = 1e6    # cat-like qubit: bit flips with their own time constant (with t2)
+//! # p = 0.0001         # a fixed rate per layer (with bias, or x/y/z)
+//!
+//! [[override]]         # later overrides win; sections replace the model's per key
+//! role = "ancilla"     # or qubit = "a[0]"
+//! idle = { t1 = 500.0, t2 = 300.0 }
+//! measure = { flip = 0.01 }
+//! ```
+//!
+//! # Channels
+//! - `p` + `bias` on one qubit: `pZ = p·eta/(eta+1)`, `pX = pY = p/(2(eta+1))`; on two qubits
+//!   `ZI`, `IZ`, `ZZ` share `p·eta/(eta+1)` and the other twelve terms share `p/(eta+1)`; no
+//!   bias: depolarizing (see [`crate::noise`]). Convention of "Ultrahigh error threshold for
+//!   surface codes with biased noise", PRL 120, 050505 (2018).
+//! - Reset error: the flip orthogonal to the reset basis (X after a z or y reset, Z after an x
+//!   reset), as in the `circuit` preset.
+//! - Idle from `t1`, `t2` for a time `t` (Pauli-twirling approximation of amplitude and phase
+//!   damping, "Surface code with decoherence", PRA 86, 062318 (2012)):
+//!   `px = py = (1 − e^(−t/T1))/4`, `pz = (1 − e^(−t/T2))/2 − (1 − e^(−t/T1))/4`.
+//!   Physical models have `T2 ≤ 2·T1`; larger `t2` is rejected.
+//! - Idle of a cat-like qubit from `t_bitflip` and `t2`: independent bit flips and phase flips,
+//!   each flipping with probability `(1 − e^(−t/T))/2` (so that the flipped expectation decays as
+//!   `e^(−t/T)`, as T2 does for phase); combined: `X = a(1−b)`, `Z = b(1−a)`, `Y = ab`.
+//!
+//! Overrides apply to a qubit when its name equals `qubit` or it carries the role or tag `role`.
+//! A gate override applies when any of the gate's qubits matches.
+
+use std::sync::Arc;
+
+use toml_edit::{ImDocument, Item, TableLike, Value};
+
+use crate::ir::{Channel, Gate, Pauli};
+use crate::lang::diagnostic::did_you_mean;
+use crate::lang::{Diagnostic, Source, Span};
+use crate::noise::implement::Implementation;
+use crate::noise::preset::{Preset, PresetKind};
+
+/// A channel as the model writes it.
+#[derive(Clone, Debug, PartialEq)]
+pub enum Rate {
+    /// Explicit single-qubit Pauli probabilities `(px, py, pz)`.
+    One(f64, f64, f64),
+    /// Total probability and bias (`None`: depolarizing).
+    Total {
+        /// Total probability.
+        p: f64,
+        /// `pZ/(pX+pY)`; infinite for pure Z.
+        bias: Option<f64>,
+    },
+    /// Explicit two-qubit Pauli probabilities in the order of [`Channel::Pauli2`].
+    Two(Box<[f64; 15]>),
+}
+
+impl Rate {
+    fn preset(p: f64, bias: Option<f64>) -> Preset {
+        Preset {
+            kind: PresetKind::Circuit,
+            p,
+            q: None,
+            bias,
+        }
+    }
+
+    /// The channel on one qubit (`None` for a two-qubit rate).
+    pub fn one(&self) -> Option<Channel> {
+        match self {
+            Rate::One(px, py, pz) => Some(Channel::Pauli1 {
+                px: *px,
+                py: *py,
+                pz: *pz,
+            }),
+            Rate::Total { p, bias } => Some(Rate::preset(*p, *bias).one_qubit(*p)),
+            Rate::Two(_) => None,
+        }
+    }
+
+    /// The channel on a pair (`None` for a one-qubit rate).
+    pub fn two(&self) -> Option<Channel> {
+        match self {
+            Rate::Two(t) => Some(Channel::Pauli2(t.clone())),
+            Rate::Total { p, bias } => Some(Rate::preset(*p, *bias).two_qubit(*p)),
+            Rate::One(..) => None,
+        }
+    }
+}
+
+/// Noise of one gate kind.
+#[derive(Clone, Debug, PartialEq)]
+pub struct GateNoise {
+    /// Duration (model time units).
+    pub duration: Option<f64>,
+    /// The after-gate channel.
+    pub rate: Rate,
+    /// How the gate is carried out.
+    pub implementation: Implementation,
+    /// Where the model defines it.
+    pub span: Span,
+}
+
+/// Measurement noise.
+#[derive(Clone, Debug, PartialEq)]
+pub struct MeasureNoise {
+    /// Duration.
+    pub duration: Option<f64>,
+    /// Probability of reporting the wrong result.
+    pub flip: f64,
+}
+
+/// Reset noise.
+#[derive(Clone, Debug, PartialEq)]
+pub struct ResetNoise {
+    /// Duration.
+    pub duration: Option<f64>,
+    /// Probability of the orthogonal flip after the reset.
+    pub p: f64,
+}
+
+/// Idle noise on qubits no operation of a layer touches.
+#[derive(Clone, Debug, PartialEq)]
+pub enum IdleNoise {
+    /// Cat-like qubit: bit-flip time constant and T2.
+    Cat {
+        /// Bit-flip time constant.
+        t_bitflip: f64,
+        /// Phase coherence time.
+        t2: f64,
+    },
+    /// Amplitude and phase damping, Pauli-twirled.
+    Decoherence {
+        /// Energy relaxation time.
+        t1: f64,
+        /// Phase coherence time (at most `2·t1`).
+        t2: f64,
+    },
+    /// No idle noise.
+    None,
+    /// A fixed channel per layer.
+    Rate(Rate),
+}
+
+/// Pauli-twirled amplitude and phase damping for a time `t` ("Surface code with decoherence",
+/// PRA 86, 062318 (2012)): returns `(px, py, pz)`.
+pub fn twirled_decoherence(t: f64, t1: f64, t2: f64) -> (f64, f64, f64) {
+    let a = 1.0 - (-t / t1).exp();
+    let pxy = a / 4.0;
+    let pz = (1.0 - (-t / t2).exp()) / 2.0 - a / 4.0;
+    (pxy, pxy, pz)
+}
+
+/// Independent bit flips (time constant `tb`) and phase flips (`t2`) for a time `t`: returns
+/// `(px, py, pz)`.
+pub fn cat_idle(t: f64, tb: f64, t2: f64) -> (f64, f64, f64) {
+    let a = (1.0 - (-t / tb).exp()) / 2.0;
+    let b = (1.0 - (-t / t2).exp()) / 2.0;
+    (a * (1.0 - b), a * b, b * (1.0 - a))
+}
+
+impl IdleNoise {
+    /// The channel for a layer of duration `t`, or `None` when it is noiseless.
+    pub fn channel(&self, t: f64) -> Option<Channel> {
+        let (px, py, pz) = match self {
+            IdleNoise::None => return None,
+            IdleNoise::Rate(r) => return r.one(),
+            IdleNoise::Decoherence { t1, t2 } => twirled_decoherence(t, *t1, *t2),
+            IdleNoise::Cat { t_bitflip, t2 } => cat_idle(t, *t_bitflip, *t2),
+        };
+        Some(Channel::Pauli1 { px, py, pz })
+    }
+
+    fn needs_durations(&self) -> bool {
+        matches!(self, IdleNoise::Decoherence { .. } | IdleNoise::Cat { .. })
+    }
+}
+
+/// Which qubits an override applies to.
+#[derive(Clone, Debug, PartialEq)]
+pub enum Selector {
+    /// A qubit by display name.
+    Qubit(String),
+    /// Qubits carrying a role or tag.
+    Role(String),
+}
+
+/// Per-qubit replacements of the model's sections.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Override {
+    /// Which qubits.
+    pub selector: Selector,
+    /// Gate sections replaced.
+    pub gates: Vec<(Option<Gate>, GateNoise)>,
+    /// Measurement noise replaced.
+    pub measure: Option<MeasureNoise>,
+    /// Reset noise replaced.
+    pub reset: Option<ResetNoise>,
+    /// Idle noise replaced.
+    pub idle: Option<IdleNoise>,
+    /// The `[[override]]` table.
+    pub span: Span,
+}
+
+/// A parsed noise model.
+#[derive(Clone, Debug, PartialEq)]
+pub struct NoiseModel {
+    /// The file (or the preset text) it came from, for diagnostics and comments.
+    pub source: Arc<Source>,
+    /// Gate sections: `Some(gate)` or `None` for `default`.
+    pub gates: Vec<(Option<Gate>, GateNoise)>,
+    /// Measurement noise.
+    pub measure: MeasureNoise,
+    /// Reset noise.
+    pub reset: ResetNoise,
+    /// Idle noise.
+    pub idle: IdleNoise,
+    /// Overrides in file order (later wins).
+    pub overrides: Vec<Override>,
+}
+
+impl NoiseModel {
+    /// The model with the same meaning as a `circuit` preset, with `implementation` for `cx`.
+    pub fn from_preset(preset: &Preset, cx: Implementation, source: &Arc<Source>) -> NoiseModel {
+        let rate = Rate::Total {
+            p: preset.p,
+            bias: preset.bias,
+        };
+        let span = Span::new(0, source.text.len());
+        let gate = |implementation| GateNoise {
+            duration: None,
+            rate: rate.clone(),
+            implementation,
+            span,
+        };
+        NoiseModel {
+            source: source.clone(),
+            gates: vec![
+                (None, gate(Implementation::Ideal)),
+                (Some(Gate::Cx), gate(cx)),
+            ],
+            measure: MeasureNoise {
+                duration: None,
+                flip: preset.p,
+            },
+            reset: ResetNoise {
+                duration: None,
+                p: preset.p,
+            },
+            idle: IdleNoise::Rate(rate.clone()),
+            overrides: Vec::new(),
+        }
+    }
+
+    /// Parses a model file.
+    pub fn parse(source: &Arc<Source>) -> Result<NoiseModel, Diagnostic> {
+        let doc = ImDocument::parse(source.text.clone()).map_err(|e| {
+            let span = e.span().unwrap_or(0..0);
+            let msg = e.message().lines().next().unwrap_or("invalid TOML").trim();
+            Diagnostic::error(
+                source,
+                Span::new(span.start, span.end.max(span.start + 1)),
+                format!("invalid TOML: {msg}"),
+            )
+        })?;
+        let p = Parser { source };
+        let root = doc.as_table();
+        let whole = Span::new(0, source.text.len());
+        p.known_keys(
+            root,
+            &[
+                "bias",
+                "gates",
+                "idle",
+                "measure",
+                "override",
+                "p",
+                "reset",
+                "time_unit",
+            ],
+            "the top level",
+        )?;
+        let base = p.base_rate(root, None)?;
+        let gates = match root.get("gates") {
+            None => Vec::new(),
+            Some(item) => p.gates(item, &base)?,
+        };
+        let measure = p.measure(root.get("measure"), &base, None, whole)?;
+        let reset = p.reset(root.get("reset"), &base, None, whole)?;
+        let idle = match root.get("idle") {
+            None => IdleNoise::None,
+            Some(item) => p.idle(item, &base)?,
+        };
+        let mut overrides = Vec::new();
+        if let Some(item) = root.get("override") {
+            let Some(array) = item.as_array_of_tables() else {
+                return Err(p.err(
+                    item.span(),
+                    "`override` must be an array of tables, written `[[override]]`",
+                ));
+            };
+            for t in array.iter() {
+                overrides.push(p.override_table(t, &base, &measure, &reset)?);
+            }
+        }
+        let model = NoiseModel {
+            source: source.clone(),
+            gates,
+            measure,
+            reset,
+            idle,
+            overrides,
+        };
+        p.check_durations(&model, root)?;
+        Ok(model)
+    }
+
+    /// The gate section for `gate` (the override for `qubits` if one matches), if any.
+    pub fn gate<'a>(&'a self, gate: Gate, qubits: &[&crate::ir::Qubit]) -> Option<&'a GateNoise> {
+        let find = |list: &'a [(Option<Gate>, GateNoise)]| {
+            list.iter()
+                .find(|(g, _)| *g == Some(gate))
+                .or_else(|| list.iter().find(|(g, _)| g.is_none()))
+                .map(|(_, n)| n)
+        };
+        for o in self.overrides.iter().rev() {
+            if qubits.iter().any(|q| o.selector.matches(q)) {
+                if let Some(n) = find(&o.gates) {
+                    return Some(n);
+                }
+            }
+        }
+        find(&self.gates)
+    }
+
+    /// Measurement noise for a product on `qubits`.
+    pub fn measure_for(&self, qubits: &[&crate::ir::Qubit]) -> &MeasureNoise {
+        self.overrides
+            .iter()
+            .rev()
+            .filter(|o| qubits.iter().any(|q| o.selector.matches(q)))
+            .find_map(|o| o.measure.as_ref())
+            .unwrap_or(&self.measure)
+    }
+
+    /// Reset noise for `qubit`.
+    pub fn reset_for(&self, qubit: &crate::ir::Qubit) -> &ResetNoise {
+        self.overrides
+            .iter()
+            .rev()
+            .filter(|o| o.selector.matches(qubit))
+            .find_map(|o| o.reset.as_ref())
+            .unwrap_or(&self.reset)
+    }
+
+    /// Idle noise for `qubit`.
+    pub fn idle_for(&self, qubit: &crate::ir::Qubit) -> &IdleNoise {
+        self.overrides
+            .iter()
+            .rev()
+            .filter(|o| o.selector.matches(qubit))
+            .find_map(|o| o.idle.as_ref())
+            .unwrap_or(&self.idle)
+    }
+}
+
+impl Selector {
+    /// Whether the selector picks `qubit`.
+    pub fn matches(&self, qubit: &crate::ir::Qubit) -> bool {
+        match self {
+            Selector::Qubit(n) => &qubit.name == n,
+            Selector::Role(r) => qubit.has_role(r),
+        }
+    }
+}
+
+/// Base `p` and `bias` inherited by sections that give none.
+#[derive(Clone, Debug, Default)]
+struct Base {
+    p: Option<f64>,
+    bias: Option<f64>,
+}
+
+struct Parser<'a> {
+    source: &'a Arc<Source>,
+}
+
+fn span_of(r: Option<std::ops::Range<usize>>) -> Option<Span> {
+    r.map(|r| Span::new(r.start, r.end))
+}
+
+const GATE_KEYS_ONE: [&str; 7] = ["bias", "duration", "implementation", "p", "x", "y", "z"];
+
+impl Parser<'_> {
+    fn err(&self, span: Option<std::ops::Range<usize>>, msg: impl Into<String>) -> Diagnostic {
+        let s = span_of(span).unwrap_or(Span::new(0, 0));
+        Diagnostic::error(self.source, s, msg)
+    }
+
+    fn key_span(&self, t: &dyn TableLike, key: &str) -> Option<std::ops::Range<usize>> {
+        t.key(key)
+            .and_then(|k| k.span())
+            .or_else(|| t.get(key).and_then(|i| i.span()))
+    }
+
+    fn known_keys(&self, t: &dyn TableLike, keys: &[&str], what: &str) -> Result<(), Diagnostic> {
+        for (k, _) in t.iter() {
+            if !keys.contains(&k) {
+                let mut d = self.err(self.key_span(t, k), format!("unknown key `{k}` in {what}"));
+                d = match did_you_mean(k, keys.iter().copied()) {
+                    Some(s) => d.with_hint(format!("did you mean `{s}`?")),
+                    None => d.with_hint(format!(
+                        "{what} takes {}",
+                        keys.iter()
+                            .map(|k| format!("`{k}`"))
+                            .collect::<Vec<_>>()
+                            .join(", ")
+                    )),
+                };
+                return Err(d);
+            }
+        }
+        Ok(())
+    }
+
+    fn number(&self, t: &dyn TableLike, key: &str) -> Result<Option<f64>, Diagnostic> {
+        let Some(item) = t.get(key) else {
+            return Ok(None);
+        };
+        let v = match item.as_value() {
+            Some(Value::Float(f)) => *f.value(),
+            Some(Value::Integer(i)) => *i.value() as f64,
+            Some(Value::String(s)) if s.value() == "inf" => f64::INFINITY,
+            _ => return Err(self.err(item.span(), format!("`{key}` must be a number"))),
+        };
+        if v.is_nan() {
+            return Err(self.err(item.span(), format!("`{key}` must be a number")));
+        }
+        Ok(Some(v))
+    }
+
+    fn probability(&self, t: &dyn TableLike, key: &str) -> Result<Option<f64>, Diagnostic> {
+        let v = self.number(t, key)?;
+        if let Some(x) = v {
+            if !(0.0..=1.0).contains(&x) {
+                return Err(self.err(
+                    t.get(key).and_then(|i| i.span()),
+                    format!("`{key}` = {x} is outside [0, 1]"),
+                ));
+            }
+        }
+        Ok(v)
+    }
+
+    fn positive(
+        &self,
+        t: &dyn TableLike,
+        key: &str,
+        allow_zero: bool,
+    ) -> Result<Option<f64>, Diagnostic> {
+        let v = self.number(t, key)?;
+        if let Some(x) = v {
+            if x < 0.0 || (!allow_zero && x == 0.0) || (x.is_infinite() && key == "duration") {
+                let what = if allow_zero {
+                    "non-negative and finite"
+                } else {
+                    "positive"
+                };
+                return Err(self.err(
+                    t.get(key).and_then(|i| i.span()),
+                    format!("`{key}` = {x} must be {what}"),
+                ));
+            }
+        }
+        Ok(v)
+    }
+
+    fn base_rate(&self, t: &dyn TableLike, inherit: Option<&Base>) -> Result<Base, Diagnostic> {
+        let p = self.probability(t, "p")?;
+        let bias = self.positive(t, "bias", false)?;
+        let inherit = inherit.cloned().unwrap_or_default();
+        Ok(Base {
+            p: p.or(inherit.p),
+            bias: bias.or(inherit.bias),
+        })
+    }
+
+    fn table<'b>(&self, item: &'b Item, name: &str) -> Result<&'b dyn TableLike, Diagnostic> {
+        item.as_table_like()
+            .ok_or_else(|| self.err(item.span(), format!("`{name}` must be a table")))
+    }
+
+    /// A rate: explicit terms, or `p` + `bias` (inheriting the base).
+    fn rate(
+        &self,
+        t: &dyn TableLike,
+        base: &Base,
+        two: bool,
+        at: Span,
+        what: &str,
+    ) -> Result<Rate, Diagnostic> {
+        if two {
+            let mut terms = [0.0; 15];
+            let mut any = false;
+            for k in 1..16 {
+                let v = Pauli::pair_from_index(k);
+                let name: String = v.iter().map(|p| p.letter().to_ascii_lowercase()).collect();
+                if let Some(x) = self.probability(t, &name)? {
+                    terms[k - 1] = x;
+                    any = true;
+                }
+            }
+            if any {
+                if t.contains_key("p") {
+                    return Err(self.err(
+                        self.key_span(t, "p"),
+                        format!("{what} gives both `p` and named terms"),
+                    ));
+                }
+                if terms.iter().sum::<f64>() > 1.0 {
+                    return Err(Diagnostic::error(
+                        self.source,
+                        at,
+                        format!("the terms of {what} add up to more than 1"),
+                    ));
+                }
+                return Ok(Rate::Two(Box::new(terms)));
+            }
+        } else {
+            let (x, y, z) = (
+                self.probability(t, "x")?,
+                self.probability(t, "y")?,
+                self.probability(t, "z")?,
+            );
+            if x.is_some() || y.is_some() || z.is_some() {
+                if t.contains_key("p") {
+                    return Err(self.err(
+                        self.key_span(t, "p"),
+                        format!("{what} gives both `p` and `x`/`y`/`z`"),
+                    ));
+                }
+                let (x, y, z) = (x.unwrap_or(0.0), y.unwrap_or(0.0), z.unwrap_or(0.0));
+                if x + y + z > 1.0 {
+                    return Err(Diagnostic::error(
+                        self.source,
+                        at,
+                        format!("`x + y + z` of {what} is more than 1"),
+                    ));
+                }
+                return Ok(Rate::One(x, y, z));
+            }
+        }
+        let b = self.base_rate(t, Some(base))?;
+        let Some(p) = b.p else {
+            return Err(
+                Diagnostic::error(self.source, at, format!("{what} has no error rate"))
+                    .with_hint("give `p = ...` here or at the top level of the model"),
+            );
+        };
+        Ok(Rate::Total { p, bias: b.bias })
+    }
+
+    fn gates(
+        &self,
+        item: &Item,
+        base: &Base,
+    ) -> Result<Vec<(Option<Gate>, GateNoise)>, Diagnostic> {
+        let t = self.table(item, "gates")?;
+        let mut out = Vec::new();
+        let names: Vec<&str> = Gate::ALL
+            .iter()
+            .map(|g| g.name())
+            .chain(["default"])
+            .collect();
+        for (name, sub) in t.iter() {
+            let gate = match Gate::from_name(name) {
+                Some(g) => Some(g),
+                None if name == "default" => None,
+                None => {
+                    let mut d = self.err(
+                        self.key_span(t, name),
+                        format!("unknown gate `{name}` in `gates`"),
+                    );
+                    if let Some(s) = did_you_mean(name, names.iter().copied()) {
+                        d = d.with_hint(format!("did you mean `{s}`?"));
+                    }
+                    return Err(d);
+                }
+            };
+            out.push((gate, self.gate(sub, name, gate, base)?));
+        }
+        Ok(out)
+    }
+
+    fn gate(
+        &self,
+        item: &Item,
+        name: &str,
+        gate: Option<Gate>,
+        base: &Base,
+    ) -> Result<GateNoise, Diagnostic> {
+        let t = self.table(item, &format!("gates.{name}"))?;
+        let at = span_of(item.span())
+            .or_else(|| span_of(self.key_span(t, "p")))
+            .unwrap_or(Span::new(0, 0));
+        let two = gate.is_some_and(|g| g.arity() == 2);
+        let mut keys: Vec<&str> = GATE_KEYS_ONE[..7].to_vec();
+        let pair_names: Vec<String> = (1..16)
+            .map(|k| {
+                Pauli::pair_from_index(k)
+                    .iter()
+                    .map(|p| p.letter().to_ascii_lowercase())
+                    .collect()
+            })
+            .collect();
+        if two {
+            keys.truncate(4);
+            keys.extend(pair_names.iter().map(|s| s.as_str()));
+        } else if gate.is_none() {
+            keys.truncate(4);
+        }
+        self.known_keys(t, &keys, &format!("`gates.{name}`"))?;
+        let implementation = match t.get("implementation") {
+            None => Implementation::Ideal,
+            Some(i) => {
+                let s = i.as_str().unwrap_or("");
+                Implementation::from_name(s).ok_or_else(|| {
+                    let mut d = self.err(i.span(), format!("unknown implementation `{s}`"));
+                    d = d.with_hint(
+                        match did_you_mean(s, Implementation::ALL.iter().map(|i| i.name())) {
+                            Some(x) => format!("did you mean `{x}`?"),
+                            None => "implementations are `ideal`, `rotation` and `bias-preserving`"
+                                .into(),
+                        },
+                    );
+                    d
+                })?
+            }
+        };
+        Ok(GateNoise {
+            duration: self.positive(t, "duration", true)?,
+            rate: self.rate(t, base, two, at, &format!("`gates.{name}`"))?,
+            implementation,
+            span: at,
+        })
+    }
+
+    fn measure(
+        &self,
+        item: Option<&Item>,
+        base: &Base,
+        inherit: Option<&MeasureNoise>,
+        at: Span,
+    ) -> Result<MeasureNoise, Diagnostic> {
+        let Some(item) = item else {
+            return match (inherit, base.p) {
+                (Some(m), _) => Ok(m.clone()),
+                (None, p) => Ok(MeasureNoise {
+                    duration: None,
+                    flip: p.unwrap_or(0.0),
+                }),
+            };
+        };
+        let t = self.table(item, "measure")?;
+        self.known_keys(t, &["duration", "flip"], "`measure`")?;
+        let flip = self.probability(t, "flip")?;
+        let duration = self.positive(t, "duration", true)?;
+        let fallback = inherit.map(|m| m.flip).or(base.p);
+        let Some(flip) = flip.or(fallback) else {
+            return Err(Diagnostic::error(
+                self.source,
+                span_of(item.span()).unwrap_or(at),
+                "`measure` has no `flip` probability",
+            )
+            .with_hint("give `flip = ...` or a base `p` at the top level"));
+        };
+        Ok(MeasureNoise {
+            duration: duration.or(inherit.and_then(|m| m.duration)),
+            flip,
+        })
+    }
+
+    fn reset(
+        &self,
+        item: Option<&Item>,
+        base: &Base,
+        inherit: Option<&ResetNoise>,
+        at: Span,
+    ) -> Result<ResetNoise, Diagnostic> {
+        let Some(item) = item else {
+            return match (inherit, base.p) {
+                (Some(r), _) => Ok(r.clone()),
+                (None, p) => Ok(ResetNoise {
+                    duration: None,
+                    p: p.unwrap_or(0.0),
+                }),
+            };
+        };
+        let t = self.table(item, "reset")?;
+        self.known_keys(t, &["duration", "p"], "`reset`")?;
+        let p = self.probability(t, "p")?;
+        let duration = self.positive(t, "duration", true)?;
+        let Some(p) = p.or(inherit.map(|r| r.p)).or(base.p) else {
+            return Err(Diagnostic::error(
+                self.source,
+                span_of(item.span()).unwrap_or(at),
+                "`reset` has no error probability `p`",
+            ));
+        };
+        Ok(ResetNoise {
+            duration: duration.or(inherit.and_then(|r| r.duration)),
+            p,
+        })
+    }
+
+    fn idle(&self, item: &Item, base: &Base) -> Result<IdleNoise, Diagnostic> {
+        let t = self.table(item, "idle")?;
+        self.known_keys(
+            t,
+            &["bias", "p", "t1", "t2", "t_bitflip", "x", "y", "z"],
+            "`idle`",
+        )?;
+        let t1 = self.positive(t, "t1", false)?;
+        let t2 = self.positive(t, "t2", false)?;
+        let tb = self.positive(t, "t_bitflip", false)?;
+        let timed = t1.is_some() || t2.is_some() || tb.is_some();
+        if timed {
+            for k in ["p", "bias", "x", "y", "z"] {
+                if t.contains_key(k) {
+                    return Err(self.err(self.key_span(t, k), format!("`idle` gives both times and the rate `{k}`"))
+                        .with_hint("idle noise comes either from `t1`/`t2` (or `t_bitflip`/`t2`) or from a rate"));
+                }
+            }
+            let at = span_of(item.span()).unwrap_or(Span::new(0, 0));
+            let Some(t2v) = t2 else {
+                return Err(Diagnostic::error(
+                    self.source,
+                    at,
+                    "`idle` needs `t2` with `t1` or `t_bitflip`",
+                ));
+            };
+            return match (t1, tb) {
+                (Some(_), Some(_)) => Err(self.err(self.key_span(t, "t_bitflip"), "`idle` gives both `t1` and `t_bitflip`")
+                    .with_hint("`t_bitflip` describes cat-like qubits, whose bit flips do not come from T1")),
+                (Some(t1v), None) => {
+                    if t2v > 2.0 * t1v {
+                        return Err(self.err(t.get("t2").and_then(|i| i.span()), format!("`t2` = {t2v} is more than 2·`t1` = {}", 2.0 * t1v))
+                            .with_hint("physical qubits have T2 ≤ 2·T1 (pure dephasing only shortens T2)"));
+                    }
+                    Ok(IdleNoise::Decoherence { t1: t1v, t2: t2v })
+                }
+                (None, Some(tbv)) => Ok(IdleNoise::Cat { t_bitflip: tbv, t2: t2v }),
+                (None, None) => Err(Diagnostic::error(self.source, at, "`idle` gives `t2` without `t1` or `t_bitflip`")),
+            };
+        }
+        let at = span_of(item.span()).unwrap_or(Span::new(0, 0));
+        let r = self.rate(t, base, false, at, "`idle`")?;
+        Ok(IdleNoise::Rate(r))
+    }
+
+    fn override_table(
+        &self,
+        t: &toml_edit::Table,
+        base: &Base,
+        measure: &MeasureNoise,
+        reset: &ResetNoise,
+    ) -> Result<Override, Diagnostic> {
+        self.known_keys(
+            t,
+            &["gates", "idle", "measure", "qubit", "reset", "role"],
+            "`override`",
+        )?;
+        let at = span_of(t.span()).unwrap_or(Span::new(0, 0));
+        let str_of = |k: &str| -> Result<Option<String>, Diagnostic> {
+            match t.get(k) {
+                None => Ok(None),
+                Some(i) => i
+                    .as_str()
+                    .map(|s| Some(s.to_string()))
+                    .ok_or_else(|| self.err(i.span(), format!("`{k}` must be a string"))),
+            }
+        };
+        let selector = match (str_of("qubit")?, str_of("role")?) {
+            (Some(q), None) => Selector::Qubit(q),
+            (None, Some(r)) => Selector::Role(r),
+            (Some(_), Some(_)) => {
+                return Err(self.err(
+                    self.key_span(t, "role"),
+                    "an override selects by `qubit` or by `role`, not both",
+                ))
+            }
+            (None, None) => {
+                return Err(Diagnostic::error(
+                    self.source,
+                    at,
+                    "an override needs `qubit = \"NAME\"` or `role = \"ROLE\"`",
+                ))
+            }
+        };
+        Ok(Override {
+            selector,
+            gates: match t.get("gates") {
+                None => Vec::new(),
+                Some(i) => self.gates(i, base)?,
+            },
+            measure: match t.get("measure") {
+                None => None,
+                Some(i) => Some(self.measure(Some(i), base, Some(measure), at)?),
+            },
+            reset: match t.get("reset") {
+                None => None,
+                Some(i) => Some(self.reset(Some(i), base, Some(reset), at)?),
+            },
+            idle: match t.get("idle") {
+                None => None,
+                Some(i) => Some(self.idle(i, base)?),
+            },
+            span: at,
+        })
+    }
+
+    /// Idle noise from times needs every duration.
+    fn check_durations(&self, m: &NoiseModel, root: &toml_edit::Table) -> Result<(), Diagnostic> {
+        let timed = m.idle.needs_durations()
+            || m.overrides
+                .iter()
+                .any(|o| o.idle.as_ref().is_some_and(|i| i.needs_durations()));
+        if !timed {
+            return Ok(());
+        }
+        let all_gates = m
+            .gates
+            .iter()
+            .chain(m.overrides.iter().flat_map(|o| o.gates.iter()));
+        for (g, n) in all_gates {
+            if n.duration.is_none() {
+                let name = g.map_or("default", |g| g.name());
+                return Err(Diagnostic::error(
+                    self.source,
+                    n.span,
+                    format!("`gates.{name}` has no `duration`"),
+                )
+                .with_hint("idle noise from `t1`/`t2` needs the duration of every operation"));
+            }
+        }
+        for (name, d) in [("measure", m.measure.duration), ("reset", m.reset.duration)] {
+            if d.is_none() {
+                let at = span_of(root.get(name).and_then(|i| i.span())).unwrap_or(Span::new(0, 0));
+                return Err(Diagnostic::error(
+                    self.source,
+                    at,
+                    format!("`{name}` has no `duration`"),
+                )
+                .with_hint("idle noise from `t1`/`t2` needs the duration of every operation"));
+            }
+        }
+        Ok(())
+    }
+}
+
+/// The extensions of `--noise` beyond the plain presets: a path to an existing `.toml` model
+/// file, or a `circuit` preset with a `cx=ideal|rotation|bias-preserving` key. Returns `None`
+/// when the text is neither (it is then a plain preset). `cx=ideal` gives the plain preset.
+pub fn parse_extension(
+    source: &Arc<Source>,
+) -> Option<Result<crate::noise::NoiseSpec, Diagnostic>> {
+    use crate::noise::NoiseSpec;
+    let text = source.text.as_str();
+    let trimmed = text.trim();
+    if trimmed.ends_with(".toml") {
+        let path = std::path::Path::new(trimmed);
+        let start = text.find(trimmed).unwrap_or(0);
+        let at = Span::new(start, start + trimmed.len());
+        return Some(match std::fs::read_to_string(path) {
+            Ok(body) => NoiseModel::parse(&Source::new(trimmed, body))
+                .map(|m| NoiseSpec::Model(Box::new(m))),
+            Err(e) => Err(Diagnostic::error(
+                source,
+                at,
+                format!("cannot read the noise model `{trimmed}`: {e}"),
+            )),
+        });
+    }
+    // Find a `cx=` token at a token boundary.
+    let mut at = None;
+    let mut offset = 0;
+    for tok in text.split(char::is_whitespace) {
+        if tok.starts_with("cx=") {
+            at = Some((offset, tok));
+        }
+        offset += tok.len() + 1;
+    }
+    let (start, tok) = at?;
+    let value = &tok[3..];
+    let vspan = Span::new(start + 3, start + tok.len().max(4));
+    let Some(implementation) = Implementation::from_name(value) else {
+        let mut d = Diagnostic::error(
+            source,
+            vspan,
+            format!("unknown cx implementation `{value}`"),
+        );
+        d = d.with_hint(
+            match did_you_mean(value, Implementation::ALL.iter().map(|i| i.name())) {
+                Some(s) => format!("did you mean `{s}`?"),
+                None => "`cx=` takes `ideal`, `rotation` or `bias-preserving`".into(),
+            },
+        );
+        return Some(Err(d));
+    };
+    // Blank the token out so the preset parser's columns still point into the original text.
+    let mut rest = text.to_string();
+    rest.replace_range(start..start + tok.len(), &" ".repeat(tok.len()));
+    let preset = match Preset::parse(&Source::new(source.name.clone(), rest)) {
+        Ok(p) => p,
+        Err(e) => return Some(Err(e)),
+    };
+    if preset.kind != PresetKind::Circuit {
+        return Some(Err(Diagnostic::error(
+            source,
+            Span::new(start, start + 2),
+            format!(
+                "`cx=` applies to the `circuit` preset, not `{}`",
+                preset.kind.name()
+            ),
+        )
+        .with_hint(
+            "the `capacity` and `phenomenological` presets have no gate noise",
+        )));
+    }
+    if implementation == Implementation::Ideal {
+        return Some(Ok(NoiseSpec::Preset(preset)));
+    }
+    Some(Ok(NoiseSpec::Model(Box::new(NoiseModel::from_preset(
+        &preset,
+        implementation,
+        source,
+    )))))
+}

@@ -1,0 +1,500 @@
+//! Hardware noise models, gate implementations, the noise compiler and the bias report.
+
+use std::sync::Arc;
+
+use slant::analysis::bias::analyze;
+use slant::faults::{ExtractOptions, FaultGraph};
+use slant::gen::{generate, Entangler, Family, GenSpec};
+use slant::ir::{Channel, Circuit, Gate, Pauli};
+use slant::lang::Source;
+use slant::noise::compile::{compile, to_text};
+use slant::noise::implement::{effective_channel, mid_gate_fault, Generator, Implementation};
+use slant::noise::model::{cat_idle, twirled_decoherence, NoiseModel};
+use slant::noise::{apply, NoiseSpec};
+
+fn load(name: &str, text: &str) -> Circuit {
+    slant::load_source(&Source::new(name, text), &[])
+        .unwrap_or_else(|d| panic!("{}", d[0].render()))
+}
+
+fn model(text: &str) -> Result<NoiseModel, slant::lang::Diagnostic> {
+    NoiseModel::parse(&Source::new("m.toml", text))
+}
+
+fn idx(name: &str) -> usize {
+    Pauli::pair_index(name).unwrap()
+}
+
+/// Mechanisms as comparable tuples.
+fn mechanisms(g: &FaultGraph) -> Vec<(Vec<u32>, Vec<u32>, f64)> {
+    g.mechanisms
+        .iter()
+        .map(|m| (m.detectors.clone(), m.observables.clone(), m.probability))
+        .collect()
+}
+
+fn assert_same_graph(a: &Circuit, b: &Circuit) {
+    let (ga, gb) = (
+        slant::faults::extract(a, &ExtractOptions::default()),
+        slant::faults::extract(b, &ExtractOptions::default()),
+    );
+    let (ma, mb) = (mechanisms(&ga), mechanisms(&gb));
+    assert_eq!(ma.len(), mb.len(), "mechanism counts differ");
+    assert!(!ma.is_empty());
+    for (x, y) in ma.iter().zip(&mb) {
+        assert_eq!((&x.0, &x.1), (&y.0, &y.1));
+        assert!(
+            (x.2 - y.2).abs() < 1e-12 * x.2.max(1e-300) + 1e-18,
+            "{x:?} vs {y:?}"
+        );
+    }
+}
+
+/// Pauli-twirled amplitude and phase damping: "Surface code with decoherence", PRA 86, 062318
+/// (2012): px = py = (1 − e^(−t/T1))/4, pz = (1 − e^(−t/T2))/2 − (1 − e^(−t/T1))/4.
+#[test]
+fn twirling_formulas_and_limits() {
+    let (t, t1, t2) = (0.3, 20.0, 15.0);
+    let (px, py, pz) = twirled_decoherence(t, t1, t2);
+    let a = 1.0 - (-t / t1).exp();
+    assert!((px - a / 4.0).abs() < 1e-15 && (py - a / 4.0).abs() < 1e-15);
+    assert!((pz - ((1.0 - (-t / t2).exp()) / 2.0 - a / 4.0)).abs() < 1e-15);
+    // t → 0: no error; first order px ≈ t/(4T1).
+    assert_eq!(twirled_decoherence(0.0, t1, t2), (0.0, 0.0, 0.0));
+    let (px, _, _) = twirled_decoherence(1e-6, t1, t2);
+    assert!((px / (1e-6 / (4.0 * t1)) - 1.0).abs() < 1e-6);
+    // T1 → ∞: pure dephasing with pz = (1 − e^(−t/T2))/2.
+    let (px, py, pz) = twirled_decoherence(t, f64::INFINITY, t2);
+    assert_eq!((px, py), (0.0, 0.0));
+    assert!((pz - (1.0 - (-t / t2).exp()) / 2.0).abs() < 1e-15);
+    // T2 = 2T1 (no pure dephasing) still gives pz ≥ 0.
+    assert!(twirled_decoherence(1.0, 1.0, 2.0).2 >= 0.0);
+    // Cat-like idle without bit flips is pure dephasing.
+    let (x, y, z) = cat_idle(t, f64::INFINITY, t2);
+    assert_eq!((x, y), (0.0, 0.0));
+    assert!((z - (1.0 - (-t / t2).exp()) / 2.0).abs() < 1e-15);
+}
+
+/// An independent 4×4 complex routine: CX = exp(iπΠ) with Π = |1⟩⟨1| ⊗ |−⟩⟨−| (the projector
+/// (I−Z_c)(I−X_t)/4), so the rest of the gate after time s is I + (e^{iφ} − 1)Π, φ = π(1−s).
+/// The twirled distribution of V Z_t V† averaged over s by the midpoint rule must give
+/// IZ 3/8, ZZ 3/8, IY 1/8, ZY 1/8 (values stated in issue 6, derived there by direct matrix
+/// exponentiation; re-derived here).
+#[test]
+fn cx_rotation_check_values() {
+    type C = (f64, f64);
+    let mul = |a: C, b: C| (a.0 * b.0 - a.1 * b.1, a.0 * b.1 + a.1 * b.0);
+    let kron = |a: [[C; 2]; 2], b: [[C; 2]; 2]| {
+        let mut m = [[(0.0, 0.0); 4]; 4];
+        for i in 0..4 {
+            for j in 0..4 {
+                m[i][j] = mul(a[i / 2][j / 2], b[i % 2][j % 2]);
+            }
+        }
+        m
+    };
+    let o = (1.0, 0.0);
+    let z0 = (0.0, 0.0);
+    let pi = |p: char| -> [[C; 2]; 2] {
+        match p {
+            'I' => [[o, z0], [z0, o]],
+            'X' => [[z0, o], [o, z0]],
+            'Y' => [[z0, (0.0, -1.0)], [(0.0, 1.0), z0]],
+            _ => [[o, z0], [z0, (-1.0, 0.0)]],
+        }
+    };
+    let proj1 = [[z0, z0], [z0, o]];
+    let minus = [[(0.5, 0.0), (-0.5, 0.0)], [(-0.5, 0.0), (0.5, 0.0)]];
+    let big_pi = kron(proj1, minus);
+    let matmul = |a: &[[C; 4]; 4], b: &[[C; 4]; 4]| {
+        let mut m = [[(0.0, 0.0); 4]; 4];
+        for i in 0..4 {
+            for j in 0..4 {
+                for k in 0..4 {
+                    let t = mul(a[i][k], b[k][j]);
+                    m[i][j].0 += t.0;
+                    m[i][j].1 += t.1;
+                }
+            }
+        }
+        m
+    };
+    let steps = 4000;
+    let names = ["IZ", "ZZ", "IY", "ZY"];
+    let mut acc = [0.0; 4];
+    let mut total = 0.0;
+    for k in 0..steps {
+        let s = (k as f64 + 0.5) / steps as f64;
+        let phi = std::f64::consts::PI * (1.0 - s);
+        let e = (phi.cos() - 1.0, phi.sin());
+        let mut v = [[(0.0, 0.0); 4]; 4];
+        let mut vd = v;
+        for i in 0..4 {
+            for j in 0..4 {
+                let id = if i == j { 1.0 } else { 0.0 };
+                let t = mul(e, big_pi[i][j]);
+                v[i][j] = (id + t.0, t.1);
+                let t2 = mul((e.0, -e.1), big_pi[i][j]);
+                vd[i][j] = (id + t2.0, t2.1);
+            }
+        }
+        let f = matmul(&matmul(&v, &kron(pi('I'), pi('Z'))), &vd);
+        for a in ['I', 'X', 'Y', 'Z'] {
+            for b in ['I', 'X', 'Y', 'Z'] {
+                let p = kron(pi(a), pi(b));
+                let mut tr = (0.0, 0.0);
+                for i in 0..4 {
+                    for j in 0..4 {
+                        let t = mul(p[i][j], f[j][i]);
+                        tr.0 += t.0;
+                        tr.1 += t.1;
+                    }
+                }
+                let w = (tr.0 * tr.0 + tr.1 * tr.1) / 16.0 / steps as f64;
+                total += w;
+                let name = format!("{a}{b}");
+                if let Some(n) = names.iter().position(|x| *x == name) {
+                    acc[n] += w;
+                }
+            }
+        }
+    }
+    let expected = [3.0 / 8.0, 3.0 / 8.0, 1.0 / 8.0, 1.0 / 8.0];
+    assert!((total - 1.0).abs() < 1e-9);
+    let lib = mid_gate_fault(Gate::Cx, Implementation::Rotation, [Pauli::I, Pauli::Z]);
+    for (n, name) in names.iter().enumerate() {
+        assert!((acc[n] - expected[n]).abs() < 1e-6, "{name}: {}", acc[n]);
+        assert!(
+            (lib[idx(name)] - expected[n]).abs() < 1e-9,
+            "{name}: lib {}",
+            lib[idx(name)]
+        );
+    }
+    // A control Z commutes with the generator and stays ZI.
+    let c = mid_gate_fault(Gate::Cx, Implementation::Rotation, [Pauli::Z, Pauli::I]);
+    assert!((c[idx("ZI")] - 1.0).abs() < 1e-12);
+}
+
+/// Bias-preserving CX of cat qubits: target Z → Z_t or Z_c Z_t with equal weight, control Z
+/// stays ("Repetition cat qubits for fault-tolerant quantum computation", PRX 9, 041053 (2019);
+/// "Bias-preserving gates with stabilized cat qubits", Sci. Adv. 6, eaay5901 (2020) — the equal
+/// split is recalled from memory, not re-derived).
+#[test]
+fn bias_preserving_cx() {
+    let t = mid_gate_fault(
+        Gate::Cx,
+        Implementation::BiasPreserving,
+        [Pauli::I, Pauli::Z],
+    );
+    assert_eq!((t[idx("IZ")], t[idx("ZZ")]), (0.5, 0.5));
+    let c = mid_gate_fault(
+        Gate::Cx,
+        Implementation::BiasPreserving,
+        [Pauli::Z, Pauli::I],
+    );
+    assert_eq!(c[idx("ZI")], 1.0);
+    // Bit flips are untouched (after-gate).
+    let x = mid_gate_fault(
+        Gate::Cx,
+        Implementation::BiasPreserving,
+        [Pauli::X, Pauli::I],
+    );
+    assert_eq!(x[idx("XI")], 1.0);
+}
+
+/// CZ commutes with Z faults under any implementation; H maps Z to X (Clifford tables).
+#[test]
+fn cz_keeps_z_and_h_maps_z_to_x() {
+    for imp in Implementation::ALL {
+        for f in [
+            [Pauli::Z, Pauli::I],
+            [Pauli::I, Pauli::Z],
+            [Pauli::Z, Pauli::Z],
+        ] {
+            let d = mid_gate_fault(Gate::Cz, imp, f);
+            let name = format!("{}{}", f[0].letter(), f[1].letter());
+            assert!((d[idx(&name)] - 1.0).abs() < 1e-12, "{imp:?} {name}");
+        }
+    }
+    assert_eq!(
+        Gate::H.conjugate([Pauli::Z, Pauli::I]),
+        [Pauli::X, Pauli::I]
+    );
+    assert_eq!(
+        Generator::default_for(Gate::H)
+            .conjugate([Pauli::Z, Pauli::I])
+            .0,
+        [Pauli::X, Pauli::I]
+    );
+}
+
+const ONE_CX: &str = "qubit c role data\nqubit t role data\nreset x c\nreset z t\ncx c t\nmeasure x c -> mc\nmeasure z t -> mt\n";
+
+/// Two-level qubits, generic (rotation) CX, pure dephasing equally on both qubits: a control Z
+/// stays Z-type, a target Z is Z-type with weight 3/8 + 3/8 (check values above), so the
+/// residual Z-type share is (1 + 3/4)/2 = 7/8.
+#[test]
+fn rotation_cx_residual_z_share_is_seven_eighths() {
+    let circuit = load("one.slant", ONE_CX);
+    let m = model("[gates.cx]\nzi = 0.001\niz = 0.001\nimplementation = \"rotation\"\n[measure]\nflip = 0\n[reset]\np = 0\n")
+        .unwrap();
+    let compiled = compile(&circuit, &m).unwrap();
+    let report = analyze(&compiled.circuit, &compiled.notes);
+    let cx = report.classes.iter().find(|c| c.class == "cx").unwrap();
+    assert!(
+        (cx.output_z_share() - 7.0 / 8.0).abs() < 1e-9,
+        "{}",
+        cx.output_z_share()
+    );
+    assert!(cx.input_eta().is_infinite());
+    // The mid-gate conversion is reported at the gate.
+    assert!(report.converters[0].what.contains("mid-gate cx"));
+    assert!(report.converters[0].location.starts_with("one.slant:5:"));
+    // Direct check of the effective channel.
+    let ch = effective_channel(
+        Gate::Cx,
+        Implementation::Rotation,
+        &m.gates[0].1.rate.two().unwrap(),
+    );
+    let Channel::Pauli2(t) = ch else { panic!() };
+    assert!((t[idx("IY") - 1] - 0.001 / 8.0).abs() < 1e-12);
+}
+
+fn xzzx(entangler: Entangler) -> Circuit {
+    let mut spec = GenSpec::new(Family::Xzzx, 3);
+    spec.rounds = 2;
+    spec.entangler = Some(entangler);
+    load("xzzx.slant", &generate(&spec).unwrap())
+}
+
+/// XZZX memory with CZ + bias-preserving CX keeps the bias; with Hadamards on the data
+/// (`--entangler cx`) it is lost and the report names the Hadamards ("The XZZX surface code",
+/// Nat. Commun. 12, 2172 (2021) for the code; the gate facts are the tests above).
+#[test]
+fn xzzx_bias_kept_with_native_gates_and_lost_with_hadamards() {
+    let spec = NoiseSpec::parse("circuit p=0.001 bias=1000 cx=bias-preserving").unwrap();
+    let NoiseSpec::Model(m) = &spec else {
+        panic!("expected a model")
+    };
+    let native = xzzx(Entangler::Native);
+    let c = compile(&native, m).unwrap();
+    let r = analyze(&c.circuit, &c.notes);
+    assert!(r.high_faults > 100);
+    assert_eq!(r.converters, vec![], "{:?}", r.converters.first());
+    assert_eq!(r.converted_probability, 0.0);
+    assert_eq!(r.verdict(), "bias kept");
+    for rb in &r.rounds {
+        assert_eq!(rb.xy_from_high, 0.0);
+    }
+
+    let with_h = xzzx(Entangler::Cx);
+    let c = compile(&with_h, m).unwrap();
+    let r = analyze(&c.circuit, &c.notes);
+    assert!(r.converted_probability > 0.0);
+    assert_eq!(r.converters[0].what, "h", "{:?}", r.converters);
+    assert!(
+        r.verdict().starts_with("bias lost at xzzx.slant:"),
+        "{}",
+        r.verdict()
+    );
+    assert!(r.verdict().ends_with("(h)"));
+
+    // Under pure Z code-capacity noise the XZZX graph is chains.
+    let spec = NoiseSpec::parse("capacity p=0.01 bias=inf").unwrap();
+    let noisy = apply(&native, &spec).unwrap();
+    let r = analyze(&noisy, &[]);
+    assert!(!r.components.is_empty());
+    assert!(r.all_chains(), "{:?}", r.components);
+    assert!((r.high_only_share - 1.0).abs() < 1e-12);
+}
+
+/// `compile` output, parsed back, gives the same fault graph as compiling on the fly.
+#[test]
+fn compiled_text_matches_on_the_fly() {
+    let circuit = xzzx(Entangler::Cx);
+    for spec in ["circuit p=0.001 bias=100 cx=rotation", "circuit p=0.002"] {
+        let s = NoiseSpec::parse(spec).unwrap();
+        let noisy = apply(&circuit, &s).unwrap();
+        let text = to_text(&noisy, &[], &["test".into()]);
+        let back = load("compiled.slant", &text);
+        assert_same_graph(&noisy, &back);
+    }
+}
+
+const PRESET_MODEL: &str =
+    "p = 0.001\nbias = 10\n[idle]\n[gates.default]\n[gates.cx]\nimplementation = \"rotation\"\n";
+
+/// A model file and a preset with the same meaning give the same fault graph.
+#[test]
+fn model_file_equals_preset() {
+    let circuit = xzzx(Entangler::Native);
+    let preset = apply(
+        &circuit,
+        &NoiseSpec::parse("circuit p=0.001 bias=10 cx=rotation").unwrap(),
+    )
+    .unwrap();
+    let m = compile(&circuit, &model(PRESET_MODEL).unwrap()).unwrap();
+    assert_same_graph(&preset, &m.circuit);
+    let ideal = apply(
+        &circuit,
+        &NoiseSpec::parse("circuit p=0.001 bias=10").unwrap(),
+    )
+    .unwrap();
+    let m = compile(
+        &circuit,
+        &model("p = 0.001\nbias = 10\n[idle]\n[gates.default]\n").unwrap(),
+    )
+    .unwrap();
+    assert_same_graph(&ideal, &m.circuit);
+}
+
+/// Bad model files are rejected at file:line:col.
+#[test]
+fn bad_models_are_located() {
+    let cases: &[(&str, &str, usize, usize)] = &[
+        (
+            "p = 0.1\n[gates.cx]\nduraton = 3\n",
+            "unknown key `duraton`",
+            3,
+            1,
+        ),
+        ("p = 1.5\n", "outside [0, 1]", 1, 5),
+        ("[idle]\nt1 = 10\nt2 = 30\n", "more than 2", 3, 6),
+        ("[gates.cxx]\np = 0.1\n", "unknown gate `cxx`", 1, 8),
+        (
+            "[gates.cx]\nimplementation = \"rotaton\"\n",
+            "unknown implementation",
+            2,
+            18,
+        ),
+        ("[gates.h]\nduration = 1\n", "no error rate", 1, 1),
+        ("p = = 3\n", "invalid TOML", 1, 5),
+    ];
+    for &(text, msg, line, col) in cases {
+        let d = model(text).expect_err(text);
+        assert!(d.message.contains(msg), "{text}: {}", d.message);
+        let (_, l, c) = d.location().unwrap();
+        assert_eq!((l, c), (line, col), "{text}: {}", d.message);
+    }
+    let d = model("p = 0.1\n[gates.cx]\nduraton = 3\n").unwrap_err();
+    assert_eq!(d.hint.as_deref(), Some("did you mean `duration`?"));
+    // Missing gate: reported at the circuit's gate when compiling.
+    let circuit = load("one.slant", ONE_CX);
+    let errs = compile(&circuit, &model("p = 0.01\n[gates.h]\n").unwrap()).unwrap_err();
+    assert!(errs[0].message.contains("no noise for gate `cx`"));
+    assert_eq!(errs[0].location().unwrap().1, 5);
+}
+
+/// Overrides: ancillas worse than data; T1/T2 idle noise follows the layer duration.
+#[test]
+fn overrides_and_timed_idle() {
+    let text = "p = 0.001\n[gates.default]\nduration = 1\n[measure]\nduration = 10\n[reset]\nduration = 10\n\
+[idle]\nt1 = 100\nt2 = 100\n[[override]]\nrole = \"ancilla\"\nidle = { t1 = 50, t2 = 20 }\n";
+    let m = model(text).unwrap();
+    let circuit = load(
+        "t.slant",
+        "qubit d role data\nqubit a role ancilla\nqubit e role data\nreset z d, a, e\nlayer { cx d a }\nlayer { measure z a -> m }\n",
+    );
+    let c = compile(&circuit, &m).unwrap();
+    let idle: Vec<_> = c.notes.iter().filter(|n| n.class == "idle").collect();
+    // Layer 2 (cx, duration 1): only e idles with T1 = T2 = 100.
+    let l = &c.circuit.layers[1];
+    let op = &l.ops[idle[0].op];
+    assert_eq!(op.targets, vec![2]);
+    let (px, _, pz) = twirled_decoherence(1.0, 100.0, 100.0);
+    assert_eq!(
+        op.kind,
+        slant::ir::OpKind::Noise(Channel::Pauli1 { px, py: px, pz })
+    );
+    // Layer 3 (measurement, duration 10): d and e idle with the data times.
+    let l = &c.circuit.layers[2];
+    let last = l.ops.last().unwrap();
+    assert_eq!(last.targets, vec![0, 2]);
+    let (px, _, pz) = twirled_decoherence(10.0, 100.0, 100.0);
+    assert_eq!(
+        last.kind,
+        slant::ir::OpKind::Noise(Channel::Pauli1 { px, py: px, pz })
+    );
+    // Ancilla override applies when the ancilla idles (it never does here, so check the lookup).
+    let q = &circuit.qubits[1];
+    assert_eq!(
+        m.idle_for(q).channel(1.0),
+        Some(Channel::Pauli1 {
+            px: twirled_decoherence(1.0, 50.0, 20.0).0,
+            py: twirled_decoherence(1.0, 50.0, 20.0).1,
+            pz: twirled_decoherence(1.0, 50.0, 20.0).2,
+        })
+    );
+    let _ = Arc::strong_count(&circuit.source);
+}
+
+/// Every shipped model parses and compiles onto a generated circuit.
+#[test]
+fn shipped_models_compile() {
+    let dir = concat!(env!("CARGO_MANIFEST_DIR"), "/circuits/models");
+    let circuit = xzzx(Entangler::Native);
+    let mut n = 0;
+    for e in std::fs::read_dir(dir).unwrap() {
+        let p = e.unwrap().path();
+        if p.extension().is_some_and(|x| x == "toml") {
+            let text = std::fs::read_to_string(&p).unwrap();
+            let m = NoiseModel::parse(&Source::new(p.display().to_string(), text))
+                .unwrap_or_else(|d| panic!("{}", d.render()));
+            compile(&circuit, &m).unwrap_or_else(|d| panic!("{}", d[0].render()));
+            n += 1;
+        }
+    }
+    assert!(n >= 2);
+}
+
+/// The CLI: `compile` writes a file that `check` accepts; `bias` exits 0 with a verdict.
+#[test]
+fn cli_compile_and_bias() {
+    let dir = tempfile::tempdir().unwrap();
+    let src = dir.path().join("one.slant");
+    std::fs::write(&src, ONE_CX).unwrap();
+    let out = dir.path().join("out.slant");
+    let bin = env!("CARGO_BIN_EXE_slant");
+    let st = std::process::Command::new(bin)
+        .args([
+            "compile",
+            src.to_str().unwrap(),
+            "--noise",
+            "circuit p=0.01 cx=rotation",
+            "-o",
+            out.to_str().unwrap(),
+        ])
+        .output()
+        .unwrap();
+    assert!(
+        st.status.success(),
+        "{}",
+        String::from_utf8_lossy(&st.stderr)
+    );
+    let text = std::fs::read_to_string(&out).unwrap();
+    assert!(
+        text.contains("noise pauli2") && text.contains("# --noise after `cx` (rotation)"),
+        "{text}"
+    );
+    let st = std::process::Command::new(bin)
+        .args(["check", out.to_str().unwrap()])
+        .output()
+        .unwrap();
+    assert!(
+        st.status.success(),
+        "{}",
+        String::from_utf8_lossy(&st.stderr)
+    );
+    let st = std::process::Command::new(bin)
+        .args([
+            "bias",
+            src.to_str().unwrap(),
+            "--noise",
+            "circuit p=0.01 bias=100 cx=rotation",
+        ])
+        .output()
+        .unwrap();
+    assert!(st.status.success());
+    let stdout = String::from_utf8_lossy(&st.stdout);
+    assert!(stdout.contains("verdict: bias lost at"), "{stdout}");
+}
