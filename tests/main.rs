@@ -6,3 +6,4 @@ mod shots;
 mod support;
 mod codes;
 mod gen;
+mod noise;

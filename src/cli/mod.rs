@@ -13,8 +13,10 @@
 //! | 3 | the answer is "no" (e.g. `fmt --check` found a file that is not canonical) |
 //! | 4 | internal error: a bug, please report it |
 
+pub mod bias;
 pub mod check;
 pub mod common;
+pub mod compile;
 pub mod fmt;
 pub mod graph;
 pub mod new;
@@ -54,8 +56,12 @@ pub struct Cli {
 /// The subcommands.
 #[derive(Debug, Subcommand)]
 pub enum Command {
+    /// Report where the high-rate (Z-type) faults end up: kept Z, or converted to X/Y.
+    Bias(bias::Args),
     /// Parse, expand and verify a circuit; print a summary.
     Check(check::Args),
+    /// Write a circuit with every channel of a noise model explicit.
+    Compile(compile::Args),
     /// Print a circuit in canonical form.
     Fmt(fmt::Args),
     /// Write the weighted fault graph of a noisy circuit.
@@ -101,7 +107,9 @@ pub fn main() -> i32 {
         }
     };
     let result = match cli.command {
+        Command::Bias(a) => bias::run(a),
         Command::Check(a) => check::run(a),
+        Command::Compile(a) => compile::run(a),
         Command::Fmt(a) => fmt::run(a),
         Command::Graph(a) => graph::run(a),
         Command::New(a) => new::run(a),
