@@ -206,11 +206,11 @@ pub fn compile(circuit: &Circuit, model: &NoiseModel) -> Result<Compiled, Vec<Di
             }
         }
         let mut idle: Vec<(Vec<u32>, Channel)> = Vec::new();
-        for q in 0..n {
+        for (q, qubit) in circuit.qubits.iter().enumerate() {
             if touched[q] {
                 continue;
             }
-            let Some(ch) = model.idle_for(&circuit.qubits[q]).channel(duration) else {
+            let Some(ch) = model.idle_for(qubit).channel(duration) else {
                 continue;
             };
             if ch.total() <= 0.0 {
