@@ -39,7 +39,7 @@ use crate::ir::{Basis, Circuit, Gate, OpKind, Pauli};
 use crate::sim::tableau::{reference_run, Reference};
 
 /// Shots per batch: 16 words of 64 shots. Fixed, because the per-batch seeds depend on it.
-pub const BATCH_SHOTS: usize = 1024;
+pub const BATCH_SHOTS: usize = 4096;
 
 /// Which per-shot outputs to produce.
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
@@ -397,7 +397,7 @@ impl Sampler {
             }
         }
         let mask = |v: &mut Vec<u64>| {
-            if shots % 64 != 0 {
+            if !shots.is_multiple_of(64) {
                 let keep = (1u64 << (shots % 64)) - 1;
                 for chunk in v.chunks_exact_mut(w) {
                     chunk[w - 1] &= keep;

@@ -560,9 +560,9 @@ mod tests {
                 let w = t.w;
                 let x = &t.x[row * w..(row + 1) * w];
                 let z = &t.z[row * w..(row + 1) * w];
-                for q in 0..2 {
+                for (q, &want) in image.iter().enumerate() {
                     let got = Pauli::from_bits(bit(x, q), bit(z, q));
-                    assert_eq!(got, image[q], "{g:?} row {row} qubit {q}");
+                    assert_eq!(got, want, "{g:?} row {row} qubit {q}");
                 }
             }
         }
