@@ -38,7 +38,7 @@ use rayon::prelude::*;
 use crate::ir::{Basis, Circuit, Gate, OpKind, Pauli};
 use crate::sim::tableau::{reference_run, Reference};
 
-/// Shots per batch: 16 words of 64 shots. Fixed, because the per-batch seeds depend on it.
+/// Shots per batch: 64 words of 64 shots. Fixed, because the per-batch seeds depend on it.
 pub const BATCH_SHOTS: usize = 4096;
 
 /// Which per-shot outputs to produce.
