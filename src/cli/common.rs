@@ -27,9 +27,10 @@ impl CircuitArgs {
 /// The `--noise` option shared by the subcommands that simulate or analyse noisy circuits.
 #[derive(Debug, Default, clap::Args)]
 pub struct NoiseArgs {
-    /// Noise to write into the circuit: a preset `circuit p=P [bias=ETA]`, `capacity p=P
-    /// [bias=ETA]` or `phenomenological p=P [q=Q] [bias=ETA]` (bias = pZ/(pX+pY), `inf` for pure
-    /// Z; default depolarizing). Noise written in the circuit file is kept as well.
+    /// Noise to write into the circuit: a model file `FILE.toml`, or a preset `circuit p=P
+    /// [bias=ETA] [cx=ideal|rotation|bias-preserving]`, `capacity p=P [bias=ETA]` or
+    /// `phenomenological p=P [q=Q] [bias=ETA]` (bias = pZ/(pX+pY), `inf` for pure Z; default
+    /// depolarizing). Noise written in the circuit file is kept as well.
     #[arg(long, value_name = "MODEL")]
     pub noise: Option<String>,
 }
