@@ -21,6 +21,8 @@
 //!   can be shared by rayon threads.
 
 pub mod matching;
+pub mod run;
+pub mod stats;
 pub mod unionfind;
 
 use std::collections::HashMap;
@@ -289,24 +291,38 @@ impl Prepared {
     /// The shot's events with the fixed toggles applied, as a sorted set; out-of-range ids are
     /// dropped and counted in the second value.
     pub fn normalize_events(&self, events: &[u32]) -> (Vec<u32>, u32) {
-        let mut all: Vec<u32> = Vec::with_capacity(events.len() + self.fixed_events.len());
+        let mut all = Vec::new();
+        let bad = self.normalize_into(events, &mut all);
+        (all, bad)
+    }
+
+    /// [`Prepared::normalize_events`] into a reused buffer; returns the out-of-range count.
+    pub fn normalize_into(&self, events: &[u32], out: &mut Vec<u32>) -> u32 {
+        out.clear();
         let mut bad = 0u32;
         for &e in events {
             if (e as usize) < self.n {
-                all.push(e);
+                out.push(e);
             } else {
                 bad += 1;
             }
         }
-        all.extend_from_slice(&self.fixed_events);
-        (odd_parity(all), bad)
+        out.extend_from_slice(&self.fixed_events);
+        odd_parity_in_place(out);
+        bad
     }
 }
 
 /// The values occurring an odd number of times, sorted.
 pub(crate) fn odd_parity(mut v: Vec<u32>) -> Vec<u32> {
+    odd_parity_in_place(&mut v);
+    v
+}
+
+/// Keeps the values occurring an odd number of times, sorted.
+pub(crate) fn odd_parity_in_place(v: &mut Vec<u32>) {
     v.sort_unstable();
-    let mut out = Vec::with_capacity(v.len());
+    let mut kept = 0;
     let mut i = 0;
     while i < v.len() {
         let mut j = i;
@@ -314,11 +330,12 @@ pub(crate) fn odd_parity(mut v: Vec<u32>) -> Vec<u32> {
             j += 1;
         }
         if (j - i) % 2 == 1 {
-            out.push(v[i]);
+            v[kept] = v[i];
+            kept += 1;
         }
         i = j;
     }
-    out
+    v.truncate(kept);
 }
 
 /// A pool of reusable scratch values so that `&self` decoders can run on many threads without

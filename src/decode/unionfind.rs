@@ -8,11 +8,14 @@
 //!
 //! 1. Every detection event starts an odd cluster. A cluster is *active* while it holds an odd
 //!    number of events and does not contain the boundary node.
-//! 2. Growth: every active cluster grows along each edge leaving it; an edge of weight `w` is
-//!    fully grown once the clusters at its two ends have together grown `w` along it (an edge
-//!    between two active clusters grows from both sides, twice as fast). Instead of fixed unit
-//!    steps, each round advances by exactly the amount that completes the next edge, so weights
-//!    are used as real numbers with no rounding.
+//! 2. Growth: every active cluster grows along each edge leaving it; an edge of length `L` is
+//!    fully grown once the clusters at its two ends have together grown `L` units along it (an
+//!    edge between two active clusters grows from both sides, twice as fast). Lengths are the
+//!    weights rounded to integers in units of `median weight / resolution`
+//!    ([`UnionFindOptions::resolution`]; at least 1 for a positive weight). With the default
+//!    resolution 2 a typical edge is two units long: the half-edge growth of Delfosse and
+//!    Nickerson, with heavier or lighter edges taking proportionally longer or shorter. Each
+//!    round advances by the smallest whole number of units that completes some edge.
 //! 3. Every fully grown edge joining two different clusters merges them (union by size, path
 //!    halving) and is recorded; the recorded edges form a spanning forest of the clusters.
 //! 4. When no cluster is active, the peeling decoder ("Linear-time maximum likelihood decoding
@@ -24,22 +27,63 @@
 //! An active cluster with no edge left to grow (a whole boundary-free component with an odd
 //! number of events) stops growing; its leftover event is counted in [`Decoded::unmatched`].
 
-use super::{odd_parity, BuildError, Decoded, Decoder, MatchingGraph, Pool, Prepared};
+use super::{odd_parity_in_place, BuildError, Decoded, Decoder, MatchingGraph, Pool, Prepared};
 
 const NONE: u32 = u32::MAX;
+
+/// Tuning knobs of [`UnionFind`].
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct UnionFindOptions {
+    /// Growth units per median edge weight: higher follows the weights more closely and runs
+    /// more growth rounds. At least 1.
+    pub resolution: u32,
+}
+
+impl Default for UnionFindOptions {
+    fn default() -> Self {
+        UnionFindOptions { resolution: 2 }
+    }
+}
 
 /// A weighted union-find decoder, built once per graph.
 #[derive(Debug)]
 pub struct UnionFind {
     g: Prepared,
+    /// Integer length of each edge in growth units.
+    length: Vec<u32>,
     pool: Pool<Scratch>,
 }
 
 impl UnionFind {
-    /// Builds the decoder.
+    /// Builds the decoder with default options.
     pub fn new(graph: &MatchingGraph) -> Result<UnionFind, BuildError> {
+        UnionFind::with_options(graph, UnionFindOptions::default())
+    }
+
+    /// Builds the decoder with the given options.
+    pub fn with_options(
+        graph: &MatchingGraph,
+        options: UnionFindOptions,
+    ) -> Result<UnionFind, BuildError> {
+        let g = Prepared::new(graph)?;
+        let mut positive: Vec<f64> = g.weight.iter().copied().filter(|&w| w > 0.0).collect();
+        positive.sort_by(f64::total_cmp);
+        let median = positive.get(positive.len() / 2).copied().unwrap_or(1.0);
+        let unit = median / f64::from(options.resolution.max(1));
+        let length = g
+            .weight
+            .iter()
+            .map(|&w| {
+                if w > 0.0 {
+                    ((w / unit).round() as u32).max(1)
+                } else {
+                    0
+                }
+            })
+            .collect();
         Ok(UnionFind {
-            g: Prepared::new(graph)?,
+            g,
+            length,
             pool: Pool::new(),
         })
     }
@@ -47,13 +91,15 @@ impl UnionFind {
 
 impl Decoder for UnionFind {
     fn decode(&self, events: &[u32]) -> Decoded {
-        let (events, bad) = self.g.normalize_events(events);
         let nodes = self.g.n + 1;
         let edges = self.g.ends.len();
         self.pool.with(
             || Scratch::new(nodes, edges),
             |s| {
-                let mut d = s.run(&self.g, &events);
+                let mut list = std::mem::take(&mut s.events);
+                let bad = self.g.normalize_into(events, &mut list);
+                let mut d = s.run(&self.g, &self.length, &list);
+                s.events = list;
                 d.unmatched += bad;
                 s.reset();
                 d
@@ -62,145 +108,172 @@ impl Decoder for UnionFind {
     }
 }
 
+/// Per-node state of one call. Kept in one record so that touching a node costs one cache line.
+#[derive(Clone, Copy, Debug)]
+struct Node {
+    /// Union-find parent (`NONE`: not in any cluster yet).
+    parent: u32,
+    /// Cluster size, valid at roots.
+    size: u32,
+    /// Head of the node's list of forest edges in `Scratch::tree_next`.
+    tree_head: u32,
+    /// Next node in the same cluster's frontier list.
+    fnext: u32,
+    /// First and last node of the cluster's frontier list (valid at roots): nodes that may
+    /// still have edges to grow. A linked list through the nodes, so merging is O(1).
+    fhead: u32,
+    ftail: u32,
+    /// `ODD`, `BOUNDARY`, `STUCK` (valid at roots), `MARK`, `SEEN`.
+    flags: u8,
+}
+
+const ODD: u8 = 1;
+const BOUNDARY: u8 = 2;
+const STUCK: u8 = 4;
+const MARK: u8 = 8;
+const SEEN: u8 = 16;
+
+const FRESH: Node = Node {
+    parent: NONE,
+    size: 0,
+    tree_head: NONE,
+    fnext: NONE,
+    fhead: NONE,
+    ftail: NONE,
+    flags: 0,
+};
+
+/// Per-edge state of one call.
+#[derive(Clone, Copy, Debug, Default)]
+struct EdgeState {
+    /// Units grown so far (both sides together).
+    grown: u32,
+    /// Number of active sides in the current round.
+    rate: u16,
+    /// Fully grown.
+    full: bool,
+}
+
 /// Per-call state over all nodes and edges, reset through the touched lists.
 #[derive(Debug)]
 struct Scratch {
-    // Per node.
-    parent: Vec<u32>,
-    size: Vec<u32>,
-    odd: Vec<bool>,
-    boundary: Vec<bool>,
-    stuck: Vec<bool>,
-    /// Nodes of a cluster (kept at its root) that may still have edges to grow.
-    frontier: Vec<Vec<u32>>,
-    /// Event parity carried during peeling.
-    mark: Vec<bool>,
+    node: Vec<Node>,
     touched: Vec<u32>,
-    // Per edge.
-    grown: Vec<f64>,
-    full: Vec<bool>,
-    rate: Vec<u8>,
+    edge: Vec<EdgeState>,
     touched_edges: Vec<u32>,
-    // Per round.
     active: Vec<u32>,
     candidates: Vec<u32>,
+    fused: Vec<u32>,
+    /// Edges that merged two clusters: the spanning forest.
     tree: Vec<u32>,
-    // Peeling.
-    tree_head: Vec<u32>,
     tree_next: Vec<(u32, u32)>,
     order: Vec<(u32, u32)>,
-    seen: Vec<bool>,
+    toggles: Vec<u32>,
+    /// The shot's normalised detection events.
+    events: Vec<u32>,
 }
 
 impl Scratch {
     fn new(nodes: usize, edges: usize) -> Scratch {
         Scratch {
-            parent: vec![NONE; nodes],
-            size: vec![0; nodes],
-            odd: vec![false; nodes],
-            boundary: vec![false; nodes],
-            stuck: vec![false; nodes],
-            frontier: vec![Vec::new(); nodes],
-            mark: vec![false; nodes],
+            node: vec![FRESH; nodes],
             touched: Vec::new(),
-            grown: vec![0.0; edges],
-            full: vec![false; edges],
-            rate: vec![0; edges],
+            edge: vec![EdgeState::default(); edges],
             touched_edges: Vec::new(),
             active: Vec::new(),
             candidates: Vec::new(),
+            fused: Vec::new(),
             tree: Vec::new(),
-            tree_head: vec![NONE; nodes],
             tree_next: Vec::new(),
             order: Vec::new(),
-            seen: vec![false; nodes],
+            toggles: Vec::new(),
+            events: Vec::new(),
         }
     }
 
     fn reset(&mut self) {
         for &v in &self.touched {
-            let v = v as usize;
-            self.parent[v] = NONE;
-            self.size[v] = 0;
-            self.odd[v] = false;
-            self.boundary[v] = false;
-            self.stuck[v] = false;
-            self.frontier[v].clear();
-            self.mark[v] = false;
-            self.tree_head[v] = NONE;
-            self.seen[v] = false;
+            self.node[v as usize] = FRESH;
         }
         self.touched.clear();
         for &e in &self.touched_edges {
-            self.grown[e as usize] = 0.0;
-            self.full[e as usize] = false;
-            self.rate[e as usize] = 0;
+            self.edge[e as usize] = EdgeState::default();
         }
         self.touched_edges.clear();
         self.active.clear();
         self.candidates.clear();
+        self.fused.clear();
         self.tree.clear();
         self.tree_next.clear();
         self.order.clear();
+        self.toggles.clear();
     }
 
     /// Makes `v` a singleton cluster if it is in none yet.
+    #[inline]
     fn touch(&mut self, v: u32, boundary_node: u32) {
-        let vu = v as usize;
-        if self.parent[vu] != NONE {
+        let n = &mut self.node[v as usize];
+        if n.parent != NONE {
             return;
         }
-        self.parent[vu] = v;
-        self.size[vu] = 1;
+        n.parent = v;
+        n.size = 1;
         self.touched.push(v);
         if v == boundary_node {
             // The boundary never grows, so it is never a frontier node.
-            self.boundary[vu] = true;
+            n.flags |= BOUNDARY;
         } else {
-            self.frontier[vu].push(v);
+            n.fhead = v;
+            n.ftail = v;
         }
     }
 
+    #[inline]
     fn find(&mut self, mut x: u32) -> u32 {
-        while self.parent[x as usize] != x {
-            let gp = self.parent[self.parent[x as usize] as usize];
-            self.parent[x as usize] = gp;
+        loop {
+            let p = self.node[x as usize].parent;
+            if p == x {
+                return x;
+            }
+            let gp = self.node[p as usize].parent;
+            self.node[x as usize].parent = gp;
             x = gp;
         }
-        x
     }
 
-    /// Merges the clusters of roots `a != b`; returns the new root.
-    fn union(&mut self, a: u32, b: u32) -> u32 {
-        let (big, small) = if self.size[a as usize] >= self.size[b as usize] {
-            (a, b)
-        } else {
-            (b, a)
-        };
+    /// Merges the clusters of roots `a != b`.
+    fn union(&mut self, a: u32, b: u32) {
+        let (sa, sb) = (self.node[a as usize].size, self.node[b as usize].size);
+        let (big, small) = if sa >= sb { (a, b) } else { (b, a) };
         let (bu, su) = (big as usize, small as usize);
-        self.parent[su] = big;
-        self.size[bu] += self.size[su];
-        self.odd[bu] ^= self.odd[su];
-        self.boundary[bu] |= self.boundary[su];
-        self.stuck[bu] = false;
-        let moved = std::mem::take(&mut self.frontier[su]);
-        self.frontier[bu].extend_from_slice(&moved);
-        self.frontier[su] = moved;
-        self.frontier[su].clear();
-        big
+        let s = self.node[su];
+        self.node[su].parent = big;
+        let r = &mut self.node[bu];
+        r.size += s.size;
+        r.flags ^= s.flags & ODD;
+        r.flags |= s.flags & BOUNDARY;
+        r.flags &= !STUCK;
+        if s.fhead != NONE {
+            if r.fhead == NONE {
+                r.fhead = s.fhead;
+            } else {
+                let tail = r.ftail as usize;
+                self.node[tail].fnext = s.fhead;
+            }
+            self.node[bu].ftail = s.ftail;
+        }
     }
 
+    #[inline]
     fn is_active(&self, root: u32) -> bool {
-        let r = root as usize;
-        self.odd[r] && !self.boundary[r] && !self.stuck[r]
+        self.node[root as usize].flags & (ODD | BOUNDARY | STUCK) == ODD
     }
 
-    fn run(&mut self, g: &Prepared, events: &[u32]) -> Decoded {
+    fn run(&mut self, g: &Prepared, length: &[u32], events: &[u32]) -> Decoded {
         let boundary_node = g.n as u32;
         for &e in events {
             self.touch(e, boundary_node);
-            self.odd[e as usize] = true;
-            self.mark[e as usize] = true;
+            self.node[e as usize].flags |= ODD | MARK;
             self.active.push(e);
         }
         let mut unmatched = 0u32;
@@ -221,39 +294,50 @@ impl Scratch {
             // Frontier edges of active clusters and their growth rates (1 or 2 sides).
             self.candidates.clear();
             for &r in &roots {
-                let mut list = std::mem::take(&mut self.frontier[r as usize]);
-                let mut i = 0;
+                let ru = r as usize;
                 let mut any = false;
-                while i < list.len() {
-                    let v = list[i] as usize;
+                let mut prev = NONE;
+                let mut at = self.node[ru].fhead;
+                while at != NONE {
+                    let v = at as usize;
+                    let next = self.node[v].fnext;
                     let mut live = false;
                     for &(u, e) in g.neighbours(v) {
                         let eu = e as usize;
-                        if self.full[eu] {
+                        if self.edge[eu].full {
                             continue;
                         }
-                        if self.parent[u as usize] != NONE && self.find(u) == r {
+                        if self.node[u as usize].parent != NONE && self.find(u) == r {
                             continue;
                         }
                         live = true;
-                        if self.rate[eu] == 0 {
+                        let st = &mut self.edge[eu];
+                        if st.rate == 0 {
                             self.candidates.push(e);
-                            if self.grown[eu] == 0.0 {
+                            if st.grown == 0 {
                                 self.touched_edges.push(e);
                             }
                         }
-                        self.rate[eu] += 1;
+                        st.rate += 1;
                     }
                     if live {
-                        i += 1;
+                        prev = at;
                     } else {
-                        list.swap_remove(i);
+                        // Every edge is grown or internal: drop the node from the frontier.
+                        if prev == NONE {
+                            self.node[ru].fhead = next;
+                        } else {
+                            self.node[prev as usize].fnext = next;
+                        }
+                        if self.node[ru].ftail == at {
+                            self.node[ru].ftail = prev;
+                        }
                     }
                     any |= live;
+                    at = next;
                 }
-                self.frontier[r as usize] = list;
                 if !any {
-                    self.stuck[r as usize] = true;
+                    self.node[r as usize].flags |= STUCK;
                     unmatched += 1;
                 }
             }
@@ -262,26 +346,20 @@ impl Scratch {
                 continue;
             }
 
-            // Advance to the next completion.
-            let mut step = f64::INFINITY;
+            // Advance by the smallest whole number of units that completes an edge.
+            let mut step = u32::MAX;
             for &e in &self.candidates {
-                let eu = e as usize;
-                step = step.min((g.weight[eu] - self.grown[eu]) / f64::from(self.rate[eu]));
+                let st = self.edge[e as usize];
+                step = step.min((length[e as usize] - st.grown).div_ceil(u32::from(st.rate)));
             }
-            let step = step.max(0.0);
-            let mut fused = Vec::new();
+            let mut fused = std::mem::take(&mut self.fused);
             for &e in &self.candidates {
-                let eu = e as usize;
-                let w = g.weight[eu];
-                self.grown[eu] += step * f64::from(self.rate[eu]);
-                self.rate[eu] = 0;
-                // A relative tolerance so the edge that set the step is complete despite
-                // rounding; mark a barely-touched edge touched so reset clears it.
-                if self.grown[eu] >= w - 1e-12 * w.max(1.0) {
-                    self.full[eu] = true;
+                let st = &mut self.edge[e as usize];
+                st.grown = st.grown.saturating_add(step * u32::from(st.rate));
+                st.rate = 0;
+                if st.grown >= length[e as usize] {
+                    st.full = true;
                     fused.push(e);
-                } else if self.grown[eu] == 0.0 {
-                    self.grown[eu] = f64::MIN_POSITIVE;
                 }
             }
             for &e in &fused {
@@ -294,6 +372,8 @@ impl Scratch {
                     self.tree.push(e);
                 }
             }
+            fused.clear();
+            self.fused = fused;
             self.active = roots;
         }
 
@@ -307,32 +387,36 @@ impl Scratch {
             let e = self.tree[i];
             let (a, b) = g.ends[e as usize];
             for v in [a, b] {
-                self.tree_next.push((e, self.tree_head[v as usize]));
-                self.tree_head[v as usize] = (self.tree_next.len() - 1) as u32;
+                self.tree_next.push((e, self.node[v as usize].tree_head));
+                self.node[v as usize].tree_head = (self.tree_next.len() - 1) as u32;
             }
         }
-        // Breadth-first order with parent edges; boundary first so it roots its tree.
-        let mut roots: Vec<u32> = Vec::with_capacity(self.touched.len() + 1);
-        if self.parent[boundary_node as usize] != NONE {
-            roots.push(boundary_node);
-        }
-        roots.extend(self.touched.iter().copied().filter(|&v| v != boundary_node));
-        for root in roots {
-            if self.seen[root as usize] {
+        // Breadth-first order with parent edges; the boundary first so it roots its tree.
+        let boundary_in = self.node[boundary_node as usize].parent != NONE;
+        let others = self.touched.len();
+        for k in 0..=others {
+            let root = if k == 0 {
+                if !boundary_in {
+                    continue;
+                }
+                boundary_node
+            } else {
+                self.touched[k - 1]
+            };
+            if self.node[root as usize].flags & SEEN != 0 {
                 continue;
             }
-            self.seen[root as usize] = true;
-            let start = self.order.len();
+            self.node[root as usize].flags |= SEEN;
+            let mut at = self.order.len();
             self.order.push((root, NONE));
-            let mut at = start;
             while at < self.order.len() {
                 let v = self.order[at].0;
-                let mut link = self.tree_head[v as usize];
+                let mut link = self.node[v as usize].tree_head;
                 while link != NONE {
                     let (e, next) = self.tree_next[link as usize];
                     let u = g.other(e as usize, v);
-                    if !self.seen[u as usize] {
-                        self.seen[u as usize] = true;
+                    if self.node[u as usize].flags & SEEN == 0 {
+                        self.node[u as usize].flags |= SEEN;
                         self.order.push((u, e));
                     }
                     link = next;
@@ -340,19 +424,23 @@ impl Scratch {
                 at += 1;
             }
         }
-        let mut toggles: Vec<u32> = g.fixed_observables.clone();
+        self.toggles.extend_from_slice(&g.fixed_observables);
         for idx in (0..self.order.len()).rev() {
             let (v, e) = self.order[idx];
-            if e == NONE || !self.mark[v as usize] {
+            if e == NONE || self.node[v as usize].flags & MARK == 0 {
                 continue;
             }
-            self.mark[v as usize] = false;
-            toggles.extend_from_slice(g.edge_observables(e as usize));
+            self.node[v as usize].flags &= !MARK;
+            self.toggles
+                .extend_from_slice(g.edge_observables(e as usize));
             let p = g.other(e as usize, v);
-            self.mark[p as usize] ^= true;
+            self.node[p as usize].flags ^= MARK;
         }
         Decoded {
-            observables: odd_parity(toggles),
+            observables: {
+                odd_parity_in_place(&mut self.toggles);
+                self.toggles.clone()
+            },
             unmatched,
         }
     }

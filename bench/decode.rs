@@ -1,0 +1,229 @@
+//! Decoder benchmark: MWPM and union-find on a distance-9, 9-round rotated surface code graph.
+//!
+//! Run with `bench/decode.sh` (release build, one thread). The graph is synthetic, built here
+//! with the shape of a circuit-level memory experiment: for each stabilizer type a 3-D lattice of
+//! detectors (40 per round per type at d = 9), space-like edges for data-qubit flips (boundary
+//! edges where a data qubit meets one stabilizer of the type), time-like edges for measurement
+//! flips, and one diagonal (space-time) edge per data-qubit edge for mid-round faults. Z-type
+//! detectors: 10 layers (9 rounds plus the final data readout); X-type: 8 layers (the first
+//! X round is random, the Z readout gives none). Edge probabilities at physical rate `p` are
+//! 2p (space-like), 3p (time-like) and p (diagonal), roughly the marginal flip rates of uniform
+//! depolarizing noise of strength `p` on a CNOT schedule. Errors are sampled independently per
+//! edge, so every shot's true observable flip is known.
+//!
+//! Prints per-decoder time per shot, mean detection events per shot and logical failures.
+//! Options: `--shots N` (default 20000), `--p P` (default: both 1e-3 and 3e-3),
+//! `--only mwpm|uf`, `--overhead` (also time empty and two-event shots).
+
+use std::time::Instant;
+
+use rand::{Rng, SeedableRng};
+use rand_xoshiro::Xoshiro256PlusPlus;
+use slant::decode::{Decoder, MatchingEdge, MatchingGraph, Mwpm, UnionFind};
+
+/// Plaquettes of one type of the rotated surface code: each is a list of data qubits `(x, y)`.
+fn plaquettes(d: i32, z_type: bool) -> Vec<Vec<(i32, i32)>> {
+    let mut out = Vec::new();
+    for i in -1..d {
+        for j in -1..d {
+            if ((i + j).rem_euclid(2) == 0) != z_type {
+                continue;
+            }
+            let corners: Vec<(i32, i32)> = [(i, j), (i + 1, j), (i, j + 1), (i + 1, j + 1)]
+                .into_iter()
+                .filter(|&(x, y)| (0..d).contains(&x) && (0..d).contains(&y))
+                .collect();
+            let left_right = i == -1 || i == d - 1;
+            let top_bottom = j == -1 || j == d - 1;
+            let keep = match corners.len() {
+                4 => true,
+                // Weight-2 boundary plaquettes: Z type on the left and right, X on top and bottom.
+                2 => {
+                    (z_type && left_right && !top_bottom) || (!z_type && top_bottom && !left_right)
+                }
+                _ => false,
+            };
+            if keep {
+                out.push(corners);
+            }
+        }
+    }
+    out
+}
+
+/// Appends the space-time graph of one stabilizer type; returns the new detector count.
+fn add_type(
+    d: i32,
+    z_type: bool,
+    layers: u32,
+    p: f64,
+    first: u32,
+    observable: Option<u32>,
+    edges: &mut Vec<MatchingEdge>,
+) -> u32 {
+    let plaq = plaquettes(d, z_type);
+    let per = plaq.len() as u32;
+    assert_eq!(per, ((d * d - 1) / 2) as u32);
+    let det = |s: u32, t: u32| first + t * per + s;
+    // For each data qubit: the plaquettes of this type containing it (one or two).
+    let mut data_edges = Vec::new();
+    for x in 0..d {
+        for y in 0..d {
+            let owners: Vec<u32> = (0..per)
+                .filter(|&s| plaq[s as usize].contains(&(x, y)))
+                .collect();
+            // The logical operator of the other type runs along the first row (Z type) or
+            // column (X type): flips of those qubits flip the observable.
+            let on_logical = if z_type { y == 0 } else { x == 0 };
+            let obs: Vec<u32> = observable.filter(|_| on_logical).into_iter().collect();
+            data_edges.push((owners, obs));
+        }
+    }
+    for t in 0..layers {
+        for (owners, obs) in &data_edges {
+            let (a, b) = (det(owners[0], t), owners.get(1).map(|&s| det(s, t)));
+            edges.push(MatchingEdge {
+                a,
+                b,
+                p: 2.0 * p,
+                observables: obs.clone(),
+            });
+            if t + 1 < layers {
+                if let Some(&s2) = owners.get(1) {
+                    let b = Some(det(s2, t + 1));
+                    edges.push(MatchingEdge {
+                        a,
+                        b,
+                        p,
+                        observables: obs.clone(),
+                    });
+                }
+            }
+        }
+        if t + 1 < layers {
+            for s in 0..per {
+                let (a, b) = (det(s, t), Some(det(s, t + 1)));
+                edges.push(MatchingEdge {
+                    a,
+                    b,
+                    p: 3.0 * p,
+                    observables: vec![],
+                });
+            }
+        }
+    }
+    first + layers * per
+}
+
+fn surface_graph(d: i32, rounds: u32, p: f64) -> MatchingGraph {
+    let mut edges = Vec::new();
+    let n = add_type(d, true, rounds + 1, p, 0, Some(0), &mut edges);
+    let n = add_type(d, false, rounds - 1, p, n, None, &mut edges);
+    MatchingGraph {
+        num_detectors: n as usize,
+        num_observables: 1,
+        edges,
+    }
+}
+
+/// Samples shots: detection events and the true observable flips.
+fn sample(g: &MatchingGraph, shots: usize, seed: u64) -> Vec<(Vec<u32>, Vec<u32>)> {
+    let mut rng = Xoshiro256PlusPlus::seed_from_u64(seed);
+    let mut det = vec![false; g.num_detectors];
+    (0..shots)
+        .map(|_| {
+            let mut obs = false;
+            let mut lit = Vec::new();
+            for e in &g.edges {
+                if rng.gen_bool(e.p) {
+                    for v in std::iter::once(e.a).chain(e.b) {
+                        det[v as usize] ^= true;
+                        lit.push(v);
+                    }
+                    obs ^= !e.observables.is_empty();
+                }
+            }
+            lit.sort_unstable();
+            lit.dedup();
+            let events: Vec<u32> = lit.into_iter().filter(|&v| det[v as usize]).collect();
+            for v in &events {
+                det[*v as usize] = false;
+            }
+            det.iter_mut().for_each(|x| *x = false);
+            (events, if obs { vec![0] } else { vec![] })
+        })
+        .collect()
+}
+
+fn time(name: &str, dec: &dyn Decoder, shots: &[(Vec<u32>, Vec<u32>)]) -> f64 {
+    // Warm-up pass so scratch space is allocated and caches are warm.
+    for (events, _) in shots.iter().take(200) {
+        std::hint::black_box(dec.decode(events));
+    }
+    let start = Instant::now();
+    let mut failures = 0;
+    let mut unmatched = 0;
+    for (events, actual) in shots {
+        let got = dec.decode(events);
+        failures += usize::from(got.observables != *actual || got.unmatched > 0);
+        unmatched += got.unmatched;
+    }
+    let us = start.elapsed().as_secs_f64() * 1e6 / shots.len() as f64;
+    println!(
+        "  {name:<5} {us:8.2} us/shot   logical failures {failures}/{}   unmatched {unmatched}",
+        shots.len()
+    );
+    us
+}
+
+fn main() {
+    let args: Vec<String> = std::env::args().collect();
+    let shots: usize = args
+        .iter()
+        .position(|a| a == "--shots")
+        .and_then(|i| args.get(i + 1))
+        .and_then(|s| s.parse().ok())
+        .unwrap_or(20_000);
+    let (d, rounds) = (9, 9);
+    let rates: Vec<f64> = args
+        .iter()
+        .position(|a| a == "--p")
+        .and_then(|i| args.get(i + 1))
+        .and_then(|s| s.parse().ok())
+        .map_or(vec![1e-3, 3e-3], |p| vec![p]);
+    for p in rates {
+        let g = surface_graph(d, rounds, p);
+        let start = Instant::now();
+        let mwpm = Mwpm::new(&g).expect("valid graph");
+        let build_ms = start.elapsed().as_secs_f64() * 1e3;
+        let uf = UnionFind::new(&g).expect("valid graph");
+        let data = sample(&g, shots, 2026);
+        let mean_events =
+            data.iter().map(|(e, _)| e.len()).sum::<usize>() as f64 / data.len() as f64;
+        println!(
+            "d={d} rounds={rounds} p={p}: {} detectors, {} edges, {mean_events:.1} events/shot, \
+             MWPM build {build_ms:.0} ms, {shots} shots",
+            g.num_detectors,
+            g.edges.len()
+        );
+        if args.iter().any(|a| a == "--overhead") {
+            let empty: Vec<(Vec<u32>, Vec<u32>)> = vec![(vec![], vec![]); shots];
+            time("mwpm0", &mwpm, &empty);
+            time("uf0", &uf, &empty);
+            let one: Vec<(Vec<u32>, Vec<u32>)> =
+                data.iter().filter(|(e, _)| e.len() == 2).cloned().collect();
+            time("mwpm2", &mwpm, &one);
+            time("uf2", &uf, &one);
+        }
+        let only = args
+            .iter()
+            .position(|a| a == "--only")
+            .and_then(|i| args.get(i + 1));
+        let run = |name: &str| only.is_none_or(|o| o == name);
+        let t_mwpm = run("mwpm").then(|| time("mwpm", &mwpm, &data));
+        let t_uf = run("uf").then(|| time("uf", &uf, &data));
+        if let (Some(a), Some(b)) = (t_mwpm, t_uf) {
+            println!("  union-find speed-up over MWPM: {:.1}x", a / b);
+        }
+    }
+}
