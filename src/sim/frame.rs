@@ -19,10 +19,17 @@
 //! leave the state unchanged, yet they flip exactly the later results that are random, each with
 //! probability 1/2, so sampled outcomes (reference XOR flip) have the right distribution.
 //!
-//! Rare faults are sampled by geometric skipping: for a channel with total probability `p` applied
-//! at `A` places, we walk the `A × shots` (place, shot) pairs drawing the gap to the next firing
-//! pair from the geometric distribution (`⌊ln U / ln(1−p)⌋`), then pick the term of the channel in
-//! proportion to its probability. The cost is proportional to the number of faults, not of shots.
+//! Rare faults are sampled by geometric skipping. All noise locations (channel applications and
+//! measurement flips) with the same total probability `p` share one *stream*: their (location,
+//! shot) pairs, in program order, form one index space `location · BATCH_SHOTS + shot`, and we draw
+//! the gap to the next firing pair from the geometric distribution (`⌊E / −ln(1−p)⌋` with `E` a
+//! standard exponential, drawn by the ziggurat method), then pick the channel's term in proportion
+//! to its probability. Since locations are numbered in program order, each noise instruction just
+//! consumes the stream's firing positions below its end. The cost is one draw per fault plus one
+//! per stream and batch, not one per location.
+//!
+//! Layout: a batch is always simulated [`BATCH_SHOTS`] wide (a short last batch is cut at the end),
+//! so every per-qubit row is a fixed `[u64; 64]` and the dense loops have constant length.
 //!
 //! Determinism: batch `b` uses its own xoshiro256++ generator seeded from `(seed, b)`, and batches
 //! always hold [`BATCH_SHOTS`] shots (the last one fewer), so the same seed gives the same bits
@@ -90,37 +97,113 @@ impl Batch {
     }
 }
 
-/// A fault process sampled by geometric skipping.
+/// Words per frame row: every batch is simulated [`BATCH_SHOTS`] shots wide (the unused shots of a
+/// short last batch are simulated and dropped), so rows are fixed-size arrays and the dense loops
+/// have constant trip counts and no bounds checks.
+const W: usize = BATCH_SHOTS / 64;
+/// `log2(BATCH_SHOTS)`: a position in a fault stream is `location << SHIFT | shot`.
+const SHIFT: u32 = BATCH_SHOTS.trailing_zeros();
+
+/// One row of 4096 shot bits.
+type Row = [u64; W];
+
+/// A geometric-skipping stream shared by every noise location with the same total firing
+/// probability `p`: the (location, shot) pairs of all of them, in program order, form one index
+/// space, so a batch costs one draw per actual fault plus one per stream, not one per location.
 #[derive(Clone, Debug)]
-struct Rare {
-    p: f64,
-    /// `ln(1 − p)`.
-    ln_keep: f64,
+struct Stream {
+    /// `1 / −ln(1 − p)`: a gap is `⌊E · inv_rate⌋` for a standard exponential `E`, because
+    /// `P(⌊E/λ⌋ ≥ k) = e^{−kλ} = (1 − p)^k` when `λ = −ln(1 − p)` (geometric distribution).
+    inv_rate: f64,
 }
 
-impl Rare {
-    fn new(p: f64) -> Rare {
-        Rare {
-            p,
-            ln_keep: (-p).ln_1p(),
+impl Stream {
+    fn new(p: f64) -> Stream {
+        let rate = -(-p.min(1.0)).ln_1p();
+        // p = 1: rate = ∞, gap 0 always. p = 0: rate = 0, gap ∞ (never fires).
+        Stream {
+            inv_rate: 1.0 / rate,
         }
     }
 
     /// Number of non-firing places before the next firing one.
     #[inline]
     fn gap(&self, rng: &mut Xoshiro256PlusPlus) -> u64 {
-        if self.p >= 1.0 {
-            return 0;
-        }
-        // U in (0, 1], so ln U is finite.
-        let u = 1.0 - rng.gen::<f64>();
-        let g = u.ln() / self.ln_keep;
-        if g >= 1.8e19 {
-            u64::MAX
-        } else {
+        let g = exp1(rng) * self.inv_rate;
+        if g < 1.8e19 {
             g as u64
+        } else {
+            u64::MAX
         }
     }
+}
+
+/// Ziggurat tables for the standard exponential distribution, 256 layers (Marsaglia & Tsang,
+/// "The Ziggurat Method for Generating Random Variables", J. Stat. Softw. 5(8), 2000).
+struct Ziggurat {
+    /// Layer right edges, decreasing: `x[0] = v/f(r)`, `x[1] = r`, …, `x[256] = 0`.
+    x: [f64; 257],
+    /// `f(x[i]) = e^{−x[i]}`.
+    f: [f64; 257],
+}
+
+/// Rightmost layer edge `r` and common layer area `v` for 256 layers of `e^{−x}` (Marsaglia & Tsang
+/// 2000, exponential case; recalled from memory, checked by `ziggurat_tables_close` below).
+const ZIG_R: f64 = 7.697_117_470_131_05;
+const ZIG_V: f64 = 3.949_659_822_581_572e-3;
+
+fn ziggurat() -> &'static Ziggurat {
+    static TABLES: std::sync::OnceLock<Ziggurat> = std::sync::OnceLock::new();
+    TABLES.get_or_init(|| {
+        let mut x = [0.0; 257];
+        x[0] = ZIG_V / (-ZIG_R).exp();
+        x[1] = ZIG_R;
+        // Each layer has area v: x[i+1] = f⁻¹(v / x[i] + f(x[i])).
+        for i in 1..256 {
+            x[i + 1] = -(ZIG_V / x[i] + (-x[i]).exp()).ln();
+        }
+        x[256] = 0.0;
+        let mut f = [0.0; 257];
+        for i in 0..257 {
+            f[i] = (-x[i]).exp();
+        }
+        Ziggurat { x, f }
+    })
+}
+
+/// A standard exponential variate by the ziggurat method: one `u64` and two multiplications in
+/// ~99% of the calls, exact (up to double rounding) in all of them.
+#[inline]
+fn exp1(rng: &mut Xoshiro256PlusPlus) -> f64 {
+    let zig = ziggurat();
+    loop {
+        let bits = rng.next_u64();
+        let i = (bits & 0xff) as usize;
+        // 53 high bits: uniform in [0, 1), independent of the 8 low bits used for the layer.
+        let u = (bits >> 11) as f64 * (1.0 / (1u64 << 53) as f64);
+        let x = u * zig.x[i];
+        if x < zig.x[i + 1] {
+            return x;
+        }
+        if i == 0 {
+            // Tail beyond r: memoryless, so r + a fresh exponential.
+            let u = 1.0 - rng.gen::<f64>();
+            return ZIG_R - u.ln();
+        }
+        let y = zig.f[i + 1] + (zig.f[i] - zig.f[i + 1]) * rng.gen::<f64>();
+        if y < (-x).exp() {
+            return x;
+        }
+    }
+}
+
+/// How a fault picks one of its channel's Pauli terms.
+#[derive(Clone, Debug)]
+enum Pick {
+    /// All terms equally likely (depolarizing, single-term channels): one multiply-high.
+    Uniform,
+    /// Cumulative term probabilities (last = total).
+    Weighted(Vec<f64>),
 }
 
 /// One compiled instruction. Qubits and records are indices.
@@ -139,17 +222,20 @@ enum Instr {
     Measure {
         record: u32,
         factors: Vec<(u32, Pauli)>,
-        flip: Option<Rare>,
+        /// Classical flip: stream and its location.
+        flip: Option<(u32, u64)>,
     },
     Reset(u32, Basis),
     Noise {
         /// Application `k` acts on `targets[k*arity..(k+1)*arity]`.
         targets: Vec<u32>,
         arity: usize,
-        rare: Rare,
-        /// Cumulative term probabilities (last = total).
-        cumulative: Vec<f64>,
-        terms: Vec<Vec<Pauli>>,
+        /// The stream and the stream location of application 0 (applications are consecutive).
+        stream: u32,
+        first: u64,
+        pick: Pick,
+        /// Per term, the (slot, has X, has Z) of its non-identity factors.
+        terms: Vec<Vec<(u8, bool, bool)>>,
     },
 }
 
@@ -161,16 +247,41 @@ pub struct Sampler {
     detectors: Vec<Vec<u32>>,
     observables: Vec<Vec<u32>>,
     program: Vec<Instr>,
+    streams: Vec<Stream>,
     reference: Reference,
     word_ops: u64,
+}
+
+/// Assigns stream locations: one stream per distinct total probability.
+#[derive(Default)]
+struct Streams {
+    index: std::collections::HashMap<u64, u32>,
+    streams: Vec<Stream>,
+    next: Vec<u64>,
+}
+
+impl Streams {
+    /// Reserves `count` consecutive locations in the stream of probability `p`.
+    fn reserve(&mut self, p: f64, count: u64) -> (u32, u64) {
+        let k = *self.index.entry(p.to_bits()).or_insert_with(|| {
+            self.streams.push(Stream::new(p));
+            self.next.push(0);
+            (self.streams.len() - 1) as u32
+        });
+        let first = self.next[k as usize];
+        self.next[k as usize] += count;
+        (k, first)
+    }
 }
 
 impl Sampler {
     /// Compiles a circuit and runs its noiseless reference.
     pub fn new(circuit: &Circuit) -> Sampler {
         let mut program = Vec::new();
+        let mut streams = Streams::default();
         let n = circuit.qubits.len() as u64;
-        // Word operations per word of shots, for the benchmark: start randomisation.
+        // Word operations per word of shots, for the benchmark (see `word_ops_per_word`): start
+        // (clear X, random Z).
         let mut word_ops = 2 * n;
         for (_, op) in circuit.ops() {
             match &op.kind {
@@ -198,11 +309,17 @@ impl Sampler {
                         .zip(op.paulis.iter().copied())
                         .filter(|f| f.1 != Pauli::I)
                         .collect();
-                    word_ops += 1 + 2 * factors.len() as u64;
+                    // Clear the record, XOR in each anticommuting frame component, XOR the gauge
+                    // word into each component of the product.
+                    let comps: u64 = factors
+                        .iter()
+                        .map(|f| u64::from(f.1.has_x()) + u64::from(f.1.has_z()))
+                        .sum();
+                    word_ops += 1 + 2 * comps;
                     program.push(Instr::Measure {
                         record: *record,
                         factors,
-                        flip: (*flip > 0.0).then(|| Rare::new(*flip)),
+                        flip: (*flip > 0.0).then(|| streams.reserve(*flip, 1)),
                     });
                 }
                 OpKind::Reset(basis) => {
@@ -213,23 +330,43 @@ impl Sampler {
                 }
                 OpKind::Noise(ch) => {
                     let terms = ch.terms();
-                    if terms.is_empty() || op.targets.is_empty() {
+                    let arity = ch.arity().max(1);
+                    let total: f64 = terms.iter().map(|t| t.0).sum();
+                    if terms.is_empty() || op.targets.is_empty() || total <= 0.0 {
                         continue;
                     }
-                    let mut acc = 0.0;
-                    let cumulative = terms
-                        .iter()
-                        .map(|t| {
-                            acc += t.0;
-                            acc
-                        })
-                        .collect();
+                    let pick = if terms.iter().all(|t| t.0 == terms[0].0) {
+                        Pick::Uniform
+                    } else {
+                        let mut acc = 0.0;
+                        Pick::Weighted(
+                            terms
+                                .iter()
+                                .map(|t| {
+                                    acc += t.0;
+                                    acc
+                                })
+                                .collect(),
+                        )
+                    };
+                    let apps = (op.targets.len() / arity) as u64;
+                    let (stream, first) = streams.reserve(total.min(1.0), apps);
                     program.push(Instr::Noise {
-                        arity: ch.arity().max(1),
+                        arity,
                         targets: op.targets.clone(),
-                        rare: Rare::new(acc.min(1.0)),
-                        cumulative,
-                        terms: terms.into_iter().map(|t| t.1).collect(),
+                        stream,
+                        first,
+                        pick,
+                        terms: terms
+                            .iter()
+                            .map(|t| {
+                                t.1.iter()
+                                    .enumerate()
+                                    .filter(|(_, p)| **p != Pauli::I)
+                                    .map(|(k, p)| (k as u8, p.has_x(), p.has_z()))
+                                    .collect()
+                            })
+                            .collect(),
                     });
                 }
             }
@@ -255,6 +392,7 @@ impl Sampler {
             detectors,
             observables,
             program,
+            streams: streams.streams,
             reference: reference_run(circuit),
             word_ops,
         }
@@ -265,16 +403,18 @@ impl Sampler {
         &self.reference
     }
 
-    /// Word operations (read-modify-writes of one `u64`) the sampler performs per 64 shots,
-    /// excluding sparse fault insertion; used by the benchmark.
+    /// Dense word operations the sampler performs per 64 shots, for the benchmark. One word
+    /// operation is one `u64` of frame, record or output memory written by a dense loop: an XOR of
+    /// another word into it (the XOR baseline's unit: load, load, XOR, store), a clear, a random
+    /// fill, or a copy; a swap counts two. Sparse fault insertion (a few single-bit XORs per fault)
+    /// is not counted, so the fraction is conservative.
     pub fn word_ops_per_word(&self) -> u64 {
         self.word_ops
     }
 
     /// Words of frame and record memory one batch touches, for the benchmark's XOR baseline.
     pub fn batch_memory_words(&self) -> usize {
-        (2 * self.qubits + self.records + self.detectors.len() + self.observables.len())
-            * BATCH_SHOTS.div_ceil(64)
+        (2 * self.qubits + self.records + self.detectors.len() + self.observables.len()) * W
     }
 
     /// Samples `shots` shots, calling `sink` with the batches in order. Batches run in parallel on
@@ -299,13 +439,23 @@ impl Sampler {
     }
 
     /// Runs one batch of `shots` (≤ [`BATCH_SHOTS`]) shots with the generator of batch `index`.
+    ///
+    /// The batch is always simulated [`BATCH_SHOTS`] wide and cut to `shots` at the end, so a
+    /// shot's bits depend only on `(seed, index)` and its place in the batch.
     pub fn run_batch(&self, index: u64, shots: usize, seed: u64, what: Outputs) -> Batch {
-        let w = shots.div_ceil(64).max(1);
+        assert!(
+            shots <= BATCH_SHOTS,
+            "at most {BATCH_SHOTS} shots per batch"
+        );
         let mut rng = batch_rng(seed, index);
-        let mut x = vec![0u64; self.qubits * w];
-        let mut z = vec![0u64; self.qubits * w];
-        rng.fill(&mut z[..]);
-        let mut rec = vec![0u64; self.records * w];
+        let mut x = vec![[0u64; W]; self.qubits];
+        let mut z = vec![[0u64; W]; self.qubits];
+        for row in &mut z {
+            fill_random(row, &mut rng);
+        }
+        let mut rec = vec![[0u64; W]; self.records];
+        // Next firing position (`location << SHIFT | shot`) of each stream.
+        let mut cursor: Vec<u64> = self.streams.iter().map(|s| s.gap(&mut rng)).collect();
         for ins in &self.program {
             match ins {
                 Instr::Measure {
@@ -313,106 +463,117 @@ impl Sampler {
                     factors,
                     flip,
                 } => {
-                    let r = *record as usize * w;
-                    let out = &mut rec[r..r + w];
-                    out.fill(0);
+                    let out = &mut rec[*record as usize];
+                    *out = [0; W];
                     for &(q, p) in factors {
-                        let q = q as usize * w;
                         // X and Z anticommute: a frame X flips a Z result, a frame Z an X result.
                         if p.has_z() {
-                            out.iter_mut().zip(&x[q..q + w]).for_each(|(o, v)| *o ^= v);
+                            xor_row(out, &x[q as usize]);
                         }
                         if p.has_x() {
-                            out.iter_mut().zip(&z[q..q + w]).for_each(|(o, v)| *o ^= v);
+                            xor_row(out, &z[q as usize]);
                         }
                     }
-                    if let Some(rare) = flip {
-                        let mut s = rare.gap(&mut rng);
-                        while s < shots as u64 {
-                            out[s as usize / 64] ^= 1 << (s % 64);
-                            s = s.saturating_add(1).saturating_add(rare.gap(&mut rng));
+                    if let Some((k, loc)) = *flip {
+                        let (k, end) = (k as usize, (loc + 1) << SHIFT);
+                        while cursor[k] < end {
+                            let s = (cursor[k] & (BATCH_SHOTS as u64 - 1)) as usize;
+                            out[s / 64] ^= 1 << (s % 64);
+                            cursor[k] = advance(cursor[k], &self.streams[k], &mut rng);
                         }
                     }
                     // Gauge: a random copy of the measured product.
-                    for i in 0..w {
-                        let g = rng.next_u64();
-                        for &(q, p) in factors {
-                            let q = q as usize * w + i;
-                            if p.has_x() {
-                                x[q] ^= g;
-                            }
-                            if p.has_z() {
-                                z[q] ^= g;
-                            }
+                    let mut g = [0u64; W];
+                    fill_random(&mut g, &mut rng);
+                    for &(q, p) in factors {
+                        if p.has_x() {
+                            xor_row(&mut x[q as usize], &g);
+                        }
+                        if p.has_z() {
+                            xor_row(&mut z[q as usize], &g);
                         }
                     }
                 }
                 Instr::Reset(q, basis) => {
-                    let q = *q as usize * w;
-                    let (xs, zs) = (&mut x[q..q + w], &mut z[q..q + w]);
-                    xs.fill(0);
-                    zs.fill(0);
+                    let (xs, zs) = (&mut x[*q as usize], &mut z[*q as usize]);
                     // Gauge: a random copy of the basis Pauli.
                     match basis {
-                        Basis::Z => rng.fill(zs),
-                        Basis::X => rng.fill(xs),
+                        Basis::Z => {
+                            *xs = [0; W];
+                            fill_random(zs, &mut rng);
+                        }
+                        Basis::X => {
+                            *zs = [0; W];
+                            fill_random(xs, &mut rng);
+                        }
                         Basis::Y => {
-                            rng.fill(xs);
-                            zs.copy_from_slice(xs);
+                            fill_random(xs, &mut rng);
+                            *zs = *xs;
                         }
                     }
                 }
                 Instr::Noise {
                     targets,
                     arity,
-                    rare,
-                    cumulative,
+                    stream,
+                    first,
+                    pick,
                     terms,
                 } => {
-                    let places = (targets.len() / arity) as u64 * shots as u64;
-                    let mut at = rare.gap(&mut rng);
-                    while at < places {
-                        let (app, s) = ((at / shots as u64) as usize, (at % shots as u64) as usize);
-                        let term = if terms.len() == 1 {
-                            &terms[0]
-                        } else {
-                            let u = rng.gen::<f64>() * cumulative[cumulative.len() - 1];
-                            let k = cumulative.partition_point(|&c| c <= u);
-                            &terms[k.min(terms.len() - 1)]
+                    let k = *stream as usize;
+                    let apps = (targets.len() / arity) as u64;
+                    let (start, end) = (first << SHIFT, (first + apps) << SHIFT);
+                    while cursor[k] < end {
+                        let off = cursor[k] - start;
+                        let app = (off >> SHIFT) as usize;
+                        let s = (off & (BATCH_SHOTS as u64 - 1)) as usize;
+                        let term = match pick {
+                            Pick::Uniform => {
+                                let r = u128::from(rng.next_u64()) * terms.len() as u128;
+                                &terms[(r >> 64) as usize]
+                            }
+                            Pick::Weighted(cumulative) => {
+                                let u = rng.gen::<f64>() * cumulative[cumulative.len() - 1];
+                                let t = cumulative.partition_point(|&c| c <= u);
+                                &terms[t.min(terms.len() - 1)]
+                            }
                         };
                         let (word, bit) = (s / 64, 1u64 << (s % 64));
-                        for (k, p) in term.iter().enumerate() {
-                            let q = targets[app * arity + k] as usize * w + word;
-                            if p.has_x() {
-                                x[q] ^= bit;
-                            }
-                            if p.has_z() {
-                                z[q] ^= bit;
-                            }
+                        let on = &targets[app * arity..(app + 1) * arity];
+                        for &(slot, hx, hz) in term {
+                            let q = on[slot as usize] as usize;
+                            x[q][word] ^= u64::from(hx) * bit;
+                            z[q][word] ^= u64::from(hz) * bit;
                         }
-                        at = at.saturating_add(1).saturating_add(rare.gap(&mut rng));
+                        cursor[k] = advance(cursor[k], &self.streams[k], &mut rng);
                     }
                 }
-                gate => apply_gate(gate, &mut x, &mut z, w),
+                gate => apply_gate(gate, &mut x, &mut z),
             }
         }
-        let mask = |v: &mut Vec<u64>| {
-            if !shots.is_multiple_of(64) {
-                let keep = (1u64 << (shots % 64)) - 1;
-                for chunk in v.chunks_exact_mut(w) {
-                    chunk[w - 1] &= keep;
-                }
+        let w = shots.div_ceil(64).max(1);
+        // Cut rows to `w` words and clear the bits past `shots`.
+        let cut = |rows: &[Row], out: &mut Vec<u64>| {
+            let keep = if shots.is_multiple_of(64) {
+                u64::MAX
+            } else {
+                (1u64 << (shots % 64)) - 1
+            };
+            out.reserve(rows.len() * w);
+            for row in rows {
+                out.extend_from_slice(&row[..w]);
+                *out.last_mut().expect("w >= 1") &= keep;
             }
         };
         let parities = |items: &[Vec<u32>]| {
-            let mut out = vec![0u64; items.len() * w];
-            for (k, recs) in items.iter().enumerate() {
-                let dst = &mut out[k * w..(k + 1) * w];
+            let mut rows = vec![[0u64; W]; items.len()];
+            for (dst, recs) in rows.iter_mut().zip(items) {
                 for &r in recs {
-                    let src = &rec[r as usize * w..(r as usize + 1) * w];
-                    dst.iter_mut().zip(src).for_each(|(d, s)| *d ^= s);
+                    xor_row(dst, &rec[r as usize]);
                 }
             }
+            let mut out = Vec::new();
+            cut(&rows, &mut out);
             out
         };
         let mut batch = Batch {
@@ -426,63 +587,84 @@ impl Sampler {
         };
         if what.detectors {
             batch.detectors = parities(&self.detectors);
-            mask(&mut batch.detectors);
         }
         if what.observables {
             batch.observables = parities(&self.observables);
-            mask(&mut batch.observables);
         }
         if what.measurements {
-            for (r, &v) in self.reference.measurements.iter().enumerate() {
+            for (row, &v) in rec.iter_mut().zip(&self.reference.measurements) {
                 if v {
-                    rec[r * w..(r + 1) * w].iter_mut().for_each(|b| *b = !*b);
+                    row.iter_mut().for_each(|b| *b = !*b);
                 }
             }
-            mask(&mut rec);
-            batch.measurements = rec;
+            cut(&rec, &mut batch.measurements);
         }
         batch
     }
 }
 
-/// Conjugates the frames by a gate instruction (`w` words per qubit); other instructions are
-/// ignored.
+/// The position after `at` plus a fresh gap, saturating (a stream that ran past the end of the
+/// batch stays there).
 #[inline]
-fn apply_gate(ins: &Instr, x: &mut [u64], z: &mut [u64], w: usize) {
+fn advance(at: u64, stream: &Stream, rng: &mut Xoshiro256PlusPlus) -> u64 {
+    at.saturating_add(1).saturating_add(stream.gap(rng))
+}
+
+#[inline]
+fn fill_random(row: &mut Row, rng: &mut Xoshiro256PlusPlus) {
+    row.iter_mut().for_each(|v| *v = rng.next_u64());
+}
+
+#[inline]
+fn xor_row(dst: &mut Row, src: &Row) {
+    dst.iter_mut().zip(src).for_each(|(d, s)| *d ^= s);
+}
+
+/// Two distinct rows of one table, mutably.
+#[inline]
+fn two(v: &mut [Row], a: usize, b: usize) -> (&mut Row, &mut Row) {
+    assert_ne!(a, b, "two-qubit gate on one qubit");
+    if a < b {
+        let (lo, hi) = v.split_at_mut(b);
+        (&mut lo[a], &mut hi[0])
+    } else {
+        let (lo, hi) = v.split_at_mut(a);
+        (&mut hi[0], &mut lo[b])
+    }
+}
+
+/// Conjugates the frames by a gate instruction; other instructions are ignored.
+#[inline]
+fn apply_gate(ins: &Instr, x: &mut [Row], z: &mut [Row]) {
     match *ins {
-        Instr::H(q) => {
-            let q = q as usize * w;
-            x[q..q + w].swap_with_slice(&mut z[q..q + w]);
-        }
-        Instr::S(q) => xor_into(z, x, q as usize * w, w),
-        Instr::Sx(q) => xor_into(x, z, q as usize * w, w),
+        Instr::H(q) => std::mem::swap(&mut x[q as usize], &mut z[q as usize]),
+        Instr::S(q) => xor_row(&mut z[q as usize], &x[q as usize]),
+        Instr::Sx(q) => xor_row(&mut x[q as usize], &z[q as usize]),
         Instr::Cx(a, b) => {
-            let (a, b) = (a as usize * w, b as usize * w);
-            xor_within(x, b, a, w);
-            xor_within(z, a, b, w);
+            let (xa, xb) = two(x, a as usize, b as usize);
+            xor_row(xb, xa);
+            let (za, zb) = two(z, a as usize, b as usize);
+            xor_row(za, zb);
         }
         Instr::Cz(a, b) => {
-            let (a, b) = (a as usize * w, b as usize * w);
-            for i in 0..w {
-                z[a + i] ^= x[b + i];
-                z[b + i] ^= x[a + i];
-            }
+            let (a, b) = (a as usize, b as usize);
+            let (za, zb) = two(z, a, b);
+            xor_row(za, &x[b]);
+            xor_row(zb, &x[a]);
         }
         Instr::Cy(a, b) => {
-            let (a, b) = (a as usize * w, b as usize * w);
-            for i in 0..w {
-                let xa = x[a + i];
-                z[a + i] ^= x[b + i] ^ z[b + i];
-                x[b + i] ^= xa;
-                z[b + i] ^= xa;
+            let (xa, xb) = two(x, a as usize, b as usize);
+            let (za, zb) = two(z, a as usize, b as usize);
+            for i in 0..W {
+                let v = xa[i];
+                za[i] ^= xb[i] ^ zb[i];
+                xb[i] ^= v;
+                zb[i] ^= v;
             }
         }
         Instr::Swap(a, b) => {
-            let (a, b) = (a as usize * w, b as usize * w);
-            for i in 0..w {
-                x.swap(a + i, b + i);
-                z.swap(a + i, b + i);
-            }
+            x.swap(a as usize, b as usize);
+            z.swap(a as usize, b as usize);
         }
         Instr::Measure { .. } | Instr::Reset(..) | Instr::Noise { .. } => {}
     }
@@ -502,32 +684,6 @@ fn batch_rng(seed: u64, index: u64) -> Xoshiro256PlusPlus {
         v ^ (v >> 31)
     };
     Xoshiro256PlusPlus::seed_from_u64(mix(mix(seed.wrapping_add(0x9e37_79b9_7f4a_7c15)) ^ index))
-}
-
-#[inline]
-fn xor_into(dst: &mut [u64], src: &[u64], at: usize, w: usize) {
-    dst[at..at + w]
-        .iter_mut()
-        .zip(&src[at..at + w])
-        .for_each(|(d, s)| *d ^= s);
-}
-
-/// `v[dst..dst+w] ^= v[src..src+w]` for distinct blocks of one vector.
-#[inline]
-fn xor_within(v: &mut [u64], dst: usize, src: usize, w: usize) {
-    if dst < src {
-        let (lo, hi) = v.split_at_mut(src);
-        lo[dst..dst + w]
-            .iter_mut()
-            .zip(&hi[..w])
-            .for_each(|(d, s)| *d ^= s);
-    } else {
-        let (lo, hi) = v.split_at_mut(dst);
-        hi[..w]
-            .iter_mut()
-            .zip(&lo[src..src + w])
-            .for_each(|(d, s)| *d ^= s);
-    }
 }
 
 /// Runs a plain `a[i] ^= b[i]` loop over `words` words `reps` times and returns words per second:
@@ -565,11 +721,11 @@ mod tests {
                     }
                     let input = [p0, p1];
                     let want = g.conjugate(input);
-                    let mut x = vec![0u64; 2];
-                    let mut z = vec![0u64; 2];
+                    let mut x = vec![[0u64; W]; 2];
+                    let mut z = vec![[0u64; W]; 2];
                     for q in 0..2 {
-                        x[q] = u64::from(input[q].has_x());
-                        z[q] = u64::from(input[q].has_z());
+                        x[q][0] = u64::from(input[q].has_x());
+                        z[q][0] = u64::from(input[q].has_z());
                     }
                     let ins = match g {
                         Gate::I | Gate::X | Gate::Y | Gate::Z => None,
@@ -582,10 +738,10 @@ mod tests {
                         Gate::Swap => Some(Instr::Swap(0, 1)),
                     };
                     if let Some(ins) = ins {
-                        apply_gate(&ins, &mut x, &mut z, 1);
+                        apply_gate(&ins, &mut x, &mut z);
                     }
                     for q in 0..2 {
-                        let got = Pauli::from_bits(x[q] & 1 != 0, z[q] & 1 != 0);
+                        let got = Pauli::from_bits(x[q][0] & 1 != 0, z[q][0] & 1 != 0);
                         assert_eq!(got, want[q], "{g:?} {input:?}");
                     }
                 }
@@ -595,11 +751,65 @@ mod tests {
 
     #[test]
     fn geometric_gaps_have_the_right_mean() {
-        let rare = Rare::new(0.1);
+        let stream = Stream::new(0.1);
         let mut rng = batch_rng(1, 2);
         let n = 200_000;
-        let mean = (0..n).map(|_| rare.gap(&mut rng) as f64).sum::<f64>() / n as f64;
+        let mean = (0..n).map(|_| stream.gap(&mut rng) as f64).sum::<f64>() / n as f64;
         // Geometric number of failures before a success: mean (1-p)/p = 9, sd ≈ 9.5.
         assert!((mean - 9.0).abs() < 5.0 * 9.5 / (n as f64).sqrt(), "{mean}");
+    }
+
+    #[test]
+    fn geometric_gap_probabilities() {
+        // P(gap = k) = (1-p)^k p for the first few k, each within 5 binomial sigma.
+        let p = 0.3;
+        let stream = Stream::new(p);
+        let mut rng = batch_rng(5, 0);
+        let n = 400_000;
+        let mut counts = [0u64; 6];
+        for _ in 0..n {
+            let g = stream.gap(&mut rng) as usize;
+            if g < counts.len() {
+                counts[g] += 1;
+            }
+        }
+        for (k, &c) in counts.iter().enumerate() {
+            let want = (1.0f64 - p).powi(k as i32) * p;
+            let sd = (want * (1.0 - want) / n as f64).sqrt();
+            let got = c as f64 / n as f64;
+            assert!((got - want).abs() < 5.0 * sd, "k={k}: {got} vs {want}");
+        }
+        // p = 1 always fires; p = 0 never does.
+        assert_eq!(Stream::new(1.0).gap(&mut rng), 0);
+        assert_eq!(Stream::new(0.0).gap(&mut rng), u64::MAX);
+    }
+
+    #[test]
+    fn ziggurat_tables_close() {
+        // The recursion from (r, v) must come down to the peak: the last layer's upper edge
+        // v / x[255] + f(x[255]) is 1 = f(0).
+        let zig = ziggurat();
+        let top = ZIG_V / zig.x[255] + (-zig.x[255]).exp();
+        assert!((top - 1.0).abs() < 1e-9, "{top}");
+        assert!(zig.x.windows(2).all(|p| p[0] > p[1]));
+    }
+
+    #[test]
+    fn exponential_tail_probabilities() {
+        // P(E > t) = e^{-t}, including the tail beyond the ziggurat's r = 7.7.
+        let mut rng = batch_rng(9, 9);
+        let n = 2_000_000;
+        let draws: Vec<f64> = (0..n).map(|_| exp1(&mut rng)).collect();
+        for t in [0.01, 0.1, 0.5, 1.0, 2.0, 4.0, 7.0, 8.0, 10.0] {
+            let want = (-t as f64).exp();
+            let got = draws.iter().filter(|&&e| e > t).count() as f64 / n as f64;
+            let sd = (want * (1.0 - want) / n as f64).sqrt();
+            assert!(
+                (got - want).abs() < 5.0 * sd + 1e-12,
+                "t={t}: {got} vs {want}"
+            );
+        }
+        let mean = draws.iter().sum::<f64>() / n as f64;
+        assert!((mean - 1.0).abs() < 5.0 / (n as f64).sqrt(), "{mean}");
     }
 }
