@@ -30,7 +30,8 @@ pub struct Args {
     /// Tag measurement flips as high-rate faults.
     #[arg(long)]
     pub high_rate_flips: bool,
-    /// Print the time of each phase (load, extract, render, write) to standard error.
+    /// Print the time of each phase (load, extract, render, write) to standard error; one-file
+    /// formats stream, so their render time is counted under write.
     #[arg(long)]
     pub timings: bool,
     /// Output path (a directory for `mtx`); `-` or absent prints to standard output.
@@ -82,28 +83,31 @@ fn write(
     } else {
         View::Full(graph)
     };
+    let to_stdout = out.is_none_or(|p| p.as_os_str() == "-");
+    if format != Format::Mtx {
+        // One-file formats stream into the (atomic) output: a JSON graph of a million faults
+        // is never held in memory as one string. Render and write are then one phase.
+        match out {
+            Some(path) if !to_stdout => {
+                output::write_atomic_with(path, |w| export::write_one(&view, format, w).map(drop))?
+            }
+            _ => {
+                let mut stdout = std::io::BufWriter::new(std::io::stdout().lock());
+                // A closed pipe (e.g. `| head`) is not an error worth reporting.
+                let _ = export::write_one(&view, format, &mut stdout).and_then(|_| stdout.flush());
+            }
+        }
+        return Ok((Duration::ZERO, clock.elapsed()));
+    }
     let files = export::render(&view, format);
     let rendered = clock.elapsed();
-    let to_stdout = out.is_none_or(|p| p.as_os_str() == "-");
-    if format == Format::Mtx {
-        let dir = out.filter(|_| !to_stdout).ok_or_else(|| {
-            Diagnostic::bare("`--format mtx` writes a directory: give it with `-o DIR`")
-        })?;
-        std::fs::create_dir_all(dir)
-            .map_err(|e| Diagnostic::bare(format!("cannot create `{}`: {e}", dir.display())))?;
-        for (name, bytes) in &files {
-            output::write_atomic(&dir.join(name), bytes)?;
-        }
-        return Ok((rendered, clock.elapsed() - rendered));
-    }
-    let bytes = &files[0].1;
-    match out {
-        Some(path) if !to_stdout => output::write_atomic(path, bytes)?,
-        _ => {
-            let mut stdout = std::io::stdout().lock();
-            // A closed pipe (e.g. `| head`) is not an error worth reporting.
-            let _ = stdout.write_all(bytes).and_then(|()| stdout.flush());
-        }
+    let dir = out.filter(|_| !to_stdout).ok_or_else(|| {
+        Diagnostic::bare("`--format mtx` writes a directory: give it with `-o DIR`")
+    })?;
+    std::fs::create_dir_all(dir)
+        .map_err(|e| Diagnostic::bare(format!("cannot create `{}`: {e}", dir.display())))?;
+    for (name, bytes) in &files {
+        output::write_atomic(&dir.join(name), bytes)?;
     }
     Ok((rendered, clock.elapsed() - rendered))
 }

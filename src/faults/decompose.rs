@@ -19,8 +19,8 @@
 //!
 //! Hyperedges neither strategy splits are listed in [`HyperedgeStats::undecomposed`].
 
-use crate::faults::extract::{Atoms, FxMap};
-use crate::faults::graph::{Decomposition, FaultGraph, HyperedgeStats};
+use crate::faults::extract::{Extracted, FxMap};
+use crate::faults::graph::{Decomposition, HyperedgeStats};
 
 /// Largest number of atoms whose groupings are enumerated (Bell number 203 at 6).
 pub const MAX_ATOMS: usize = 6;
@@ -30,22 +30,23 @@ pub const MAX_SEARCH: usize = 8;
 /// Existing graphlike mechanisms: detector set → observable sets seen with it.
 type Index = FxMap<Vec<u32>, Vec<Vec<u32>>>;
 
-/// Fills in the decompositions of every hyperedge of `graph`.
-pub(crate) fn decompose(graph: &mut FaultGraph, atoms: &[(u32, Atoms)]) {
-    let d = graph.detectors.len() as u32;
-    let mut index: Index = FxMap::default();
-    for m in &graph.mechanisms {
-        if (1..=2).contains(&m.detectors.len()) {
-            index
-                .entry(m.detectors.clone())
-                .or_default()
-                .push(m.observables.clone());
-        }
+/// Fills in the decompositions of every hyperedge of the extracted graph.
+pub(crate) fn decompose(ex: &mut Extracted) {
+    let graph = &ex.graph;
+    let mut old_of = vec![0u32; ex.rank.len()];
+    for (old, &r) in ex.rank.iter().enumerate() {
+        old_of[r as usize] = old as u32;
     }
-    let mut by_mech: FxMap<u32, Vec<&Atoms>> = FxMap::default();
-    for (k, a) in atoms {
-        by_mech.entry(*k).or_default().push(a);
-    }
+    // An atom is a graphlike part iff its whole symptom (detectors and observables) is that of
+    // a mechanism with one or two detectors: one lookup in the extractor's symptom table.
+    let lookup = |sym: &[u32]| -> Option<u32> {
+        let r = ex.rank[ex.symptoms.find(sym)? as usize];
+        (1..=2)
+            .contains(&graph.mechanisms[r as usize].detectors.len())
+            .then_some(r)
+    };
+    // Only built if some hyperedge needs the detector search.
+    let mut index: Option<Index> = None;
     let mut stats = HyperedgeStats::default();
     let mut out = Vec::new();
     for (k, m) in graph.mechanisms.iter().enumerate() {
@@ -53,15 +54,41 @@ pub(crate) fn decompose(graph: &mut FaultGraph, atoms: &[(u32, Atoms)]) {
             continue;
         }
         stats.hyperedges += 1;
-        let by_atoms = by_mech.get(&(k as u32)).and_then(|list| {
-            list.iter()
-                .filter(|a| a.len() <= MAX_ATOMS)
-                .find_map(|a| split_by_atoms(a, d, &index))
-        });
+        let by_atoms = ex
+            .candidates(old_of[k])
+            .filter(|c| c.len as usize <= MAX_ATOMS)
+            .find_map(|c| {
+                let mut atoms: [&[u32]; MAX_ATOMS] = [&[]; MAX_ATOMS];
+                for (slot, a) in atoms.iter_mut().zip(c.first..c.first + c.len) {
+                    *slot = ex.atoms.atom(a);
+                }
+                split_by_atoms(&atoms[..c.len as usize], &lookup)
+            })
+            .map(|parts| {
+                parts
+                    .into_iter()
+                    .map(|r| {
+                        let p = &graph.mechanisms[r as usize];
+                        (p.detectors.clone(), p.observables.clone())
+                    })
+                    .collect()
+            });
         let parts = by_atoms.or_else(|| {
-            (m.detectors.len() <= MAX_SEARCH)
-                .then(|| split_by_detectors(&m.detectors, &m.observables, &index))
-                .flatten()
+            if m.detectors.len() > MAX_SEARCH {
+                return None;
+            }
+            let index = index.get_or_insert_with(|| {
+                let mut ix = Index::default();
+                for m in &graph.mechanisms {
+                    if (1..=2).contains(&m.detectors.len()) {
+                        ix.entry(m.detectors.clone())
+                            .or_default()
+                            .push(m.observables.clone());
+                    }
+                }
+                ix
+            });
+            split_by_detectors(&m.detectors, &m.observables, index)
         });
         match parts {
             Some(parts) => {
@@ -74,41 +101,27 @@ pub(crate) fn decompose(graph: &mut FaultGraph, atoms: &[(u32, Atoms)]) {
             None => stats.undecomposed.push(k as u32),
         }
     }
-    graph.decompositions = out;
-    graph.hyperedges = stats;
+    ex.graph.decompositions = out;
+    ex.graph.hyperedges = stats;
 }
 
 fn xor(a: &[u32], b: &[u32]) -> Vec<u32> {
     crate::ir::sensitivity::xor_sets(a, b)
 }
 
-/// Splits combined symptom ids into (detectors, observables).
-fn split_ids(s: &[u32], d: u32) -> (Vec<u32>, Vec<u32>) {
-    let k = s.iter().take_while(|&&x| x < d).count();
-    (s[..k].to_vec(), s[k..].iter().map(|&x| x - d).collect())
-}
-
-fn exists(index: &Index, dets: &[u32], obs: &[u32]) -> bool {
-    index
-        .get(dets)
-        .is_some_and(|list| list.iter().any(|o| o == obs))
-}
-
-/// Finest grouping of the atoms whose blocks are all existing graphlike mechanisms.
-fn split_by_atoms(atoms: &Atoms, d: u32, index: &Index) -> Option<Vec<(Vec<u32>, Vec<u32>)>> {
+/// Finest grouping of the atoms whose blocks are all graphlike mechanisms (as found by
+/// `lookup`, which maps a whole symptom to a mechanism index); returns the parts' indices.
+fn split_by_atoms(atoms: &[&[u32]], lookup: &dyn Fn(&[u32]) -> Option<u32>) -> Option<Vec<u32>> {
     let n = atoms.len();
-    // The finest grouping (every atom alone) is the usual answer; try it before enumerating.
-    let singles: Option<Vec<_>> = atoms
-        .iter()
-        .map(|s| {
-            let (dets, obs) = split_ids(s, d);
-            exists(index, &dets, &obs).then_some((dets, obs))
-        })
-        .collect();
-    if let Some(parts) = singles.filter(|p| p.len() >= 2) {
-        return Some(parts);
+    if n < 2 {
+        return None;
     }
-    let mut best: Option<Vec<(Vec<u32>, Vec<u32>)>> = None;
+    // The finest grouping (every atom alone) is the usual answer; try it before enumerating.
+    let singles: Option<Vec<u32>> = atoms.iter().map(|s| lookup(s)).collect();
+    if singles.is_some() {
+        return singles;
+    }
+    let mut best: Option<Vec<u32>> = None;
     // Restricted growth strings enumerate each set partition once.
     let mut rgs = vec![0usize; n];
     loop {
@@ -116,15 +129,12 @@ fn split_by_atoms(atoms: &Atoms, d: u32, index: &Index) -> Option<Vec<(Vec<u32>,
         if best.as_ref().is_none_or(|b| blocks > b.len()) {
             let mut sym = vec![Vec::new(); blocks];
             for (i, &b) in rgs.iter().enumerate() {
-                sym[b] = xor(&sym[b], &atoms[i]);
+                sym[b] = xor(&sym[b], atoms[i]);
             }
-            let parts: Option<Vec<_>> = sym
+            let parts: Option<Vec<u32>> = sym
                 .iter()
                 .filter(|s| !s.is_empty())
-                .map(|s| {
-                    let (dets, obs) = split_ids(s, d);
-                    exists(index, &dets, &obs).then_some((dets, obs))
-                })
+                .map(|s| lookup(s))
                 .collect();
             if let Some(parts) = parts {
                 if parts.len() >= 2 && best.as_ref().is_none_or(|b| parts.len() > b.len()) {
@@ -197,14 +207,24 @@ mod tests {
 
     #[test]
     fn y_splits_into_x_and_z_parts() {
-        // Detectors 0..4, observable id 4 → observable 0. X part flips {0,1}+obs, Z part {2,3}.
-        let ix = index(&[(&[0, 1], &[0]), (&[2, 3], &[])]);
-        let atoms = vec![vec![0, 1, 4], vec![2, 3]];
-        let parts = split_by_atoms(&atoms, 4, &ix).unwrap();
-        assert_eq!(parts, vec![(vec![0, 1], vec![0]), (vec![2, 3], vec![])]);
+        // Detectors 0..4, observable id 4 (observable 0). X part flips {0,1}+obs, Z part {2,3}.
+        let known: Vec<Vec<u32>> = vec![vec![0, 1, 4], vec![2, 3]];
+        let lookup = |s: &[u32]| known.iter().position(|k| k == s).map(|i| i as u32);
+        let atoms: [&[u32]; 2] = [&[0, 1, 4], &[2, 3]];
+        assert_eq!(split_by_atoms(&atoms, &lookup), Some(vec![0, 1]));
         // With the observable on the wrong part, the split does not exist.
-        let ix2 = index(&[(&[0, 1], &[]), (&[2, 3], &[0])]);
-        assert!(split_by_atoms(&atoms, 4, &ix2).is_none());
+        let known2: Vec<Vec<u32>> = vec![vec![0, 1], vec![2, 3, 4]];
+        let lookup2 = |s: &[u32]| known2.iter().position(|k| k == s).map(|i| i as u32);
+        assert!(split_by_atoms(&atoms, &lookup2).is_none());
+    }
+
+    #[test]
+    fn coarser_grouping_when_atoms_alone_do_not_exist() {
+        // Atoms {0},{1},{2,3}: {0} and {1} are not mechanisms, but {0,1} is.
+        let known: Vec<Vec<u32>> = vec![vec![0, 1], vec![2, 3]];
+        let lookup = |s: &[u32]| known.iter().position(|k| k == s).map(|i| i as u32);
+        let atoms: [&[u32]; 3] = [&[0], &[1], &[2, 3]];
+        assert_eq!(split_by_atoms(&atoms, &lookup), Some(vec![0, 1]));
     }
 
     #[test]

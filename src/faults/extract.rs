@@ -7,14 +7,23 @@
 //! injection; the symptom of a measurement flip is the set of detectors and observables that
 //! contain the record. Nothing is simulated per fault: the cost is one sweep plus a few short
 //! sorted-set XORs and one hash lookup per fault.
+//!
+//! Layout (for speed at a million faults): each distinct channel is converted to independent
+//! terms once ([`Table`]); symptoms are interned in one flat arena keyed by a 64-bit hash that
+//! is verified against the arena ([`Interner`]); a fault is a fixed-size record of indices
+//! (mechanism, layer, op, application, term), turned into a [`Contributor`] only once, in final
+//! order; the atoms that decomposition needs live in one flat arena too. Nothing is allocated
+//! per fault during the sweep.
 
+use std::collections::hash_map::Entry;
 use std::collections::HashMap;
 use std::hash::{BuildHasherDefault, Hasher};
 
 use crate::faults::graph::{
     ClassSet, Contributor, DetectorInfo, FaultClass, FaultGraph, HyperedgeStats, Mechanism, Silent,
+    Small,
 };
-use crate::ir::sensitivity::{self, Point, Sensitivity};
+use crate::ir::sensitivity::{self, xor_into, Point, Sensitivity};
 use crate::ir::{Channel, Circuit, OpKind, Pauli};
 
 /// Options of [`crate::faults::extract`].
@@ -132,27 +141,6 @@ pub fn independent_terms(channel: &Channel) -> (Vec<IndependentTerm>, bool) {
     (out, exact)
 }
 
-/// XOR of two sorted sets into `out` (cleared first).
-fn xor_into(a: &[u32], b: &[u32], out: &mut Vec<u32>) {
-    out.clear();
-    let (mut i, mut j) = (0, 0);
-    while i < a.len() && j < b.len() {
-        let (x, y) = (a[i], b[j]);
-        if x < y {
-            out.push(x);
-            i += 1;
-        } else if y < x {
-            out.push(y);
-            j += 1;
-        } else {
-            i += 1;
-            j += 1;
-        }
-    }
-    out.extend_from_slice(&a[i..]);
-    out.extend_from_slice(&b[j..]);
-}
-
 /// FxHash (the rustc hasher): symptoms are short lists of small integers, where SipHash's
 /// DoS resistance buys nothing and costs most of the lookup time.
 #[derive(Default)]
@@ -191,35 +179,192 @@ impl Hasher for FxHasher {
 
 pub(crate) type FxMap<K, V> = HashMap<K, V, BuildHasherDefault<FxHasher>>;
 
-/// Per-mechanism state while sweeping.
-struct Building {
-    symptom: Vec<u32>,
-    probability: f64,
-    classes: ClassSet,
+/// Hasher for keys that are already well-mixed 64-bit hashes.
+#[derive(Default)]
+pub(crate) struct IdHasher(u64);
+
+impl Hasher for IdHasher {
+    fn write(&mut self, bytes: &[u8]) {
+        for &b in bytes {
+            self.0 = (self.0 << 8) | u64::from(b);
+        }
+    }
+    fn write_u64(&mut self, v: u64) {
+        self.0 = v;
+    }
+    fn finish(&self) -> u64 {
+        self.0
+    }
 }
 
-/// Candidate split of a hyperedge: the symptoms of the X and Z parts of each factor of one of
-/// its contributors (empty parts dropped). XOR of the atoms is the whole symptom.
-pub(crate) type Atoms = Vec<Vec<u32>>;
+/// 64-bit hash of a symptom.
+fn hash_ids(ids: &[u32]) -> u64 {
+    let mut h = FxHasher(ids.len() as u64);
+    for &x in ids {
+        h.write_u32(x);
+    }
+    h.finish()
+}
+
+/// Symptoms stored once each in a flat arena, looked up by a 64-bit hash that is verified
+/// against the arena (so a hash collision costs a second lookup, never a wrong merge).
+#[derive(Default)]
+pub(crate) struct Interner {
+    ids: Vec<u32>,
+    /// `ids[start[k]..start[k + 1]]` is symptom `k`.
+    start: Vec<u32>,
+    by_hash: HashMap<u64, u32, BuildHasherDefault<IdHasher>>,
+    /// Symptoms whose hash was already taken by another symptom.
+    collided: FxMap<Vec<u32>, u32>,
+}
+
+impl Interner {
+    fn new() -> Interner {
+        Interner {
+            start: vec![0],
+            ..Interner::default()
+        }
+    }
+
+    /// Number of symptoms.
+    pub(crate) fn len(&self) -> usize {
+        self.start.len() - 1
+    }
+
+    /// Symptom `k`.
+    pub(crate) fn get(&self, k: u32) -> &[u32] {
+        &self.ids[self.start[k as usize] as usize..self.start[k as usize + 1] as usize]
+    }
+
+    /// The id of `sym`, if interned.
+    pub(crate) fn find(&self, sym: &[u32]) -> Option<u32> {
+        let &k = self.by_hash.get(&hash_ids(sym))?;
+        if self.get(k) == sym {
+            Some(k)
+        } else {
+            self.collided.get(sym).copied()
+        }
+    }
+
+    /// The id of `sym` and whether it is new.
+    fn intern(&mut self, sym: &[u32]) -> (u32, bool) {
+        let next = self.len() as u32;
+        match self.by_hash.entry(hash_ids(sym)) {
+            Entry::Occupied(e) => {
+                let k = *e.get();
+                if self.get(k) == sym {
+                    return (k, false);
+                }
+                if let Some(&k) = self.collided.get(sym) {
+                    return (k, false);
+                }
+                self.collided.insert(sym.to_vec(), next);
+            }
+            Entry::Vacant(e) => {
+                e.insert(next);
+            }
+        }
+        self.ids.extend_from_slice(sym);
+        self.start.push(self.ids.len() as u32);
+        (next, true)
+    }
+}
+
+/// The independent terms of one distinct channel, converted once per extraction.
+struct Table {
+    channel: Channel,
+    terms: Vec<IndependentTerm>,
+    classes: Vec<FaultClass>,
+    exact: bool,
+}
+
+/// Marks a measurement flip in [`Fault::term`].
+const FLIP: u32 = u32::MAX;
+
+/// An elementary fault while sweeping: fixed size, no heap data; its [`Contributor`] is built
+/// once, in final order, by [`finish`].
+#[derive(Clone, Copy)]
+struct Fault {
+    mech: u32,
+    layer: u32,
+    op: u32,
+    /// Which application (chunk of `arity` targets) of the op.
+    app: u32,
+    /// Index into the table's terms, or [`FLIP`].
+    term: u32,
+    table: u32,
+}
+
+/// Candidate split of a hyperedge: the symptoms of the X and Z parts of each factor of one
+/// contributor (empty parts dropped), stored in [`Atoms`]; XOR of the atoms is the whole symptom.
+#[derive(Clone, Copy)]
+pub(crate) struct Candidate {
+    /// Range of [`Atoms::sets`].
+    pub first: u32,
+    /// Number of atoms.
+    pub len: u32,
+    /// Next candidate of the same mechanism, or `u32::MAX`.
+    next: u32,
+}
+
+/// Flat storage of the atoms of every candidate.
+#[derive(Default)]
+pub(crate) struct Atoms {
+    ids: Vec<u32>,
+    /// Atom `a` is `ids[sets[a]..sets[a + 1]]`.
+    sets: Vec<u32>,
+    pub(crate) candidates: Vec<Candidate>,
+}
+
+impl Atoms {
+    /// Atom `a`.
+    pub(crate) fn atom(&self, a: u32) -> &[u32] {
+        &self.ids[self.sets[a as usize] as usize..self.sets[a as usize + 1] as usize]
+    }
+}
 
 /// What the sweep produces before decomposition.
 pub(crate) struct Extracted {
     pub graph: FaultGraph,
-    /// For mechanisms with more than two detectors: atoms of up to a few contributors.
-    pub atoms: Vec<(u32, Atoms)>,
+    /// Every symptom of the graph, by sweep-order mechanism id.
+    pub symptoms: Interner,
+    /// `rank[k]`: index in [`FaultGraph::mechanisms`] of sweep-order mechanism `k`.
+    pub rank: Vec<u32>,
+    /// Atoms of up to [`ATOM_CANDIDATES`] contributors of each hyperedge.
+    pub atoms: Atoms,
+    /// First candidate of each sweep-order mechanism (`u32::MAX` for none).
+    pub first_candidate: Vec<u32>,
+}
+
+impl Extracted {
+    /// Candidates of final mechanism with sweep-order id `k`, in sweep order.
+    pub(crate) fn candidates(&self, k: u32) -> impl Iterator<Item = Candidate> + '_ {
+        let mut c = self.first_candidate[k as usize];
+        std::iter::from_fn(move || {
+            let cand = *self.atoms.candidates.get(c as usize)?;
+            c = cand.next;
+            Some(cand)
+        })
+    }
 }
 
 /// How many contributors of one hyperedge keep their atoms for decomposition.
-const ATOM_CANDIDATES: usize = 3;
+const ATOM_CANDIDATES: u8 = 3;
 
 struct Builder<'c> {
     circuit: &'c Circuit,
     opts: &'c ExtractOptions,
     detectors: u32,
-    index: FxMap<Vec<u32>, u32>,
-    mechs: Vec<Building>,
-    faults: Vec<(u32, Contributor)>,
-    atoms: FxMap<u32, Vec<Atoms>>,
+    symptoms: Interner,
+    probability: Vec<f64>,
+    classes: Vec<ClassSet>,
+    /// Candidates kept per mechanism, and the last one (to append in order).
+    n_candidates: Vec<u8>,
+    first_candidate: Vec<u32>,
+    last_candidate: Vec<u32>,
+    faults: Vec<Fault>,
+    atoms: Atoms,
+    tables: Vec<Table>,
     silent: Silent,
     inexact: usize,
     buf: Vec<u32>,
@@ -227,98 +372,144 @@ struct Builder<'c> {
 }
 
 impl Builder<'_> {
-    fn add(&mut self, symptom: &[u32], c: Contributor, atoms: impl FnOnce() -> Atoms) {
+    /// Merges one fault; `atoms` lists its parts (read only when it is a hyperedge).
+    fn add<'s>(
+        &mut self,
+        symptom: &[u32],
+        probability: f64,
+        class: FaultClass,
+        fault: Fault,
+        atoms: impl Iterator<Item = &'s [u32]>,
+    ) {
         if symptom.is_empty() {
             self.silent.count += 1;
-            self.silent.probability =
-                super::graph::xor_prob(self.silent.probability, c.probability);
+            self.silent.probability = super::graph::xor_prob(self.silent.probability, probability);
             return;
         }
-        let k = match self.index.get(symptom) {
-            Some(&k) => {
-                let m = &mut self.mechs[k as usize];
-                m.probability = super::graph::xor_prob(m.probability, c.probability);
-                m.classes = m.classes.with(c.class);
-                k
-            }
-            None => {
-                let k = self.mechs.len() as u32;
-                self.index.insert(symptom.to_vec(), k);
-                self.mechs.push(Building {
-                    symptom: symptom.to_vec(),
-                    probability: c.probability,
-                    classes: ClassSet::of(c.class),
-                });
-                k
-            }
-        };
-        let dets = symptom.iter().take_while(|&&s| s < self.detectors).count();
-        if dets > 2 {
-            let list = self.atoms.entry(k).or_default();
-            if list.len() < ATOM_CANDIDATES {
-                list.push(atoms());
-            }
+        let (k, new) = self.symptoms.intern(symptom);
+        if new {
+            self.probability.push(probability);
+            self.classes.push(ClassSet::of(class));
+            self.n_candidates.push(0);
+            self.first_candidate.push(u32::MAX);
+            self.last_candidate.push(u32::MAX);
+        } else {
+            let p = &mut self.probability[k as usize];
+            *p = super::graph::xor_prob(*p, probability);
+            let c = &mut self.classes[k as usize];
+            *c = c.with(class);
         }
-        self.faults.push((k, c));
+        let dets = symptom.partition_point(|&s| s < self.detectors);
+        if dets > 2 && self.n_candidates[k as usize] < ATOM_CANDIDATES {
+            self.n_candidates[k as usize] += 1;
+            let a = &mut self.atoms;
+            if a.sets.is_empty() {
+                a.sets.push(0);
+            }
+            let first = a.sets.len() as u32 - 1;
+            for set in atoms {
+                a.ids.extend_from_slice(set);
+                a.sets.push(a.ids.len() as u32);
+            }
+            let len = a.sets.len() as u32 - 1 - first;
+            let id = a.candidates.len() as u32;
+            a.candidates.push(Candidate {
+                first,
+                len,
+                next: u32::MAX,
+            });
+            let last = self.last_candidate[k as usize];
+            if last == u32::MAX {
+                self.first_candidate[k as usize] = id;
+            } else {
+                a.candidates[last as usize].next = id;
+            }
+            self.last_candidate[k as usize] = id;
+        }
+        self.faults.push(Fault { mech: k, ..fault });
+    }
+
+    /// Index of the table of `channel`, converting it on first sight.
+    fn table(&mut self, channel: &Channel) -> usize {
+        if let Some(i) = self.tables.iter().rposition(|t| t.channel == *channel) {
+            return i;
+        }
+        let (terms, exact) = independent_terms(channel);
+        let classes = terms
+            .iter()
+            .map(|t| {
+                if t.paulis.iter().all(|p| !p.has_x()) {
+                    FaultClass::High
+                } else {
+                    FaultClass::Low
+                }
+            })
+            .collect();
+        self.tables.push(Table {
+            channel: channel.clone(),
+            terms,
+            classes,
+            exact,
+        });
+        self.tables.len() - 1
     }
 
     fn noise(&mut self, layer: usize, index: usize, channel: &Channel, s: &Sensitivity) {
         let op = &self.circuit.layers[layer].ops[index];
-        let (terms, exact) = independent_terms(channel);
-        if terms.is_empty() {
-            return;
-        }
+        let ti = self.table(channel);
+        // Borrow the table outside `self` while `self.add` runs.
+        let tables = std::mem::take(&mut self.tables);
+        let table = &tables[ti];
         let arity = channel.arity();
-        for app in op.targets.chunks(arity) {
-            if !exact {
+        let mut acc = std::mem::take(&mut self.buf);
+        let mut tmp = std::mem::take(&mut self.tmp);
+        for (ai, app) in op.targets.chunks(arity).enumerate() {
+            if table.terms.is_empty() {
+                break;
+            }
+            if !table.exact {
                 self.inexact += 1;
             }
-            for t in &terms {
-                // Symptom of the product: XOR of the X and Z sensitivities of its factors.
-                let mut acc = std::mem::take(&mut self.buf);
-                acc.clear();
-                for (&q, &p) in app.iter().zip(&t.paulis) {
-                    if p.has_x() {
-                        xor_into(&acc, &s.x[q as usize], &mut self.tmp);
-                        std::mem::swap(&mut acc, &mut self.tmp);
-                    }
-                    if p.has_z() {
-                        xor_into(&acc, &s.z[q as usize], &mut self.tmp);
-                        std::mem::swap(&mut acc, &mut self.tmp);
+            for (term, t) in table.terms.iter().enumerate() {
+                // The X and Z parts this term touches, in factor order.
+                let parts = || {
+                    app.iter().zip(&t.paulis).flat_map(|(&q, &p)| {
+                        let x = p.has_x().then(|| s.x[q as usize].as_slice());
+                        let z = p.has_z().then(|| s.z[q as usize].as_slice());
+                        [x, z].into_iter().flatten().filter(|set| !set.is_empty())
+                    })
+                };
+                // Symptom: XOR of the parts; a single part is borrowed, not copied.
+                let mut single: &[u32] = &[];
+                let mut n = 0;
+                for set in parts() {
+                    n += 1;
+                    if n == 1 {
+                        single = set;
+                    } else {
+                        if n == 2 {
+                            acc.clear();
+                            acc.extend_from_slice(single);
+                        }
+                        xor_into(&acc, set, &mut tmp);
+                        std::mem::swap(&mut acc, &mut tmp);
                     }
                 }
-                let class = if t.paulis.iter().all(|p| !p.has_x()) {
-                    FaultClass::High
-                } else {
-                    FaultClass::Low
-                };
-                let c = Contributor {
+                let symptom: &[u32] = if n <= 1 { single } else { &acc };
+                let fault = Fault {
+                    mech: 0,
                     layer: layer as u32,
                     op: index as u32,
-                    span: op.span,
-                    term: t.paulis.clone(),
-                    qubits: app.to_vec(),
-                    record: None,
-                    term_probability: t.term_probability,
-                    probability: t.probability,
-                    class,
+                    app: ai as u32,
+                    term: term as u32,
+                    table: ti as u32,
                 };
-                let atoms = || {
-                    let mut out = Vec::new();
-                    for (&q, &p) in app.iter().zip(&t.paulis) {
-                        if p.has_x() && !s.x[q as usize].is_empty() {
-                            out.push(s.x[q as usize].clone());
-                        }
-                        if p.has_z() && !s.z[q as usize].is_empty() {
-                            out.push(s.z[q as usize].clone());
-                        }
-                    }
-                    out
-                };
-                self.add(&acc, c, atoms);
-                self.buf = acc;
+                self.add(symptom, t.probability, table.classes[term], fault, parts());
             }
         }
+        self.tables = tables;
+        self.buf = acc;
+        self.tmp = tmp;
     }
 }
 
@@ -328,14 +519,24 @@ pub(crate) fn extract_mechanisms(circuit: &Circuit, opts: &ExtractOptions) -> Ex
         circuit,
         opts,
         detectors: circuit.detectors.len() as u32,
-        index: FxMap::default(),
-        mechs: Vec::new(),
+        symptoms: Interner::new(),
+        probability: Vec::new(),
+        classes: Vec::new(),
+        n_candidates: Vec::new(),
+        first_candidate: Vec::new(),
+        last_candidate: Vec::new(),
         faults: Vec::new(),
-        atoms: FxMap::default(),
+        atoms: Atoms::default(),
+        tables: Vec::new(),
         silent: Silent::default(),
         inexact: 0,
         buf: Vec::new(),
         tmp: Vec::new(),
+    };
+    let flip_class = if opts.high_rate_flips {
+        FaultClass::High
+    } else {
+        FaultClass::Low
     };
     sensitivity::sweep(circuit, |point, s| {
         let Point::After { layer, index, op } = point else {
@@ -344,25 +545,22 @@ pub(crate) fn extract_mechanisms(circuit: &Circuit, opts: &ExtractOptions) -> Ex
         match &op.kind {
             OpKind::Noise(ch) => b.noise(layer, index, ch, s),
             OpKind::Measure { record, flip } if *flip > 0.0 => {
-                let class = if b.opts.high_rate_flips {
-                    FaultClass::High
-                } else {
-                    FaultClass::Low
-                };
-                let c = Contributor {
+                let symptom = &s.record_symptoms[*record as usize];
+                let fault = Fault {
+                    mech: 0,
                     layer: layer as u32,
                     op: index as u32,
-                    span: op.span,
-                    term: Vec::new(),
-                    qubits: op.targets.clone(),
-                    record: Some(*record),
-                    term_probability: *flip,
-                    probability: *flip,
-                    class,
+                    app: 0,
+                    term: FLIP,
+                    table: 0,
                 };
-                let symptom = s.record_symptoms[*record as usize].clone();
-                let atoms = || vec![symptom.clone()];
-                b.add(&symptom, c, atoms);
+                b.add(
+                    symptom,
+                    *flip,
+                    flip_class,
+                    fault,
+                    std::iter::once(symptom.as_slice()),
+                );
             }
             _ => {}
         }
@@ -370,66 +568,104 @@ pub(crate) fn extract_mechanisms(circuit: &Circuit, opts: &ExtractOptions) -> Ex
     finish(circuit, b)
 }
 
+/// The [`Contributor`] of a fault, built from the circuit and the channel tables.
+fn contributor(
+    circuit: &Circuit,
+    tables: &[Table],
+    flip_class: FaultClass,
+    f: &Fault,
+) -> Contributor {
+    let op = &circuit.layers[f.layer as usize].ops[f.op as usize];
+    if f.term == FLIP {
+        let (record, flip) = match &op.kind {
+            OpKind::Measure { record, flip } => (*record, *flip),
+            _ => unreachable!("flips come from measurements"),
+        };
+        return Contributor {
+            layer: f.layer,
+            op: f.op,
+            span: op.span,
+            term: Small::default(),
+            qubits: Small::from(op.targets.as_slice()),
+            record: Some(record),
+            term_probability: flip,
+            probability: flip,
+            class: flip_class,
+        };
+    }
+    let table = &tables[f.table as usize];
+    let t = &table.terms[f.term as usize];
+    let arity = t.paulis.len();
+    let start = f.app as usize * arity;
+    Contributor {
+        layer: f.layer,
+        op: f.op,
+        span: op.span,
+        term: Small::from(t.paulis.as_slice()),
+        qubits: Small::from(&op.targets[start..start + arity]),
+        record: None,
+        term_probability: t.term_probability,
+        probability: t.probability,
+        class: table.classes[f.term as usize],
+    }
+}
+
 fn finish(circuit: &Circuit, b: Builder<'_>) -> Extracted {
     let d = b.detectors;
-    // Sort mechanisms by (detectors, observables) so output does not depend on sweep order.
-    let mut order: Vec<u32> = (0..b.mechs.len() as u32).collect();
-    let split = |s: &[u32]| {
-        let k = s.iter().take_while(|&&x| x < d).count();
-        (
-            s[..k].to_vec(),
-            s[k..].iter().map(|&x| x - d).collect::<Vec<u32>>(),
-        )
+    let n = b.symptoms.len();
+    let split = |k: u32| {
+        let s = b.symptoms.get(k);
+        s.split_at(s.partition_point(|&x| x < d))
     };
-    let keys: Vec<(Vec<u32>, Vec<u32>)> = b.mechs.iter().map(|m| split(&m.symptom)).collect();
-    order.sort_by(|&x, &y| keys[x as usize].cmp(&keys[y as usize]));
-    let mut rank = vec![0u32; order.len()];
+    // Sort mechanisms by (detectors, observables) so output does not depend on sweep order.
+    let mut order: Vec<u32> = (0..n as u32).collect();
+    order.sort_unstable_by(|&x, &y| split(x).cmp(&split(y)));
+    let mut rank = vec![0u32; n];
     for (new, &old) in order.iter().enumerate() {
         rank[old as usize] = new as u32;
     }
     // Group contributors by mechanism (counting sort), in circuit order within each group: the
     // sweep saw them backwards.
-    let mut counts = vec![0u32; order.len() + 1];
-    for (k, _) in &b.faults {
-        counts[rank[*k as usize] as usize + 1] += 1;
+    let mut starts = vec![0u32; n + 1];
+    for f in &b.faults {
+        starts[rank[f.mech as usize] as usize + 1] += 1;
     }
-    for i in 1..counts.len() {
-        counts[i] += counts[i - 1];
+    for i in 1..starts.len() {
+        starts[i] += starts[i - 1];
     }
-    let starts = counts.clone();
-    let mut slots: Vec<Option<Contributor>> = vec![None; b.faults.len()];
-    let mut next = counts;
-    for (k, c) in b.faults.into_iter().rev() {
-        let r = rank[k as usize] as usize;
-        slots[next[r] as usize] = Some(c);
+    let mut next = starts.clone();
+    let mut slot_of = vec![0u32; b.faults.len()];
+    for (i, f) in b.faults.iter().enumerate().rev() {
+        let r = rank[f.mech as usize] as usize;
+        slot_of[next[r] as usize] = i as u32;
         next[r] += 1;
     }
-    let provenance: Vec<Contributor> = slots.into_iter().map(|c| c.expect("filled")).collect();
-    let mut keys: Vec<Option<(Vec<u32>, Vec<u32>)>> = keys.into_iter().map(Some).collect();
+    drop(next);
+    let flip_class = if b.opts.high_rate_flips {
+        FaultClass::High
+    } else {
+        FaultClass::Low
+    };
+    let provenance: Vec<Contributor> = slot_of
+        .iter()
+        .map(|&i| contributor(circuit, &b.tables, flip_class, &b.faults[i as usize]))
+        .collect();
+    drop(slot_of);
     let mechanisms: Vec<Mechanism> = order
         .iter()
         .enumerate()
         .map(|(new, &old)| {
-            let m = &b.mechs[old as usize];
-            let (detectors, observables) = keys[old as usize].take().expect("each once");
+            let (dets, obs) = split(old);
             Mechanism {
-                probability: m.probability,
-                detectors,
-                observables,
-                classes: m.classes,
+                probability: b.probability[old as usize],
+                detectors: dets.to_vec(),
+                observables: obs.iter().map(|&x| x - d).collect(),
+                classes: b.classes[old as usize],
                 provenance: starts[new]..starts[new + 1],
             }
         })
         .collect();
     let hyper = mechanisms.iter().filter(|m| m.detectors.len() > 2).count();
-    let mut atoms: Vec<(u32, Atoms)> = Vec::new();
-    let mut raw: Vec<(u32, Vec<Atoms>)> = b.atoms.into_iter().collect();
-    raw.sort_by_key(|e| rank[e.0 as usize]);
-    for (k, list) in raw {
-        for a in list {
-            atoms.push((rank[k as usize], a));
-        }
-    }
     let graph = FaultGraph {
         source: circuit.source.clone(),
         detectors: circuit
@@ -451,7 +687,13 @@ fn finish(circuit: &Circuit, b: Builder<'_>) -> Extracted {
         },
         inexact_channels: b.inexact,
     };
-    Extracted { graph, atoms }
+    Extracted {
+        graph,
+        symptoms: b.symptoms,
+        rank,
+        atoms: b.atoms,
+        first_candidate: b.first_candidate,
+    }
 }
 
 #[cfg(test)]

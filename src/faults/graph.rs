@@ -65,6 +65,9 @@ impl MatchingEdge {
     }
 }
 
+/// Probability and observables of an edge being merged.
+type EdgeAcc = (f64, Vec<u32>);
+
 /// What happens to a [`MatchingGraph`] while parallel edges are merged and hyperedges split.
 #[derive(Clone, Debug, Default, PartialEq)]
 pub struct GraphlikeStats {
@@ -147,6 +150,92 @@ impl ClassSet {
     }
 }
 
+/// A short list that reads as a slice: up to [`Small::INLINE`] entries are stored in place, longer
+/// ones on the heap. A graph holds one contributor per elementary fault (a million at distance
+/// 25), nearly all with one or two qubits, so per-fault heap lists would dominate extraction.
+#[derive(Clone)]
+pub struct Small<T: Copy>(Store<T>);
+
+const INLINE: usize = 4;
+
+#[derive(Clone)]
+enum Store<T: Copy> {
+    Inline(u8, [T; INLINE]),
+    Heap(Vec<T>),
+}
+
+impl<T: Copy> Small<T> {
+    /// Longest list kept in place.
+    pub const INLINE: usize = INLINE;
+}
+
+impl<T: Copy> Default for Small<T> {
+    fn default() -> Self {
+        Small(Store::Heap(Vec::new()))
+    }
+}
+
+impl<T: Copy> From<&[T]> for Small<T> {
+    fn from(s: &[T]) -> Self {
+        match s.first() {
+            Some(&first) if s.len() <= Self::INLINE => {
+                let mut buf = [first; INLINE];
+                buf[..s.len()].copy_from_slice(s);
+                Small(Store::Inline(s.len() as u8, buf))
+            }
+            _ => Small(Store::Heap(s.to_vec())),
+        }
+    }
+}
+
+impl<T: Copy> From<Vec<T>> for Small<T> {
+    fn from(v: Vec<T>) -> Self {
+        Small::from(v.as_slice())
+    }
+}
+
+impl<T: Copy> std::ops::Deref for Small<T> {
+    type Target = [T];
+    fn deref(&self) -> &[T] {
+        match &self.0 {
+            Store::Inline(n, buf) => &buf[..*n as usize],
+            Store::Heap(v) => v,
+        }
+    }
+}
+
+impl<'a, T: Copy> IntoIterator for &'a Small<T> {
+    type Item = &'a T;
+    type IntoIter = std::slice::Iter<'a, T>;
+    fn into_iter(self) -> Self::IntoIter {
+        self.iter()
+    }
+}
+
+impl<T: Copy + std::fmt::Debug> std::fmt::Debug for Small<T> {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.debug_list().entries(self.iter()).finish()
+    }
+}
+
+impl<T: Copy + PartialEq> PartialEq for Small<T> {
+    fn eq(&self, other: &Self) -> bool {
+        **self == **other
+    }
+}
+
+impl<T: Copy + PartialEq> PartialEq<[T]> for Small<T> {
+    fn eq(&self, other: &[T]) -> bool {
+        **self == *other
+    }
+}
+
+impl<T: Copy + PartialEq> PartialEq<Vec<T>> for Small<T> {
+    fn eq(&self, other: &Vec<T>) -> bool {
+        **self == **other
+    }
+}
+
 /// Where an elementary fault comes from.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Contributor {
@@ -157,9 +246,9 @@ pub struct Contributor {
     /// The operation's statement.
     pub span: Span,
     /// Pauli factors (`I X Y Z`) on [`Contributor::qubits`]; empty for a measurement flip.
-    pub term: Vec<Pauli>,
+    pub term: Small<Pauli>,
     /// Qubits the term acts on; for a measurement flip, the measured qubits.
-    pub qubits: Vec<u32>,
+    pub qubits: Small<u32>,
     /// For a measurement flip, the record; `None` for a Pauli fault.
     pub record: Option<u32>,
     /// Probability of the term in the channel as written (terms of one channel are mutually
@@ -304,7 +393,7 @@ impl FaultGraph {
     pub fn graphlike(&self) -> (MatchingGraph, GraphlikeStats) {
         let mut stats = GraphlikeStats::default();
         // Key (a, b) with b = u32::MAX for the boundary, so boundary edges sort first per a.
-        let mut edges: HashMap<(u32, u32), (f64, Vec<u32>)> = HashMap::new();
+        let mut edges: HashMap<(u32, u32), EdgeAcc> = HashMap::new();
         let mut add = |dets: &[u32], obs: &[u32], p: f64, stats: &mut GraphlikeStats| {
             let key = match *dets {
                 [a] => (a, u32::MAX),

@@ -51,10 +51,9 @@ use crate::ir::Circuit;
 
 /// Extracts the fault graph of `circuit`, hyperedges decomposed for matching.
 pub fn extract(circuit: &Circuit, opts: &ExtractOptions) -> FaultGraph {
-    let extracted = extract::extract_mechanisms(circuit, opts);
-    let mut graph = extracted.graph;
-    decompose::decompose(&mut graph, &extracted.atoms);
-    graph
+    let mut extracted = extract::extract_mechanisms(circuit, opts);
+    decompose::decompose(&mut extracted);
+    extracted.graph
 }
 
 /// Probability that each detector fires, treating the mechanisms of `graph` as independent:

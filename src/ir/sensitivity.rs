@@ -24,26 +24,39 @@ pub type SymSet = Vec<u32>;
 /// XOR of two sorted sets.
 pub fn xor_sets(a: &[u32], b: &[u32]) -> SymSet {
     let mut out = Vec::with_capacity(a.len() + b.len());
+    xor_into(a, b, &mut out);
+    out
+}
+
+/// XOR of two sorted sets into `out` (cleared first), so a caller can reuse one buffer and
+/// allocate nothing in steady state.
+pub fn xor_into(a: &[u32], b: &[u32], out: &mut Vec<u32>) {
+    out.clear();
     let (mut i, mut j) = (0, 0);
     while i < a.len() && j < b.len() {
-        match a[i].cmp(&b[j]) {
-            std::cmp::Ordering::Less => {
-                out.push(a[i]);
-                i += 1;
-            }
-            std::cmp::Ordering::Greater => {
-                out.push(b[j]);
-                j += 1;
-            }
-            std::cmp::Ordering::Equal => {
-                i += 1;
-                j += 1;
-            }
+        let (x, y) = (a[i], b[j]);
+        if x < y {
+            out.push(x);
+            i += 1;
+        } else if y < x {
+            out.push(y);
+            j += 1;
+        } else {
+            i += 1;
+            j += 1;
         }
     }
     out.extend_from_slice(&a[i..]);
     out.extend_from_slice(&b[j..]);
-    out
+}
+
+/// `acc ^= b`, with `tmp` as the second buffer (swapped with `acc`).
+fn xor_assign(acc: &mut Vec<u32>, b: &[u32], tmp: &mut Vec<u32>) {
+    if b.is_empty() {
+        return;
+    }
+    xor_into(acc, b, tmp);
+    std::mem::swap(acc, tmp);
 }
 
 /// Where the sweep is when it calls the visitor.
@@ -73,6 +86,9 @@ pub struct Sensitivity {
     pub record_symptoms: Vec<SymSet>,
     /// Number of detectors (observable ids start here).
     pub detectors: u32,
+    /// Reused buffers for gate images, so the sweep allocates nothing per gate.
+    scratch: Vec<SymSet>,
+    tmp: SymSet,
 }
 
 impl Sensitivity {
@@ -119,10 +135,10 @@ impl Sensitivity {
                     let q = q as usize;
                     // An X flips the result iff P has a Z part, and vice versa.
                     if p.has_z() {
-                        self.x[q] = xor_sets(&self.x[q], flips);
+                        xor_assign(&mut self.x[q], flips, &mut self.tmp);
                     }
                     if p.has_x() {
-                        self.z[q] = xor_sets(&self.z[q], flips);
+                        xor_assign(&mut self.z[q], flips, &mut self.tmp);
                     }
                 }
             }
@@ -132,18 +148,29 @@ impl Sensitivity {
 
     fn undo_gate(&mut self, gate: Gate, targets: &[u32]) {
         let h = gate.heisenberg();
+        let mut outs = std::mem::take(&mut self.scratch);
         for chunk in targets.chunks(gate.arity()) {
-            let before: Vec<SymSet> = (0..2 * chunk.len())
-                .map(|k| {
-                    let image = h[k];
-                    self.of_product(chunk.iter().zip(image).map(|(&q, p)| (p, q)))
-                })
-                .collect();
+            outs.resize_with(2 * chunk.len(), Vec::new);
+            // Sensitivity before the gate of X_i (Z_i) = XOR of the sensitivities after it of
+            // the factors of its Heisenberg image.
+            for (k, out) in outs.iter_mut().enumerate() {
+                out.clear();
+                for (&q, p) in chunk.iter().zip(h[k]) {
+                    if p.has_x() {
+                        xor_assign(out, &self.x[q as usize], &mut self.tmp);
+                    }
+                    if p.has_z() {
+                        xor_assign(out, &self.z[q as usize], &mut self.tmp);
+                    }
+                }
+            }
+            // Swap, not clone: the old sets become next gate's scratch buffers.
             for (i, &q) in chunk.iter().enumerate() {
-                self.x[q as usize] = before[2 * i].clone();
-                self.z[q as usize] = before[2 * i + 1].clone();
+                std::mem::swap(&mut self.x[q as usize], &mut outs[2 * i]);
+                std::mem::swap(&mut self.z[q as usize], &mut outs[2 * i + 1]);
             }
         }
+        self.scratch = outs;
     }
 }
 
@@ -168,6 +195,8 @@ pub fn sweep<'c>(circuit: &'c Circuit, mut visit: impl FnMut(Point<'c>, &Sensiti
         z: vec![Vec::new(); n],
         record_symptoms,
         detectors: d,
+        scratch: Vec::new(),
+        tmp: Vec::new(),
     };
     for (li, layer) in circuit.layers.iter().enumerate().rev() {
         for (oi, op) in layer.ops.iter().enumerate().rev() {

@@ -25,12 +25,13 @@
 //! "undetectable_logical", "observable_conflicts" }`. Probabilities are independent-mechanism
 //! probabilities; `weight = ln((1−p)/p)`.
 
-use std::collections::HashMap;
+use std::io::{self, Write};
 
 use serde::Serialize;
 
 use crate::faults::export::View;
-use crate::faults::graph::FaultGraph;
+use crate::faults::extract::FxMap;
+use crate::faults::graph::{Contributor, FaultGraph};
 
 /// Schema version written in every file.
 pub const VERSION: u32 = 1;
@@ -67,10 +68,27 @@ struct Operation {
     text: String,
 }
 
+/// The Pauli term of a contributor as a JSON string, without a heap allocation for short terms.
+struct TermText<'a>(&'a Contributor);
+
+impl Serialize for TermText<'_> {
+    fn serialize<S: serde::Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+        let c = self.0;
+        if c.record.is_some() || c.term.len() > 32 {
+            return s.serialize_str(&c.term_text());
+        }
+        let mut buf = [0u8; 32];
+        for (b, p) in buf.iter_mut().zip(c.term.iter()) {
+            *b = p.letter() as u8;
+        }
+        s.serialize_str(std::str::from_utf8(&buf[..c.term.len()]).unwrap_or(""))
+    }
+}
+
 #[derive(Serialize)]
 struct Prov<'a> {
-    operation: usize,
-    term: String,
+    operation: u32,
+    term: TermText<'a>,
     qubits: &'a [u32],
     record: Option<u32>,
     term_probability: f64,
@@ -101,22 +119,6 @@ struct Hyper<'a> {
     count: usize,
     decomposed: usize,
     undecomposed: &'a [u32],
-}
-
-#[derive(Serialize)]
-struct Full<'a> {
-    format: &'static str,
-    version: u32,
-    source: &'a str,
-    detectors: Vec<Det<'a>>,
-    observables: Vec<Obs<'a>>,
-    mechanisms: Vec<Mech<'a>>,
-    operations: Vec<Operation>,
-    provenance: Vec<Prov<'a>>,
-    silent: Silent,
-    hyperedges: Hyper<'a>,
-    decompositions: Vec<Decomp<'a>>,
-    inexact_channels: usize,
 }
 
 #[derive(Serialize)]
@@ -171,84 +173,36 @@ fn obs(g: &FaultGraph) -> Vec<Obs<'_>> {
 
 /// Renders a view as JSON (compact, one trailing newline).
 pub fn render(view: &View<'_>) -> Vec<u8> {
-    let mut out = match view {
-        View::Full(g) => {
-            let mut op_index: HashMap<(u32, u32), usize> = HashMap::new();
-            let mut operations = Vec::new();
-            let provenance = g
-                .provenance
-                .iter()
-                .map(|c| {
-                    let operation = *op_index.entry((c.layer, c.op)).or_insert_with(|| {
-                        operations.push(Operation {
-                            layer: c.layer,
-                            index: c.op,
-                            location: g.location(c),
-                            text: g.op_text(c),
-                        });
-                        operations.len() - 1
-                    });
-                    Prov {
-                        operation,
-                        term: c.term_text(),
-                        qubits: &c.qubits,
-                        record: c.record,
-                        term_probability: c.term_probability,
-                        probability: c.probability,
-                        class: c.class.name(),
-                    }
-                })
-                .collect();
-            let doc = Full {
-                format: "slant-fault-graph",
-                version: VERSION,
-                source: &g.source.name,
-                detectors: dets(g),
-                observables: obs(g),
-                mechanisms: g
-                    .mechanisms
-                    .iter()
-                    .enumerate()
-                    .map(|(index, m)| Mech {
-                        index,
-                        probability: m.probability,
-                        weight: m.weight(),
-                        detectors: &m.detectors,
-                        observables: &m.observables,
-                        class: m.classes.name(),
-                        provenance: [m.provenance.start, m.provenance.end],
-                    })
-                    .collect(),
-                operations,
-                provenance,
-                silent: Silent {
-                    count: g.silent.count,
-                    probability: g.silent.probability,
-                },
-                hyperedges: Hyper {
-                    count: g.hyperedges.hyperedges,
-                    decomposed: g.hyperedges.decomposed,
-                    undecomposed: &g.hyperedges.undecomposed,
-                },
-                decompositions: g
-                    .decompositions
-                    .iter()
-                    .map(|d| Decomp {
-                        mechanism: d.mechanism,
-                        parts: d
-                            .parts
-                            .iter()
-                            .map(|(detectors, observables)| Part {
-                                detectors,
-                                observables,
-                            })
-                            .collect(),
-                    })
-                    .collect(),
-                inexact_channels: g.inexact_channels,
-            };
-            serde_json::to_vec(&doc)
+    let mut out = Vec::new();
+    // Writing into a Vec cannot fail.
+    let _ = write(view, &mut out);
+    out
+}
+
+/// Writes `items` as a JSON array, one element at a time.
+fn seq<W: Write, T: Serialize>(w: &mut W, items: impl Iterator<Item = T>) -> io::Result<()> {
+    w.write_all(b"[")?;
+    for (i, item) in items.enumerate() {
+        if i > 0 {
+            w.write_all(b",")?;
         }
+        serde_json::to_writer(&mut *w, &item)?;
+    }
+    w.write_all(b"]")
+}
+
+/// Writes `,"key":` then the value.
+fn field<W: Write, T: Serialize + ?Sized>(w: &mut W, key: &str, value: &T) -> io::Result<()> {
+    write!(w, ",\"{key}\":")?;
+    serde_json::to_writer(&mut *w, value)?;
+    Ok(())
+}
+
+/// Streams a view as JSON (compact, one trailing newline) into `w`: nothing the size of the
+/// document is held in memory, so a graph of a million faults is written in one pass.
+pub fn write<W: Write>(view: &View<'_>, w: &mut W) -> io::Result<()> {
+    match view {
+        View::Full(g) => write_full(g, w)?,
         View::Graphlike(g, mg, stats) => {
             let doc = Matching {
                 format: "slant-matching-graph",
@@ -276,11 +230,99 @@ pub fn render(view: &View<'_>) -> Vec<u8> {
                     observable_conflicts: stats.observable_conflicts,
                 },
             };
-            serde_json::to_vec(&doc)
+            serde_json::to_writer(&mut *w, &doc)?;
         }
     }
-    // Serialising plain structs of numbers and strings cannot fail; NaN/inf become null.
-    .unwrap_or_default();
-    out.push(b'\n');
-    out
+    w.write_all(b"\n")
+}
+
+fn write_full<W: Write>(g: &FaultGraph, w: &mut W) -> io::Result<()> {
+    // Operations are numbered in order of first appearance among the contributors.
+    let mut op_index: FxMap<(u32, u32), u32> = FxMap::default();
+    let mut operations = Vec::new();
+    let op_of: Vec<u32> = g
+        .provenance
+        .iter()
+        .map(|c| {
+            *op_index.entry((c.layer, c.op)).or_insert_with(|| {
+                operations.push(Operation {
+                    layer: c.layer,
+                    index: c.op,
+                    location: g.location(c),
+                    text: g.op_text(c),
+                });
+                operations.len() as u32 - 1
+            })
+        })
+        .collect();
+    write!(
+        w,
+        "{{\"format\":\"slant-fault-graph\",\"version\":{VERSION}"
+    )?;
+    field(w, "source", &g.source.name)?;
+    w.write_all(b",\"detectors\":")?;
+    seq(w, dets(g).into_iter())?;
+    w.write_all(b",\"observables\":")?;
+    seq(w, obs(g).into_iter())?;
+    w.write_all(b",\"mechanisms\":")?;
+    seq(
+        w,
+        g.mechanisms.iter().enumerate().map(|(index, m)| Mech {
+            index,
+            probability: m.probability,
+            weight: m.weight(),
+            detectors: &m.detectors,
+            observables: &m.observables,
+            class: m.classes.name(),
+            provenance: [m.provenance.start, m.provenance.end],
+        }),
+    )?;
+    field(w, "operations", &operations)?;
+    w.write_all(b",\"provenance\":")?;
+    seq(
+        w,
+        g.provenance.iter().zip(&op_of).map(|(c, &operation)| Prov {
+            operation,
+            term: TermText(c),
+            qubits: &c.qubits,
+            record: c.record,
+            term_probability: c.term_probability,
+            probability: c.probability,
+            class: c.class.name(),
+        }),
+    )?;
+    field(
+        w,
+        "silent",
+        &Silent {
+            count: g.silent.count,
+            probability: g.silent.probability,
+        },
+    )?;
+    field(
+        w,
+        "hyperedges",
+        &Hyper {
+            count: g.hyperedges.hyperedges,
+            decomposed: g.hyperedges.decomposed,
+            undecomposed: &g.hyperedges.undecomposed,
+        },
+    )?;
+    w.write_all(b",\"decompositions\":")?;
+    seq(
+        w,
+        g.decompositions.iter().map(|d| Decomp {
+            mechanism: d.mechanism,
+            parts: d
+                .parts
+                .iter()
+                .map(|(detectors, observables)| Part {
+                    detectors,
+                    observables,
+                })
+                .collect(),
+        }),
+    )?;
+    field(w, "inexact_channels", &g.inexact_channels)?;
+    w.write_all(b"}")
 }

@@ -42,6 +42,22 @@ pub enum View<'g> {
 /// Files of an export: `(name, bytes)`; a single unnamed entry for one-file formats.
 pub type Files = Vec<(String, Vec<u8>)>;
 
+/// Streams a one-file format (everything but `mtx`) into `w`; JSON is written piece by piece,
+/// the small formats are rendered first. Returns `false` for `mtx`, which is a directory.
+pub fn write_one(
+    view: &View<'_>,
+    format: Format,
+    w: &mut impl std::io::Write,
+) -> std::io::Result<bool> {
+    match format {
+        Format::Json => json::write(view, w)?,
+        Format::Dot => w.write_all(dot::render(view).as_bytes())?,
+        Format::Text => w.write_all(text::render(view).as_bytes())?,
+        Format::Mtx => return Ok(false),
+    }
+    Ok(true)
+}
+
 /// Renders a view in a format.
 pub fn render(view: &View<'_>, format: Format) -> Files {
     match format {

@@ -13,9 +13,12 @@ use crate::faults::export::{npy, Files, View};
 /// A column: detectors, observables, probability.
 type Column<'a> = (Vec<u32>, &'a [u32], f64);
 
+/// Rows of H, rows of L, and the columns.
+type Columns<'a> = (usize, usize, Vec<Column<'a>>);
+
 /// Renders the three files.
 pub fn render(view: &View<'_>) -> Files {
-    let (rows_h, rows_l, cols): (usize, usize, Vec<Column<'_>>) = match view {
+    let (rows_h, rows_l, cols): Columns<'_> = match view {
         View::Full(g) => (
             g.detectors.len(),
             g.observables.len(),
