@@ -35,6 +35,7 @@
 //! assert_eq!(circuit.detectors.len(), 1);
 //! ```
 
+pub mod analysis;
 pub mod cli;
 pub mod decode;
 pub mod faults;

@@ -2,6 +2,7 @@
 mod lang;
 mod graph;
 mod decode;
+mod distance;
 mod shots;
 mod support;
 mod codes;

@@ -16,7 +16,9 @@
 pub mod bias;
 pub mod check;
 pub mod common;
+pub mod compare;
 pub mod compile;
+pub mod distance;
 pub mod fmt;
 pub mod graph;
 pub mod new;
@@ -60,8 +62,12 @@ pub enum Command {
     Bias(bias::Args),
     /// Parse, expand and verify a circuit; print a summary.
     Check(check::Args),
+    /// Compare circuits or generated variants side by side.
+    Compare(compare::Args),
     /// Write a circuit with every channel of a noise model explicit.
     Compile(compile::Args),
+    /// Circuit-level distances by fault class, with the logical error found.
+    Distance(distance::Args),
     /// Print a circuit in canonical form.
     Fmt(fmt::Args),
     /// Write the weighted fault graph of a noisy circuit.
@@ -109,7 +115,9 @@ pub fn main() -> i32 {
     let result = match cli.command {
         Command::Bias(a) => bias::run(a),
         Command::Check(a) => check::run(a),
+        Command::Compare(a) => compare::run(a),
         Command::Compile(a) => compile::run(a),
+        Command::Distance(a) => distance::run(a),
         Command::Fmt(a) => fmt::run(a),
         Command::Graph(a) => graph::run(a),
         Command::New(a) => new::run(a),

@@ -1,0 +1,250 @@
+//! `slant distance`: circuit-level distances by fault class and the logical error that attains
+//! them, traced back to source lines.
+
+use std::fmt::Write as _;
+
+use serde_json::{json, Value};
+
+use crate::analysis::distance::{self, Count, DistanceOptions, DistanceReport, LogicalError};
+use crate::cli::common::{CircuitArgs, NoiseArgs};
+use crate::cli::CliError;
+use crate::faults::{ExtractOptions, FaultGraph};
+use crate::ir::Circuit;
+
+/// Arguments of `slant distance`.
+#[derive(Debug, clap::Args)]
+#[command(
+    after_help = "A mechanism counts as high-rate when a high-rate fault (pure Z at \
+injection, or a measurement flip with --high-rate-flips) alone produces it. `none` means no \
+undetected logical error of that kind exists."
+)]
+pub struct Args {
+    /// The circuit.
+    #[command(flatten)]
+    pub circuit: CircuitArgs,
+    /// Noise model.
+    #[command(flatten)]
+    pub noise: NoiseArgs,
+    /// Tag measurement flips as high-rate faults.
+    #[arg(long)]
+    pub high_rate_flips: bool,
+    /// Print JSON instead of text.
+    #[arg(long)]
+    pub json: bool,
+}
+
+/// Runs `slant distance`.
+pub fn run(args: Args) -> Result<(), CliError> {
+    let circuit = args.circuit.load()?;
+    let circuit = args.noise.apply(circuit)?;
+    let opts = ExtractOptions {
+        high_rate_flips: args.high_rate_flips,
+    };
+    let graph = crate::faults::extract(&circuit, &opts);
+    let report =
+        distance::distances(&graph, &DistanceOptions::default()).map_err(CliError::Internal)?;
+    let text = if args.json {
+        let mut s = serde_json::to_string_pretty(&to_json(&report, &graph, &circuit))
+            .map_err(|e| CliError::Internal(e.to_string()))?;
+        s.push('\n');
+        s
+    } else {
+        render(&report, &graph, &circuit)
+    };
+    print!("{text}");
+    Ok(())
+}
+
+/// A count as text: `5`, `5 (3..5, hyperedges)` or `none`.
+pub fn count_text(c: Option<&Count>) -> String {
+    match c {
+        None => "none".into(),
+        Some(c) if c.exact() => c.value.to_string(),
+        Some(c) => format!("≤ {} (≥ {})", c.value, c.lower),
+    }
+}
+
+/// The text report.
+pub fn render(r: &DistanceReport, graph: &FaultGraph, circuit: &Circuit) -> String {
+    let mut s = String::new();
+    let method =
+        |c: Option<&Count>| c.map_or(String::new(), |c| format!("  [{}]", c.method.name()));
+    let _ = writeln!(
+        s,
+        "distance             {}{}",
+        count_text(r.distance.as_ref()),
+        method(r.distance.as_ref())
+    );
+    let _ = writeln!(
+        s,
+        "high-rate distance   {}{}",
+        count_text(r.high_rate.as_ref()),
+        method(r.high_rate.as_ref())
+    );
+    match &r.lexicographic {
+        Some(l) => {
+            let _ = writeln!(
+                s,
+                "low-rate count       {} (in a logical error of {} mechanisms)",
+                l.low, l.total
+            );
+        }
+        None => {
+            let _ = writeln!(s, "low-rate count       none");
+        }
+    }
+    match &r.weighted {
+        Some(w) => {
+            let _ = writeln!(
+                s,
+                "weighted distance    {:.3} (probability product {:.3e}, {} mechanisms)",
+                w.weight,
+                w.probability,
+                w.error.mechanisms.len()
+            );
+        }
+        None => {
+            let _ = writeln!(s, "weighted distance    none");
+        }
+    }
+    if r.hyperedges > 0 {
+        let _ = writeln!(
+            s,
+            "note: {} hyperedges; the low-rate count and weighted distance use graphlike \
+             mechanisms only",
+            r.hyperedges
+        );
+    }
+    let shown = [
+        ("shortest", r.distance.as_ref().map(|c| &c.error)),
+        ("high-rate", r.high_rate.as_ref().map(|c| &c.error)),
+        ("most likely", r.weighted.as_ref().map(|w| &w.error)),
+    ];
+    for (name, e) in shown {
+        if let Some(e) = e {
+            s.push('\n');
+            write_error(&mut s, name, e, graph, circuit);
+        }
+    }
+    s
+}
+
+fn write_error(s: &mut String, name: &str, e: &LogicalError, g: &FaultGraph, c: &Circuit) {
+    let obs: Vec<String> = e
+        .observables
+        .iter()
+        .map(|&o| format!("`{}`", g.observables[o as usize]))
+        .collect();
+    let _ = writeln!(
+        s,
+        "{name} logical error: {} mechanisms, flips {}",
+        e.mechanisms.len(),
+        obs.join(", ")
+    );
+    for &m in &e.mechanisms {
+        let mech = &g.mechanisms[m as usize];
+        let dets: Vec<String> = mech
+            .detectors
+            .iter()
+            .map(|&d| g.detectors[d as usize].name.clone())
+            .collect();
+        let _ = writeln!(
+            s,
+            "  mechanism {m}  p={:.3e}  {}  detectors [{}]",
+            mech.probability,
+            mech.classes.name(),
+            dets.join(" ")
+        );
+        let all = g.contributors(m as usize);
+        // A few contributors are enough to locate the fault; `--json` lists them all.
+        const SHOWN: usize = 4;
+        for k in all.iter().take(SHOWN) {
+            let qubits: Vec<String> = k
+                .qubits
+                .iter()
+                .map(|&q| c.qubits[q as usize].name.clone())
+                .collect();
+            let _ = writeln!(
+                s,
+                "    {}  {} on {}  ({})  {}",
+                g.location(k),
+                k.term_text(),
+                qubits.join(" "),
+                k.class.name(),
+                g.op_text(k)
+            );
+        }
+        if all.len() > SHOWN {
+            let _ = writeln!(s, "    … and {} more contributors", all.len() - SHOWN);
+        }
+    }
+}
+
+fn count_json(c: Option<&Count>, g: &FaultGraph, circuit: &Circuit) -> Value {
+    match c {
+        None => Value::Null,
+        Some(c) => json!({
+            "value": c.value,
+            "lower": c.lower,
+            "exact": c.exact(),
+            "method": c.method.name(),
+            "error": error_json(&c.error, g, circuit),
+        }),
+    }
+}
+
+fn error_json(e: &LogicalError, g: &FaultGraph, c: &Circuit) -> Value {
+    let mechs: Vec<Value> = e
+        .mechanisms
+        .iter()
+        .map(|&m| {
+            let mech = &g.mechanisms[m as usize];
+            let contributors: Vec<Value> = g
+                .contributors(m as usize)
+                .iter()
+                .map(|k| {
+                    json!({
+                        "location": g.location(k),
+                        "op": g.op_text(k),
+                        "term": k.term_text(),
+                        "qubits": k.qubits.iter().map(|&q| c.qubits[q as usize].name.clone())
+                            .collect::<Vec<_>>(),
+                        "class": k.class.name(),
+                    })
+                })
+                .collect();
+            json!({
+                "id": m,
+                "probability": mech.probability,
+                "class": mech.classes.name(),
+                "detectors": mech.detectors,
+                "observables": mech.observables,
+                "contributors": contributors,
+            })
+        })
+        .collect();
+    json!({
+        "observables": e.observables.iter().map(|&o| g.observables[o as usize].clone())
+            .collect::<Vec<_>>(),
+        "mechanisms": mechs,
+    })
+}
+
+/// The report as JSON.
+pub fn to_json(r: &DistanceReport, g: &FaultGraph, c: &Circuit) -> Value {
+    json!({
+        "distance": count_json(r.distance.as_ref(), g, c),
+        "high_rate_distance": count_json(r.high_rate.as_ref(), g, c),
+        "lexicographic": r.lexicographic.as_ref().map(|l| json!({
+            "low": l.low,
+            "total": l.total,
+            "error": error_json(&l.error, g, c),
+        })),
+        "weighted": r.weighted.as_ref().map(|w| json!({
+            "weight": w.weight,
+            "probability": w.probability,
+            "error": error_json(&w.error, g, c),
+        })),
+        "hyperedges": r.hyperedges,
+    })
+}

@@ -1,0 +1,363 @@
+//! `slant distance` / `analysis::distance`: circuit-level distances by fault class, checked
+//! against published code distances, derivations and brute force; `slant compare` end to end.
+
+use std::process::Command;
+
+use slant::analysis::distance::{distances, symptom, DistanceOptions, DistanceReport};
+use slant::faults::{ExtractOptions, FaultGraph};
+use slant::gen::{generate, Entangler, Family, GenSpec, LogicalBasis, Order, Style};
+use slant::lang::Source;
+
+fn graph_of(spec: &GenSpec, noise: &str) -> FaultGraph {
+    let text = generate(spec).expect("generate");
+    let circuit = slant::load_source(&Source::new("gen.slant", text), &[]).expect("load");
+    let spec = slant::noise::NoiseSpec::parse(noise).expect("noise");
+    let noisy = slant::noise::apply(&circuit, &spec).expect("apply");
+    slant::faults::extract(&noisy, &ExtractOptions::default())
+}
+
+/// Distances, with every returned logical error checked independently of the search: XOR of
+/// the mechanisms' symptoms has no detectors and flips an observable.
+fn report(graph: &FaultGraph) -> DistanceReport {
+    let r = distances(graph, &DistanceOptions::default()).expect("distances");
+    let errors = [
+        r.distance.as_ref().map(|c| &c.error),
+        r.high_rate.as_ref().map(|c| &c.error),
+        r.lexicographic.as_ref().map(|l| &l.error),
+        r.weighted.as_ref().map(|w| &w.error),
+    ];
+    for e in errors.into_iter().flatten() {
+        let (dets, obs) = symptom(graph, &e.mechanisms);
+        assert!(dets.is_empty(), "logical error leaves detectors {dets:?}");
+        assert!(!obs.is_empty(), "logical error flips no observable");
+        assert_eq!(obs, e.observables);
+    }
+    if let Some(c) = &r.distance {
+        assert_eq!(c.error.mechanisms.len() as u32, c.value);
+    }
+    if let Some(l) = &r.lexicographic {
+        assert_eq!(l.error.mechanisms.len() as u32, l.total);
+        let low = l
+            .error
+            .mechanisms
+            .iter()
+            .filter(|&&m| !graph.mechanisms[m as usize].classes.has_high())
+            .count() as u32;
+        assert_eq!(low, l.low);
+    }
+    r
+}
+
+fn exact_distance(r: &DistanceReport) -> u32 {
+    let c = r.distance.as_ref().expect("a logical error exists");
+    assert!(c.exact(), "distance not proven exact: {c:?}");
+    c.value
+}
+
+/// Least number of mechanisms forming an undetected logical error, by trying every subset
+/// (only for graphs with few mechanisms).
+fn brute_force(graph: &FaultGraph, allow: impl Fn(usize) -> bool) -> Option<u32> {
+    let ids: Vec<u32> = (0..graph.mechanisms.len() as u32)
+        .filter(|&m| allow(m as usize))
+        .collect();
+    assert!(ids.len() <= 20, "too many mechanisms to brute-force");
+    let mut best: Option<u32> = None;
+    for mask in 1u32..(1 << ids.len()) {
+        let w = mask.count_ones();
+        if best.is_some_and(|b| w >= b) {
+            continue;
+        }
+        let set: Vec<u32> = (0..ids.len())
+            .filter(|&i| mask >> i & 1 == 1)
+            .map(|i| ids[i])
+            .collect();
+        let (dets, obs) = symptom(graph, &set);
+        if dets.is_empty() && !obs.is_empty() {
+            best = Some(w);
+        }
+    }
+    best
+}
+
+fn rotated(family: Family, d: u32, rounds: u32, order: Order) -> GenSpec {
+    let mut s = GenSpec::new(family, d);
+    s.rounds = rounds;
+    s.order = Some(order);
+    s
+}
+
+// "Topological quantum memory", J. Math. Phys. 43, 4452 (2002) (distance-d rotated/planar code)
+// and "Low-distance surface codes under realistic quantum noise", PRA 90, 062320 (2014): with the
+// hook-safe coupling order the circuit-level distance of the rotated surface code stays d; with
+// the other standard order hook errors (one ancilla fault spreading to two data qubits along the
+// logical) shorten it.
+#[test]
+fn surface_hook_safe_keeps_distance_d() {
+    for d in [3, 5] {
+        let g = graph_of(
+            &rotated(Family::Surface, d, d, Order::hook_safe()),
+            "circuit p=0.001",
+        );
+        let r = report(&g);
+        assert_eq!(exact_distance(&r), d, "hook-safe d={d}");
+        // A Z-basis memory: pure-Z faults never flip the Z logical.
+        assert!(r.high_rate.is_none());
+        // Every fault of the shortest error is low-rate here, so the lexicographic search agrees.
+        let l = r.lexicographic.as_ref().unwrap();
+        assert_eq!((l.low, l.total), (d, d));
+    }
+}
+
+#[test]
+fn surface_hook_aligned_is_shorter() {
+    for d in [3, 5] {
+        let g = graph_of(
+            &rotated(Family::Surface, d, d, Order::hook_aligned()),
+            "circuit p=0.001",
+        );
+        let r = report(&g);
+        let dist = exact_distance(&r);
+        assert!(dist < d, "hook-aligned d={d} gave {dist}");
+        // A hook fault moves two data errors at once: at most ceil(d/2) faults are needed
+        // (PRA 90, 062320 (2014), hook errors).
+        assert!(dist >= d.div_ceil(2), "hook-aligned d={d} gave {dist}");
+    }
+}
+
+// Repetition code (bit flip, Z memory), phenomenological noise over R rounds. Derivation: the
+// observable is one final data readout, which is perfect. A measurement flip toggles two
+// consecutive detectors of one check and never the observable, so time-like chains (length R+1
+// from the first to the last time boundary) are not logical errors. A data flip toggles the
+// observable only through the final readout, and a set of data flips hides from every check only
+// if the flips of all d qubits have the same parity; flips in different rounds leave the checks
+// between them firing for the rounds in between, which costs extra measurement flips. Hence the
+// distance is exactly d for every R ≥ 1 (min(d, R+1) would be wrong here: the time-like
+// distance R+1 does not flip the observable).
+#[test]
+fn repetition_phenomenological_distance_is_d_for_every_round_count() {
+    for d in [3, 5] {
+        for rounds in [1, 2, 5] {
+            let mut s = GenSpec::new(Family::Repetition, d);
+            s.rounds = rounds;
+            let r = report(&graph_of(&s, "phenomenological p=0.01"));
+            assert_eq!(exact_distance(&r), d, "d={d} R={rounds}");
+        }
+    }
+}
+
+#[test]
+fn repetition_circuit_level_distance_is_d() {
+    for d in [3, 5, 7] {
+        let r = report(&graph_of(
+            &GenSpec::new(Family::Repetition, d),
+            "circuit p=0.001",
+        ));
+        assert_eq!(exact_distance(&r), d, "d={d}");
+    }
+}
+
+// "The XZZX surface code", Nat. Commun. 12, 2172 (2021): under pure Z noise the XZZX code acts as
+// repetition codes along its diagonals; the shortest pure-Z logical of a d × d planar patch has
+// length d. It anticommutes with the stored X-type logical (the Z-type memory has no pure-Z
+// logical error at all, which the test also checks). Brute force over every subset of the
+// capacity-noise mechanisms of one noisy round (rounds = 2: the first round's results are the
+// reference) confirms the graph search.
+#[test]
+fn xzzx_infinite_bias_high_rate_distance_is_d() {
+    for d in [3u32, 5] {
+        let mut s = GenSpec::new(Family::Xzzx, d);
+        s.rounds = 2;
+        s.style = Some(Style::Product);
+        s.basis = Some(LogicalBasis::X);
+        let g = graph_of(&s, "capacity p=0.01 bias=inf");
+        let r = report(&g);
+        let high = r.high_rate.as_ref().expect("pure-Z logical exists");
+        assert!(high.exact());
+        assert_eq!(high.value, d, "{}", s.command_line().unwrap());
+        if g.mechanisms.len() <= 20 {
+            assert_eq!(brute_force(&g, |_| true), Some(d));
+        }
+        s.basis = Some(LogicalBasis::Z);
+        let r = report(&graph_of(&s, "capacity p=0.01 bias=inf"));
+        assert!(r.high_rate.is_none(), "Z memory: {:?}", r.high_rate);
+    }
+}
+
+// Same source: the shortest pure-Z logical on a co-prime torus wraps the whole lattice, n = dx·dz
+// data qubits. Fails with the current torus generator (a column of 4 Z faults on the 3 × 4 torus
+// is found as an undetected logical error: the memory starts in a product y state that is not a
+// code state, so faults before the first round go unseen); left for the generator owner.
+#[test]
+#[ignore = "torus memory from a non-code initial state: distance 4, not n = 12; see report"]
+fn xzzx_coprime_torus_pure_z_distance_is_n() {
+    let mut torus = GenSpec::new(Family::Xzzx, 3);
+    torus.periodic = true;
+    torus.dx = 4;
+    torus.dz = 3;
+    torus.rounds = 2;
+    let g = graph_of(&torus, "capacity p=0.01 bias=inf");
+    let r = report(&g);
+    assert_eq!(r.high_rate.as_ref().map(|c| c.value), Some(12));
+}
+
+// Same source: with bias-preserving (native) couplings, circuit-level pure-Z noise keeps the
+// pure-Z distance of the planar XZZX patch at d.
+#[test]
+fn xzzx_native_circuit_infinite_bias_high_rate_distance_is_d() {
+    for d in [3, 5] {
+        let mut s = GenSpec::new(Family::Xzzx, d);
+        s.entangler = Some(Entangler::Native);
+        s.basis = Some(LogicalBasis::X);
+        let r = report(&graph_of(&s, "circuit p=0.001 bias=inf"));
+        let high = r.high_rate.as_ref().expect("pure-Z logical exists");
+        assert_eq!(high.value, d, "d={d}");
+        assert!(high.exact());
+    }
+}
+
+// CSS surface code under the same pure-Z noise: a Z logical has weight d ("Topological quantum
+// memory", J. Math. Phys. 43, 4452 (2002)); it flips the X-basis memory.
+#[test]
+fn css_surface_pure_z_distance_is_d() {
+    for d in [3, 5] {
+        let mut s = GenSpec::new(Family::Surface, d);
+        s.rounds = 2;
+        s.style = Some(Style::Product);
+        s.basis = Some(LogicalBasis::X);
+        let r = report(&graph_of(&s, "capacity p=0.01 bias=inf"));
+        let high = r.high_rate.as_ref().expect("pure-Z logical");
+        assert!(high.exact());
+        assert_eq!(high.value, d);
+    }
+}
+
+// Issue 7 states, after "The XZZX surface code", Nat. Commun. 12, 2172 (2021): on a rectangular
+// XZZX patch the low-rate count follows the short side and the high-rate distance the long one.
+// With this generator's orientation the measured values differ (dx=3, dz=5, Z memory: distance
+// 3, high-rate 3, low-rate 0; X memory: distance 5, high-rate none, low-rate 1 of 5); left
+// ignored until the orientation of the claim is settled (see report).
+#[test]
+#[ignore = "rectangular XZZX claim does not match this generator's orientation; see report"]
+fn rectangular_xzzx_low_rate_short_side_high_rate_long_side() {
+    for basis in [LogicalBasis::Z, LogicalBasis::X] {
+        let mut s = GenSpec::new(Family::Xzzx, 3);
+        s.dx = 3;
+        s.dz = 5;
+        s.rounds = 2;
+        s.style = Some(Style::Product);
+        s.basis = Some(basis);
+        let r = report(&graph_of(&s, "capacity p=0.01 bias=100"));
+        assert_eq!(r.high_rate.as_ref().map(|c| c.value), Some(5));
+        assert_eq!(r.lexicographic.as_ref().map(|l| l.low), Some(3));
+    }
+}
+
+// The found error is real: graph search against brute force on a small circuit-level graph.
+#[test]
+fn distance_matches_brute_force_on_small_graphs() {
+    let mut s = GenSpec::new(Family::Repetition, 3);
+    s.rounds = 1;
+    let g = graph_of(&s, "phenomenological p=0.01");
+    let r = report(&g);
+    assert_eq!(
+        Some(exact_distance(&r)),
+        brute_force(&g, |_| true),
+        "mechanisms: {}",
+        g.mechanisms.len()
+    );
+}
+
+fn slant() -> Command {
+    Command::new(env!("CARGO_BIN_EXE_slant"))
+}
+
+#[test]
+fn cli_distance_prints_error_with_source_lines() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("s.slant");
+    let spec = rotated(Family::Surface, 3, 3, Order::hook_aligned());
+    std::fs::write(&path, generate(&spec).unwrap()).unwrap();
+    let out = slant()
+        .args([
+            "distance",
+            path.to_str().unwrap(),
+            "--noise",
+            "circuit p=0.001",
+        ])
+        .output()
+        .unwrap();
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let text = String::from_utf8(out.stdout).unwrap();
+    assert!(text.starts_with("distance             2"), "{text}");
+    assert!(text.contains("high-rate distance   none"), "{text}");
+    assert!(text.contains("s.slant:"), "no provenance: {text}");
+    let out = slant()
+        .args([
+            "distance",
+            path.to_str().unwrap(),
+            "--noise",
+            "circuit p=0.001",
+            "--json",
+        ])
+        .output()
+        .unwrap();
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(v["distance"]["value"], 2);
+    assert_eq!(v["distance"]["exact"], true);
+    assert!(v["high_rate_distance"].is_null());
+}
+
+#[test]
+fn cli_compare_orders_marks_best() {
+    let out = slant()
+        .args([
+            "compare",
+            "--family",
+            "surface",
+            "--with",
+            "distance=3",
+            "--vary",
+            "order=hook-safe,hook-aligned",
+            "--noise",
+            "circuit p=0.001",
+            "--csv",
+        ])
+        .output()
+        .unwrap();
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let text = String::from_utf8(out.stdout).unwrap();
+    let lines: Vec<&str> = text.lines().collect();
+    assert_eq!(lines.len(), 3, "{text}");
+    let col = |line: &str, i: usize| line.split(',').nth(i).unwrap().to_string();
+    assert_eq!(col(lines[1], 0), "order=hook-safe");
+    assert_eq!(col(lines[1], 7), "3");
+    assert_eq!(col(lines[2], 7), "2");
+    let out = slant()
+        .args([
+            "compare",
+            "--family",
+            "surface",
+            "--with",
+            "distance=3",
+            "--vary",
+            "order=hook-safe,hook-aligned",
+            "--noise",
+            "circuit p=0.001",
+        ])
+        .output()
+        .unwrap();
+    let text = String::from_utf8(out.stdout).unwrap();
+    let safe = text
+        .lines()
+        .find(|l| l.starts_with("order=hook-safe"))
+        .unwrap();
+    assert!(safe.contains("3*"), "{text}");
+}
