@@ -20,13 +20,14 @@
 //!    independent matching problem (they interact only through the boundary, which takes any
 //!    number of events). At low noise most components have one or two events.
 //! 3. Matching a component of `m` events. Up to [`MwpmOptions::subset_dp_limit`] events: exact
-//!    dynamic programming over subsets in `f64` (`O(2^m m)`). Larger: the standard reduction to a
-//!    perfect matching on `2m` vertices (each event, and one boundary copy per event; event to
-//!    own copy costs `d(i, B)`, copies pair with each other at zero cost), solved with Edmonds'
-//!    blossom algorithm (crate `mwmatching`, a port of van Rantwijk's maximum-weight matching,
-//!    `O(n^3)`) on integer weights `K − round(w · s)`, with `s` such that the largest weight maps
-//!    to 2^24 and maximum cardinality forced. The integer step makes that path exact up to a
-//!    resolution of `w_max / 2^24` per edge.
+//!    dynamic programming over subsets in `f64` (`O(2^m m)`). Larger: a perfect matching on the
+//!    `m` events (plus one virtual boundary vertex when `m` is odd) with pair weights
+//!    `min(d(i, j), d(i, B) + d(j, B))` — equivalent to the usual construction with one boundary
+//!    copy per event, at half the vertices — solved with Edmonds' blossom algorithm (crate
+//!    `mwmatching`, a port of van Rantwijk's maximum-weight matching, `O(n^3)`) on integer
+//!    weights `K − round(w · s)`, with `s` such that the largest weight maps to 2^24 and maximum
+//!    cardinality forced. The integer step makes that path exact up to a resolution of
+//!    `w_max / 2^24` per edge.
 //! 4. Prediction: XOR of the observables of the edges on each matched path.
 //!
 //! An event in a component without a perfect matching (no boundary reachable and an odd number
@@ -503,45 +504,38 @@ fn subset_dp(
     Some(out)
 }
 
-/// Minimum-weight maximum-cardinality matching with boundary copies via the blossom algorithm.
+/// Minimum-weight maximum-cardinality matching with boundary via the blossom algorithm.
 /// Returns the pairs and the number of events left unmatched.
+///
+/// Instead of one boundary copy per event, events are joined pairwise with weight
+/// `min(d(i, j), d(i, B) + d(j, B))` (the second meaning "both to the boundary"), plus one
+/// virtual boundary vertex joined to every event at `d(i, B)` when `m` is odd. This is exact:
+/// events sent to the boundary can be paired up arbitrarily at the same total, with at most one
+/// left over for the virtual vertex. It halves the vertex count of the copy construction.
 fn blossom(
     m: usize,
     w: &impl Fn(usize, usize) -> f64,
     b: &impl Fn(usize) -> f64,
 ) -> (Vec<(usize, Option<usize>)>, u32) {
-    // Vertices: events 0..m, then one boundary copy for each event that reaches the boundary.
-    let mut copy_of = vec![usize::MAX; m];
-    let mut copies = 0;
-    for (i, c) in copy_of.iter_mut().enumerate() {
-        if b(i).is_finite() {
-            *c = m + copies;
-            copies += 1;
-        }
-    }
     let mut wmax: f64 = 0.0;
-    let mut raw: Vec<(usize, usize, f64)> = Vec::new();
-    for (i, &ci) in copy_of.iter().enumerate() {
+    // (i, j, weight, both-to-boundary)
+    let mut raw: Vec<(usize, usize, f64, bool)> = Vec::with_capacity(m * (m + 1) / 2);
+    for i in 0..m {
         for j in i + 1..m {
-            let d = w(i, j);
-            if d < b(i) + b(j) {
-                raw.push((i, j, d));
+            let (direct, via) = (w(i, j), b(i) + b(j));
+            let (d, via_boundary) = if direct < via {
+                (direct, false)
+            } else {
+                (via, true)
+            };
+            if d.is_finite() {
+                raw.push((i, j, d, via_boundary));
                 wmax = wmax.max(d);
             }
         }
-        if ci != usize::MAX {
-            raw.push((i, ci, b(i)));
+        if m % 2 == 1 && b(i).is_finite() {
+            raw.push((i, m, b(i), true));
             wmax = wmax.max(b(i));
-        }
-    }
-    // Copies pair among themselves at zero cost. With an odd vertex count one spare copy (no
-    // event edge) keeps a perfect matching possible; otherwise maximum cardinality could leave
-    // an event rather than a copy unmatched.
-    let spare = (m + copies) % 2 == 1 && copies > 0;
-    let copy_ids: Vec<usize> = (m..m + copies + usize::from(spare)).collect();
-    for (x, &ci) in copy_ids.iter().enumerate() {
-        for &cj in &copy_ids[x + 1..] {
-            raw.push((ci, cj, 0.0));
         }
     }
     if raw.is_empty() {
@@ -553,20 +547,27 @@ fn blossom(
     let big = 2 * (RES as i32) + 2;
     let edges: Vec<(usize, usize, i32)> = raw
         .iter()
-        .map(|&(i, j, d)| (i, j, big - 2 * ((d * scale).round() as i32)))
+        .map(|&(i, j, d, _)| (i, j, big - 2 * ((d * scale).round() as i32)))
         .collect();
     let mate = mwmatching::Matching::new(edges).max_cardinality().solve();
     let mut out = Vec::with_capacity(m);
     let mut unmatched = 0;
-    for i in 0..m {
-        match mate.get(i).copied() {
-            Some(j) if j < m => {
-                if i < j {
-                    out.push((i, Some(j)));
-                }
+    for &(i, j, _, via_boundary) in &raw {
+        if mate.get(i) != Some(&j) {
+            continue;
+        }
+        if via_boundary {
+            out.push((i, None));
+            if j < m {
+                out.push((j, None));
             }
-            Some(j) if j != mwmatching::SENTINEL => out.push((i, None)),
-            _ => unmatched += 1,
+        } else {
+            out.push((i, Some(j)));
+        }
+    }
+    for i in 0..m {
+        if mate.get(i).is_none_or(|&j| j == mwmatching::SENTINEL) {
+            unmatched += 1;
         }
     }
     (out, unmatched)
