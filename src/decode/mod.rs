@@ -21,8 +21,6 @@
 //!   can be shared by rayon threads.
 
 pub mod matching;
-pub mod run;
-pub mod stats;
 pub mod unionfind;
 
 use std::collections::HashMap;
