@@ -399,10 +399,11 @@ fn tableau_matches_statevector_on_random_circuits() {
         let c = hand_circuit(n, ops, records as usize);
         let tab = reference_run(&c);
         let sv = statevector::forced_run(&c);
-        for r in 0..records as usize {
+        assert_eq!(sv.len(), records as usize);
+        for (r, want) in sv.iter().enumerate() {
             assert_eq!(
                 (tab.measurements[r], tab.random[r]),
-                sv[r],
+                *want,
                 "trial {trial}, record {r}"
             );
         }

@@ -803,8 +803,8 @@ mod tests {
         let mut rng = batch_rng(9, 9);
         let n = 2_000_000;
         let draws: Vec<f64> = (0..n).map(|_| exp1(ziggurat(), &mut rng)).collect();
-        for t in [0.01, 0.1, 0.5, 1.0, 2.0, 4.0, 7.0, 8.0, 10.0] {
-            let want = (-t as f64).exp();
+        for t in [0.01f64, 0.1, 0.5, 1.0, 2.0, 4.0, 7.0, 8.0, 10.0] {
+            let want = (-t).exp();
             let got = draws.iter().filter(|&&e| e > t).count() as f64 / n as f64;
             let sd = (want * (1.0 - want) / n as f64).sqrt();
             assert!(
