@@ -3,6 +3,7 @@ mod lang;
 mod graph;
 mod decode;
 mod distance;
+mod estimate;
 mod shots;
 mod support;
 mod codes;

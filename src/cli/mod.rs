@@ -18,12 +18,15 @@ pub mod check;
 pub mod common;
 pub mod compare;
 pub mod compile;
+pub mod estimate;
 pub mod distance;
 pub mod fmt;
 pub mod graph;
+pub mod merge;
 pub mod new;
 pub mod output;
 pub mod shots;
+pub mod sweep;
 pub mod trace;
 
 use std::io::IsTerminal;
@@ -66,16 +69,22 @@ pub enum Command {
     Compare(compare::Args),
     /// Write a circuit with every channel of a noise model explicit.
     Compile(compile::Args),
+    /// Estimate the logical error rate by sampling and decoding.
+    Estimate(estimate::Args),
     /// Circuit-level distances by fault class, with the logical error found.
     Distance(distance::Args),
     /// Print a circuit in canonical form.
     Fmt(fmt::Args),
     /// Write the weighted fault graph of a noisy circuit.
     Graph(graph::Args),
+    /// Combine results stores of sweeps, dropping duplicate chunks.
+    Merge(merge::Args),
     /// Generate a code-family circuit in slant's language.
     New(new::Args),
     /// Sample detection events and observable flips.
     Shots(shots::Args),
+    /// Run a threshold sweep from a TOML spec into a resumable results store.
+    Sweep(sweep::Args),
     /// Show which circuit faults make up a fault-graph mechanism.
     Trace(trace::Args),
 }
@@ -117,11 +126,14 @@ pub fn main() -> i32 {
         Command::Check(a) => check::run(a),
         Command::Compare(a) => compare::run(a),
         Command::Compile(a) => compile::run(a),
+        Command::Estimate(a) => estimate::run(a),
         Command::Distance(a) => distance::run(a),
         Command::Fmt(a) => fmt::run(a),
         Command::Graph(a) => graph::run(a),
+        Command::Merge(a) => merge::run(a),
         Command::New(a) => new::run(a),
         Command::Shots(a) => shots::run(a),
+        Command::Sweep(a) => sweep::run(a),
         Command::Trace(a) => trace::run(a),
     };
     match result {

@@ -21,6 +21,9 @@
 //!   can be shared by rayon threads.
 
 pub mod matching;
+pub mod run;
+pub mod stats;
+pub mod sweep;
 pub mod unionfind;
 
 use std::collections::HashMap;

@@ -1,0 +1,415 @@
+//! Logical error estimates (`slant estimate`), sweeps (`slant sweep`, `slant merge`) and plots.
+//!
+//! Physics checks run small codes at a fixed seed and compare with exact formulas (within 5
+//! binomial standard deviations) or with the ordering of distances below and above a published
+//! threshold; full-size threshold runs live in `bench/thresholds.sh`.
+
+use std::process::Command;
+
+use slant::decode::run::{Counts, Experiment, RunOptions};
+use slant::decode::DecoderKind;
+use slant::gen::{Family, Flip, GenSpec, LogicalBasis, Style};
+use slant::ir::Circuit;
+use slant::lang::Source;
+use slant::noise::{self, NoiseSpec};
+
+fn load(text: &str) -> Circuit {
+    match slant::load_source(&Source::new("t.slant", text), &[]) {
+        Ok(c) => c,
+        Err(d) => panic!("{}", d.iter().map(|d| d.render()).collect::<String>()),
+    }
+}
+
+fn with_noise(c: &Circuit, spec: &str) -> Circuit {
+    let spec = NoiseSpec::parse(spec).unwrap_or_else(|d| panic!("{}", d.render()));
+    noise::apply(c, &spec).unwrap_or_else(|d| panic!("{}", d[0].render()))
+}
+
+fn generated(spec: &GenSpec) -> Circuit {
+    load(&slant::gen::generate(spec).expect("generator accepts the spec"))
+}
+
+fn estimate(c: &Circuit, kind: DecoderKind, shots: u64, seed: u64) -> Counts {
+    let exp = Experiment::new(c, kind).expect("decodable graph");
+    exp.run(
+        &RunOptions {
+            shots,
+            max_errors: None,
+            seed,
+        },
+        |_| {},
+    )
+}
+
+fn rate(c: Counts) -> f64 {
+    c.errors as f64 / c.shots as f64
+}
+
+/// Asserts `|k/n − p| ≤ 5σ` with `σ = sqrt(p(1−p)/n)`.
+fn assert_within_5_sigma(c: Counts, p: f64, what: &str) {
+    let sigma = (p * (1.0 - p) / c.shots as f64).sqrt();
+    let got = rate(c);
+    assert!(
+        (got - p).abs() <= 5.0 * sigma,
+        "{what}: measured {got} ({} / {}), expected {p} ± {sigma}",
+        c.errors,
+        c.shots
+    );
+}
+
+/// Asserts that `a`'s rate is below `b`'s by more than 5 combined standard deviations.
+fn assert_clearly_below(a: Counts, b: Counts, what: &str) {
+    let (pa, pb) = (rate(a), rate(b));
+    let sigma = (pa * (1.0 - pa) / a.shots as f64 + pb * (1.0 - pb) / b.shots as f64).sqrt();
+    assert!(
+        pb - pa > 5.0 * sigma,
+        "{what}: expected {pa} ({}/{}) < {pb} ({}/{}) by more than 5σ = {}",
+        a.errors,
+        a.shots,
+        b.errors,
+        b.shots,
+        5.0 * sigma
+    );
+}
+
+/// Distance-3 repetition code with perfect product measurements and one bit-flip channel per data
+/// qubit: majority vote fails when two or three of the three bits flip.
+const REP3_BITFLIP: &str = "\
+for k in 0..3 { qubit d[k] role data }
+reset z d[0..3]
+round {
+  noise bitflip p=0.1 d[0..3]
+  measure z d[0] * z d[1] -> m[0]
+  measure z d[1] * z d[2] -> m[1]
+  detector = m[0]
+  detector = m[1]
+}
+measure z d[0..3] -> f[0..3]
+detector = f[0] ^ f[1] ^ m[0]
+detector = f[1] ^ f[2] ^ m[1]
+observable logical = f[0]
+";
+
+#[test]
+fn repetition_d3_code_capacity_matches_3p2_minus_2p3() {
+    // Textbook: the distance-3 repetition code under independent bit flips p fails with
+    // probability 3p²(1−p) + p³ = 3p² − 2p³ (majority vote; MWPM on this graph is majority vote).
+    let p: f64 = 0.1;
+    let exact = 3.0 * p * p - 2.0 * p * p * p;
+    let c = load(REP3_BITFLIP);
+    for kind in [DecoderKind::Mwpm, DecoderKind::UnionFind] {
+        assert_within_5_sigma(estimate(&c, kind, 100_000, 7), exact, kind.name());
+    }
+    // The `capacity` preset is depolarizing: X and Y (total 2p/3) flip the Z-basis readout, so
+    // the generated code fails with 3q² − 2q³ at q = 2p/3.
+    let mut spec = GenSpec::new(Family::Repetition, 3);
+    spec.rounds = 1;
+    let c = with_noise(&generated(&spec), "capacity p=0.15");
+    let q: f64 = 0.1;
+    assert_within_5_sigma(
+        estimate(&c, DecoderKind::Mwpm, 100_000, 11),
+        3.0 * q * q - 2.0 * q * q * q,
+        "generated, capacity preset",
+    );
+}
+
+#[test]
+fn repetition_phenomenological_orders_distances_around_the_threshold() {
+    // Phenomenological noise with equal data and measurement flip probability: MWPM threshold
+    // ≈ 10.3% (random-bond Ising mapping; Dennis, Kitaev, Landahl, Preskill, "Topological quantum
+    // memory", J. Math. Phys. 43, 4452 (2002); Wang, Harrington, Preskill, Ann. Phys. 303, 31
+    // (2003)). At CI size we only check that d = 7 beats d = 3 at p = 0.05 and loses at 0.15.
+    // Phase-flip code with pure-Z data noise: data flips p, measurement flips q = p.
+    let circuit = |d: u32, p: f64| {
+        let mut spec = GenSpec::new(Family::Repetition, d);
+        spec.flip = Some(Flip::Z);
+        with_noise(
+            &generated(&spec),
+            &format!("phenomenological p={p} bias=inf"),
+        )
+    };
+    let below3 = estimate(&circuit(3, 0.05), DecoderKind::Mwpm, 20_000, 1);
+    let below7 = estimate(&circuit(7, 0.05), DecoderKind::Mwpm, 20_000, 1);
+    assert_clearly_below(below7, below3, "p = 0.05: d = 7 below d = 3");
+    let above3 = estimate(&circuit(3, 0.15), DecoderKind::Mwpm, 8_000, 2);
+    let above7 = estimate(&circuit(7, 0.15), DecoderKind::Mwpm, 8_000, 2);
+    assert_clearly_below(above3, above7, "p = 0.15: d = 3 below d = 7");
+}
+
+#[test]
+fn surface_code_capacity_orders_distances_around_the_threshold() {
+    // Rotated surface code, code capacity with independent flips, MWPM: threshold ≈ 10.3%
+    // (Wang, Harrington, Preskill, "Confinement-Higgs transition in a disordered gauge theory
+    // and the accuracy threshold for quantum memory", Ann. Phys. 303, 31 (2003)). X-basis
+    // memory under pure Z flips of probability p (independent per qubit), perfect measurements.
+    let circuit = |d: u32, p: f64| {
+        let mut spec = GenSpec::new(Family::Surface, d);
+        spec.rounds = 1;
+        spec.style = Some(Style::Product);
+        spec.basis = Some(LogicalBasis::X);
+        with_noise(&generated(&spec), &format!("capacity p={p} bias=inf"))
+    };
+    let below3 = estimate(&circuit(3, 0.05), DecoderKind::Mwpm, 12_000, 3);
+    let below7 = estimate(&circuit(7, 0.05), DecoderKind::Mwpm, 12_000, 3);
+    assert_clearly_below(below7, below3, "p = 0.05: d = 7 below d = 3");
+    let above3 = estimate(&circuit(3, 0.15), DecoderKind::Mwpm, 8_000, 4);
+    let above7 = estimate(&circuit(7, 0.15), DecoderKind::Mwpm, 8_000, 4);
+    assert_clearly_below(above3, above7, "p = 0.15: d = 3 below d = 7");
+}
+
+#[test]
+fn mwpm_and_union_find_mostly_agree_at_low_noise() {
+    // Below threshold both decoders correct nearly every shot: their failure rates on the same
+    // shots (same seed) stay within a few per mille of each other, and union-find is never
+    // much better than exact matching.
+    let spec = GenSpec::new(Family::Surface, 3);
+    let c = with_noise(&generated(&spec), "circuit p=0.001");
+    let mwpm = estimate(&c, DecoderKind::Mwpm, 20_000, 5);
+    let uf = estimate(&c, DecoderKind::UnionFind, 20_000, 5);
+    assert!(rate(mwpm) < 0.02 && rate(uf) < 0.02, "{mwpm:?} {uf:?}");
+    assert!(
+        (rate(mwpm) - rate(uf)).abs() < 0.005,
+        "mwpm {mwpm:?} vs union-find {uf:?}"
+    );
+}
+
+#[test]
+fn max_errors_stops_early_at_a_batch_boundary() {
+    let c = with_noise(
+        &generated(&GenSpec::new(Family::Repetition, 3)),
+        "phenomenological p=0.1",
+    );
+    let exp = Experiment::new(&c, DecoderKind::Mwpm).unwrap();
+    let opts = RunOptions {
+        shots: 1_000_000,
+        max_errors: Some(50),
+        seed: 9,
+    };
+    let mut calls = 0;
+    let counts = exp.run(&opts, |_| calls += 1);
+    assert!(counts.errors >= 50, "{counts:?}");
+    assert!(
+        counts.shots < 1_000_000 && counts.shots.is_multiple_of(4096),
+        "{counts:?}"
+    );
+    assert_eq!(calls, counts.shots / 4096);
+}
+
+fn slant() -> Command {
+    Command::new(env!("CARGO_BIN_EXE_slant"))
+}
+
+fn write_circuit(dir: &std::path::Path, name: &str, text: &str) -> std::path::PathBuf {
+    let path = dir.join(name);
+    std::fs::write(&path, text).unwrap();
+    path
+}
+
+fn estimate_json(file: &std::path::Path, extra: &[&str], threads: &str) -> serde_json::Value {
+    let out = slant()
+        .arg("estimate")
+        .arg(file)
+        .args(extra)
+        .arg("--json")
+        .env("RAYON_NUM_THREADS", threads)
+        .output()
+        .unwrap();
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    serde_json::from_slice(&out.stdout).unwrap()
+}
+
+#[test]
+fn estimate_cli_is_deterministic_per_seed_whatever_the_thread_count() {
+    let dir = tempfile::tempdir().unwrap();
+    let f = write_circuit(dir.path(), "rep.slant", REP3_BITFLIP);
+    let args = ["--shots", "30000", "--seed", "42", "--max-errors", "300"];
+    let one = estimate_json(&f, &args, "1");
+    let two = estimate_json(&f, &args, "2");
+    let three = estimate_json(&f, &args, "3");
+    for key in ["shots", "errors", "per_shot", "per_round"] {
+        assert_eq!(one[key], two[key], "{key}");
+        assert_eq!(one[key], three[key], "{key}");
+    }
+    assert_eq!(one["stopped_early"], true);
+    let other = estimate_json(
+        &f,
+        &["--shots", "30000", "--seed", "43", "--max-errors", "300"],
+        "2",
+    );
+    assert_ne!(one["errors"], other["errors"]);
+}
+
+#[test]
+fn estimate_cli_reports_rates_intervals_and_the_model() {
+    let dir = tempfile::tempdir().unwrap();
+    let f = write_circuit(dir.path(), "rep.slant", REP3_BITFLIP);
+    let out = slant()
+        .args(["estimate", "--shots", "8192", "--decoder", "uf"])
+        .arg(&f)
+        .output()
+        .unwrap();
+    assert!(out.status.success());
+    let text = String::from_utf8(out.stdout).unwrap();
+    assert!(
+        text.contains("noise: as written in the circuit file"),
+        "{text}"
+    );
+    assert!(text.contains("decoder: uf"), "{text}");
+    assert!(text.contains("shots: 8192\n"), "{text}");
+    assert!(text.contains("per round:"), "{text}");
+    assert!(
+        text.contains("estimates under the stated noise model: Pauli channels, independent faults"),
+        "{text}"
+    );
+    let json = estimate_json(
+        &f,
+        &["--shots", "4096", "--noise", "phenomenological p=0.02"],
+        "2",
+    );
+    assert_eq!(json["noise"], "phenomenological p=0.02");
+    let lo = json["per_shot"]["low"].as_f64().unwrap();
+    let hi = json["per_shot"]["high"].as_f64().unwrap();
+    let r = json["per_shot"]["rate"].as_f64().unwrap();
+    assert!(lo <= r && r <= hi && lo < hi);
+    // A circuit without an observable is rejected with a diagnostic.
+    let g = write_circuit(
+        dir.path(),
+        "none.slant",
+        "qubit q\nmeasure z q -> m\ndetector = m\n",
+    );
+    let out = slant()
+        .args(["estimate", "--shots", "10"])
+        .arg(&g)
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(1));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("declares no observable"));
+}
+
+const SWEEP_SPEC: &str = r#"
+shots = 49152
+chunk = 4096
+[[grid]]
+label = "repetition phenomenological"
+family = "repetition"
+flip = "z"
+distances = [3, 5]
+noise = "phenomenological"
+p = [0.08, 0.1]
+bias = [inf]
+"#;
+
+/// `(task, chunk, shots, errors)` of every row, sorted: equal for runs that recorded the same
+/// chunks with the same counts, in whatever order.
+fn chunk_table(path: &std::path::Path) -> Vec<(String, u64, u64, u64)> {
+    let mut t: Vec<_> = slant::decode::sweep::read_store(path)
+        .unwrap()
+        .into_iter()
+        .map(|r| (r.task, r.chunk, r.shots, r.errors))
+        .collect();
+    t.sort();
+    t
+}
+
+fn sweep(spec: &std::path::Path, store: &std::path::Path, extra: &[&str]) {
+    let out = slant()
+        .arg("sweep")
+        .arg(spec)
+        .arg("--store")
+        .arg(store)
+        .args(extra)
+        .output()
+        .unwrap();
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+}
+
+#[test]
+fn sweep_resumes_after_sigkill_without_losing_or_double_counting() {
+    let dir = tempfile::tempdir().unwrap();
+    let spec = write_circuit(dir.path(), "spec.toml", SWEEP_SPEC);
+    let reference = dir.path().join("ref.jsonl");
+    sweep(&spec, &reference, &["--jobs", "2"]);
+    let want = chunk_table(&reference);
+    assert_eq!(want.len(), 4 * 12);
+
+    let store = dir.path().join("killed.jsonl");
+    let mut child = slant()
+        .arg("sweep")
+        .arg(&spec)
+        .arg("--store")
+        .arg(&store)
+        .args(["--jobs", "1"])
+        .stderr(std::process::Stdio::null())
+        .spawn()
+        .unwrap();
+    let start = std::time::Instant::now();
+    loop {
+        let lines = std::fs::read_to_string(&store)
+            .map(|s| s.lines().count())
+            .unwrap_or(0);
+        if lines >= 3 || start.elapsed() > std::time::Duration::from_secs(60) {
+            break;
+        }
+        std::thread::sleep(std::time::Duration::from_millis(5));
+    }
+    // Child::kill sends SIGKILL on Unix.
+    child.kill().unwrap();
+    child.wait().unwrap();
+    let partial = chunk_table(&store);
+    assert!(
+        !partial.is_empty() && partial.len() < want.len(),
+        "the run was not interrupted mid-way ({} rows)",
+        partial.len()
+    );
+    // A torn final line (as a crash in the middle of a write would leave) is cut off on resume.
+    let mut f = std::fs::OpenOptions::new()
+        .append(true)
+        .open(&store)
+        .unwrap();
+    std::io::Write::write_all(&mut f, b"{\"task\":\"repetition phen").unwrap();
+    drop(f);
+    sweep(&spec, &store, &["--jobs", "2"]);
+    assert_eq!(chunk_table(&store), want);
+    // Running again finds nothing to do.
+    sweep(&spec, &store, &[]);
+    assert_eq!(chunk_table(&store), want);
+}
+
+#[test]
+fn shard_and_merge_round_trip_equals_the_unsharded_sweep() {
+    let dir = tempfile::tempdir().unwrap();
+    let spec = write_circuit(dir.path(), "spec.toml", SWEEP_SPEC);
+    let whole = dir.path().join("whole.jsonl");
+    sweep(&spec, &whole, &[]);
+    let shard = |k: u32| {
+        let s = dir.path().join(format!("shard{k}.jsonl"));
+        sweep(&spec, &s, &["--shard", &format!("{k}/3")]);
+        s
+    };
+    let (a, b, c) = (shard(1), shard(2), shard(3));
+    let ta = chunk_table(&a);
+    assert!(!ta.is_empty() && ta.len() < 48);
+    let merged = dir.path().join("merged.jsonl");
+    let out = slant()
+        .arg("merge")
+        .args([&a, &b, &c, &a])
+        .arg("-o")
+        .arg(&merged)
+        .output()
+        .unwrap();
+    assert!(out.status.success());
+    assert!(String::from_utf8_lossy(&out.stderr).contains("duplicates dropped"));
+    assert_eq!(chunk_table(&merged), chunk_table(&whole));
+    let rows = slant::decode::sweep::read_store(&merged).unwrap();
+    let points = slant::decode::sweep::aggregate(&rows);
+    assert_eq!(points.len(), 4);
+    assert!(points.iter().all(|p| p.shots == 49152));
+}
