@@ -613,10 +613,11 @@ fn contributor(
 fn finish(circuit: &Circuit, b: Builder<'_>) -> Extracted {
     let d = b.detectors;
     let n = b.symptoms.len();
-    let split = |k: u32| {
-        let s = b.symptoms.get(k);
-        s.split_at(s.partition_point(|&x| x < d))
-    };
+    // Where each symptom's observables start, found once rather than per comparison.
+    let cut: Vec<u32> = (0..n as u32)
+        .map(|k| b.symptoms.get(k).partition_point(|&x| x < d) as u32)
+        .collect();
+    let split = |k: u32| b.symptoms.get(k).split_at(cut[k as usize] as usize);
     // Sort mechanisms by (detectors, observables) so output does not depend on sweep order.
     let mut order: Vec<u32> = (0..n as u32).collect();
     order.sort_unstable_by(|&x, &y| split(x).cmp(&split(y)));
