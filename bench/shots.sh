@@ -4,6 +4,13 @@
 # word operations per second as a fraction of a plain 64-bit XOR loop over the same memory in the
 # same run, the tableau reference-run time for d=25, 25 rounds, and a full `slant shots` run that
 # writes packed .npy files.
+#
+# Word operation (both sides): one u64 written by a dense loop. Sampler: frame/record/output words
+# receiving an XOR of another word, a clear, a random fill or half a swap, counted from the compiled
+# program; sparse fault insertions are not counted (their expected number per shot is printed).
+# Baseline: one `a[i] ^= f(b[i])` over as many words as one batch's frame + records + outputs,
+# repeated to the same total count. The sampler's time includes all of its work. The machine is
+# shared, so run it a few times: the fraction is measured within one run and is the stabler number.
 set -euo pipefail
 cd "$(dirname "$0")/.."
 cargo build --release --quiet

@@ -253,6 +253,7 @@ pub struct Sampler {
     streams: Vec<Stream>,
     reference: Reference,
     word_ops: u64,
+    faults_per_shot: f64,
 }
 
 /// Assigns stream locations: one stream per distinct total probability.
@@ -261,6 +262,8 @@ struct Streams {
     index: std::collections::HashMap<u64, u32>,
     streams: Vec<Stream>,
     next: Vec<u64>,
+    /// Expected faults per shot: the sum of `p` over all locations.
+    faults: f64,
 }
 
 impl Streams {
@@ -273,6 +276,7 @@ impl Streams {
         });
         let first = self.next[k as usize];
         self.next[k as usize] += count;
+        self.faults += p.min(1.0) * count as f64;
         (k, first)
     }
 }
@@ -395,6 +399,7 @@ impl Sampler {
             detectors,
             observables,
             program,
+            faults_per_shot: streams.faults,
             streams: streams.streams,
             reference: reference_run(circuit),
             word_ops,
@@ -413,6 +418,12 @@ impl Sampler {
     /// is not counted, so the fraction is conservative.
     pub fn word_ops_per_word(&self) -> u64 {
         self.word_ops
+    }
+
+    /// Expected number of sparse fault insertions per shot (sum of the firing probabilities of all
+    /// noise locations), for the benchmark: the work `word_ops_per_word` leaves out.
+    pub fn faults_per_shot(&self) -> f64 {
+        self.faults_per_shot
     }
 
     /// Words of frame and record memory one batch touches, for the benchmark's XOR baseline.
