@@ -19,7 +19,7 @@ struct P {
 
 impl P {
     fn commutes(self, o: P) -> bool {
-        ((self.x & o.z).count_ones() + (self.z & o.x).count_ones()) % 2 == 0
+        ((self.x & o.z).count_ones() + (self.z & o.x).count_ones()).is_multiple_of(2)
     }
     fn mul(self, o: P) -> P {
         P {

@@ -43,7 +43,10 @@ pub fn run(args: Args) -> Result<(), CliError> {
         if args.check {
             if text != source.text {
                 differs = true;
-                println!("{}: not in canonical form (run `slant fmt --write`)", path.display());
+                println!(
+                    "{}: not in canonical form (run `slant fmt --write`)",
+                    path.display()
+                );
             }
         } else if args.write {
             if text != source.text {

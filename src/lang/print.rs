@@ -8,8 +8,8 @@
 
 use std::fmt::Write;
 
-use crate::lang::ast::{Ast, Expr, ExprKind, Ident, Index, NoiseTargets, Ref, Stmt, StmtKind};
 use crate::ir::Pauli;
+use crate::lang::ast::{Ast, Expr, ExprKind, Ident, Index, NoiseTargets, Ref, Stmt, StmtKind};
 
 /// Prints a whole file.
 pub fn print(ast: &Ast) -> String {
@@ -69,7 +69,11 @@ fn stmt(out: &mut String, st: &Stmt, level: usize) {
         StmtKind::Param { name, value } => {
             let _ = write!(out, "param {} = {}", name.name, expr(value));
         }
-        StmtKind::Qubit { target, coords, roles } => {
+        StmtKind::Qubit {
+            target,
+            coords,
+            roles,
+        } => {
             let _ = write!(out, "qubit {}", reference(target));
             if let Some(c) = coords {
                 let _ = write!(out, " at {}", coord_list(c));
@@ -88,7 +92,13 @@ fn stmt(out: &mut String, st: &Stmt, level: usize) {
             indent(out, level);
             out.push('}');
         }
-        StmtKind::For { var, start, end, step, body } => {
+        StmtKind::For {
+            var,
+            start,
+            end,
+            step,
+            body,
+        } => {
             let _ = write!(out, "for {} in {}..{}", var.name, expr(start), expr(end));
             if let Some(s) = step {
                 let _ = write!(out, " by {}", expr(s));
@@ -98,7 +108,11 @@ fn stmt(out: &mut String, st: &Stmt, level: usize) {
             indent(out, level);
             out.push('}');
         }
-        StmtKind::If { cond, then, otherwise } => if_chain(out, cond, then, otherwise, level),
+        StmtKind::If {
+            cond,
+            then,
+            otherwise,
+        } => if_chain(out, cond, then, otherwise, level),
         StmtKind::Gate { gate, groups } => {
             let _ = write!(out, "{} {}", gate.name, groups_text(groups));
         }
@@ -116,7 +130,11 @@ fn stmt(out: &mut String, st: &Stmt, level: usize) {
                 let _ = write!(out, " flip {}", expr(f));
             }
         }
-        StmtKind::Noise { channel, args, targets } => {
+        StmtKind::Noise {
+            channel,
+            args,
+            targets,
+        } => {
             let _ = write!(out, "noise {}", channel.name);
             for (k, v) in args {
                 let _ = write!(out, " {}={}", k.name, expr(v));
@@ -130,7 +148,11 @@ fn stmt(out: &mut String, st: &Stmt, level: usize) {
                 }
             }
         }
-        StmtKind::Detector { name, coords, parity } => {
+        StmtKind::Detector {
+            name,
+            coords,
+            parity,
+        } => {
             out.push_str("detector");
             if let Some(n) = name {
                 let _ = write!(out, " {}", reference(n));
@@ -140,9 +162,18 @@ fn stmt(out: &mut String, st: &Stmt, level: usize) {
             }
             let _ = write!(out, " = {}", parity_text(parity));
         }
-        StmtKind::Observable { name, extend, parity } => {
+        StmtKind::Observable {
+            name,
+            extend,
+            parity,
+        } => {
             let op = if *extend { "^=" } else { "=" };
-            let _ = write!(out, "observable {} {op} {}", reference(name), parity_text(parity));
+            let _ = write!(
+                out,
+                "observable {} {op} {}",
+                reference(name),
+                parity_text(parity)
+            );
         }
     }
 }
@@ -155,7 +186,12 @@ fn if_chain(out: &mut String, cond: &Expr, then: &[Stmt], otherwise: &[Stmt], le
     match otherwise {
         [] => {}
         [only] if only.comment.is_none() && matches!(only.kind, StmtKind::If { .. }) => {
-            if let StmtKind::If { cond, then, otherwise } = &only.kind {
+            if let StmtKind::If {
+                cond,
+                then,
+                otherwise,
+            } = &only.kind
+            {
                 out.push_str(" else ");
                 if_chain(out, cond, then, otherwise, level);
             }
@@ -170,7 +206,10 @@ fn if_chain(out: &mut String, cond: &Expr, then: &[Stmt], otherwise: &[Stmt], le
 }
 
 fn names(ids: &[Ident]) -> String {
-    ids.iter().map(|i| i.name.as_str()).collect::<Vec<_>>().join(", ")
+    ids.iter()
+        .map(|i| i.name.as_str())
+        .collect::<Vec<_>>()
+        .join(", ")
 }
 
 fn groups_text(groups: &[Vec<Ref>]) -> String {
@@ -230,7 +269,9 @@ pub fn expr(e: &Expr) -> String {
         ExprKind::Binary(op, a, b) => {
             let p = op.precedence();
             let left = match &a.kind {
-                ExprKind::Binary(o, ..) if o.precedence() < p || (p == 4 && o.precedence() == 4) => {
+                ExprKind::Binary(o, ..)
+                    if o.precedence() < p || (p == 4 && o.precedence() == 4) =>
+                {
                     format!("({})", expr(a))
                 }
                 ExprKind::Not(_) if p > 3 => format!("({})", expr(a)),
