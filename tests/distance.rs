@@ -93,7 +93,7 @@ fn rotated(family: Family, d: u32, rounds: u32, order: Order) -> GenSpec {
 // logical) shorten it.
 #[test]
 fn surface_hook_safe_keeps_distance_d() {
-    for d in [3, 5] {
+    for d in [3, 5, 7] {
         let g = graph_of(
             &rotated(Family::Surface, d, d, Order::hook_safe()),
             "circuit p=0.001",
@@ -110,7 +110,7 @@ fn surface_hook_safe_keeps_distance_d() {
 
 #[test]
 fn surface_hook_aligned_is_shorter() {
-    for d in [3, 5] {
+    for d in [3, 5, 7] {
         let g = graph_of(
             &rotated(Family::Surface, d, d, Order::hook_aligned()),
             "circuit p=0.001",
@@ -265,6 +265,23 @@ fn distance_matches_brute_force_on_small_graphs() {
         "mechanisms: {}",
         g.mechanisms.len()
     );
+}
+
+// Hyperedges only (every mechanism of this graph flips four detectors): the exhaustive
+// meet-in-the-middle search against brute force over all subsets.
+#[test]
+fn exhaustive_search_matches_brute_force_on_hyperedges() {
+    let mut torus = GenSpec::new(Family::Xzzx, 3);
+    torus.periodic = true;
+    torus.dx = 4;
+    torus.dz = 3;
+    torus.rounds = 1;
+    let g = graph_of(&torus, "capacity p=0.01 bias=inf");
+    assert!(g.mechanisms.iter().all(|m| m.detectors.len() > 2));
+    let r = report(&g);
+    let c = r.distance.as_ref().expect("logical error");
+    assert_eq!(c.method, slant::analysis::distance::Method::Exhaustive);
+    assert_eq!(Some(c.value), brute_force(&g, |_| true));
 }
 
 fn slant() -> Command {

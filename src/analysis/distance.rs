@@ -283,7 +283,7 @@ fn count_distance(
     // The decomposition bound is one more graph search: try it before the exhaustive search.
     if let Some(error) = &upper {
         let value = error.mechanisms.len() as u32;
-        let lower = best_lower_bound(graph, allow).min(value);
+        let lower = best_lower_bound(graph, allow, value);
         if lower == value {
             return Ok(Some(Count {
                 value,
@@ -328,7 +328,7 @@ fn count_distance(
         return Ok(None);
     };
     let value = error.mechanisms.len() as u32;
-    let lower = best_lower_bound(graph, allow).min(value);
+    let lower = best_lower_bound(graph, allow, value);
     Ok(Some(Count {
         value,
         lower,
@@ -648,11 +648,15 @@ impl<C: Cost> Workspace<C> {
     }
 }
 
-/// The larger of the two lower bounds (1 when neither applies).
-fn best_lower_bound(graph: &FaultGraph, allow: &dyn Fn(ClassSet) -> bool) -> u32 {
-    let a = lower_bound(graph, allow).unwrap_or(1);
+/// The larger of the two lower bounds (1 when neither applies), capped at `value`; the
+/// projection bound is cheaper and usually tight, so the other runs only when it falls short.
+fn best_lower_bound(graph: &FaultGraph, allow: &dyn Fn(ClassSet) -> bool, value: u32) -> u32 {
     let b = projected_bound(graph, allow).flatten().unwrap_or(1);
-    a.max(b).max(1)
+    if b >= value {
+        return value;
+    }
+    let a = lower_bound(graph, allow).unwrap_or(1);
+    a.max(b).clamp(1, value)
 }
 
 /// Lower bound on the count distance by projection onto a partition of the detectors.
