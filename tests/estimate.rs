@@ -413,3 +413,65 @@ fn shard_and_merge_round_trip_equals_the_unsharded_sweep() {
     assert_eq!(points.len(), 4);
     assert!(points.iter().all(|p| p.shots == 49152));
 }
+
+#[test]
+fn plot_marks_the_crossing_of_synthetic_power_laws() {
+    // Rates pL = 0.1 (p/0.02)^((d+1)/2) (the below-threshold form of PRA 86, 032324 (2012)) cross
+    // at p = 0.02 for every pair of distances; the plot must report and mark that crossing.
+    let dir = tempfile::tempdir().unwrap();
+    let mut text = String::new();
+    for d in [3u32, 5, 7] {
+        for p in [0.005, 0.01, 0.015, 0.025, 0.03] {
+            let rate = 0.1 * (p / 0.02f64).powf((d as f64 + 1.0) / 2.0);
+            let shots = 100_000_000u64;
+            let row = slant::decode::sweep::Row {
+                task: format!("t d={d} p={p}"),
+                chunk: 0,
+                shots,
+                errors: (rate * shots as f64).round() as u64,
+                seed: 0,
+                label: "synthetic".into(),
+                family: "surface".into(),
+                distance: d,
+                rounds: d,
+                p,
+                bias: None,
+                noise: format!("capacity p={p}"),
+                decoder: "mwpm".into(),
+            };
+            text += &serde_json::to_string(&row).unwrap();
+            text.push('\n');
+        }
+    }
+    let store = write_circuit(dir.path(), "s.jsonl", &text);
+    let svg = dir.path().join("t.svg");
+    let out = slant()
+        .arg("plot")
+        .arg(&store)
+        .arg("-o")
+        .arg(&svg)
+        .output()
+        .unwrap();
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let report = String::from_utf8(out.stdout).unwrap();
+    assert!(
+        report.contains("crossing d=3 / d=5: p = 2.0000e-2"),
+        "{report}"
+    );
+    assert!(report.contains("p_th ≈ 2.0000e-2"), "{report}");
+    let image = std::fs::read_to_string(&svg).unwrap();
+    assert!(image.starts_with("<svg") && image.contains("threshold ≈ 2.000e-2"));
+    assert!(image.contains("d = 7"));
+    let bad = slant()
+        .arg("plot")
+        .arg(&store)
+        .arg("-o")
+        .arg(dir.path().join("t.png"))
+        .output()
+        .unwrap();
+    assert_eq!(bad.status.code(), Some(1));
+}

@@ -25,6 +25,7 @@ pub mod graph;
 pub mod merge;
 pub mod new;
 pub mod output;
+pub mod plot;
 pub mod shots;
 pub mod sweep;
 pub mod trace;
@@ -81,6 +82,8 @@ pub enum Command {
     Merge(merge::Args),
     /// Generate a code-family circuit in slant's language.
     New(new::Args),
+    /// Plot logical against physical error rate from a results store, with the threshold.
+    Plot(plot::Args),
     /// Sample detection events and observable flips.
     Shots(shots::Args),
     /// Run a threshold sweep from a TOML spec into a resumable results store.
@@ -132,6 +135,7 @@ pub fn main() -> i32 {
         Command::Graph(a) => graph::run(a),
         Command::Merge(a) => merge::run(a),
         Command::New(a) => new::run(a),
+        Command::Plot(a) => plot::run(a),
         Command::Shots(a) => shots::run(a),
         Command::Sweep(a) => sweep::run(a),
         Command::Trace(a) => trace::run(a),

@@ -24,6 +24,7 @@ pub mod matching;
 pub mod run;
 pub mod stats;
 pub mod sweep;
+pub mod threshold;
 pub mod unionfind;
 
 use std::collections::HashMap;
