@@ -11,13 +11,15 @@
 //! anticommuting with Y), and it anticommutes with the all-Z logical when the row length is odd;
 //! otherwise the column is odd (co-prime sides) and `Y` down a column does the same job.
 //!
-//! All data are therefore prepared and read out in y. No single face is then deterministic, but
-//! the product of a full row of faces is `Y` on two neighbouring data rows (and likewise for a
-//! column of faces), so the first and final detectors are row and column products of faces.
-//! An initial pure-Z fault that escapes them must flip every row and every column of faces an
-//! even number of times, which takes at least `max(dx, dz)` faults to also flip the observable.
-//! Row detectors sit at the row's centre `(dz - 1, 2j, round)`, column detectors at
-//! `(2i, dx - 1, round)`.
+//! All data are therefore prepared and read out in y. No single face is deterministic on that
+//! product state, so an *encoding* pass measures every face once (results `p[i, j]`) outside any
+//! `round` block: per-round presets add no noise there, which models perfect preparation of a
+//! code state, and every face of round 0 is then compared with its encoding value. (Without it,
+//! pure-Z faults before the first round would be seen only by row and column products of faces,
+//! and `max(dx, dz)` of them could flip the observable unseen.) The final readout in y yields
+//! only row and column products of faces (`Y` on two neighbouring data rows or columns), so the
+//! final detectors are those products; row detectors sit at the row's centre
+//! `(dz - 1, 2j, round)`, column detectors at `(2i, dx - 1, round)`.
 
 use super::{GenSpec, Text};
 
@@ -40,8 +42,12 @@ pub(super) fn write(w: &mut Text, spec: &GenSpec) {
     w.line("");
     w.block("layer", "reset y d[0..dz, 0..dx]");
     w.line("");
-    let face = "measure x d[(i + dz - 1) % dz, (j + dx - 1) % dx] * z d[i, (j + dx - 1) % dx] \
-                * z d[(i + dz - 1) % dz, j] * x d[i, j] -> m[r, i, j]";
+    let face = |result: &str| {
+        format!(
+            "measure x d[(i + dz - 1) % dz, (j + dx - 1) % dx] * z d[i, (j + dx - 1) % dx] \
+             * z d[(i + dz - 1) % dz, j] * x d[i, j] -> {result}"
+        )
+    };
     // Faces whose columns (rows) fall in the same class share no data qubit: even indices below
     // the last, odd ones below the last, and the last one alone (it wraps onto index 0).
     let classes = |n: &str| {
@@ -51,33 +57,32 @@ pub(super) fn write(w: &mut Text, spec: &GenSpec) {
             format!("{n} - 1..{n}"),
         ]
     };
+    let all_faces = |w: &mut Text, result: &str| {
+        for ci in classes("dz") {
+            for cj in classes("dx") {
+                w.open("layer");
+                w.open(&format!("for i in {ci}"));
+                w.block(&format!("for j in {cj}"), &face(result));
+                w.close();
+                w.close();
+            }
+        }
+    };
+    w.line("# Encoding: one measurement of every face projects the product state onto a code");
+    w.line("# state. It sits outside any `round`, so per-round noise presets treat it as perfect");
+    w.line("# state preparation; every later face value is then deterministic.");
+    all_faces(w, "p[i, j]");
+    w.line("");
     w.open("for r in 0..rounds");
     w.open("round");
-    for ci in classes("dz") {
-        for cj in classes("dx") {
-            w.open("layer");
-            w.open(&format!("for i in {ci}"));
-            w.block(&format!("for j in {cj}"), face);
-            w.close();
-            w.close();
-        }
-    }
-    w.open("if r == 0");
-    w.line("# A full row of faces is Y on the data rows j-1 and j; a full column likewise.");
-    w.block(
-        "for j in 0..dx",
-        "detector at (dz - 1, 2 * j, r) = m[r, 0..dz, j]",
-    );
-    w.block(
-        "for i in 0..dz",
-        "detector at (2 * i, dx - 1, r) = m[r, i, 0..dx]",
-    );
-    w.else_open("");
+    all_faces(w, "m[r, i, j]");
     w.open("for i in 0..dz");
-    w.block(
-        "for j in 0..dx",
-        "detector at (2 * i, 2 * j, r) = m[r, i, j] ^ m[r - 1, i, j]",
-    );
+    w.open("for j in 0..dx");
+    w.open("if r == 0");
+    w.line("detector at (2 * i, 2 * j, r) = m[r, i, j] ^ p[i, j]");
+    w.else_open("");
+    w.line("detector at (2 * i, 2 * j, r) = m[r, i, j] ^ m[r - 1, i, j]");
+    w.close();
     w.close();
     w.close();
     w.close();
