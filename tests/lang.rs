@@ -537,7 +537,10 @@ fn printer_normalises_layout() {
 #[test]
 fn else_may_start_a_new_line() {
     let text = "qubit a\nif 0 {\n    x a\n}\nelse {\n    z a\n}\n";
-    assert_eq!(fmt(text), "qubit a\nif 0 {\n    x a\n} else {\n    z a\n}\n");
+    assert_eq!(
+        fmt(text),
+        "qubit a\nif 0 {\n    x a\n} else {\n    z a\n}\n"
+    );
     assert!(load(text).is_ok());
 }
 

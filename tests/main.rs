@@ -1,11 +1,11 @@
 //! The one integration-test binary: runs the real `slant` executable, one module per subcommand.
-mod lang;
-mod graph;
+mod codes;
 mod decode;
 mod distance;
 mod estimate;
+mod gen;
+mod graph;
+mod lang;
+mod noise;
 mod shots;
 mod support;
-mod codes;
-mod gen;
-mod noise;

@@ -18,8 +18,8 @@ pub mod check;
 pub mod common;
 pub mod compare;
 pub mod compile;
-pub mod estimate;
 pub mod distance;
+pub mod estimate;
 pub mod fmt;
 pub mod graph;
 pub mod merge;
@@ -70,10 +70,10 @@ pub enum Command {
     Compare(compare::Args),
     /// Write a circuit with every channel of a noise model explicit.
     Compile(compile::Args),
-    /// Estimate the logical error rate by sampling and decoding.
-    Estimate(estimate::Args),
     /// Circuit-level distances by fault class, with the logical error found.
     Distance(distance::Args),
+    /// Estimate the logical error rate by sampling and decoding.
+    Estimate(estimate::Args),
     /// Print a circuit in canonical form.
     Fmt(fmt::Args),
     /// Write the weighted fault graph of a noisy circuit.
@@ -129,8 +129,8 @@ pub fn main() -> i32 {
         Command::Check(a) => check::run(a),
         Command::Compare(a) => compare::run(a),
         Command::Compile(a) => compile::run(a),
-        Command::Estimate(a) => estimate::run(a),
         Command::Distance(a) => distance::run(a),
+        Command::Estimate(a) => estimate::run(a),
         Command::Fmt(a) => fmt::run(a),
         Command::Graph(a) => graph::run(a),
         Command::Merge(a) => merge::run(a),
