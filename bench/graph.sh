@@ -45,7 +45,9 @@ python3 - "$tmp/fit" <<'PY'
 import math, sys
 pts = [tuple(map(float, l.split())) for l in open(sys.argv[1])]
 def fit(col):
-    xs = [math.log(p[0]) for p in pts]; ys = [math.log(p[col]) for p in pts]
+    # Times print with millisecond resolution: a point that rounds to zero cannot be fitted.
+    use = [p for p in pts if p[col] > 0]
+    xs = [math.log(p[0]) for p in use]; ys = [math.log(p[col]) for p in use]
     n = len(xs); mx = sum(xs) / n; my = sum(ys) / n
     return sum((x - mx) * (y - my) for x, y in zip(xs, ys)) / sum((x - mx) ** 2 for x in xs)
 print(f"fitted exponent against volume (qubits x layers): wall {fit(1):.2f}, cpu {fit(2):.2f} (target <= 1.1)")

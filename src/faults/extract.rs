@@ -533,6 +533,25 @@ pub(crate) fn extract_mechanisms(circuit: &Circuit, opts: &ExtractOptions) -> Ex
         buf: Vec::new(),
         tmp: Vec::new(),
     };
+    // Count the faults first (cheap: one pass over the ops, channels converted once) so the
+    // big arrays are allocated once instead of growing by copies.
+    let mut expected = 0usize;
+    for op in circuit.layers.iter().flat_map(|l| &l.ops) {
+        match &op.kind {
+            OpKind::Noise(ch) => {
+                let t = b.table(ch);
+                expected += op.targets.len() / ch.arity().max(1) * b.tables[t].terms.len();
+            }
+            OpKind::Measure { flip, .. } if *flip > 0.0 => expected += 1,
+            _ => {}
+        }
+    }
+    b.faults.reserve(expected);
+    // Roughly a third of the faults open a new mechanism in circuit-level noise.
+    let mechs = expected / 3 + 16;
+    b.symptoms.by_hash.reserve(mechs);
+    b.symptoms.start.reserve(mechs);
+    b.symptoms.ids.reserve(4 * mechs);
     let flip_class = if opts.high_rate_flips {
         FaultClass::High
     } else {
