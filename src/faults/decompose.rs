@@ -1,8 +1,8 @@
 //! Decomposition of hyperedges for matching decoders.
 //!
-//! In: a [`FaultGraph`] whose mechanisms may flip more than two detectors, and for each such
+//! In: a [`crate::faults::FaultGraph`] whose mechanisms may flip more than two detectors, and for each such
 //! mechanism the *atoms* of a few contributors: the symptoms of the X and Z parts of each factor
-//! of its Pauli term. Out: [`FaultGraph::decompositions`] and [`FaultGraph::hyperedges`].
+//! of its Pauli term. Out: the graph's `decompositions` and `hyperedges`.
 //!
 //! A hyperedge is split into parts that are each *existing* graphlike mechanisms — one or two
 //! detectors with exactly the observables of a mechanism that has those detectors — so the

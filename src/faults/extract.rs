@@ -9,8 +9,8 @@
 //! sorted-set XORs and one hash lookup per fault.
 //!
 //! Layout (for speed at a million faults): each distinct channel is converted to independent
-//! terms once ([`Table`]); symptoms are interned in one flat arena keyed by a 64-bit hash that
-//! is verified against the arena ([`Interner`]); a fault is a fixed-size record of indices
+//! terms once (`Table`); symptoms are interned in one flat arena keyed by a 64-bit hash that
+//! is verified against the arena (`Interner`); a fault is a fixed-size record of indices
 //! (mechanism, layer, op, application, term), turned into a [`Contributor`] only once, in final
 //! order; the atoms that decomposition needs live in one flat arena too. Nothing is allocated
 //! per fault during the sweep.
@@ -26,7 +26,7 @@ use crate::faults::graph::{
 use crate::ir::sensitivity::{self, xor_into, Point, Sensitivity};
 use crate::ir::{Channel, Circuit, OpKind, Pauli};
 
-/// Options of [`crate::faults::extract`].
+/// Options of [`crate::faults::extract()`].
 #[derive(Clone, Debug, Default)]
 pub struct ExtractOptions {
     /// Tag measurement flips as high-rate faults (for models where readout errors come from the

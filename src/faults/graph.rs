@@ -1,7 +1,7 @@
 //! The fault graph: mechanisms with their symptoms, classes and provenance, and the graphlike
 //! view matching decoders read.
 //!
-//! In: elementary faults from [`crate::faults::extract`]. Out: a [`FaultGraph`] (every mechanism,
+//! In: elementary faults from [`crate::faults::extract()`]. Out: a [`FaultGraph`] (every mechanism,
 //! hyperedges included) and, through [`FaultGraph::graphlike`], a [`MatchingGraph`] whose edges
 //! touch one or two detectors.
 //!

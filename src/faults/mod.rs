@@ -5,7 +5,7 @@
 //! [`FaultGraph::graphlike`], the [`MatchingGraph`] that matching decoders read.
 //!
 //! # Pipeline
-//! 1. [`extract`](extract::extract_mechanisms): one backward sensitivity sweep
+//! 1. `extract::extract_mechanisms`: one backward sensitivity sweep
 //!    ([`crate::ir::sensitivity`]). Each Pauli term of each channel application and each
 //!    measurement flip becomes an *elementary fault* whose symptom (detectors + observables)
 //!    is read off the sensitivities at its point of injection. Faults with the same symptom merge

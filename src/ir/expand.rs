@@ -5,7 +5,7 @@
 //! layer touches each qubit at most once (noise excepted), names are declared once, results are
 //! measured before they are used, probabilities lie in `[0, 1]`.
 //!
-//! Size bombs: before expanding, [`estimate`] walks the AST multiplying loop trip counts; a
+//! Size bombs: before expanding, `Expander::estimate` walks the AST multiplying loop trip counts; a
 //! circuit whose estimate passes [`Limits::max_items`] is refused with the loop that causes it,
 //! before any memory is spent. A running count during expansion backs the estimate up.
 //!
