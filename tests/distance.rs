@@ -437,3 +437,196 @@ fn cli_compare_orders_marks_best() {
         .unwrap();
     assert!(safe.contains("3*"), "{text}");
 }
+
+/// Runs `slant compare` and returns its standard output, failing with its standard error.
+fn compare_stdout(args: &[&str]) -> String {
+    let out = slant().arg("compare").args(args).output().unwrap();
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    String::from_utf8(out.stdout).unwrap()
+}
+
+/// The coloured data lines of a plot: `(stroke colour, points)` of every `stroke-width="2"`
+/// polyline with more than one point that is not a legend swatch (legend swatches are
+/// horizontal 20-pixel segments).
+fn svg_series(svg: &str) -> Vec<(String, Vec<(f64, f64)>)> {
+    let attr = |tag: &str, name: &str| {
+        let key = format!(" {name}=\"");
+        tag.find(&key).map(|i| {
+            let rest = &tag[i + key.len()..];
+            rest[..rest.find('"').unwrap()].to_string()
+        })
+    };
+    svg.split("<polyline")
+        .skip(1)
+        .map(|t| &t[..t.find("/>").unwrap()])
+        .filter(|t| attr(t, "stroke-width").as_deref() == Some("2"))
+        .map(|t| {
+            let pts: Vec<(f64, f64)> = attr(t, "points")
+                .unwrap()
+                .split_whitespace()
+                .map(|xy| {
+                    let (x, y) = xy.split_once(',').unwrap();
+                    (x.parse().unwrap(), y.parse().unwrap())
+                })
+                .collect();
+            (attr(t, "stroke").unwrap(), pts)
+        })
+        .filter(|(_, pts)| {
+            !(pts.len() == 2 && pts[0].1 == pts[1].1 && (pts[1].0 - pts[0].0 - 20.0).abs() < 0.5)
+        })
+        .collect()
+}
+
+/// One run covers the bias columns, the logical error rates and the plot, to keep CI short.
+///
+/// Bias: with bias-preserving CX gates, the XZZX code's native schedule keeps Z-type faults Z at
+/// the data, while the `cx` entangler's Hadamards (H Z H = X, an exact Clifford identity) turn
+/// them into X ("The XZZX surface code", J. P. Bonilla Ataides, D. K. Tuckett, S. D. Bartlett,
+/// S. T. Flammia, B. J. Brown, Nat. Commun. 12, 2172 (2021), which relies on bias-preserving
+/// gates for its high thresholds). So `native` is kept, `cx` lost, and only `cx` has a
+/// high-rate-only logical error.
+#[test]
+fn cli_compare_bias_rates_and_plot() {
+    let dir = tempfile::tempdir().unwrap();
+    let svg_path = dir.path().join("cmp.svg");
+    let text = compare_stdout(&[
+        "--family",
+        "xzzx",
+        "--with",
+        "distance=3",
+        "--vary",
+        "entangler=native,cx",
+        "--noise",
+        "circuit p=0.001 bias=100 cx=bias-preserving",
+        "--p",
+        "0.002,0.004",
+        "--shots",
+        "2000",
+        "--json",
+        "--plot",
+        svg_path.to_str().unwrap(),
+    ]);
+    let rows: serde_json::Value = serde_json::from_str(&text).unwrap();
+    let rows = rows.as_array().unwrap();
+    assert_eq!(rows.len(), 2);
+    let (native, cx) = (&rows[0], &rows[1]);
+    assert_eq!(native["circuit"], "entangler=native");
+    assert_eq!(native["bias"]["kept"], true);
+    assert_eq!(native["bias"]["verdict"], "bias kept");
+    assert_eq!(cx["bias"]["kept"], false);
+    assert!(cx["bias"]["verdict"]
+        .as_str()
+        .unwrap()
+        .starts_with("bias lost at"));
+    let eta = |r: &serde_json::Value| r["bias"]["data_eta"].as_f64().unwrap();
+    assert!(eta(native) > 10.0 * eta(cx), "{text}");
+    assert!(native["high_rate_distance"].is_null());
+    assert!(cx["high_rate_distance"]["value"].as_u64().is_some());
+
+    // Rates: per-round Wilson intervals that contain the estimate, consistent with the counts.
+    for r in rows {
+        let rates = r["rates"].as_array().unwrap();
+        assert_eq!(rates.len(), 2, "{text}");
+        for (x, p) in rates.iter().zip([0.002, 0.004]) {
+            assert_eq!(x["p"].as_f64().unwrap(), p);
+            assert_eq!(x["shots"].as_u64().unwrap(), 2000);
+            let (k, n, rounds) = (
+                x["errors"].as_u64().unwrap() as f64,
+                2000.0,
+                x["rounds"].as_u64().unwrap() as i32,
+            );
+            let pr = &x["per_round"];
+            let (rate, low, high) = (
+                pr["rate"].as_f64().unwrap(),
+                pr["low"].as_f64().unwrap(),
+                pr["high"].as_f64().unwrap(),
+            );
+            assert!((1.0 - (1.0 - rate).powi(rounds) - k / n).abs() < 1e-12);
+            assert!(0.0 <= low && low <= rate && rate <= high && high < 1.0 && low < high);
+        }
+    }
+    let rate =
+        |r: &serde_json::Value, i: usize| r["rates"][i]["per_round"]["rate"].as_f64().unwrap();
+    for r in rows {
+        assert!(rate(r, 1) > rate(r, 0), "rate grows with p: {text}");
+    }
+
+    // Best marks: `none` beats a finite high-rate distance; kept beats lost; a rate is marked
+    // exactly when its interval lies below the other row's.
+    let best = |r: &serde_json::Value| -> Vec<String> {
+        r["best"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|b| b.as_str().unwrap().to_string())
+            .collect()
+    };
+    for col in ["high-rate", "bias", "data-eta"] {
+        assert!(best(native).contains(&col.to_string()), "{col}: {text}");
+        assert!(!best(cx).contains(&col.to_string()), "{col}: {text}");
+    }
+    assert!(
+        !best(native).contains(&"distance".to_string()),
+        "tie: {text}"
+    );
+    for (i, p) in ["0.002", "0.004"].iter().enumerate() {
+        let bound =
+            |r: &serde_json::Value, end: &str| r["rates"][i]["per_round"][end].as_f64().unwrap();
+        for (a, b) in [(native, cx), (cx, native)] {
+            assert_eq!(
+                best(a).contains(&format!("rate p={p}")),
+                bound(a, "high") < bound(b, "low"),
+                "{text}"
+            );
+        }
+    }
+
+    // The plot: one line per variant, labelled, with its points ordered as the rates (SVG y
+    // grows downwards).
+    let svg = std::fs::read_to_string(&svg_path).unwrap();
+    assert!(svg.starts_with("<svg") && svg.trim_end().ends_with("</svg>"));
+    assert!(svg.contains("entangler=native") && svg.contains("entangler=cx"));
+    let series = svg_series(&svg);
+    assert_eq!(series.len(), 2, "{series:?}");
+    assert_ne!(series[0].0, series[1].0, "distinct colours");
+    for (_, pts) in &series {
+        assert_eq!(pts.len(), 2);
+        assert!(pts[0].0 < pts[1].0, "x grows with p");
+        assert!(pts[1].1 < pts[0].1, "higher rate is drawn higher");
+    }
+    for i in 0..2 {
+        assert_eq!(
+            series[0].1[i].1 > series[1].1[i].1,
+            rate(native, i) < rate(cx, i),
+            "{series:?}"
+        );
+    }
+}
+
+#[test]
+fn cli_compare_refuses_p_for_model_files() {
+    let dir = tempfile::tempdir().unwrap();
+    let model = dir.path().join("m.toml");
+    std::fs::write(&model, "p = 0.001\n").unwrap();
+    let out = slant()
+        .args([
+            "compare",
+            "--family",
+            "repetition",
+            "--vary",
+            "distance=3,5",
+            "--noise",
+            model.to_str().unwrap(),
+            "--p",
+            "0.01",
+        ])
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(1));
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(err.contains("model file"), "{err}");
+}

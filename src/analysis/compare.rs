@@ -1,16 +1,104 @@
 //! Side-by-side comparison of circuits under one noise model.
 //!
-//! In: named noisy [`Circuit`]s (files, or variants of a generated family). Out: one [`Row`] per
-//! circuit — size, fault-graph shape and distances by class ([`crate::analysis::distance`]) —
-//! and, per column, which rows are best ([`best`]).
+//! In: named circuits (files, or variants of a generated family) and a noise specification,
+//! written in by [`with_noise`]. Out: one [`Row`] per circuit — size, duration under the model,
+//! fault-graph shape, distances by class ([`crate::analysis::distance`]) and the bias verdict
+//! with the effective bias at the data ([`crate::analysis::bias`]) — and, per [`Column`], which
+//! rows are best ([`best`]).
 //!
-//! Not yet here (see issue 7): duration from a hardware model, bias verdict and effective data
-//! bias (need the bias analysis), logical error rates per round with intervals (need the
-//! estimate command) and plots.
+//! Logical error rates ([`RatePoint`]) are filled in by the caller, which runs the decoder
+//! (`decode` is a sibling stage, so this module only holds and ranks the numbers). A rate is
+//! marked best only when its interval lies wholly below every other row's interval: with Monte
+//! Carlo estimates a lower point estimate alone is not evidence of a better circuit.
 
+use crate::analysis::bias;
 use crate::analysis::distance::{self, Count, DistanceOptions, DistanceReport};
 use crate::faults::{ExtractOptions, FaultGraph};
 use crate::ir::Circuit;
+use crate::lang::Diagnostic;
+use crate::noise::compile::Note;
+use crate::noise::NoiseSpec;
+
+/// A circuit with its noise written in, and what the compiler said about it.
+#[derive(Clone, Debug)]
+pub struct Noisy {
+    /// The circuit with explicit channels.
+    pub circuit: Circuit,
+    /// The compiler's notes (empty for presets, whose channels need no explanation).
+    pub notes: Vec<Note>,
+    /// Total duration from a hardware model; `None` when the model gives no durations (the
+    /// presets never do).
+    pub duration: Option<f64>,
+}
+
+/// Writes `spec` into `circuit` (`None`: the noise written in the file only).
+pub fn with_noise(circuit: Circuit, spec: Option<&NoiseSpec>) -> Result<Noisy, Vec<Diagnostic>> {
+    match spec {
+        None => Ok(Noisy {
+            circuit,
+            notes: Vec::new(),
+            duration: None,
+        }),
+        Some(NoiseSpec::Model(m)) => {
+            let c = crate::noise::compile::compile(&circuit, m)?;
+            Ok(Noisy {
+                circuit: c.circuit,
+                notes: c.notes,
+                // Zero means no operation had a duration: the model says nothing about time.
+                duration: (c.duration > 0.0).then_some(c.duration),
+            })
+        }
+        Some(spec) => Ok(Noisy {
+            circuit: crate::noise::apply(&circuit, spec)?,
+            notes: Vec::new(),
+            duration: None,
+        }),
+    }
+}
+
+/// The bias columns of a row.
+#[derive(Clone, Debug, PartialEq)]
+pub struct BiasSummary {
+    /// Whether no operation turns a high-rate fault into X or Y at the data.
+    pub kept: bool,
+    /// [`bias::BiasReport::verdict`]: `bias kept` or `bias lost at LOCATION (GATE)`.
+    pub verdict: String,
+    /// Effective bias at the data over all rounds, `Σ pZ / Σ pX,Y` (infinite when nothing
+    /// reaches the data with X or Y; `None` when nothing reaches it at all).
+    pub data_eta: Option<f64>,
+}
+
+impl BiasSummary {
+    /// Summarises a bias report.
+    pub fn of(r: &bias::BiasReport) -> BiasSummary {
+        let z: f64 = r.rounds.iter().map(|b| b.z).sum();
+        let xy: f64 = r.rounds.iter().map(|b| b.xy).sum();
+        BiasSummary {
+            kept: r.converters.is_empty(),
+            verdict: r.verdict(),
+            data_eta: (z + xy > 0.0).then(|| z / xy),
+        }
+    }
+}
+
+/// Logical error rate per round at one physical error rate, with its interval.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct RatePoint {
+    /// Physical error rate (the preset's `p`).
+    pub p: f64,
+    /// Shots run.
+    pub shots: u64,
+    /// Logical failures among them.
+    pub errors: u64,
+    /// Rounds of the circuit (for the per-round conversion).
+    pub rounds: u32,
+    /// Per-round rate.
+    pub rate: f64,
+    /// Lower end of the per-round interval.
+    pub low: f64,
+    /// Upper end of the per-round interval.
+    pub high: f64,
+}
 
 /// One compared circuit.
 #[derive(Clone, Debug)]
@@ -31,15 +119,22 @@ pub struct Row {
     pub undecomposed_share: f64,
     /// Distances by class.
     pub report: DistanceReport,
+    /// Total duration under the model, if it gives durations.
+    pub duration: Option<f64>,
+    /// Bias verdict and effective data bias.
+    pub bias: BiasSummary,
+    /// Logical error rates, one per `p` in the same order for every row (empty when not asked).
+    pub rates: Vec<RatePoint>,
 }
 
-/// Extracts the fault graph of `circuit` and measures it.
+/// Extracts the fault graph of the noisy circuit and measures it; `rates` is left empty.
 pub fn evaluate(
     name: impl Into<String>,
-    circuit: &Circuit,
+    noisy: &Noisy,
     extract: &ExtractOptions,
     opts: &DistanceOptions,
 ) -> Result<Row, String> {
+    let circuit = &noisy.circuit;
     let graph: FaultGraph = crate::faults::extract(circuit, extract);
     let report = distance::distances(&graph, opts)?;
     let n = graph.mechanisms.len().max(1) as f64;
@@ -52,6 +147,9 @@ pub fn evaluate(
         hyperedge_share: graph.hyperedges.hyperedges as f64 / n,
         undecomposed_share: graph.hyperedges.undecomposed.len() as f64 / n,
         report,
+        duration: noisy.duration,
+        bias: BiasSummary::of(&bias::analyze(circuit, &noisy.notes)),
+        rates: Vec::new(),
     })
 }
 
@@ -72,19 +170,39 @@ pub enum Column {
     Qubits,
     /// Weighted distance (larger is better).
     Weighted,
+    /// Total duration (smaller is better).
+    Duration,
+    /// Bias verdict (kept is better than lost).
+    Bias,
+    /// Effective bias at the data (larger is better; compared at two significant figures).
+    DataBias,
+    /// Logical error rate at the `i`-th `p` (smaller is better; see [`best`]).
+    Rate(usize),
 }
 
 impl Column {
-    /// Every column, in table order.
-    pub const ALL: [Column; 7] = [
+    /// Every column without a rate, in table order.
+    pub const FIXED: [Column; 10] = [
         Column::Qubits,
         Column::Layers,
+        Column::Duration,
         Column::Undecomposed,
         Column::Distance,
         Column::HighRate,
         Column::LowRate,
         Column::Weighted,
+        Column::Bias,
+        Column::DataBias,
     ];
+
+    /// Every column of `rows`: [`Column::FIXED`] and one rate column per `p`.
+    pub fn all(rows: &[Row]) -> Vec<Column> {
+        let n = rows.first().map_or(0, |r| r.rates.len());
+        Column::FIXED
+            .into_iter()
+            .chain((0..n).map(Column::Rate))
+            .collect()
+    }
 
     /// A key under which larger is better (`None` when the row has no value).
     fn key(self, r: &Row) -> Option<f64> {
@@ -107,13 +225,41 @@ impl Column {
                 .as_ref()
                 .map(|w| w.weight)
                 .or(Some(f64::INFINITY)),
+            Column::Duration => r.duration.map(|d| -d),
+            Column::Bias => Some(if r.bias.kept { 1.0 } else { 0.0 }),
+            // Two significant figures, as printed: smaller differences say nothing about the
+            // circuits (the depolarizing split alone gives 1/2 up to placement effects).
+            Column::DataBias => r.bias.data_eta.map(|e| significant(e, 2)),
+            Column::Rate(i) => r.rates.get(i).map(|x| -x.rate),
         }
     }
 }
 
+/// `x` rounded to `digits` significant figures (infinities and zero unchanged).
+pub fn significant(x: f64, digits: i32) -> f64 {
+    if x == 0.0 || !x.is_finite() {
+        return x;
+    }
+    let scale = 10f64.powi(digits - 1 - x.abs().log10().floor() as i32);
+    (x * scale).round() / scale
+}
+
 /// For each row, whether it is best (ties included) in `column`. Nothing is marked when all rows
-/// tie, so marks only appear where the variants differ.
+/// tie, so marks only appear where the variants differ. A rate is best when its interval's upper
+/// end lies below the lower end of every other row's interval (at most one row).
 pub fn best(rows: &[Row], column: Column) -> Vec<bool> {
+    if let Column::Rate(i) = column {
+        return (0..rows.len())
+            .map(|j| {
+                rows.len() > 1
+                    && rows[j].rates.get(i).is_some_and(|a| {
+                        rows.iter()
+                            .enumerate()
+                            .all(|(k, r)| k == j || r.rates.get(i).is_some_and(|b| a.high < b.low))
+                    })
+            })
+            .collect();
+    }
     let keys: Vec<Option<f64>> = rows.iter().map(|r| column.key(r)).collect();
     let top = keys
         .iter()
@@ -122,7 +268,13 @@ pub fn best(rows: &[Row], column: Column) -> Vec<bool> {
         .fold(f64::NEG_INFINITY, f64::max);
     let marks: Vec<bool> = keys
         .iter()
-        .map(|k| k.is_some_and(|k| (k - top).abs() <= 1e-9 * top.abs().max(1.0) || k == top))
+        // Equal up to rounding; an infinite top ("none") ties only with itself, since a relative
+        // tolerance of an infinite key would be infinite.
+        .map(|k| {
+            k.is_some_and(|k| {
+                k == top || (top.is_finite() && (k - top).abs() <= 1e-9 * top.abs().max(1.0))
+            })
+        })
         .collect();
     if marks.iter().all(|&m| m) {
         vec![false; rows.len()]

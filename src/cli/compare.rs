@@ -3,8 +3,14 @@
 //!
 //! Variants are built by running the `slant new` option parser on `FAMILY --KEY VALUE` plus the
 //! fixed `--with` options, so every `slant new` option can be varied and is validated the same
-//! way. Logical error rates, bias verdicts and `--plot` are not implemented yet (they need the
-//! estimate and bias commands).
+//! way.
+//!
+//! With `--p LIST` every variant is also sampled and decoded ([`crate::decode::run`]) at each
+//! physical error rate: the `p=` of the `--noise` preset text is replaced by each value (other
+//! keys, including an explicit `q=`, stay as written). A model file has many rates of its own and
+//! no single `p` to replace, so `--p` with a `.toml` model is refused. The distances and the bias
+//! columns always use `--noise` as written. `--plot FILE.svg` draws the per-round rates against
+//! `p`, one curve per variant ([`crate::decode::plot`]).
 
 use std::fmt::Write as _;
 use std::path::PathBuf;
@@ -12,21 +18,29 @@ use std::path::PathBuf;
 use clap::Parser;
 use serde_json::json;
 
-use crate::analysis::compare::{self, Column, Row};
+use crate::analysis::compare::{self, Column, RatePoint, Row};
 use crate::analysis::distance::{Count, DistanceOptions};
 use crate::cli::common::{parse_setting, read_source, NoiseArgs};
+use crate::cli::output::write_atomic;
 use crate::cli::{distance::count_text, new, CliError};
+use crate::decode::plot::{Curve, Panel};
+use crate::decode::run::{Experiment, RunOptions};
+use crate::decode::stats::{Estimate, Z95};
+use crate::decode::DecoderKind;
 use crate::faults::ExtractOptions;
 use crate::lang::{Diagnostic, Source};
+use crate::noise::NoiseSpec;
 
 /// Arguments of `slant compare`.
 #[derive(Debug, clap::Args)]
 #[command(
     after_help = "Examples:\n  slant compare a.slant b.slant --noise 'circuit p=0.001'\n  \
 slant compare --family surface --with distance=5 --vary order=hook-safe,hook-aligned \
---noise 'circuit p=0.001'\n  slant compare --family xzzx --with distance=3 --vary \
-entangler=native,cx --noise 'circuit p=0.001 bias=100' --csv\n\
-A `*` marks the best value of a column when the rows differ."
+--noise 'circuit p=0.001' --p 0.002,0.004 --plot orders.svg\n  slant compare --family xzzx \
+--with distance=3 --vary entangler=native,cx --noise 'circuit p=0.001 bias=100 \
+cx=bias-preserving' --csv\n\
+A `*` marks the best value of a column when the rows differ; a logical error rate is marked only \
+when its 95% interval lies below every other row's. Rates are per round: 1 - (1 - p_shot)^(1/R)."
 )]
 pub struct Args {
     /// Circuit files to compare.
@@ -56,6 +70,30 @@ pub struct Args {
     /// Print CSV.
     #[arg(long)]
     pub csv: bool,
+    /// Also estimate the logical error rate at each of these physical error rates (replaces the
+    /// `p=` of the `--noise` preset), e.g. `0.002,0.004`.
+    #[arg(
+        long = "p",
+        value_name = "P1,P2,...",
+        value_delimiter = ',',
+        requires = "noise"
+    )]
+    pub p: Vec<f64>,
+    /// Shots per variant and `p`.
+    #[arg(long, value_name = "N", default_value_t = 10_000)]
+    pub shots: u64,
+    /// Stop a point once this many logical errors have been seen.
+    #[arg(long, value_name = "K")]
+    pub max_errors: Option<u64>,
+    /// Decoder: `mwpm` or `uf`.
+    #[arg(long, value_name = "D", default_value = "mwpm", value_parser = |s: &str| s.parse::<DecoderKind>())]
+    pub decoder: DecoderKind,
+    /// Seed of the sampler (the same for every point); the same seed gives the same counts.
+    #[arg(long, value_name = "S", default_value_t = 0)]
+    pub seed: u64,
+    /// Draw the logical error rate per round against `p`, one curve per variant, to an SVG file.
+    #[arg(long, value_name = "FILE.svg", requires = "p")]
+    pub plot: Option<PathBuf>,
 }
 
 #[derive(Parser)]
@@ -118,17 +156,156 @@ fn sources(args: &Args) -> Result<Vec<(String, crate::ir::Circuit)>, CliError> {
     Ok(out)
 }
 
+/// The `--noise` text with its `p=` replaced by `p`. Refused for model files, which have no single
+/// `p`, and for texts without a `p=` key.
+fn at_p(text: &str, p: f64) -> Result<String, Diagnostic> {
+    if text.trim().ends_with(".toml") {
+        return Err(Diagnostic::bare(format!(
+            "`--p` re-runs a preset at each physical error rate, but `{}` is a model file with \
+             rates of its own",
+            text.trim()
+        ))
+        .with_hint(
+            "compare under the model without `--p`, or write one model file per rate and run \
+             `slant estimate` on each",
+        ));
+    }
+    let mut found = false;
+    let out: Vec<String> = text
+        .split_whitespace()
+        .map(|t| {
+            if t.starts_with("p=") {
+                found = true;
+                format!("p={p}")
+            } else {
+                t.to_string()
+            }
+        })
+        .collect();
+    if !found {
+        return Err(Diagnostic::bare(format!(
+            "`--p` replaces the `p=` of the noise preset, but `{text}` has none"
+        )));
+    }
+    Ok(out.join(" "))
+}
+
+/// Samples and decodes `circuit` under the `--noise` text at every `--p`.
+fn rates(
+    args: &Args,
+    text: &str,
+    circuit: &crate::ir::Circuit,
+) -> Result<Vec<RatePoint>, CliError> {
+    let mut out = Vec::new();
+    for &p in &args.p {
+        let spec = NoiseSpec::parse(&at_p(text, p)?)?;
+        let noisy = crate::noise::apply(circuit, &spec)?;
+        let exp = Experiment::new(&noisy, args.decoder).map_err(|e| {
+            CliError::Internal(format!(
+                "the extracted matching graph is not decodable: {e}"
+            ))
+        })?;
+        let counts = exp.run(
+            &RunOptions {
+                shots: args.shots,
+                max_errors: args.max_errors,
+                seed: args.seed,
+            },
+            |_| {},
+        );
+        let e = Estimate::wilson(counts.errors, counts.shots, Z95).per_round(exp.rounds);
+        out.push(RatePoint {
+            p,
+            shots: counts.shots,
+            errors: counts.errors,
+            rounds: exp.rounds,
+            rate: e.rate,
+            low: e.low,
+            high: e.high,
+        });
+    }
+    Ok(out)
+}
+
 /// Runs `slant compare`.
 pub fn run(args: Args) -> Result<(), CliError> {
     let extract = ExtractOptions {
         high_rate_flips: args.high_rate_flips,
     };
+    if args.p.iter().any(|&p| !(p > 0.0 && p < 1.0)) {
+        return Err(
+            Diagnostic::bare("`--p`: every value must lie strictly between 0 and 1").into(),
+        );
+    }
+    if let Some(plot) = &args.plot {
+        if !plot
+            .extension()
+            .is_some_and(|e| e.eq_ignore_ascii_case("svg"))
+        {
+            return Err(Diagnostic::bare(format!(
+                "`{}`: only SVG output is supported",
+                plot.display()
+            ))
+            .with_hint("name the plot FILE.svg; convert with an SVG tool if you need PNG")
+            .into());
+        }
+    }
+    let spec = match &args.noise.noise {
+        Some(text) => {
+            if !args.p.is_empty() {
+                at_p(text, args.p[0])?;
+            }
+            Some(NoiseSpec::parse(text)?)
+        }
+        None => None,
+    };
     let mut rows = Vec::new();
     for (name, circuit) in sources(&args)? {
-        let circuit = args.noise.apply(circuit)?;
-        let row = compare::evaluate(name, &circuit, &extract, &DistanceOptions::default())
+        if !args.p.is_empty() && circuit.observables.is_empty() {
+            return Err(Diagnostic::bare(format!(
+                "`{name}` declares no observable, so there is no logical error rate to estimate"
+            ))
+            .into());
+        }
+        let noisy = compare::with_noise(circuit.clone(), spec.as_ref())?;
+        let mut row = compare::evaluate(name, &noisy, &extract, &DistanceOptions::default())
             .map_err(CliError::Internal)?;
+        if let Some(text) = &args.noise.noise {
+            row.rates = rates(&args, text, &circuit)?;
+        }
         rows.push(row);
+    }
+    if let Some(path) = &args.plot {
+        let panel = Panel {
+            title: format!(
+                "{} (p varied along the x axis)",
+                args.noise.noise.as_deref().unwrap_or_default()
+            ),
+            y_desc: "logical error rate (per round)".into(),
+            curves: rows
+                .iter()
+                .map(|r| Curve {
+                    label: r.name.clone(),
+                    points: r
+                        .rates
+                        .iter()
+                        .map(|x| {
+                            (
+                                x.p,
+                                Estimate {
+                                    rate: x.rate,
+                                    low: x.low,
+                                    high: x.high,
+                                },
+                            )
+                        })
+                        .collect(),
+                })
+                .collect(),
+            marker: None,
+        };
+        let svg = crate::decode::plot::svg(&[panel]).map_err(CliError::Internal)?;
+        write_atomic(path, svg.as_bytes())?;
     }
     let text = if args.json {
         json_text(&rows)?
@@ -138,13 +315,17 @@ pub fn run(args: Args) -> Result<(), CliError> {
         table_text(&rows)
     };
     print!("{text}");
+    if let Some(path) = &args.plot {
+        eprintln!("plot written to `{}`", path.display());
+    }
     Ok(())
 }
 
-const HEADERS: [&str; 10] = [
+const HEADERS: [&str; 14] = [
     "circuit",
     "qubits",
     "layers",
+    "duration",
     "detectors",
     "mechanisms",
     "hyper",
@@ -152,9 +333,20 @@ const HEADERS: [&str; 10] = [
     "distance",
     "high-rate",
     "low-rate",
+    "weighted",
+    "bias",
+    "data-eta",
 ];
 
-/// The cells of one row (without best marks), in [`HEADERS`] order plus the weighted distance.
+fn eta_text(x: Option<f64>) -> String {
+    match x {
+        None => "-".into(),
+        Some(x) if x.is_infinite() => "inf".into(),
+        Some(x) => format!("{}", compare::significant(x, 2)),
+    }
+}
+
+/// The cells of one row without best marks, in [`HEADERS`] order.
 fn cells(r: &Row) -> Vec<String> {
     let (low, weighted) = (
         r.report
@@ -170,6 +362,9 @@ fn cells(r: &Row) -> Vec<String> {
         r.name.clone(),
         r.qubits.to_string(),
         r.layers.to_string(),
+        // Sums of decimal durations leave binary rounding residue; six figures is plenty.
+        r.duration
+            .map_or("-".into(), |d| format!("{}", compare::significant(d, 6))),
         r.detectors.to_string(),
         r.mechanisms.to_string(),
         format!("{:.1}%", 100.0 * r.hyperedge_share),
@@ -178,45 +373,50 @@ fn cells(r: &Row) -> Vec<String> {
         count_text(r.report.high_rate.as_ref()),
         low,
         weighted,
+        if r.bias.kept { "kept" } else { "lost" }.into(),
+        eta_text(r.bias.data_eta),
     ]
 }
 
-/// Column index in [`cells`] of each comparable column.
-fn cell_index(c: Column) -> usize {
-    match c {
+/// Column index in [`cells`] of each fixed column.
+fn cell_index(c: Column) -> Option<usize> {
+    Some(match c {
         Column::Qubits => 1,
         Column::Layers => 2,
-        Column::Undecomposed => 6,
-        Column::Distance => 7,
-        Column::HighRate => 8,
-        Column::LowRate => 9,
-        Column::Weighted => 10,
+        Column::Duration => 3,
+        Column::Undecomposed => 7,
+        Column::Distance => 8,
+        Column::HighRate => 9,
+        Column::LowRate => 10,
+        Column::Weighted => 11,
+        Column::Bias => 12,
+        Column::DataBias => 13,
+        Column::Rate(_) => return None,
+    })
+}
+
+/// The name of a column in JSON `best` lists.
+fn column_name(rows: &[Row], c: Column) -> String {
+    match (c, cell_index(c)) {
+        (Column::Rate(i), _) => format!("rate p={}", rows[0].rates[i].p),
+        (_, Some(k)) => HEADERS[k].to_string(),
+        (_, None) => String::new(),
     }
 }
 
-fn table_text(rows: &[Row]) -> String {
-    let mut header: Vec<String> = HEADERS.iter().map(|s| s.to_string()).collect();
-    header.push("weighted".into());
-    let mut grid: Vec<Vec<String>> = rows.iter().map(cells).collect();
-    for c in Column::ALL {
-        let marks = compare::best(rows, c);
-        for (row, m) in grid.iter_mut().zip(marks) {
-            if m {
-                row[cell_index(c)].push('*');
-            }
-        }
-    }
+/// Left-aligned first column, right-aligned others, two spaces apart.
+fn aligned(header: &[String], grid: &[Vec<String>]) -> String {
     let widths: Vec<usize> = (0..header.len())
         .map(|i| {
             grid.iter()
                 .map(|r| r[i].chars().count())
-                .chain([header[i].len()])
+                .chain([header[i].chars().count()])
                 .max()
                 .unwrap_or(0)
         })
         .collect();
     let mut s = String::new();
-    let line = |s: &mut String, cols: &[String]| {
+    for cols in std::iter::once(header).chain(grid.iter().map(Vec::as_slice)) {
         let parts: Vec<String> = cols
             .iter()
             .enumerate()
@@ -229,33 +429,86 @@ fn table_text(rows: &[Row]) -> String {
             })
             .collect();
         let _ = writeln!(s, "{}", parts.join("  ").trim_end());
-    };
-    line(&mut s, &header);
-    for r in &grid {
-        line(&mut s, r);
     }
+    s
+}
+
+fn table_text(rows: &[Row]) -> String {
+    let header: Vec<String> = HEADERS.iter().map(|s| s.to_string()).collect();
+    let mut grid: Vec<Vec<String>> = rows.iter().map(cells).collect();
+    for c in Column::FIXED {
+        let marks = compare::best(rows, c);
+        let Some(k) = cell_index(c) else { continue };
+        for (row, m) in grid.iter_mut().zip(marks) {
+            if m {
+                row[k].push('*');
+            }
+        }
+    }
+    let mut s = aligned(&header, &grid);
     s.push_str(
         "low-rate = low-rate mechanisms / total in the logical error with the fewest low-rate \
-         ones; * = best in column\n",
+         ones; data-eta = pZ / pX,Y reaching the data; * = best in column\n",
     );
+    for r in rows.iter().filter(|r| !r.bias.kept) {
+        let _ = writeln!(s, "{}: {}", r.name, r.bias.verdict);
+    }
+    let n = rows.first().map_or(0, |r| r.rates.len());
+    if n > 0 {
+        let mut header = vec!["circuit".to_string()];
+        header.extend(rows[0].rates.iter().map(|x| format!("p={}", x.p)));
+        let mut grid: Vec<Vec<String>> = rows
+            .iter()
+            .map(|r| {
+                std::iter::once(r.name.clone())
+                    .chain(r.rates.iter().map(|x| {
+                        format!(
+                            "{:.2e} [{:.2e}, {:.2e}] {}/{}",
+                            x.rate, x.low, x.high, x.errors, x.shots
+                        )
+                    }))
+                    .collect()
+            })
+            .collect();
+        for i in 0..n {
+            for (row, m) in grid.iter_mut().zip(compare::best(rows, Column::Rate(i))) {
+                if m {
+                    row[i + 1].push('*');
+                }
+            }
+        }
+        s.push_str("\nlogical error rate per round [95% Wilson interval] errors/shots:\n");
+        s.push_str(&aligned(&header, &grid));
+    }
     s
 }
 
 fn csv_text(rows: &[Row]) -> String {
     let mut s = String::from(
         "circuit,qubits,layers,detectors,mechanisms,hyperedge_share,hyperedge_share_after,\
-         distance,distance_lower,high_rate_distance,low_rate_count,low_rate_total,weighted\n",
+         distance,distance_lower,high_rate_distance,low_rate_count,low_rate_total,weighted,\
+         duration,bias_kept,bias_verdict,data_eta",
     );
+    if let Some(r) = rows.first() {
+        for x in &r.rates {
+            let p = x.p;
+            let _ = write!(s, ",rate_p{p},low_p{p},high_p{p},errors_p{p},shots_p{p}");
+        }
+    }
+    s.push('\n');
     let opt = |c: Option<&Count>| c.map_or(String::new(), |c| c.value.to_string());
-    for r in rows {
-        let name = if r.name.contains([',', '"']) {
-            format!("\"{}\"", r.name.replace('"', "\"\""))
+    let quote = |t: &str| {
+        if t.contains([',', '"']) {
+            format!("\"{}\"", t.replace('"', "\"\""))
         } else {
-            r.name.clone()
-        };
-        let _ = writeln!(
+            t.to_string()
+        }
+    };
+    for r in rows {
+        let _ = write!(
             s,
-            "{name},{},{},{},{},{},{},{},{},{},{},{},{}",
+            "{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{}",
+            quote(&r.name),
             r.qubits,
             r.layers,
             r.detectors,
@@ -280,7 +533,19 @@ fn csv_text(rows: &[Row]) -> String {
                 .weighted
                 .as_ref()
                 .map_or(String::new(), |w| w.weight.to_string()),
+            r.duration.map_or(String::new(), |d| d.to_string()),
+            r.bias.kept,
+            quote(&r.bias.verdict),
+            r.bias.data_eta.map_or(String::new(), |e| e.to_string()),
         );
+        for x in &r.rates {
+            let _ = write!(
+                s,
+                ",{},{},{},{},{}",
+                x.rate, x.low, x.high, x.errors, x.shots
+            );
+        }
+        s.push('\n');
     }
     s
 }
@@ -289,19 +554,29 @@ fn json_text(rows: &[Row]) -> Result<String, CliError> {
     let count = |c: Option<&Count>| {
         c.map(|c| json!({"value": c.value, "lower": c.lower, "method": c.method.name()}))
     };
+    let columns = Column::all(rows);
     let list: Vec<_> = rows
         .iter()
         .enumerate()
         .map(|(i, r)| {
-            let best: Vec<&str> = Column::ALL
+            let best: Vec<String> = columns
                 .iter()
                 .filter(|&&c| compare::best(rows, c)[i])
-                .map(|&c| HEADERS.get(cell_index(c)).copied().unwrap_or("weighted"))
+                .map(|&c| column_name(rows, c))
                 .collect();
+            // JSON has no infinity: an infinite data bias is written as the string "inf".
+            let eta = r.bias.data_eta.map(|e| {
+                if e.is_infinite() {
+                    json!("inf")
+                } else {
+                    json!(e)
+                }
+            });
             json!({
                 "circuit": r.name,
                 "qubits": r.qubits,
                 "layers": r.layers,
+                "duration": r.duration,
                 "detectors": r.detectors,
                 "mechanisms": r.mechanisms,
                 "hyperedge_share": r.hyperedge_share,
@@ -312,6 +587,15 @@ fn json_text(rows: &[Row]) -> Result<String, CliError> {
                     .map(|l| json!({"low": l.low, "total": l.total})),
                 "weighted": r.report.weighted.as_ref()
                     .map(|w| json!({"weight": w.weight, "probability": w.probability})),
+                "bias": {"kept": r.bias.kept, "verdict": r.bias.verdict, "data_eta": eta},
+                "rates": r.rates.iter().map(|x| json!({
+                    "p": x.p,
+                    "shots": x.shots,
+                    "errors": x.errors,
+                    "rounds": x.rounds,
+                    "per_round": {"rate": x.rate, "low": x.low, "high": x.high},
+                    "confidence": 0.95,
+                })).collect::<Vec<_>>(),
                 "best": best,
             })
         })

@@ -4,16 +4,15 @@
 //! ([`crate::decode::sweep::aggregate`]) and draws one log-log panel per curve group (label,
 //! decoder, bias): one line per distance, 95% Wilson error bars, and a dashed vertical line at
 //! the threshold estimate ([`crate::decode::threshold`]). The estimates and the scaling fit are
-//! printed on stdout. Output is SVG (plotters' SVG backend, no system libraries), written
+//! printed on stdout. Output is SVG (drawn by [`crate::decode::plot`]), written
 //! atomically.
 
 use std::collections::BTreeMap;
 use std::path::PathBuf;
 
-use plotters::prelude::*;
-
 use crate::cli::output::write_atomic;
 use crate::cli::CliError;
+use crate::decode::plot::{Curve, Marker, Panel};
 use crate::decode::stats::{Estimate, Z95};
 use crate::decode::sweep::{aggregate, read_store, Point};
 use crate::decode::threshold::{crossings, scaling_fit, threshold};
@@ -34,17 +33,6 @@ pub struct Args {
     #[arg(long, value_name = "TEXT")]
     pub only: Option<String>,
 }
-
-const COLOURS: [RGBColor; 8] = [
-    RGBColor(31, 119, 180),
-    RGBColor(255, 127, 14),
-    RGBColor(44, 160, 44),
-    RGBColor(214, 39, 40),
-    RGBColor(148, 103, 189),
-    RGBColor(140, 86, 75),
-    RGBColor(227, 119, 194),
-    RGBColor(23, 190, 207),
-];
 
 /// Runs `slant plot`.
 pub fn run(args: Args) -> Result<(), CliError> {
@@ -122,109 +110,34 @@ pub fn run(args: Args) -> Result<(), CliError> {
     Ok(())
 }
 
-/// Draws all groups, one panel each, into an SVG string.
+/// Draws all groups, one panel each ([`crate::decode::plot`]): one curve per distance and the
+/// threshold estimate as a dashed marker.
 fn draw(groups: &BTreeMap<String, Vec<Point>>, rate_name: &str) -> Result<String, CliError> {
-    let mut svg = String::new();
-    let panel_h = 520u32;
-    {
-        let root = SVGBackend::with_string(&mut svg, (820, panel_h * groups.len() as u32))
-            .into_drawing_area();
-        let fail = |e: &dyn std::fmt::Display| CliError::Internal(format!("plotting failed: {e}"));
-        root.fill(&WHITE).map_err(|e| fail(&e))?;
-        let panels = root.split_evenly((groups.len(), 1));
-        for ((name, pts), area) in groups.iter().zip(panels.iter()) {
-            draw_group(area, name, pts, rate_name).map_err(|e| fail(&e))?;
-        }
-        root.present().map_err(|e| fail(&e))?;
-    }
-    Ok(svg)
-}
-
-type Area<'a> = DrawingArea<SVGBackend<'a>, plotters::coord::Shift>;
-
-fn draw_group(
-    area: &Area<'_>,
-    name: &str,
-    pts: &[Point],
-    rate_name: &str,
-) -> Result<(), Box<dyn std::error::Error>> {
-    let bars: Vec<(u32, f64, Estimate)> = pts
+    let panels: Vec<Panel> = groups
         .iter()
-        .map(|p| (p.distance, p.p, Estimate::wilson(p.errors, p.shots, Z95)))
+        .map(|(name, pts)| {
+            let mut by_d: BTreeMap<u32, Vec<(f64, Estimate)>> = BTreeMap::new();
+            for p in pts {
+                by_d.entry(p.distance)
+                    .or_default()
+                    .push((p.p, Estimate::wilson(p.errors, p.shots, Z95)));
+            }
+            Panel {
+                title: name.clone(),
+                y_desc: format!("logical error rate ({rate_name})"),
+                curves: by_d
+                    .into_iter()
+                    .map(|(d, points)| Curve {
+                        label: format!("d = {d}"),
+                        points,
+                    })
+                    .collect(),
+                marker: threshold(pts).map(|t| Marker {
+                    p: t.p,
+                    label: format!("threshold ≈ {:.3e} (d={}/{})", t.p, t.d1, t.d2),
+                }),
+            }
+        })
         .collect();
-    let xs = || bars.iter().map(|b| b.1);
-    let (xmin, xmax) = (
-        xs().fold(f64::INFINITY, f64::min),
-        xs().fold(0.0f64, f64::max),
-    );
-    let positive = |v: f64| (v > 0.0).then_some(v);
-    let ymin = bars
-        .iter()
-        .filter_map(|b| positive(b.2.low).or(positive(b.2.rate)))
-        .fold(f64::INFINITY, f64::min);
-    let ymax = bars.iter().map(|b| b.2.high).fold(0.0f64, f64::max);
-    let (ymin, ymax) = if ymin.is_finite() && ymax > 0.0 {
-        (ymin / 1.5, (ymax * 1.5).min(1.0))
-    } else {
-        (1e-6, 1.0)
-    };
-    let mut chart = ChartBuilder::on(area)
-        .caption(name, ("sans-serif", 20))
-        .margin(12)
-        .x_label_area_size(45)
-        .y_label_area_size(70)
-        .build_cartesian_2d(
-            (xmin / 1.1..xmax * 1.1).log_scale(),
-            (ymin..ymax).log_scale(),
-        )?;
-    chart
-        .configure_mesh()
-        .x_desc("physical error rate p")
-        .y_desc(format!("logical error rate ({rate_name})"))
-        .x_label_formatter(&|x| format!("{x:.2e}"))
-        .y_label_formatter(&|y| format!("{y:.0e}"))
-        .draw()?;
-    let mut by_d: BTreeMap<u32, Vec<(f64, Estimate)>> = BTreeMap::new();
-    for &(d, p, e) in &bars {
-        by_d.entry(d).or_default().push((p, e));
-    }
-    for (i, (d, curve)) in by_d.iter().enumerate() {
-        let colour = COLOURS[i % COLOURS.len()];
-        let line: Vec<(f64, f64)> = curve
-            .iter()
-            .filter(|(_, e)| e.rate > 0.0)
-            .map(|&(p, e)| (p, e.rate))
-            .collect();
-        chart
-            .draw_series(LineSeries::new(line.clone(), colour.stroke_width(2)))?
-            .label(format!("d = {d}"))
-            .legend(move |(x, y)| {
-                PathElement::new(vec![(x, y), (x + 20, y)], colour.stroke_width(2))
-            });
-        chart.draw_series(
-            line.iter()
-                .map(|&(p, r)| Circle::new((p, r), 3, colour.filled())),
-        )?;
-        chart.draw_series(curve.iter().map(|&(p, e)| {
-            ErrorBar::new_vertical(p, e.low.max(ymin), e.rate.max(ymin), e.high, colour, 6)
-        }))?;
-    }
-    if let Some(t) = threshold(pts) {
-        chart
-            .draw_series(DashedLineSeries::new(
-                vec![(t.p, ymin), (t.p, ymax)],
-                6,
-                4,
-                BLACK.stroke_width(1),
-            ))?
-            .label(format!("threshold ≈ {:.3e} (d={}/{})", t.p, t.d1, t.d2))
-            .legend(|(x, y)| PathElement::new(vec![(x, y), (x + 20, y)], BLACK));
-    }
-    chart
-        .configure_series_labels()
-        .position(SeriesLabelPosition::LowerRight)
-        .background_style(WHITE.mix(0.85))
-        .border_style(BLACK)
-        .draw()?;
-    Ok(())
+    crate::decode::plot::svg(&panels).map_err(CliError::Internal)
 }

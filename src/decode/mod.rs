@@ -21,6 +21,7 @@
 //!   can be shared by rayon threads.
 
 pub mod matching;
+pub mod plot;
 pub mod run;
 pub mod stats;
 pub mod sweep;
