@@ -565,6 +565,21 @@ impl Text {
         self.line(&format!("{head} {{ {body} }}"));
     }
 
+    /// The parameters and the `dz` × `dx` grid of data qubits shared by the rotated patch and
+    /// the torus: `d[i, j]` at `(2i + 1, 2j + 1)`.
+    fn grid_header(&mut self, spec: &GenSpec) {
+        self.line(&format!("param dx = {}", spec.dx));
+        self.line(&format!("param dz = {}", spec.dz));
+        self.line(&format!("param rounds = {}", spec.rounds));
+        self.line("");
+        self.open("for i in 0..dz");
+        self.block(
+            "for j in 0..dx",
+            "qubit d[i, j] at (2 * i + 1, 2 * j + 1) role data",
+        );
+        self.close();
+    }
+
     fn finish(self) -> String {
         debug_assert_eq!(self.depth, 0, "unbalanced blocks");
         self.out

@@ -150,16 +150,7 @@ pub(super) fn write(
         ));
     }
     w.line("");
-    w.line(&format!("param dx = {}", spec.dx));
-    w.line(&format!("param dz = {}", spec.dz));
-    w.line(&format!("param rounds = {}", spec.rounds));
-    w.line("");
-    w.open("for i in 0..dz");
-    w.block(
-        "for j in 0..dx",
-        "qubit d[i, j] at (2 * i + 1, 2 * j + 1) role data",
-    );
-    w.close();
+    w.grid_header(spec);
     let any_check = format!("({X_CHECK}) or ({Z_CHECK})");
     if r.style == Style::Ancilla {
         open_checks(w);

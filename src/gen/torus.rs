@@ -29,16 +29,7 @@ pub(super) fn write(w: &mut Text, spec: &GenSpec) {
     w.line("# (indices mod the sides). Data are prepared and read out in y; the observable is Y");
     w.line("# along an odd side, which anticommutes with the all-Z logical.");
     w.line("");
-    w.line(&format!("param dx = {}", spec.dx));
-    w.line(&format!("param dz = {}", spec.dz));
-    w.line(&format!("param rounds = {}", spec.rounds));
-    w.line("");
-    w.open("for i in 0..dz");
-    w.block(
-        "for j in 0..dx",
-        "qubit d[i, j] at (2 * i + 1, 2 * j + 1) role data",
-    );
-    w.close();
+    w.grid_header(spec);
     w.line("");
     w.block("layer", "reset y d[0..dz, 0..dx]");
     w.line("");

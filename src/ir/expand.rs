@@ -414,6 +414,17 @@ impl Expander {
         result
     }
 
+    fn open_layer(&mut self, span: Span) {
+        self.open = Some(OpenLayer {
+            layer: Layer {
+                ops: Vec::new(),
+                round: self.round,
+                span,
+            },
+            used: HashMap::new(),
+        });
+    }
+
     fn close_layer(&mut self) {
         if let Some(open) = self.open.take() {
             self.layers.push(open.layer);
@@ -443,14 +454,7 @@ impl Expander {
         );
         if is_op && self.open.is_none() {
             // A lone operation statement outside `layer { }` is a layer of its own.
-            self.open = Some(OpenLayer {
-                layer: Layer {
-                    ops: Vec::new(),
-                    round: self.round,
-                    span: st.span,
-                },
-                used: HashMap::new(),
-            });
+            self.open_layer(st.span);
             let result = self.stmt_inner(st);
             self.close_layer();
             return result;
@@ -507,14 +511,7 @@ impl Expander {
                 if self.open.is_some() {
                     return Err(self.err(st.span, "a `layer` cannot contain another `layer`"));
                 }
-                self.open = Some(OpenLayer {
-                    layer: Layer {
-                        ops: Vec::new(),
-                        round: self.round,
-                        span: st.span,
-                    },
-                    used: HashMap::new(),
-                });
+                self.open_layer(st.span);
                 self.block(body);
                 self.close_layer();
             }
