@@ -55,8 +55,17 @@ pub fn load_source(
     source: &Arc<Source>,
     overrides: &[(String, i64)],
 ) -> Result<ir::Circuit, Vec<Diagnostic>> {
+    load_source_with(source, overrides, &ir::expand::Limits::default())
+}
+
+/// [`load_source`] with explicit expansion limits.
+pub fn load_source_with(
+    source: &Arc<Source>,
+    overrides: &[(String, i64)],
+    limits: &ir::expand::Limits,
+) -> Result<ir::Circuit, Vec<Diagnostic>> {
     let ast = lang::parse(source)?;
-    let circuit = ir::expand::expand(&ast, overrides, &ir::expand::Limits::default())?;
+    let circuit = ir::expand::expand(&ast, overrides, limits)?;
     ir::check::check(&circuit)?;
     Ok(circuit)
 }

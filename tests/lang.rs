@@ -245,6 +245,17 @@ fn loop_past_the_size_limit() {
 }
 
 #[test]
+fn size_limit_is_configurable_on_the_command_line() {
+    let text = "param n = 50\nqubit q[0..n]\nfor k in 0..n {\n    h q[k]\n}\n";
+    let (code, _, err) = slant(&["check", "-", "--max-items", "60"], Some(text));
+    assert_eq!(code, 1);
+    assert!(err.contains("limit of 60 items"), "{err}");
+    assert!(err.contains("--max-items"), "{err}");
+    let (code, _, _) = slant(&["check", "-", "--max-items", "200"], Some(text));
+    assert_eq!(code, 0);
+}
+
+#[test]
 fn override_of_unknown_parameter() {
     let sets = vec![("distanse".to_string(), 5)];
     let errs =

@@ -14,13 +14,19 @@ pub struct CircuitArgs {
     /// Override a parameter, e.g. `--set distance=5` (repeatable).
     #[arg(long = "set", value_name = "NAME=INT", value_parser = parse_setting)]
     pub set: Vec<(String, i64)>,
+    /// Refuse circuits that expand to more items (qubits, operations, results, detectors).
+    #[arg(long, value_name = "N", default_value_t = crate::ir::expand::Limits::default().max_items)]
+    pub max_items: u64,
 }
 
 impl CircuitArgs {
     /// Reads, parses, expands and checks the circuit.
     pub fn load(&self) -> Result<Circuit, Vec<Diagnostic>> {
         let source = read_source(&self.file).map_err(|d| vec![d])?;
-        crate::load_source(&source, &self.set)
+        let limits = crate::ir::expand::Limits {
+            max_items: self.max_items,
+        };
+        crate::load_source_with(&source, &self.set, &limits)
     }
 }
 
