@@ -638,8 +638,26 @@ fn finish(circuit: &Circuit, b: Builder<'_>) -> Extracted {
         .collect();
     let split = |k: u32| b.symptoms.get(k).split_at(cut[k as usize] as usize);
     // Sort mechanisms by (detectors, observables) so output does not depend on sweep order.
-    let mut order: Vec<u32> = (0..n as u32).collect();
-    order.sort_unstable_by(|&x, &y| split(x).cmp(&split(y)));
+    // A counting sort on the first detector comes first: buckets hold a few dozen mechanisms, so
+    // the comparison sort inside them costs O(n) instead of O(n log n) cache-missing compares.
+    let bucket = |k: u32| split(k).0.first().map_or(0, |&v| v as usize + 1);
+    let mut bucket_start = vec![0usize; d as usize + 2];
+    for k in 0..n as u32 {
+        bucket_start[bucket(k) + 1] += 1;
+    }
+    for i in 1..bucket_start.len() {
+        bucket_start[i] += bucket_start[i - 1];
+    }
+    let mut order = vec![0u32; n];
+    let mut fill = bucket_start.clone();
+    for k in 0..n as u32 {
+        let b = bucket(k);
+        order[fill[b]] = k;
+        fill[b] += 1;
+    }
+    for w in bucket_start.windows(2) {
+        order[w[0]..w[1]].sort_unstable_by(|&x, &y| split(x).cmp(&split(y)));
+    }
     let mut rank = vec![0u32; n];
     for (new, &old) in order.iter().enumerate() {
         rank[old as usize] = new as u32;
