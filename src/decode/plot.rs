@@ -74,15 +74,19 @@ pub fn svg(panels: &[Panel]) -> Result<String, String> {
 }
 
 /// Tick positions for a log axis over `[lo, hi]`: `m·10^k` for m = 1..9 when the range spans at
-/// most one decade, 1, 2 and 5 for up to three, powers of ten beyond. plotters' own log ticks sit
+/// most half a decade, 1, 2, 3 and 5 up to 1.2 decades, 1, 2 and 5 up to three, powers of ten
+/// beyond. plotters' own log ticks sit
 /// only on powers of ten, which leaves a range inside one decade (a few values of `p`) unlabelled.
 fn ticks(lo: f64, hi: f64) -> Vec<f64> {
     if !(lo > 0.0 && hi > lo) {
         return Vec::new();
     }
     let decades = (hi / lo).log10();
-    let mantissas: &[f64] = if decades <= 1.0 {
+    // Dense ticks only on short ranges: at 0.9 decades nine labels already overlap.
+    let mantissas: &[f64] = if decades <= 0.5 {
         &[1.0, 2.0, 3.0, 4.0, 5.0, 6.0, 7.0, 8.0, 9.0]
+    } else if decades <= 1.2 {
+        &[1.0, 2.0, 3.0, 5.0]
     } else if decades <= 3.0 {
         &[1.0, 2.0, 5.0]
     } else {
