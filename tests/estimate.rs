@@ -490,11 +490,33 @@ fn plot_marks_the_crossing_of_synthetic_power_laws() {
     let image = std::fs::read_to_string(&svg).unwrap();
     assert!(image.starts_with("<svg") && image.contains("threshold ≈ 2.000e-2"));
     assert!(image.contains("d = 7"));
+    // PNG: the same drawing rasterised with the bundled font; check the PNG signature and the
+    // image size in the header (820 × 520 per panel).
+    let png = dir.path().join("t.png");
+    let out = slant()
+        .arg("plot")
+        .arg(&store)
+        .arg("-o")
+        .arg(&png)
+        .output()
+        .unwrap();
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let bytes = std::fs::read(&png).unwrap();
+    assert_eq!(&bytes[..8], b"\x89PNG\r\n\x1a\n");
+    assert_eq!(u32::from_be_bytes(bytes[16..20].try_into().unwrap()), 820);
+    assert_eq!(
+        u32::from_be_bytes(bytes[20..24].try_into().unwrap()) % 520,
+        0
+    );
     let bad = slant()
         .arg("plot")
         .arg(&store)
         .arg("-o")
-        .arg(dir.path().join("t.png"))
+        .arg(dir.path().join("t.jpg"))
         .output()
         .unwrap();
     assert_eq!(bad.status.code(), Some(1));

@@ -9,7 +9,7 @@
 //! physical error rate: the `p=` of the `--noise` preset text is replaced by each value (other
 //! keys, including an explicit `q=`, stay as written). A model file has many rates of its own and
 //! no single `p` to replace, so `--p` with a `.toml` model is refused. The distances and the bias
-//! columns always use `--noise` as written. `--plot FILE.svg` draws the per-round rates against
+//! columns always use `--noise` as written. `--plot FILE.svg|FILE.png` draws the per-round rates against
 //! `p`, one curve per variant ([`crate::decode::plot`]).
 
 use std::fmt::Write as _;
@@ -92,7 +92,7 @@ pub struct Args {
     #[arg(long, value_name = "S", default_value_t = 0)]
     pub seed: u64,
     /// Draw the logical error rate per round against `p`, one curve per variant, to an SVG file.
-    #[arg(long, value_name = "FILE.svg", requires = "p")]
+    #[arg(long, value_name = "FILE.svg|FILE.png", requires = "p")]
     pub plot: Option<PathBuf>,
 }
 
@@ -240,13 +240,13 @@ pub fn run(args: Args) -> Result<(), CliError> {
     if let Some(plot) = &args.plot {
         if !plot
             .extension()
-            .is_some_and(|e| e.eq_ignore_ascii_case("svg"))
+            .is_some_and(|e| e.eq_ignore_ascii_case("svg") || e.eq_ignore_ascii_case("png"))
         {
             return Err(Diagnostic::bare(format!(
-                "`{}`: only SVG output is supported",
+                "`{}`: plots are written as SVG or PNG",
                 plot.display()
             ))
-            .with_hint("name the plot FILE.svg; convert with an SVG tool if you need PNG")
+            .with_hint("name the plot FILE.svg or FILE.png")
             .into());
         }
     }
@@ -304,8 +304,8 @@ pub fn run(args: Args) -> Result<(), CliError> {
                 .collect(),
             marker: None,
         };
-        let svg = crate::decode::plot::svg(&[panel]).map_err(CliError::Internal)?;
-        write_atomic(path, svg.as_bytes())?;
+        let bytes = crate::decode::plot::render_for(path, &[panel]).map_err(CliError::Internal)?;
+        write_atomic(path, &bytes)?;
     }
     let text = if args.json {
         json_text(&rows)?

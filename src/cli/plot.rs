@@ -23,8 +23,8 @@ use crate::lang::Diagnostic;
 pub struct Args {
     /// The results store (JSON Lines).
     pub store: PathBuf,
-    /// The SVG file to write.
-    #[arg(short, long, value_name = "FILE.svg")]
+    /// The plot to write: SVG, or PNG when the name ends in `.png`.
+    #[arg(short, long, value_name = "FILE.svg|FILE.png")]
     pub output: PathBuf,
     /// Plot and fit the per-round rate `1 - (1 - p_shot)^(1/R)` instead of the per-shot rate.
     #[arg(long)]
@@ -46,13 +46,13 @@ pub fn run(args: Args) -> Result<(), CliError> {
     if args
         .output
         .extension()
-        .is_some_and(|e| !e.eq_ignore_ascii_case("svg"))
+        .is_none_or(|e| !e.eq_ignore_ascii_case("svg") && !e.eq_ignore_ascii_case("png"))
     {
         return Err(Diagnostic::bare(format!(
-            "`{}`: only SVG output is supported",
+            "`{}`: plots are written as SVG or PNG",
             args.output.display()
         ))
-        .with_hint("name the output FILE.svg; convert with an SVG tool if you need PNG")
+        .with_hint("name the output FILE.svg or FILE.png")
         .into());
     }
     let rows = read_store(&args.store)?;
@@ -103,8 +103,8 @@ pub fn run(args: Args) -> Result<(), CliError> {
             None => report += "  no crossing of successive distances in this range of p\n",
         }
     }
-    let svg = draw(&groups, rate_name)?;
-    write_atomic(&args.output, svg.as_bytes())?;
+    let bytes = draw(&groups, rate_name, &args.output)?;
+    write_atomic(&args.output, &bytes)?;
     print!("{report}");
     println!("plot written to `{}`", args.output.display());
     Ok(())
@@ -112,7 +112,11 @@ pub fn run(args: Args) -> Result<(), CliError> {
 
 /// Draws all groups, one panel each ([`crate::decode::plot`]): one curve per distance and the
 /// threshold estimate as a dashed marker.
-fn draw(groups: &BTreeMap<String, Vec<Point>>, rate_name: &str) -> Result<String, CliError> {
+fn draw(
+    groups: &BTreeMap<String, Vec<Point>>,
+    rate_name: &str,
+    output: &std::path::Path,
+) -> Result<Vec<u8>, CliError> {
     let panels: Vec<Panel> = groups
         .iter()
         .map(|(name, pts)| {
@@ -139,5 +143,5 @@ fn draw(groups: &BTreeMap<String, Vec<Point>>, rate_name: &str) -> Result<String
             }
         })
         .collect();
-    crate::decode::plot::svg(&panels).map_err(CliError::Internal)
+    crate::decode::plot::render_for(output, &panels).map_err(CliError::Internal)
 }

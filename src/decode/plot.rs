@@ -9,6 +9,7 @@
 //! per variant). plotters' SVG backend needs no system libraries; writing the file is the
 //! caller's job.
 
+use image::ImageEncoder;
 use plotters::prelude::*;
 
 use crate::decode::stats::Estimate;
@@ -55,22 +56,80 @@ const COLOURS: [RGBColor; 8] = [
     RGBColor(23, 190, 207),
 ];
 
+const WIDTH: u32 = 820;
+const PANEL_HEIGHT: u32 = 520;
+
+/// Registers the bundled DejaVu Sans as plotters' `sans-serif`, once. Text is measured (legends)
+/// and, in PNG output, drawn with it, so plots never depend on the fonts of the machine.
+fn ensure_font() {
+    static ONCE: std::sync::Once = std::sync::Once::new();
+    ONCE.call_once(|| {
+        let _ = plotters::style::register_font(
+            "sans-serif",
+            plotters::style::FontStyle::Normal,
+            dejavu::sans::regular(),
+        );
+    });
+}
+
+fn size(panels: &[Panel]) -> (u32, u32) {
+    (WIDTH, PANEL_HEIGHT * panels.len().max(1) as u32)
+}
+
+/// Draws every panel into a drawing area split vertically.
+fn draw_all<DB: DrawingBackend>(
+    root: DrawingArea<DB, plotters::coord::Shift>,
+    panels: &[Panel],
+) -> Result<(), String>
+where
+    DB::ErrorType: 'static,
+{
+    let fail = |e: &dyn std::fmt::Display| format!("plotting failed: {e}");
+    root.fill(&WHITE).map_err(|e| fail(&e))?;
+    let areas = root.split_evenly((panels.len().max(1), 1));
+    for (panel, area) in panels.iter().zip(areas.iter()) {
+        draw_panel(area, panel).map_err(|e| fail(&e))?;
+    }
+    root.present().map_err(|e| fail(&e))
+}
+
 /// Draws the panels, stacked vertically, into an SVG document. The error is plotters' message.
 pub fn svg(panels: &[Panel]) -> Result<String, String> {
+    ensure_font();
     let mut svg = String::new();
-    let panel_h = 520u32;
-    {
-        let root = SVGBackend::with_string(&mut svg, (820, panel_h * panels.len().max(1) as u32))
-            .into_drawing_area();
-        let fail = |e: &dyn std::fmt::Display| format!("plotting failed: {e}");
-        root.fill(&WHITE).map_err(|e| fail(&e))?;
-        let areas = root.split_evenly((panels.len().max(1), 1));
-        for (panel, area) in panels.iter().zip(areas.iter()) {
-            draw_panel(area, panel).map_err(|e| fail(&e))?;
-        }
-        root.present().map_err(|e| fail(&e))?;
-    }
+    draw_all(
+        SVGBackend::with_string(&mut svg, size(panels)).into_drawing_area(),
+        panels,
+    )?;
     Ok(svg)
+}
+
+/// Draws the panels into a PNG image (RGB, 8 bits per channel).
+pub fn png(panels: &[Panel]) -> Result<Vec<u8>, String> {
+    ensure_font();
+    let (w, h) = size(panels);
+    let mut rgb = vec![0u8; w as usize * h as usize * 3];
+    draw_all(
+        BitMapBackend::with_buffer(&mut rgb, (w, h)).into_drawing_area(),
+        panels,
+    )?;
+    let mut out = Vec::new();
+    image::codecs::png::PngEncoder::new(&mut out)
+        .write_image(&rgb, w, h, image::ColorType::Rgb8)
+        .map_err(|e| format!("PNG encoding failed: {e}"))?;
+    Ok(out)
+}
+
+/// Renders to SVG or PNG by the output file's extension (`.png`, anything else SVG).
+pub fn render_for(path: &std::path::Path, panels: &[Panel]) -> Result<Vec<u8>, String> {
+    if path
+        .extension()
+        .is_some_and(|e| e.eq_ignore_ascii_case("png"))
+    {
+        png(panels)
+    } else {
+        svg(panels).map(String::into_bytes)
+    }
 }
 
 /// Tick positions for a log axis over `[lo, hi]`: `m·10^k` for m = 1..9 when the range spans at
@@ -104,9 +163,13 @@ fn ticks(lo: f64, hi: f64) -> Vec<f64> {
     out
 }
 
-type Area<'a> = DrawingArea<SVGBackend<'a>, plotters::coord::Shift>;
-
-fn draw_panel(area: &Area<'_>, panel: &Panel) -> Result<(), Box<dyn std::error::Error>> {
+fn draw_panel<DB: DrawingBackend>(
+    area: &DrawingArea<DB, plotters::coord::Shift>,
+    panel: &Panel,
+) -> Result<(), Box<dyn std::error::Error>>
+where
+    DB::ErrorType: 'static,
+{
     let all = || panel.curves.iter().flat_map(|c| c.points.iter());
     let (xmin, xmax) = (
         all().map(|b| b.0).fold(f64::INFINITY, f64::min),
