@@ -158,6 +158,30 @@ fn surface_code_capacity_orders_distances_around_the_threshold() {
 }
 
 #[test]
+fn surface_code_phenomenological_orders_distances_around_the_threshold() {
+    // Rotated surface code, phenomenological noise (data flips p at the start of every round,
+    // measurement flips q = p), MWPM: threshold ≈ 2.9% (Wang, Harrington, Preskill, Ann. Phys.
+    // 303, 31 (2003)). X-basis memory with pure-Z data flips, d rounds, compared per shot (one
+    // d-round memory): d = 7 clearly below d = 3 at p = 1.5%, clearly above at p = 4.5%.
+    let circuit = |d: u32, p: f64| {
+        let mut spec = GenSpec::new(Family::Surface, d);
+        spec.rounds = d;
+        spec.style = Some(Style::Product);
+        spec.basis = Some(LogicalBasis::X);
+        with_noise(
+            &generated(&spec),
+            &format!("phenomenological p={p} bias=inf"),
+        )
+    };
+    let below3 = estimate(&circuit(3, 0.015), DecoderKind::Mwpm, 20_000, 8);
+    let below7 = estimate(&circuit(7, 0.015), DecoderKind::Mwpm, 20_000, 8);
+    assert_clearly_below(below7, below3, "p = 0.015: d = 7 below d = 3");
+    let above3 = estimate(&circuit(3, 0.045), DecoderKind::Mwpm, 8_000, 9);
+    let above7 = estimate(&circuit(7, 0.045), DecoderKind::Mwpm, 8_000, 9);
+    assert_clearly_below(above3, above7, "p = 0.045: d = 3 below d = 7");
+}
+
+#[test]
 fn surface_code_circuit_level_orders_distances_around_the_threshold() {
     // Rotated surface code, Z memory with d rounds, uniform circuit-level depolarizing noise
     // (preset `circuit p=P`: depolarizing channels of total P after every gate and on idle
