@@ -1,8 +1,7 @@
 //! `slant distance` / `analysis::distance`: circuit-level distances by fault class, checked
 //! against published code distances, derivations and brute force; `slant compare` end to end.
 
-use std::process::Command;
-
+use crate::support::slant;
 use slant::analysis::distance::{distances, symptom, DistanceOptions, DistanceReport};
 use slant::faults::{ExtractOptions, FaultGraph};
 use slant::gen::{generate, Entangler, Family, GenSpec, LogicalBasis, Order, Style};
@@ -343,31 +342,19 @@ fn exhaustive_search_matches_brute_force_on_hyperedges() {
     assert_eq!(c.value, 4);
 }
 
-fn slant() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_slant"))
-}
-
 #[test]
 fn cli_distance_prints_error_with_source_lines() {
     let dir = tempfile::tempdir().unwrap();
     let path = dir.path().join("s.slant");
     let spec = rotated(Family::Surface, 3, 3, Order::hook_aligned());
     std::fs::write(&path, generate(&spec).unwrap()).unwrap();
-    let out = slant()
-        .args([
-            "distance",
-            path.to_str().unwrap(),
-            "--noise",
-            "circuit p=0.001",
-        ])
-        .output()
-        .unwrap();
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    let text = String::from_utf8(out.stdout).unwrap();
+    let stdout = crate::support::stdout_of(&mut slant().args([
+        "distance",
+        path.to_str().unwrap(),
+        "--noise",
+        "circuit p=0.001",
+    ]));
+    let text = String::from_utf8(stdout).unwrap();
     assert!(text.starts_with("distance             2"), "{text}");
     assert!(text.contains("high-rate distance   none"), "{text}");
     assert!(text.contains("s.slant:"), "no provenance: {text}");
@@ -389,27 +376,19 @@ fn cli_distance_prints_error_with_source_lines() {
 
 #[test]
 fn cli_compare_orders_marks_best() {
-    let out = slant()
-        .args([
-            "compare",
-            "--family",
-            "surface",
-            "--with",
-            "distance=3",
-            "--vary",
-            "order=hook-safe,hook-aligned",
-            "--noise",
-            "circuit p=0.001",
-            "--csv",
-        ])
-        .output()
-        .unwrap();
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    let text = String::from_utf8(out.stdout).unwrap();
+    let stdout = crate::support::stdout_of(&mut slant().args([
+        "compare",
+        "--family",
+        "surface",
+        "--with",
+        "distance=3",
+        "--vary",
+        "order=hook-safe,hook-aligned",
+        "--noise",
+        "circuit p=0.001",
+        "--csv",
+    ]));
+    let text = String::from_utf8(stdout).unwrap();
     let lines: Vec<&str> = text.lines().collect();
     assert_eq!(lines.len(), 3, "{text}");
     let col = |line: &str, i: usize| line.split(',').nth(i).unwrap().to_string();
@@ -440,13 +419,7 @@ fn cli_compare_orders_marks_best() {
 
 /// Runs `slant compare` and returns its standard output, failing with its standard error.
 fn compare_stdout(args: &[&str]) -> String {
-    let out = slant().arg("compare").args(args).output().unwrap();
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    String::from_utf8(out.stdout).unwrap()
+    String::from_utf8(crate::support::stdout_of(slant().arg("compare").args(args))).unwrap()
 }
 
 /// The coloured data lines of a plot: `(stroke colour, points)` of every `stroke-width="2"`

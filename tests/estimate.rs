@@ -4,8 +4,7 @@
 //! binomial standard deviations) or with the ordering of distances below and above a published
 //! threshold; full-size threshold runs live in `bench/thresholds.sh`.
 
-use std::process::Command;
-
+use crate::support::slant;
 use slant::decode::run::{Counts, Experiment, RunOptions};
 use slant::decode::DecoderKind;
 use slant::gen::{Family, Flip, GenSpec, LogicalBasis, Style};
@@ -243,10 +242,6 @@ fn max_errors_stops_early_at_a_batch_boundary() {
     assert_eq!(calls, counts.shots / 4096);
 }
 
-fn slant() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_slant"))
-}
-
 fn write_circuit(dir: &std::path::Path, name: &str, text: &str) -> std::path::PathBuf {
     let path = dir.join(name);
     std::fs::write(&path, text).unwrap();
@@ -254,20 +249,15 @@ fn write_circuit(dir: &std::path::Path, name: &str, text: &str) -> std::path::Pa
 }
 
 fn estimate_json(file: &std::path::Path, extra: &[&str], threads: &str) -> serde_json::Value {
-    let out = slant()
-        .arg("estimate")
-        .arg(file)
-        .args(extra)
-        .arg("--json")
-        .env("RAYON_NUM_THREADS", threads)
-        .output()
-        .unwrap();
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
+    let stdout = crate::support::stdout_of(
+        &mut slant()
+            .arg("estimate")
+            .arg(file)
+            .args(extra)
+            .arg("--json")
+            .env("RAYON_NUM_THREADS", threads),
     );
-    serde_json::from_slice(&out.stdout).unwrap()
+    serde_json::from_slice(&stdout).unwrap()
 }
 
 #[test]
@@ -364,18 +354,13 @@ fn chunk_table(path: &std::path::Path) -> Vec<(String, u64, u64, u64)> {
 }
 
 fn sweep(spec: &std::path::Path, store: &std::path::Path, extra: &[&str]) {
-    let out = slant()
-        .arg("sweep")
-        .arg(spec)
-        .arg("--store")
-        .arg(store)
-        .args(extra)
-        .output()
-        .unwrap();
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
+    crate::support::stdout_of(
+        &mut slant()
+            .arg("sweep")
+            .arg(spec)
+            .arg("--store")
+            .arg(store)
+            .args(extra),
     );
 }
 
@@ -493,19 +478,9 @@ fn plot_marks_the_crossing_of_synthetic_power_laws() {
     }
     let store = write_circuit(dir.path(), "s.jsonl", &text);
     let svg = dir.path().join("t.svg");
-    let out = slant()
-        .arg("plot")
-        .arg(&store)
-        .arg("-o")
-        .arg(&svg)
-        .output()
-        .unwrap();
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    let report = String::from_utf8(out.stdout).unwrap();
+    let stdout =
+        crate::support::stdout_of(&mut slant().arg("plot").arg(&store).arg("-o").arg(&svg));
+    let report = String::from_utf8(stdout).unwrap();
     assert!(
         report.contains("crossing d=3 / d=5: p = 2.0000e-2"),
         "{report}"
@@ -517,18 +492,7 @@ fn plot_marks_the_crossing_of_synthetic_power_laws() {
     // PNG: the same drawing rasterised with the bundled font; check the PNG signature and the
     // image size in the header (820 × 520 per panel).
     let png = dir.path().join("t.png");
-    let out = slant()
-        .arg("plot")
-        .arg(&store)
-        .arg("-o")
-        .arg(&png)
-        .output()
-        .unwrap();
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
+    crate::support::stdout_of(&mut slant().arg("plot").arg(&store).arg("-o").arg(&png));
     let bytes = std::fs::read(&png).unwrap();
     assert_eq!(&bytes[..8], b"\x89PNG\r\n\x1a\n");
     assert_eq!(u32::from_be_bytes(bytes[16..20].try_into().unwrap()), 820);
