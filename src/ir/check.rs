@@ -61,7 +61,7 @@ pub fn check(c: &Circuit) -> Result<(), Vec<Diagnostic>> {
         },
         Point::Start => {
             for q in 0..c.qubits.len() {
-                mark(&s.z[q].clone(), Culprit::Start { qubit: q as u32 });
+                mark(&s.z[q], Culprit::Start { qubit: q as u32 });
             }
         }
     });
