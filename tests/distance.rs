@@ -348,7 +348,7 @@ fn cli_distance_prints_error_with_source_lines() {
     let path = dir.path().join("s.slant");
     let spec = rotated(Family::Surface, 3, 3, Order::hook_aligned());
     std::fs::write(&path, generate(&spec).unwrap()).unwrap();
-    let stdout = crate::support::stdout_of(&mut slant().args([
+    let stdout = crate::support::stdout_of(slant().args([
         "distance",
         path.to_str().unwrap(),
         "--noise",
@@ -376,7 +376,7 @@ fn cli_distance_prints_error_with_source_lines() {
 
 #[test]
 fn cli_compare_orders_marks_best() {
-    let stdout = crate::support::stdout_of(&mut slant().args([
+    let stdout = crate::support::stdout_of(slant().args([
         "compare",
         "--family",
         "surface",

@@ -250,7 +250,7 @@ fn write_circuit(dir: &std::path::Path, name: &str, text: &str) -> std::path::Pa
 
 fn estimate_json(file: &std::path::Path, extra: &[&str], threads: &str) -> serde_json::Value {
     let stdout = crate::support::stdout_of(
-        &mut slant()
+        slant()
             .arg("estimate")
             .arg(file)
             .args(extra)
@@ -355,7 +355,7 @@ fn chunk_table(path: &std::path::Path) -> Vec<(String, u64, u64, u64)> {
 
 fn sweep(spec: &std::path::Path, store: &std::path::Path, extra: &[&str]) {
     crate::support::stdout_of(
-        &mut slant()
+        slant()
             .arg("sweep")
             .arg(spec)
             .arg("--store")
@@ -478,8 +478,7 @@ fn plot_marks_the_crossing_of_synthetic_power_laws() {
     }
     let store = write_circuit(dir.path(), "s.jsonl", &text);
     let svg = dir.path().join("t.svg");
-    let stdout =
-        crate::support::stdout_of(&mut slant().arg("plot").arg(&store).arg("-o").arg(&svg));
+    let stdout = crate::support::stdout_of(slant().arg("plot").arg(&store).arg("-o").arg(&svg));
     let report = String::from_utf8(stdout).unwrap();
     assert!(
         report.contains("crossing d=3 / d=5: p = 2.0000e-2"),
@@ -492,7 +491,7 @@ fn plot_marks_the_crossing_of_synthetic_power_laws() {
     // PNG: the same drawing rasterised with the bundled font; check the PNG signature and the
     // image size in the header (820 × 520 per panel).
     let png = dir.path().join("t.png");
-    crate::support::stdout_of(&mut slant().arg("plot").arg(&store).arg("-o").arg(&png));
+    crate::support::stdout_of(slant().arg("plot").arg(&store).arg("-o").arg(&png));
     let bytes = std::fs::read(&png).unwrap();
     assert_eq!(&bytes[..8], b"\x89PNG\r\n\x1a\n");
     assert_eq!(u32::from_be_bytes(bytes[16..20].try_into().unwrap()), 820);
