@@ -146,12 +146,12 @@ fn css_y_faults_decompose_into_x_and_z_parts() {
     for dec in &g.decompositions {
         let m = &g.mechanisms[dec.mechanism as usize];
         let (mut dets, mut obs) = (Vec::new(), Vec::new());
-        for (d, o) in &dec.parts {
+        for (d, o) in g.parts(dec) {
             assert!((1..=2).contains(&d.len()));
             assert!(g
                 .mechanisms
                 .iter()
-                .any(|x| &x.detectors == d && &x.observables == o));
+                .any(|x| x.detectors == d && x.observables == o));
             dets = slant::ir::sensitivity::xor_sets(&dets, d);
             obs = slant::ir::sensitivity::xor_sets(&obs, o);
         }

@@ -702,8 +702,8 @@ fn projected_bound(graph: &FaultGraph, allow: &dyn Fn(ClassSet) -> bool) -> Opti
     let mut decomposition: HashMap<u32, usize> = HashMap::new();
     for (i, d) in graph.decompositions.iter().enumerate() {
         decomposition.insert(d.mechanism, i);
-        for (dets, _) in &d.parts {
-            if let [a, b] = *dets.as_slice() {
+        for (dets, _) in graph.parts(d) {
+            if let [a, b] = *dets {
                 join(&mut uf, a, b);
             }
         }
@@ -760,7 +760,7 @@ fn projected_bound(graph: &FaultGraph, allow: &dyn Fn(ClassSet) -> bool) -> Opti
                 add(find(&mut uf, b), &[b], &ob);
             }
             ref dets if dets.len() > 2 && decomposition.contains_key(&(k as u32)) => {
-                for (pd, po) in &graph.decompositions[decomposition[&(k as u32)]].parts {
+                for (pd, po) in graph.parts(&graph.decompositions[decomposition[&(k as u32)]]) {
                     let root = pd.first().map_or(u32::MAX, |&x| find(&mut uf, x));
                     add(root, pd, po);
                 }
@@ -816,7 +816,7 @@ fn lower_bound(graph: &FaultGraph, allow: &dyn Fn(ClassSet) -> bool) -> Option<u
         }
     }
     for d in &graph.decompositions {
-        for (dets, _) in &d.parts {
+        for (dets, _) in graph.parts(d) {
             join(&mut uf, dets);
         }
     }
@@ -826,14 +826,13 @@ fn lower_bound(graph: &FaultGraph, allow: &dyn Fn(ClassSet) -> bool) -> Option<u
             continue;
         }
         // Component of each part (`boundary` for a part with no detectors).
-        let comps: Vec<u32> = d
-            .parts
-            .iter()
+        let comps: Vec<u32> = graph
+            .parts(d)
             .map(|(dets, _)| dets.first().map_or(boundary, |&x| find(&mut uf, x)))
             .collect();
-        for (i, (dets, obs)) in d.parts.iter().enumerate() {
+        for (i, (dets, obs)) in graph.parts(d).enumerate() {
             let k = comps.iter().filter(|&&c| c == comps[i]).count().max(1) as u32;
-            let (a, b) = match *dets.as_slice() {
+            let (a, b) = match *dets {
                 [] => (boundary, boundary),
                 [a] => (a, boundary),
                 [a, b] => (a, b),
@@ -842,7 +841,7 @@ fn lower_bound(graph: &FaultGraph, allow: &dyn Fn(ClassSet) -> bool) -> Option<u
             edges.push(Edge {
                 a,
                 b,
-                obs: obs.clone(),
+                obs: obs.to_vec(),
                 cost: SCALE / k,
                 mech: u32::MAX,
             });

@@ -63,10 +63,10 @@ pub fn run(args: Args) -> Result<(), CliError> {
         // On a shared machine wall time includes waiting for a core; the thread's own CPU
         // time is what the extractor costs.
         let cpu = extract_cpu.map_or(String::new(), |c| {
-            format!(" (cpu {:.3} s)", c.as_secs_f64())
+            format!(" (cpu {:.6} s)", c.as_secs_f64())
         });
         eprintln!(
-            "timings: load {:.3} s, extract {:.3} s{cpu}, render {:.3} s, write {:.3} s; {} mechanisms, {} faults",
+            "timings: load {:.6} s, extract {:.6} s{cpu}, render {:.6} s, write {:.6} s; {} mechanisms, {} faults",
             loaded.as_secs_f64(),
             (extracted - loaded).as_secs_f64(),
             rendered.as_secs_f64(),
@@ -78,12 +78,23 @@ pub fn run(args: Args) -> Result<(), CliError> {
     Ok(())
 }
 
-/// CPU time of the calling thread (Linux `/proc/thread-self/schedstat`, nanoseconds on CPU);
-/// `None` elsewhere.
+/// CPU time of the calling thread (`CLOCK_THREAD_CPUTIME_ID`, nanosecond resolution; the
+/// scheduler's own statistics only advance at context switches and ticks, too coarse for the
+/// few milliseconds a small graph takes); `None` off Unix.
+#[cfg(unix)]
 fn thread_cpu() -> Option<Duration> {
-    let text = std::fs::read_to_string("/proc/thread-self/schedstat").ok()?;
-    let ns: u64 = text.split_whitespace().next()?.parse().ok()?;
-    Some(Duration::from_nanos(ns))
+    let mut ts = libc::timespec {
+        tv_sec: 0,
+        tv_nsec: 0,
+    };
+    // SAFETY: clock_gettime writes one timespec through a valid, exclusive pointer.
+    let rc = unsafe { libc::clock_gettime(libc::CLOCK_THREAD_CPUTIME_ID, &mut ts) };
+    (rc == 0).then(|| Duration::new(ts.tv_sec as u64, ts.tv_nsec as u32))
+}
+
+#[cfg(not(unix))]
+fn thread_cpu() -> Option<Duration> {
+    None
 }
 
 fn write(

@@ -27,8 +27,8 @@ pub const MAX_ATOMS: usize = 6;
 /// Largest number of detectors covered by the detector search.
 pub const MAX_SEARCH: usize = 8;
 
-/// Existing graphlike mechanisms: detector set → observable sets seen with it.
-type Index = FxMap<Vec<u32>, Vec<Vec<u32>>>;
+/// Existing graphlike mechanisms: detector set → (observables, mechanism index) of each.
+type Index = FxMap<Vec<u32>, Vec<(Vec<u32>, u32)>>;
 
 /// Fills in the decompositions of every hyperedge of the extracted graph.
 pub(crate) fn decompose(ex: &mut Extracted) {
@@ -63,15 +63,6 @@ pub(crate) fn decompose(ex: &mut Extracted) {
                     *slot = ex.atoms.atom(a);
                 }
                 split_by_atoms(&atoms[..c.len as usize], &lookup)
-            })
-            .map(|parts| {
-                parts
-                    .into_iter()
-                    .map(|r| {
-                        let p = &graph.mechanisms[r as usize];
-                        (p.detectors.clone(), p.observables.clone())
-                    })
-                    .collect()
             });
         let parts = by_atoms.or_else(|| {
             if m.detectors.len() > MAX_SEARCH {
@@ -79,11 +70,11 @@ pub(crate) fn decompose(ex: &mut Extracted) {
             }
             let index = index.get_or_insert_with(|| {
                 let mut ix = Index::default();
-                for m in &graph.mechanisms {
+                for (r, m) in graph.mechanisms.iter().enumerate() {
                     if (1..=2).contains(&m.detectors.len()) {
                         ix.entry(m.detectors.clone())
                             .or_default()
-                            .push(m.observables.clone());
+                            .push((m.observables.clone(), r as u32));
                     }
                 }
                 ix
@@ -162,12 +153,9 @@ fn split_by_atoms(atoms: &[&[u32]], lookup: &dyn Fn(&[u32]) -> Option<u32>) -> O
 }
 
 /// Covers `dets` exactly by existing one- and two-detector mechanisms whose observables XOR to
-/// `obs`. The lowest uncovered detector is always covered next, so each cover is tried once.
-fn split_by_detectors(
-    dets: &[u32],
-    obs: &[u32],
-    index: &Index,
-) -> Option<Vec<(Vec<u32>, Vec<u32>)>> {
+/// `obs`; returns the mechanisms' indices. The lowest uncovered detector is always covered
+/// next, so each cover is tried once.
+fn split_by_detectors(dets: &[u32], obs: &[u32], index: &Index) -> Option<Vec<u32>> {
     if dets.is_empty() {
         return obs.is_empty().then(Vec::new);
     }
@@ -183,9 +171,9 @@ fn split_by_detectors(
         let Some(obs_sets) = index.get(&edge) else {
             continue;
         };
-        for o in obs_sets {
+        for (o, r) in obs_sets {
             if let Some(mut parts) = split_by_detectors(&remaining, &xor(obs, o), index) {
-                parts.insert(0, (edge.clone(), o.clone()));
+                parts.insert(0, *r);
                 return Some(parts);
             }
         }
@@ -199,8 +187,10 @@ mod tests {
 
     fn index(entries: &[(&[u32], &[u32])]) -> Index {
         let mut ix = Index::default();
-        for (d, o) in entries {
-            ix.entry(d.to_vec()).or_default().push(o.to_vec());
+        for (r, (d, o)) in entries.iter().enumerate() {
+            ix.entry(d.to_vec())
+                .or_default()
+                .push((o.to_vec(), r as u32));
         }
         ix
     }
@@ -230,8 +220,9 @@ mod tests {
     #[test]
     fn detector_cover_tracks_observables() {
         let ix = index(&[(&[0], &[]), (&[1, 2], &[0]), (&[0, 1], &[]), (&[2], &[])]);
+        // Entry 0 is {0} without observables, entry 1 is {1, 2} with observable 0.
         let parts = split_by_detectors(&[0, 1, 2], &[0], &ix).unwrap();
-        assert_eq!(parts, vec![(vec![0], vec![]), (vec![1, 2], vec![0])]);
+        assert_eq!(parts, vec![0, 1]);
         assert!(split_by_detectors(&[0, 1, 2, 3], &[], &ix).is_none());
     }
 }

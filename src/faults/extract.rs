@@ -6,16 +6,15 @@
 //! sensitivities ([`crate::ir::sensitivity`]) of its X and Z parts on each qubit at the point of
 //! injection; the symptom of a measurement flip is the set of detectors and observables that
 //! contain the record. Nothing is simulated per fault: the cost is one sweep plus a few short
-//! sorted-set XORs and one hash lookup per fault.
+//! sorted-set XORs and one table lookup per fault.
 //!
 //! Layout (for speed at a million faults): each distinct channel is converted to independent
-//! terms once (`Table`); symptoms are interned in one flat arena keyed by a 64-bit hash that
-//! is verified against the arena (`Interner`); a fault is a fixed-size record of indices
+//! terms once (`Table`); symptoms are interned in one flat arena, found through a table placed
+//! by first detector so that the sweep's lookups stay cache-local (`Interner`); a fault is a fixed-size record of indices
 //! (mechanism, layer, op, application, term), turned into a [`Contributor`] only once, in final
 //! order; the atoms that decomposition needs live in one flat arena too. Nothing is allocated
 //! per fault during the sweep.
 
-use std::collections::hash_map::Entry;
 use std::collections::HashMap;
 use std::hash::{BuildHasherDefault, Hasher};
 
@@ -179,24 +178,6 @@ impl Hasher for FxHasher {
 
 pub(crate) type FxMap<K, V> = HashMap<K, V, BuildHasherDefault<FxHasher>>;
 
-/// Hasher for keys that are already well-mixed 64-bit hashes.
-#[derive(Default)]
-pub(crate) struct IdHasher(u64);
-
-impl Hasher for IdHasher {
-    fn write(&mut self, bytes: &[u8]) {
-        for &b in bytes {
-            self.0 = (self.0 << 8) | u64::from(b);
-        }
-    }
-    fn write_u64(&mut self, v: u64) {
-        self.0 = v;
-    }
-    fn finish(&self) -> u64 {
-        self.0
-    }
-}
-
 /// 64-bit hash of a symptom.
 fn hash_ids(ids: &[u32]) -> u64 {
     let mut h = FxHasher(ids.len() as u64);
@@ -206,23 +187,56 @@ fn hash_ids(ids: &[u32]) -> u64 {
     h.finish()
 }
 
-/// Symptoms stored once each in a flat arena, looked up by a 64-bit hash that is verified
-/// against the arena (so a hash collision costs a second lookup, never a wrong merge).
-#[derive(Default)]
+/// Symptoms stored once each in a flat arena, found through an open-addressing table of ids.
+///
+/// The table is placed by *first id* rather than by hash alone: detectors are numbered in time
+/// order and the backward sweep produces symptoms whose first detector drifts slowly down, so
+/// lookups made close together in the sweep touch neighbouring slots and neighbouring arena
+/// entries. A plain hash table scatters them over the whole graph, and at a million faults every
+/// lookup then misses the cache. A 32-bit tag per slot (more hash bits) keeps mismatches from
+/// touching the arena; the arena is compared before any match is accepted, so a collision costs a
+/// probe, never a wrong merge. Should the ids cluster badly (say every symptom shares its first
+/// detector), the long probes are noticed and the table is rebuilt with plain hash placement.
 pub(crate) struct Interner {
     ids: Vec<u32>,
     /// `ids[start[k]..start[k + 1]]` is symptom `k`.
     start: Vec<u32>,
-    by_hash: HashMap<u64, u32, BuildHasherDefault<IdHasher>>,
-    /// Symptoms whose hash was already taken by another symptom.
-    collided: FxMap<Vec<u32>, u32>,
+    /// Symptom id + 1 in each slot (0 = empty); length a power of two, at most half full.
+    slots: Vec<u32>,
+    /// High hash bits of the symptom in each occupied slot.
+    tags: Vec<u32>,
+    /// Ids are below this (detectors + observables): scales first ids to table positions.
+    universe: u64,
+    /// Place by first id (true) or by hash (after clustering was detected).
+    local: bool,
+    /// Probe steps and lookups so far, to detect clustering.
+    steps: u64,
+    lookups: u64,
 }
 
+/// Mean probe length (slots past a symptom's home) above which placement by first id counts as
+/// degenerate.
+const MAX_MEAN_PROBE: u64 = 8;
+
 impl Interner {
-    fn new() -> Interner {
+    /// An empty interner for symptoms whose ids are below `universe`, sized for `expected`.
+    fn new(universe: u32, expected: usize) -> Interner {
+        // At least two slots per id, so that placement by first id never crowds a region while
+        // the table as a whole is still mostly empty.
+        let cap = (2 * expected.max(universe as usize).max(8)).next_power_of_two();
         Interner {
-            start: vec![0],
-            ..Interner::default()
+            ids: Vec::with_capacity(4 * expected),
+            start: {
+                let mut v = Vec::with_capacity(expected + 1);
+                v.push(0);
+                v
+            },
+            slots: vec![0; cap],
+            tags: vec![0; cap],
+            universe: u64::from(universe.max(1)),
+            local: true,
+            steps: 0,
+            lookups: 0,
         }
     }
 
@@ -236,37 +250,87 @@ impl Interner {
         &self.ids[self.start[k as usize] as usize..self.start[k as usize + 1] as usize]
     }
 
-    /// The id of `sym`, if interned.
-    pub(crate) fn find(&self, sym: &[u32]) -> Option<u32> {
-        let &k = self.by_hash.get(&hash_ids(sym))?;
-        if self.get(k) == sym {
-            Some(k)
+    fn home(&self, sym: &[u32], hash: u64) -> usize {
+        let cap = self.slots.len();
+        if self.local {
+            // Spread each first id's symptoms over its whole region (by hash), so equal first
+            // ids do not all start probing at one slot.
+            let per_id = (cap as u64 / self.universe).max(16) as usize;
+            let region = (u64::from(sym[0]) * cap as u64 / self.universe) as usize;
+            (region + (hash as usize & (per_id.next_power_of_two() - 1))) & (cap - 1)
         } else {
-            self.collided.get(sym).copied()
+            hash as usize & (cap - 1)
         }
     }
 
-    /// The id of `sym` and whether it is new.
-    fn intern(&mut self, sym: &[u32]) -> (u32, bool) {
-        let next = self.len() as u32;
-        match self.by_hash.entry(hash_ids(sym)) {
-            Entry::Occupied(e) => {
-                let k = *e.get();
-                if self.get(k) == sym {
-                    return (k, false);
-                }
-                if let Some(&k) = self.collided.get(sym) {
-                    return (k, false);
-                }
-                self.collided.insert(sym.to_vec(), next);
+    /// The id of `sym`, or the empty slot where it would go, and the probe steps taken.
+    fn probe(&self, sym: &[u32], hash: u64) -> (Result<u32, usize>, u64) {
+        let mask = self.slots.len() - 1;
+        let tag = (hash >> 32) as u32;
+        let mut i = self.home(sym, hash);
+        let mut steps = 0;
+        loop {
+            let s = self.slots[i];
+            if s == 0 {
+                return (Err(i), steps);
             }
-            Entry::Vacant(e) => {
-                e.insert(next);
+            if self.tags[i] == tag && self.get(s - 1) == sym {
+                return (Ok(s - 1), steps);
             }
+            i = (i + 1) & mask;
+            steps += 1;
         }
+    }
+
+    /// The id of `sym`, if interned.
+    pub(crate) fn find(&self, sym: &[u32]) -> Option<u32> {
+        if sym.is_empty() {
+            return None;
+        }
+        self.probe(sym, hash_ids(sym)).0.ok()
+    }
+
+    /// The id of `sym` (not empty) and whether it is new.
+    fn intern(&mut self, sym: &[u32]) -> (u32, bool) {
+        let hash = hash_ids(sym);
+        let (found, steps) = self.probe(sym, hash);
+        self.steps += steps;
+        self.lookups += 1;
+        let slot = match found {
+            Ok(k) => return (k, false),
+            Err(slot) => slot,
+        };
+        let k = self.len() as u32;
         self.ids.extend_from_slice(sym);
         self.start.push(self.ids.len() as u32);
-        (next, true)
+        self.slots[slot] = k + 1;
+        self.tags[slot] = (hash >> 32) as u32;
+        let full = 2 * self.len() > self.slots.len();
+        // The constant keeps a few long probes early on from deciding.
+        let clustered = self.local && self.steps > MAX_MEAN_PROBE * self.lookups + 4096;
+        if clustered {
+            self.local = false;
+        }
+        if full || clustered {
+            self.rebuild(if full { 2 } else { 1 });
+        }
+        (k, true)
+    }
+
+    /// Re-places every symptom in a table `factor` times larger.
+    fn rebuild(&mut self, factor: usize) {
+        let cap = self.slots.len() * factor;
+        self.slots = vec![0; cap];
+        self.tags = vec![0; cap];
+        for k in 0..self.len() as u32 {
+            let sym = self.get(k);
+            let hash = hash_ids(sym);
+            let Err(slot) = self.probe(sym, hash).0 else {
+                unreachable!("symptoms are interned once each")
+            };
+            self.slots[slot] = k + 1;
+            self.tags[slot] = (hash >> 32) as u32;
+        }
     }
 }
 
@@ -519,7 +583,7 @@ pub(crate) fn extract_mechanisms(circuit: &Circuit, opts: &ExtractOptions) -> Ex
         circuit,
         opts,
         detectors: circuit.detectors.len() as u32,
-        symptoms: Interner::new(),
+        symptoms: Interner::new(0, 0),
         probability: Vec::new(),
         classes: Vec::new(),
         n_candidates: Vec::new(),
@@ -548,10 +612,8 @@ pub(crate) fn extract_mechanisms(circuit: &Circuit, opts: &ExtractOptions) -> Ex
     }
     b.faults.reserve(expected);
     // Roughly a third of the faults open a new mechanism in circuit-level noise.
-    let mechs = expected / 3 + 16;
-    b.symptoms.by_hash.reserve(mechs);
-    b.symptoms.start.reserve(mechs);
-    b.symptoms.ids.reserve(4 * mechs);
+    let universe = (circuit.detectors.len() + circuit.observables.len()) as u32;
+    b.symptoms = Interner::new(universe, expected / 3 + 16);
     let flip_class = if opts.high_rate_flips {
         FaultClass::High
     } else {
@@ -795,6 +857,46 @@ mod tests {
                 assert!((x - y).abs() < 1e-14, "{ch:?}: {a:?} vs {b:?}");
             }
         }
+    }
+
+    /// Interns `syms` twice (second pass in reverse) and checks ids are stable and distinct.
+    fn check_interning(int: &mut Interner, syms: &[Vec<u32>]) {
+        let ids: Vec<u32> = syms
+            .iter()
+            .map(|s| {
+                let (k, new) = int.intern(s);
+                assert!(new, "{s:?} interned twice");
+                k
+            })
+            .collect();
+        for (s, &k) in syms.iter().zip(&ids).rev() {
+            assert_eq!(int.intern(s), (k, false));
+            assert_eq!(int.find(s), Some(k));
+            assert_eq!(int.get(k), s.as_slice());
+        }
+        assert_eq!(int.find(&[u32::MAX - 1]), None);
+    }
+
+    #[test]
+    fn interner_grows_and_survives_clustered_ids() {
+        // Spread first ids (the sweep's usual case), starting from a tiny table so it grows.
+        let mut int = Interner::new(3000, 4);
+        let spread: Vec<Vec<u32>> = (0..6000u32)
+            .map(|i| vec![i % 2990, 2990 + i / 2990, 2995 + i % 5])
+            .collect();
+        check_interning(&mut int, &spread);
+        assert!(
+            int.local,
+            "spread ids should keep placement by first id: {} steps {} lookups",
+            int.steps, int.lookups
+        );
+        // Every symptom shares its first id: placement by first id degenerates into one long
+        // probe run, which must be noticed (plain hash placement) without changing any answer.
+        let mut int = Interner::new(3000, 4);
+        let clustered: Vec<Vec<u32>> = (0..2000u32).map(|i| vec![0, 1 + i]).collect();
+        check_interning(&mut int, &clustered);
+        assert!(!int.local, "clustered ids should switch to hash placement");
+        check_interning(&mut int, &spread);
     }
 
     #[test]

@@ -317,9 +317,9 @@ pub struct Silent {
 pub struct Decomposition {
     /// The mechanism split.
     pub mechanism: u32,
-    /// Its graphlike parts as `(detectors, observables)`; the detector sets are detector sets
-    /// of existing graphlike mechanisms, and XOR over the parts gives the whole symptom.
-    pub parts: Vec<(Vec<u32>, Vec<u32>)>,
+    /// Its graphlike parts: indices of existing mechanisms with one or two detectors, whose
+    /// symptoms XOR to the whole symptom ([`FaultGraph::parts`] reads them).
+    pub parts: Vec<u32>,
 }
 
 /// Summary of hyperedges and their decomposition.
@@ -358,6 +358,17 @@ pub struct FaultGraph {
 }
 
 impl FaultGraph {
+    /// The `(detectors, observables)` of each part of a decomposition.
+    pub fn parts<'g>(
+        &'g self,
+        d: &'g Decomposition,
+    ) -> impl ExactSizeIterator<Item = (&'g [u32], &'g [u32])> + 'g {
+        d.parts.iter().map(|&r| {
+            let m = &self.mechanisms[r as usize];
+            (m.detectors.as_slice(), m.observables.as_slice())
+        })
+    }
+
     /// The contributors of mechanism `k`.
     pub fn contributors(&self, k: usize) -> &[Contributor] {
         let r = &self.mechanisms[k].provenance;
@@ -428,7 +439,7 @@ impl FaultGraph {
                 _ => match decomposed[k] {
                     Some(i) => {
                         stats.decomposed += 1;
-                        for (dets, obs) in &self.decompositions[i].parts {
+                        for (dets, obs) in self.parts(&self.decompositions[i]) {
                             add(dets, obs, m.probability, &mut stats);
                         }
                     }

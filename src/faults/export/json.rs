@@ -313,9 +313,8 @@ fn write_full<W: Write>(g: &FaultGraph, w: &mut W) -> io::Result<()> {
         w,
         g.decompositions.iter().map(|d| Decomp {
             mechanism: d.mechanism,
-            parts: d
-                .parts
-                .iter()
+            parts: g
+                .parts(d)
                 .map(|(detectors, observables)| Part {
                     detectors,
                     observables,
