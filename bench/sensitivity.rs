@@ -93,20 +93,9 @@ fn flip_ids(row: &mut [u64], ids: &[u32]) {
 
 /// The same sweep with fixed-width bitsets; returns (checksum, symptoms formed).
 fn bitsets(circuit: &Circuit) -> (u64, u64) {
-    let d = circuit.detectors.len() as u32;
     let words = (circuit.detectors.len() + circuit.observables.len()).div_ceil(64);
     let n = circuit.qubits.len();
-    let mut record_symptoms = vec![Vec::new(); circuit.records.len()];
-    for (i, det) in circuit.detectors.iter().enumerate() {
-        for &r in &det.records {
-            record_symptoms[r as usize].push(i as u32);
-        }
-    }
-    for (i, obs) in circuit.observables.iter().enumerate() {
-        for &r in &obs.records {
-            record_symptoms[r as usize].push(d + i as u32);
-        }
-    }
+    let record_symptoms = sensitivity::record_symptoms(circuit);
     let mut s = Bitsets {
         x: vec![0; n * words],
         z: vec![0; n * words],

@@ -176,26 +176,33 @@ impl Sensitivity {
     }
 }
 
+/// For each measurement record, the symptoms (detector ids, then observable ids from `D`) whose
+/// parity includes it, each list sorted.
+pub fn record_symptoms(circuit: &Circuit) -> Vec<SymSet> {
+    let d = circuit.detectors.len() as u32;
+    let mut out = vec![Vec::new(); circuit.records.len()];
+    for (i, det) in circuit.detectors.iter().enumerate() {
+        for &r in &det.records {
+            out[r as usize].push(i as u32);
+        }
+    }
+    for (i, obs) in circuit.observables.iter().enumerate() {
+        for &r in &obs.records {
+            out[r as usize].push(d + i as u32);
+        }
+    }
+    out
+}
+
 /// Runs the backward sweep over `circuit`, calling `visit` at every operation (with the
 /// sensitivities just after it) and finally at the start.
 pub fn sweep<'c>(circuit: &'c Circuit, mut visit: impl FnMut(Point<'c>, &Sensitivity)) {
     let n = circuit.qubits.len();
     let d = circuit.detectors.len() as u32;
-    let mut record_symptoms = vec![Vec::new(); circuit.records.len()];
-    for (i, det) in circuit.detectors.iter().enumerate() {
-        for &r in &det.records {
-            record_symptoms[r as usize].push(i as u32);
-        }
-    }
-    for (i, obs) in circuit.observables.iter().enumerate() {
-        for &r in &obs.records {
-            record_symptoms[r as usize].push(d + i as u32);
-        }
-    }
     let mut s = Sensitivity {
         x: vec![Vec::new(); n],
         z: vec![Vec::new(); n],
-        record_symptoms,
+        record_symptoms: record_symptoms(circuit),
         detectors: d,
         scratch: Vec::new(),
         tmp: Vec::new(),
