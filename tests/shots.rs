@@ -295,8 +295,8 @@ fn noiseless_circuits_have_no_detection_events() {
             measurements: true,
         };
         sampler.sample(3000, 5, what, |b| {
-            assert!(b.detectors.iter().all(|&w| w == 0), "{}", c.source.name);
-            assert!(b.observables.iter().all(|&w| w == 0), "{}", c.source.name);
+            assert!(b.detectors.not_any(), "{}", c.source.name);
+            assert!(b.observables.not_any(), "{}", c.source.name);
             // Raw results reproduce every detector's noiseless parity in every shot.
             for (d, det) in c.detectors.iter().enumerate() {
                 for s in 0..b.shots {
@@ -727,14 +727,8 @@ fn generated_families_have_no_detection_events_without_noise() {
         let reference = sampler.reference().clone();
         let mut seen = vec![[false; 2]; c.records.len()];
         sampler.sample(1024, 11, what, |b| {
-            assert!(
-                b.detectors.iter().all(|&w| w == 0),
-                "{line}: detector fired"
-            );
-            assert!(
-                b.observables.iter().all(|&w| w == 0),
-                "{line}: observable flipped"
-            );
+            assert!(b.detectors.not_any(), "{line}: detector fired");
+            assert!(b.observables.not_any(), "{line}: observable flipped");
             for (r, seen) in seen.iter_mut().enumerate() {
                 for s in 0..b.shots {
                     seen[usize::from(b.get(&b.measurements, r, s))] = true;

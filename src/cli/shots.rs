@@ -15,7 +15,7 @@ use crate::cli::common::{CircuitArgs, NoiseArgs};
 use crate::cli::CliError;
 use crate::lang::Diagnostic;
 use crate::sim::bits::{append_shot_rows, row_bytes};
-use crate::sim::frame::{xor_baseline, Batch, Outputs, Sampler, BATCH_SHOTS};
+use crate::sim::frame::{xor_baseline, Batch, BitTable, Outputs, Sampler, BATCH_SHOTS};
 use crate::sim::npy;
 
 const AFTER_HELP: &str = "\
@@ -162,7 +162,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
                 for (k, f) in files.iter_mut().enumerate() {
                     buf.clear();
                     append_shot_rows(
-                        tables[k],
+                        tables[k].as_raw_slice(),
                         counts[k],
                         b.words,
                         b.shots,
@@ -188,7 +188,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
     Ok(())
 }
 
-fn push_bits(b: &Batch, table: &[u64], count: usize, shot: usize, line: &mut Vec<u8>) {
+fn push_bits(b: &Batch, table: &BitTable, count: usize, shot: usize, line: &mut Vec<u8>) {
     line.extend((0..count).map(|k| if b.get(table, k, shot) { b'1' } else { b'0' }));
 }
 
@@ -316,11 +316,7 @@ fn bench(circuit: &crate::ir::Circuit, shots: u64, seed: u64) {
     let t1 = Instant::now();
     for b in 0..batches {
         let batch = sampler.run_batch(b, BATCH_SHOTS, seed, Outputs::syndromes());
-        events += batch
-            .detectors
-            .iter()
-            .map(|w| u64::from(w.count_ones()))
-            .sum::<u64>();
+        events += batch.detectors.count_ones() as u64;
     }
     let sample_s = t1.elapsed().as_secs_f64();
     let sampled = batches * BATCH_SHOTS as u64;

@@ -133,11 +133,12 @@ pub fn run(
 /// Decodes every shot of a batch and counts failures.
 pub fn decode_batch(batch: &Batch, decoder: &dyn Decoder) -> Counts {
     let w = batch.words;
-    let num_det = batch.detectors.len() / w.max(1);
-    let num_obs = batch.observables.len() / w.max(1);
+    let num_det = batch.items(&batch.detectors);
+    let num_obs = batch.items(&batch.observables);
+    let detectors = batch.detectors.as_raw_slice();
     let mut events: Vec<Vec<u32>> = vec![Vec::new(); batch.shots];
     for d in 0..num_det {
-        for (k, &word) in batch.detectors[d * w..(d + 1) * w].iter().enumerate() {
+        for (k, &word) in detectors[d * w..(d + 1) * w].iter().enumerate() {
             let mut bits = word;
             while bits != 0 {
                 let s = k * 64 + bits.trailing_zeros() as usize;
@@ -172,6 +173,7 @@ pub fn decode_batch(batch: &Batch, decoder: &dyn Decoder) -> Counts {
 mod tests {
     use super::*;
     use crate::decode::{Decoded, MatchingGraph};
+    use crate::sim::frame::BitTable;
 
     /// A decoder that predicts no flip: every shot with an observable flip fails.
     struct Nothing;
@@ -188,15 +190,15 @@ mod tests {
             first_shot: 0,
             shots,
             words,
-            detectors: vec![0; 2 * words],
-            observables: vec![0; words],
-            measurements: Vec::new(),
+            detectors: BitTable::repeat(false, 2 * words * 64),
+            observables: BitTable::repeat(false, words * 64),
+            measurements: BitTable::new(),
         };
         for &(d, s) in det {
-            b.detectors[d * words + s / 64] |= 1 << (s % 64);
+            b.detectors.set(d * words * 64 + s, true);
         }
         for &(o, s) in obs {
-            b.observables[o * words + s / 64] |= 1 << (s % 64);
+            b.observables.set(o * words * 64 + s, true);
         }
         b
     }

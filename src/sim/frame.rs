@@ -38,6 +38,7 @@
 //! Outputs: detection event = XOR of the flips of the detector's records (its parity XOR its
 //! noiseless value); observable flip likewise; measurement result = reference value XOR flip.
 
+use bitvec::prelude::{BitVec, Lsb0};
 use rand::{Rng, RngCore, SeedableRng};
 use rand_xoshiro::Xoshiro256PlusPlus;
 use rayon::prelude::*;
@@ -70,8 +71,13 @@ impl Outputs {
     }
 }
 
-/// The results of one batch of shots, bit-packed item-major: bit `s % 64` of word
-/// `item * words + s / 64` belongs to shot `s` of the batch. Bits past `shots` are zero.
+/// An item-major bit table: bit `item * words * 64 + s` (bit `s % 64` of word
+/// `item * words + s / 64`, least significant first) is shot `s` of the item. Word-level loops
+/// read it through `as_raw_slice`.
+pub type BitTable = BitVec<u64, Lsb0>;
+
+/// The results of one batch of shots as [`BitTable`]s with `words` words per item. Bits past
+/// `shots` are zero.
 #[derive(Clone, Debug, PartialEq, Eq)]
 pub struct Batch {
     /// Batch number.
@@ -82,18 +88,23 @@ pub struct Batch {
     pub shots: usize,
     /// Words per item (`shots.div_ceil(64)`).
     pub words: usize,
-    /// Detection events (`detectors × words`), empty if not requested.
-    pub detectors: Vec<u64>,
-    /// Observable flips (`observables × words`), empty if not requested.
-    pub observables: Vec<u64>,
-    /// Measurement results (`records × words`), empty if not requested.
-    pub measurements: Vec<u64>,
+    /// Detection events (`detectors × words` words), empty if not requested.
+    pub detectors: BitTable,
+    /// Observable flips (`observables × words` words), empty if not requested.
+    pub observables: BitTable,
+    /// Measurement results (`records × words` words), empty if not requested.
+    pub measurements: BitTable,
 }
 
 impl Batch {
     /// Whether item `item` of a table (e.g. [`Batch::detectors`]) is set in shot `shot`.
-    pub fn get(&self, table: &[u64], item: usize, shot: usize) -> bool {
-        table[item * self.words + shot / 64] >> (shot % 64) & 1 != 0
+    pub fn get(&self, table: &BitTable, item: usize, shot: usize) -> bool {
+        table[item * self.words * 64 + shot]
+    }
+
+    /// Number of items in a table of this batch.
+    pub fn items(&self, table: &BitTable) -> usize {
+        table.as_raw_slice().len() / self.words.max(1)
     }
 }
 
@@ -569,17 +580,18 @@ impl Sampler {
         }
         let w = shots.div_ceil(64).max(1);
         // Cut rows to `w` words and clear the bits past `shots`.
-        let cut = |rows: &[Row], out: &mut Vec<u64>| {
+        let cut = |rows: &[Row]| -> BitTable {
             let keep = if shots.is_multiple_of(64) {
                 u64::MAX
             } else {
                 (1u64 << (shots % 64)) - 1
             };
-            out.reserve(rows.len() * w);
+            let mut out = Vec::with_capacity(rows.len() * w);
             for row in rows {
                 out.extend_from_slice(&row[..w]);
                 *out.last_mut().expect("w >= 1") &= keep;
             }
+            BitTable::from_vec(out)
         };
         let parities = |items: &[Vec<u32>]| {
             let mut rows = vec![[0u64; W]; items.len()];
@@ -588,18 +600,16 @@ impl Sampler {
                     xor_row(dst, &rec[r as usize]);
                 }
             }
-            let mut out = Vec::new();
-            cut(&rows, &mut out);
-            out
+            cut(&rows)
         };
         let mut batch = Batch {
             index,
             first_shot: index * BATCH_SHOTS as u64,
             shots,
             words: w,
-            detectors: Vec::new(),
-            observables: Vec::new(),
-            measurements: Vec::new(),
+            detectors: BitTable::new(),
+            observables: BitTable::new(),
+            measurements: BitTable::new(),
         };
         if what.detectors {
             batch.detectors = parities(&self.detectors);
@@ -613,7 +623,7 @@ impl Sampler {
                     row.iter_mut().for_each(|b| *b = !*b);
                 }
             }
-            cut(&rec, &mut batch.measurements);
+            batch.measurements = cut(&rec);
         }
         batch
     }
