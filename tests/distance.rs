@@ -2,7 +2,9 @@
 //! against published code distances, derivations and brute force; `slant compare` end to end.
 
 use crate::support::slant;
-use slant::analysis::distance::{distances, symptom, DistanceOptions, DistanceReport};
+use slant::analysis::distance::{
+    distances, symptom, DistanceOptions, DistanceReport, Unproven, Unresolved,
+};
 use slant::faults::{ExtractOptions, FaultGraph};
 use slant::gen::{generate, Entangler, Family, GenSpec, LogicalBasis, Order, Style};
 use slant::lang::Source;
@@ -340,6 +342,46 @@ fn exhaustive_search_matches_brute_force_on_hyperedges() {
     assert_eq!(c.method, slant::analysis::distance::Method::Exhaustive);
     assert_eq!(Some(c.value), brute_force(&g, |_| true));
     assert_eq!(c.value, 4);
+    // The class and weighted searches see no graphlike mechanism here: their absence is
+    // unproven, and the report must say so rather than claim "none".
+    assert!(r.lexicographic.is_none());
+    assert_eq!(r.unresolved.lexicographic, Some(Unproven::GraphlikeOnly));
+    assert_eq!(r.unresolved.distance, None);
+}
+
+#[test]
+fn unfinished_searches_are_reported_as_unproven() {
+    // The same 4-mechanism logical error as above, searched with too small a depth or state
+    // cap: "none" would be false, so the report gives the proven bound or says it cannot tell.
+    let text = "qubit q[0..6]\nreset x q[0..6]\nnoise dephasing p=0.01 q[0..6]\n\
+        measure x q[0..6] -> f[0..6]\n\
+        detector = f[0] ^ f[1] ^ f[2] ^ f[3]\ndetector = f[0] ^ f[1] ^ f[4] ^ f[5]\n\
+        detector = f[2] ^ f[3] ^ f[4] ^ f[5]\ndetector = f[0] ^ f[2] ^ f[4]\n\
+        detector = f[1] ^ f[3] ^ f[5]\nobservable o = f[0] ^ f[2]\n";
+    let circuit = slant::load_source(&Source::new("hyper.slant", text), &[]).expect("load");
+    let g = slant::faults::extract(&circuit, &ExtractOptions::default());
+    let shallow = DistanceOptions {
+        exhaustive_depth: 3,
+        ..DistanceOptions::default()
+    };
+    let r = distances(&g, &shallow).unwrap();
+    assert!(r.distance.is_none());
+    assert_eq!(r.unresolved.distance, Some(Unproven::AboveDepth(3)));
+    let capped = DistanceOptions {
+        max_states: 4,
+        ..DistanceOptions::default()
+    };
+    let r = distances(&g, &capped).unwrap();
+    assert!(r.distance.is_none());
+    assert_eq!(r.unresolved.distance, Some(Unproven::Capped));
+    // A graph without hyperedges has an exact search: an absence there is proven.
+    let text = "qubit q[0..2]\nreset x q[0..2]\nnoise dephasing p=0.01 q[0..2]\n\
+        measure x q[0..2] -> m[0..2]\ndetector = m[0] ^ m[1]\n";
+    let circuit = slant::load_source(&Source::new("plain.slant", text), &[]).expect("load");
+    let plain = slant::faults::extract(&circuit, &ExtractOptions::default());
+    let r = distances(&plain, &DistanceOptions::default()).unwrap();
+    assert!(r.distance.is_none());
+    assert_eq!(r.unresolved, Unresolved::default());
 }
 
 #[test]

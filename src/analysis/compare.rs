@@ -12,7 +12,7 @@
 //! Carlo estimates a lower point estimate alone is not evidence of a better circuit.
 
 use crate::analysis::bias;
-use crate::analysis::distance::{self, Count, DistanceOptions, DistanceReport};
+use crate::analysis::distance::{self, Count, DistanceOptions, DistanceReport, Unproven};
 use crate::faults::{ExtractOptions, FaultGraph};
 use crate::ir::Circuit;
 use crate::lang::Diagnostic;
@@ -206,25 +206,28 @@ impl Column {
 
     /// A key under which larger is better (`None` when the row has no value).
     fn key(self, r: &Row) -> Option<f64> {
-        let count = |c: &Option<Count>| c.as_ref().map(|c| f64::from(c.value));
+        // A proven absence ("none") is the best value; an unproven one has no value to rank.
+        let absent = |u: Option<Unproven>| u.is_none().then_some(f64::INFINITY);
+        let count = |c: &Option<Count>, u| c.as_ref().map(|c| f64::from(c.value)).or(absent(u));
+        let un = &r.report.unresolved;
         match self {
-            Column::Distance => count(&r.report.distance).or(Some(f64::INFINITY)),
+            Column::Distance => count(&r.report.distance, un.distance),
             Column::Undecomposed => Some(-r.undecomposed_share),
-            Column::HighRate => count(&r.report.high_rate).or(Some(f64::INFINITY)),
+            Column::HighRate => count(&r.report.high_rate, un.high_rate),
             Column::Layers => Some(-(r.layers as f64)),
             Column::LowRate => r
                 .report
                 .lexicographic
                 .as_ref()
                 .map(|l| f64::from(l.low))
-                .or(Some(f64::INFINITY)),
+                .or(absent(un.lexicographic)),
             Column::Qubits => Some(-(r.qubits as f64)),
             Column::Weighted => r
                 .report
                 .weighted
                 .as_ref()
                 .map(|w| w.weight)
-                .or(Some(f64::INFINITY)),
+                .or(absent(un.weighted)),
             Column::Duration => r.duration.map(|d| -d),
             Column::Bias => Some(if r.bias.kept { 1.0 } else { 0.0 }),
             // Two significant figures, as printed: smaller differences say nothing about the

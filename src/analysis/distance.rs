@@ -49,7 +49,8 @@ use std::ops::Add;
 use crate::faults::graph::{weight_of, ClassSet, FaultGraph};
 use crate::ir::sensitivity::xor_sets;
 
-/// Depth of the exhaustive search when the graphlike mechanisms make no logical error at all.
+/// Default depth of the exhaustive search when the graphlike mechanisms make no logical error
+/// at all.
 pub const EXHAUSTIVE_DEPTH: u32 = 12;
 
 /// Options of [`distances`].
@@ -57,12 +58,16 @@ pub const EXHAUSTIVE_DEPTH: u32 = 12;
 pub struct DistanceOptions {
     /// Largest number of distinct symptoms the exhaustive hyperedge search may store.
     pub max_states: usize,
+    /// Largest logical error (in mechanisms) the exhaustive search looks for when the graphlike
+    /// mechanisms make none.
+    pub exhaustive_depth: u32,
 }
 
 impl Default for DistanceOptions {
     fn default() -> DistanceOptions {
         DistanceOptions {
             max_states: 2_000_000,
+            exhaustive_depth: EXHAUSTIVE_DEPTH,
         }
     }
 }
@@ -145,9 +150,59 @@ pub struct Weighted {
     pub error: LogicalError,
 }
 
-/// All distances of one fault graph. `None` means no such logical error exists; with hyperedges
-/// in play and no graphlike logical error, `None` means none with at most
-/// [`EXHAUSTIVE_DEPTH`] mechanisms was found (or the search hit its state cap).
+/// Why an absent result is not a proof that no such logical error exists.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Unproven {
+    /// The exhaustive search (hyperedges included) finished and found no logical error of at
+    /// most this many mechanisms: any logical error is larger.
+    AboveDepth(u32),
+    /// The exhaustive search stopped at its state cap ([`DistanceOptions::max_states`]).
+    Capped,
+    /// Only graphlike mechanisms were searched and the graph has hyperedges.
+    GraphlikeOnly,
+}
+
+impl Unproven {
+    /// Short text for a table cell: `> k` or `?`.
+    pub fn cell(self) -> String {
+        match self {
+            Unproven::AboveDepth(k) => format!("> {k}"),
+            Unproven::Capped | Unproven::GraphlikeOnly => "?".into(),
+        }
+    }
+
+    /// What was and was not searched, for reports.
+    pub fn describe(self) -> String {
+        match self {
+            Unproven::AboveDepth(k) => format!(
+                "no logical error of at most {k} mechanisms exists; larger ones were not searched"
+            ),
+            Unproven::Capped => {
+                "unknown: the exhaustive hyperedge search stopped at its state cap".into()
+            }
+            Unproven::GraphlikeOnly => {
+                "unknown: none among graphlike mechanisms; hyperedges were not searched".into()
+            }
+        }
+    }
+}
+
+/// For each result of a [`DistanceReport`] that is `None`, why that is not a proof that no
+/// such logical error exists (`None` here: the absence is proven).
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub struct Unresolved {
+    /// For [`DistanceReport::distance`].
+    pub distance: Option<Unproven>,
+    /// For [`DistanceReport::high_rate`].
+    pub high_rate: Option<Unproven>,
+    /// For [`DistanceReport::lexicographic`].
+    pub lexicographic: Option<Unproven>,
+    /// For [`DistanceReport::weighted`].
+    pub weighted: Option<Unproven>,
+}
+
+/// All distances of one fault graph. `None` means no such logical error exists, unless
+/// [`DistanceReport::unresolved`] says why the search could not prove that.
 #[derive(Clone, Debug, PartialEq)]
 pub struct DistanceReport {
     /// Least number of mechanisms in an undetected logical error.
@@ -160,6 +215,8 @@ pub struct DistanceReport {
     pub weighted: Option<Weighted>,
     /// Mechanisms with three or more detectors (left out of the class and weighted searches).
     pub hyperedges: usize,
+    /// Which absent results are unproven, and why.
+    pub unresolved: Unresolved,
 }
 
 /// Computes every distance of `graph`. `Err` carries an internal error (a found error that does
@@ -167,8 +224,15 @@ pub struct DistanceReport {
 pub fn distances(graph: &FaultGraph, opts: &DistanceOptions) -> Result<DistanceReport, String> {
     let all = |_: ClassSet| true;
     let high = |c: ClassSet| c.has_high();
-    let distance = count_distance(graph, &all, opts)?;
-    let high_rate = count_distance(graph, &high, opts)?;
+    let (distance, distance_unproven) = count_distance(graph, &all, opts)?;
+    let (high_rate, high_rate_unproven) = count_distance(graph, &high, opts)?;
+    let hyperedges = graph
+        .mechanisms
+        .iter()
+        .filter(|m| m.detectors.len() > 2)
+        .count();
+    // The class and weighted searches see graphlike mechanisms only.
+    let graphlike_only = (hyperedges > 0).then_some(Unproven::GraphlikeOnly);
     let lexicographic = match search(graph, &all, |m| {
         Lex(u32::from(!graph.mechanisms[m].classes.has_high()), 1)
     }) {
@@ -197,16 +261,19 @@ pub fn distances(graph: &FaultGraph, opts: &DistanceOptions) -> Result<DistanceR
         }
         None => None,
     };
+    let unresolved = Unresolved {
+        distance: distance_unproven,
+        high_rate: high_rate_unproven,
+        lexicographic: graphlike_only.filter(|_| lexicographic.is_none()),
+        weighted: graphlike_only.filter(|_| weighted.is_none()),
+    };
     Ok(DistanceReport {
         distance,
         high_rate,
         lexicographic,
         weighted,
-        hyperedges: graph
-            .mechanisms
-            .iter()
-            .filter(|m| m.detectors.len() > 2)
-            .count(),
+        hyperedges,
+        unresolved,
     })
 }
 
@@ -246,12 +313,13 @@ fn verified(graph: &FaultGraph, mut mechs: Vec<u32>) -> Result<LogicalError, Str
     })
 }
 
-/// The count distance over the mechanisms whose classes pass `allow`, with hyperedge handling.
+/// The count distance over the mechanisms whose classes pass `allow`, with hyperedge handling;
+/// when none is found, why that is unproven (if it is).
 fn count_distance(
     graph: &FaultGraph,
     allow: &dyn Fn(ClassSet) -> bool,
     opts: &DistanceOptions,
-) -> Result<Option<Count>, String> {
+) -> Result<(Option<Count>, Option<Unproven>), String> {
     let has_hyper = graph
         .mechanisms
         .iter()
@@ -262,14 +330,17 @@ fn count_distance(
             Some((c, e)) => {
                 let error = verified(graph, e)?;
                 debug_assert_eq!(error.mechanisms.len() as u32, c);
-                Ok(Some(Count {
-                    value: c,
-                    lower: c,
-                    method: Method::Graph,
-                    error,
-                }))
+                Ok((
+                    Some(Count {
+                        value: c,
+                        lower: c,
+                        method: Method::Graph,
+                        error,
+                    }),
+                    None,
+                ))
             }
-            None => Ok(None),
+            None => Ok((None, None)),
         };
     }
     let upper = match found {
@@ -278,63 +349,75 @@ fn count_distance(
     };
     if upper.is_none() && projected_bound(graph, allow) == Some(None) {
         // Not even the relaxation has a logical error: none exists.
-        return Ok(None);
+        return Ok((None, None));
     }
     // The decomposition bound is one more graph search: try it before the exhaustive search.
     if let Some(error) = &upper {
         let value = error.mechanisms.len() as u32;
         let lower = best_lower_bound(graph, allow, value);
         if lower == value {
-            return Ok(Some(Count {
-                value,
-                lower,
-                method: Method::Decomposition,
-                error: error.clone(),
-            }));
+            return Ok((
+                Some(Count {
+                    value,
+                    lower,
+                    method: Method::Decomposition,
+                    error: error.clone(),
+                }),
+                None,
+            ));
         }
     }
     // Exhaustive search below the graphlike value (or up to a fixed depth when the graphlike
     // mechanisms alone make no logical error).
     let limit = upper
         .as_ref()
-        .map_or(EXHAUSTIVE_DEPTH, |e| e.mechanisms.len() as u32 - 1);
+        .map_or(opts.exhaustive_depth, |e| e.mechanisms.len() as u32 - 1);
     match exhaustive(graph, allow, limit, opts.max_states) {
         Exhaustive::Found(e) => {
             let error = verified(graph, e)?;
             let n = error.mechanisms.len() as u32;
-            return Ok(Some(Count {
-                value: n,
-                lower: n,
-                method: Method::Exhaustive,
-                error,
-            }));
-        }
-        Exhaustive::NoneUpTo => {
-            if let Some(error) = upper {
-                let n = error.mechanisms.len() as u32;
-                return Ok(Some(Count {
+            return Ok((
+                Some(Count {
                     value: n,
                     lower: n,
                     method: Method::Exhaustive,
                     error,
-                }));
-            }
+                }),
+                None,
+            ));
         }
+        Exhaustive::NoneUpTo => match upper {
+            Some(error) => {
+                let n = error.mechanisms.len() as u32;
+                return Ok((
+                    Some(Count {
+                        value: n,
+                        lower: n,
+                        method: Method::Exhaustive,
+                        error,
+                    }),
+                    None,
+                ));
+            }
+            None => return Ok((None, Some(Unproven::AboveDepth(limit)))),
+        },
         Exhaustive::Capped => {}
     }
     let Some(error) = upper else {
-        // Neither the graph search nor the bounded exhaustive search found a logical error;
-        // see the caveat on `DistanceReport`.
-        return Ok(None);
+        // Neither the graph search nor the capped exhaustive search found a logical error.
+        return Ok((None, Some(Unproven::Capped)));
     };
     let value = error.mechanisms.len() as u32;
     let lower = best_lower_bound(graph, allow, value);
-    Ok(Some(Count {
-        value,
-        lower,
-        method: Method::Bounds,
-        error,
-    }))
+    Ok((
+        Some(Count {
+            value,
+            lower,
+            method: Method::Bounds,
+            error,
+        }),
+        None,
+    ))
 }
 
 /// A cost that adds along paths and orders totally.

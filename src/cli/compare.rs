@@ -19,7 +19,7 @@ use clap::Parser;
 use serde_json::json;
 
 use crate::analysis::compare::{self, Column, RatePoint, Row};
-use crate::analysis::distance::{Count, DistanceOptions};
+use crate::analysis::distance::{Count, DistanceOptions, Unproven};
 use crate::cli::common::{parse_setting, read_source, NoiseArgs};
 use crate::cli::output::write_atomic;
 use crate::cli::{distance::count_text, new, CliError};
@@ -348,15 +348,16 @@ fn eta_text(x: Option<f64>) -> String {
 
 /// The cells of one row without best marks, in [`HEADERS`] order.
 fn cells(r: &Row) -> Vec<String> {
+    let absent = |u: Option<Unproven>| u.map_or("none".to_string(), |u| u.cell());
     let (low, weighted) = (
-        r.report
-            .lexicographic
-            .as_ref()
-            .map_or("none".to_string(), |l| format!("{}/{}", l.low, l.total)),
-        r.report
-            .weighted
-            .as_ref()
-            .map_or("none".to_string(), |w| format!("{:.2}", w.weight)),
+        r.report.lexicographic.as_ref().map_or_else(
+            || absent(r.report.unresolved.lexicographic),
+            |l| format!("{}/{}", l.low, l.total),
+        ),
+        r.report.weighted.as_ref().map_or_else(
+            || absent(r.report.unresolved.weighted),
+            |w| format!("{:.2}", w.weight),
+        ),
     );
     vec![
         r.name.clone(),
@@ -369,8 +370,8 @@ fn cells(r: &Row) -> Vec<String> {
         r.mechanisms.to_string(),
         format!("{:.1}%", 100.0 * r.hyperedge_share),
         format!("{:.1}%", 100.0 * r.undecomposed_share),
-        count_text(r.report.distance.as_ref()),
-        count_text(r.report.high_rate.as_ref()),
+        count_text(r.report.distance.as_ref(), r.report.unresolved.distance),
+        count_text(r.report.high_rate.as_ref(), r.report.unresolved.high_rate),
         low,
         weighted,
         if r.bias.kept { "kept" } else { "lost" }.into(),
@@ -450,6 +451,15 @@ fn table_text(rows: &[Row]) -> String {
         "low-rate = low-rate mechanisms / total in the logical error with the fewest low-rate \
          ones; data-eta = pZ / pX,Y reaching the data; * = best in column\n",
     );
+    if rows
+        .iter()
+        .any(|r| r.report.unresolved != Default::default())
+    {
+        s.push_str(
+            "> k = no logical error of at most k mechanisms (larger ones not searched); \
+             ? = the search could not decide (see `slant distance`)\n",
+        );
+    }
     for r in rows.iter().filter(|r| !r.bias.kept) {
         let _ = writeln!(s, "{}: {}", r.name, r.bias.verdict);
     }

@@ -5,7 +5,9 @@ use std::fmt::Write as _;
 
 use serde_json::{json, Value};
 
-use crate::analysis::distance::{self, Count, DistanceOptions, DistanceReport, LogicalError};
+use crate::analysis::distance::{
+    self, Count, DistanceOptions, DistanceReport, LogicalError, Unproven,
+};
 use crate::cli::common::{CircuitArgs, NoiseArgs};
 use crate::cli::CliError;
 use crate::faults::{ExtractOptions, FaultGraph};
@@ -16,7 +18,9 @@ use crate::ir::Circuit;
 #[command(
     after_help = "A mechanism counts as high-rate when a high-rate fault (pure Z at \
 injection, or a measurement flip with --high-rate-flips) alone produces it. `none` means no \
-undetected logical error of that kind exists."
+undetected logical error of that kind exists (proven); `> k` means none with at most k \
+mechanisms exists and larger ones were not searched; `unknown` means the search could not \
+decide (the report says why)."
 )]
 pub struct Args {
     /// The circuit.
@@ -55,31 +59,42 @@ pub fn run(args: Args) -> Result<(), CliError> {
     Ok(())
 }
 
-/// A count as text: `5`, `5 (3..5, hyperedges)` or `none`.
-pub fn count_text(c: Option<&Count>) -> String {
-    match c {
+/// A count as text: `5`, `≤ 5 (≥ 3)`, `none` (proven), or for an unproven absence `> 12` or
+/// `?`.
+pub fn count_text(c: Option<&Count>, unproven: Option<Unproven>) -> String {
+    match (c, unproven) {
+        (None, None) => "none".into(),
+        (None, Some(u)) => u.cell(),
+        (Some(c), _) if c.exact() => c.value.to_string(),
+        (Some(c), _) => format!("≤ {} (≥ {})", c.value, c.lower),
+    }
+}
+
+/// An absent result in the text report: `none`, or what the search could not prove.
+fn absent_text(unproven: Option<Unproven>) -> String {
+    match unproven {
         None => "none".into(),
-        Some(c) if c.exact() => c.value.to_string(),
-        Some(c) => format!("≤ {} (≥ {})", c.value, c.lower),
+        Some(u @ Unproven::AboveDepth(_)) => format!("{}  [{}]", u.cell(), u.describe()),
+        Some(u) => u.describe(),
     }
 }
 
 /// The text report.
 pub fn render(r: &DistanceReport, graph: &FaultGraph, circuit: &Circuit) -> String {
     let mut s = String::new();
-    let method =
-        |c: Option<&Count>| c.map_or(String::new(), |c| format!("  [{}]", c.method.name()));
+    let count = |c: Option<&Count>, u: Option<Unproven>| match c {
+        Some(c) => format!("{}  [{}]", count_text(Some(c), None), c.method.name()),
+        None => absent_text(u),
+    };
     let _ = writeln!(
         s,
-        "distance             {}{}",
-        count_text(r.distance.as_ref()),
-        method(r.distance.as_ref())
+        "distance             {}",
+        count(r.distance.as_ref(), r.unresolved.distance)
     );
     let _ = writeln!(
         s,
-        "high-rate distance   {}{}",
-        count_text(r.high_rate.as_ref()),
-        method(r.high_rate.as_ref())
+        "high-rate distance   {}",
+        count(r.high_rate.as_ref(), r.unresolved.high_rate)
     );
     match &r.lexicographic {
         Some(l) => {
@@ -90,7 +105,11 @@ pub fn render(r: &DistanceReport, graph: &FaultGraph, circuit: &Circuit) -> Stri
             );
         }
         None => {
-            let _ = writeln!(s, "low-rate count       none");
+            let _ = writeln!(
+                s,
+                "low-rate count       {}",
+                absent_text(r.unresolved.lexicographic)
+            );
         }
     }
     match &r.weighted {
@@ -104,7 +123,11 @@ pub fn render(r: &DistanceReport, graph: &FaultGraph, circuit: &Circuit) -> Stri
             );
         }
         None => {
-            let _ = writeln!(s, "weighted distance    none");
+            let _ = writeln!(
+                s,
+                "weighted distance    {}",
+                absent_text(r.unresolved.weighted)
+            );
         }
     }
     if r.hyperedges > 0 {
@@ -180,6 +203,20 @@ fn write_error(s: &mut String, name: &str, e: &LogicalError, g: &FaultGraph, c: 
     }
 }
 
+/// `null` for a proven absence; an object saying why for an unproven one.
+fn unproven_json(u: Option<Unproven>) -> Value {
+    match u {
+        None => Value::Null,
+        Some(u) => json!({
+            "above": match u {
+                Unproven::AboveDepth(k) => Some(k),
+                _ => None,
+            },
+            "reason": u.describe(),
+        }),
+    }
+}
+
 fn count_json(c: Option<&Count>, g: &FaultGraph, circuit: &Circuit) -> Value {
     match c {
         None => Value::Null,
@@ -246,5 +283,12 @@ pub fn to_json(r: &DistanceReport, g: &FaultGraph, c: &Circuit) -> Value {
             "error": error_json(&w.error, g, c),
         })),
         "hyperedges": r.hyperedges,
+        // Results above that are null without proof that none exists.
+        "unproven": {
+            "distance": unproven_json(r.unresolved.distance),
+            "high_rate_distance": unproven_json(r.unresolved.high_rate),
+            "lexicographic": unproven_json(r.unresolved.lexicographic),
+            "weighted": unproven_json(r.unresolved.weighted),
+        },
     })
 }
