@@ -349,6 +349,70 @@ fn deep_nesting_is_refused() {
     rejects(&text, "nests deeper than 64 levels", 66, 6);
 }
 
+/// Runs `slant check` and `slant fmt` on `text` through the binary (whose worker thread has the
+/// stack the language's bounds are sized for) and requires a located refusal, never a crash.
+fn binary_rejects(text: &str, message: &str, location: &str) {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("deep.slant");
+    std::fs::write(&path, text).unwrap();
+    for cmd in ["check", "fmt"] {
+        let (code, _, err) = slant(&[cmd, path.to_str().unwrap()], None);
+        assert_eq!(code, 1, "`slant {cmd}` exit code; stderr:\n{err}");
+        assert!(err.contains(message), "`slant {cmd}`: {err}");
+        assert!(err.contains(&format!("deep.slant:{location}")), "{err}");
+    }
+}
+
+#[test]
+fn chains_that_recurse_are_bounded() {
+    // Each of these once overflowed the stack: the parser recursed per `else if` and per prefix
+    // operator, and evaluation recursed per binary operator.
+    let mut chain = String::from("qubit a\nif 0 { h a }\n");
+    chain.push_str(&"else if 0 { h a }\n".repeat(5000));
+    binary_rejects(&chain, "more than 1000 `else if` in one chain", "1003:6");
+    let minus = format!("qubit q[0..2]\nh q[{}1]\n", "-".repeat(20_000));
+    binary_rejects(&minus, "more than 64 prefix operators", "2:69");
+    let nots = format!("qubit a\nif {}0 {{ h a }}\n", "not ".repeat(200_000));
+    binary_rejects(&nots, "more than 64 prefix operators", "2:260");
+    let sum = format!("qubit q[0..2]\nh q[{}]\n", vec!["0"; 20_000].join("+"));
+    binary_rejects(&sum, "more than 1000 operators in one expression", "2:2006");
+    // Just inside the bounds, the same shapes are accepted.
+    let mut chain = String::from("qubit a\nif 0 { h a }\n");
+    chain.push_str(&"else if 0 { h a }\n".repeat(999));
+    let sum = format!("qubit q[0..2]\nh q[{}]\n", vec!["0"; 1000].join("+"));
+    let dir = tempfile::tempdir().unwrap();
+    for (name, text) in [("chain", chain), ("sum", sum)] {
+        let path = dir.path().join(format!("{name}.slant"));
+        std::fs::write(&path, text).unwrap();
+        for cmd in ["check", "fmt"] {
+            let (code, _, err) = slant(&[cmd, path.to_str().unwrap()], None);
+            assert_eq!(code, 0, "`slant {cmd}` on {name}: {err}");
+        }
+    }
+}
+
+#[test]
+fn closed_pipe_ends_quietly() {
+    // `slant new … | head` must not panic when the reader goes away (common practice for Unix
+    // filters: die of SIGPIPE, status 128 + 13 in the shell).
+    // The reader (`true`) is gone before slant writes anything.
+    let script = format!(
+        "( sleep 0.3; exec '{}' new repetition --distance 3 ) | true; echo \"${{PIPESTATUS[0]}}\"",
+        env!("CARGO_BIN_EXE_slant")
+    );
+    let out = std::process::Command::new("bash")
+        .args(["-c", &script])
+        .output()
+        .unwrap();
+    let stderr = String::from_utf8_lossy(&out.stderr);
+    assert!(!stderr.contains("panicked"), "{stderr}");
+    assert_eq!(
+        String::from_utf8_lossy(&out.stdout).trim(),
+        "141",
+        "{stderr}"
+    );
+}
+
 #[test]
 fn unknown_channel_and_parameter() {
     rejects(

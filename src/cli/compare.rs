@@ -80,10 +80,11 @@ pub struct Args {
     )]
     pub p: Vec<f64>,
     /// Shots per variant and `p`.
-    #[arg(long, value_name = "N", default_value_t = 10_000)]
+    #[arg(long, value_name = "N", default_value_t = 10_000,
+          value_parser = clap::value_parser!(u64).range(1..))]
     pub shots: u64,
     /// Stop a point once this many logical errors have been seen.
-    #[arg(long, value_name = "K")]
+    #[arg(long, value_name = "K", value_parser = clap::value_parser!(u64).range(1..))]
     pub max_errors: Option<u64>,
     /// Decoder: `mwpm` or `uf`.
     #[arg(long, value_name = "D", default_value = "mwpm", value_parser = |s: &str| s.parse::<DecoderKind>())]

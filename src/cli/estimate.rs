@@ -34,10 +34,10 @@ pub struct Args {
     #[command(flatten)]
     pub noise: NoiseArgs,
     /// Maximum number of shots.
-    #[arg(long, value_name = "N")]
+    #[arg(long, value_name = "N", value_parser = clap::value_parser!(u64).range(1..))]
     pub shots: u64,
     /// Stop once this many logical errors have been seen (checked every 4096 shots).
-    #[arg(long, value_name = "K")]
+    #[arg(long, value_name = "K", value_parser = clap::value_parser!(u64).range(1..))]
     pub max_errors: Option<u64>,
     /// Decoder: `mwpm` (minimum-weight perfect matching) or `uf` (union-find).
     #[arg(long, value_name = "D", default_value = "mwpm", value_parser = |s: &str| s.parse::<DecoderKind>())]

@@ -95,7 +95,8 @@ struct GridToml {
 struct SpecToml {
     chunk: Option<u64>,
     decoders: Option<Vec<String>>,
-    grid: Vec<GridToml>,
+    /// Spanned so that a mistake inside one grid points at that grid.
+    grid: Vec<toml::Spanned<GridToml>>,
     max_errors: Option<u64>,
     seed: Option<u64>,
     shots: Option<u64>,
@@ -184,14 +185,23 @@ impl SweepSpec {
         let err = |msg: String| Diagnostic::error(source, whole, msg);
         let seed = raw.seed.unwrap_or(0);
         let mut tasks = Vec::new();
-        for (gi, g) in raw.grid.iter().enumerate() {
-            let at = |m: String| err(format!("grid {}: {m}", gi + 1));
+        for (gi, spanned) in raw.grid.iter().enumerate() {
+            let g = spanned.get_ref();
+            let grid_span = Span::new(spanned.span().start, spanned.span().end);
+            let at =
+                |m: String| Diagnostic::error(source, grid_span, format!("grid {}: {m}", gi + 1));
             let family: Family = g.family.parse().map_err(at)?;
             let shots = g
                 .shots
                 .or(raw.shots)
                 .ok_or_else(|| at("no `shots` (set it at the top or in the grid)".into()))?;
-            let chunk = g.chunk.or(raw.chunk).unwrap_or(DEFAULT_CHUNK).max(1);
+            if shots == 0 {
+                return Err(at("`shots` must be at least 1".into()));
+            }
+            let chunk = g.chunk.or(raw.chunk).unwrap_or(DEFAULT_CHUNK);
+            if chunk == 0 {
+                return Err(at("`chunk` must be at least 1".into()));
+            }
             let max_errors = g.max_errors.or(raw.max_errors);
             let decoders = g
                 .decoders
@@ -400,13 +410,19 @@ pub fn parse_rows(source: &Arc<Source>) -> Result<(Vec<Row>, usize), Diagnostic>
     for line in text[..complete].split_inclusive('\n') {
         let body = line.trim_end();
         if !body.is_empty() {
-            let row: Row = serde_json::from_str(body).map_err(|e| {
-                Diagnostic::error(
+            let span = Span::new(offset, offset + body.len());
+            let row: Row = serde_json::from_str(body)
+                .map_err(|e| Diagnostic::error(source, span, format!("not a results row: {e}")))?;
+            if row.errors > row.shots {
+                return Err(Diagnostic::error(
                     source,
-                    Span::new(offset, offset + body.len()),
-                    format!("not a results row: {e}"),
-                )
-            })?;
+                    span,
+                    format!(
+                        "damaged results row: {} errors in {} shots",
+                        row.errors, row.shots
+                    ),
+                ));
+            }
             rows.push(row);
         }
         offset += line.len();
@@ -719,10 +735,22 @@ flip = "z"
             "s.toml",
             "shots = 10\n[[grid]]\nfamily = \"torus\"\ndistances = [3]\nnoise = \"capacity\"\np = [0.1]\n",
         );
-        assert!(SweepSpec::parse(&bad)
-            .unwrap_err()
-            .render()
-            .contains("unknown family"));
+        let text = SweepSpec::parse(&bad).unwrap_err().render();
+        assert!(text.contains("unknown family"), "{text}");
+        // Mistakes inside a grid point at that grid, not at the top of the file.
+        assert!(text.contains("s.toml:2:1"), "{text}");
+        let zero = Source::new(
+            "s.toml",
+            "shots = 10\n[[grid]]\nfamily = \"surface\"\ndistances = [3]\nnoise = \"capacity\"\n\
+             p = [0.1]\n\n[[grid]]\nfamily = \"surface\"\ndistances = [3]\nnoise = \"capacity\"\n\
+             p = [0.1]\nchunk = 0\n",
+        );
+        let text = SweepSpec::parse(&zero).unwrap_err().render();
+        assert!(
+            text.contains("grid 2: `chunk` must be at least 1"),
+            "{text}"
+        );
+        assert!(text.contains("s.toml:8:1"), "{text}");
     }
 
     #[test]
@@ -758,6 +786,13 @@ flip = "z"
             merge_rows([vec![row(0, 2), row(1, 3)], vec![row(1, 3), row(0, 5)]]);
         assert_eq!(merged, vec![row(0, 2), row(1, 3)]);
         assert_eq!(conflicts, 1);
+        // A damaged row (more failures than shots) is refused, pointing at its line.
+        let bad = serde_json::to_string(&row(1, 11)).unwrap();
+        let text = parse_rows(&Source::new("r.jsonl", format!("{line}\n{bad}\n")))
+            .unwrap_err()
+            .render();
+        assert!(text.contains("11 errors in 10 shots"), "{text}");
+        assert!(text.contains("r.jsonl:2:1"), "{text}");
         let pts = aggregate(&merged);
         assert_eq!((pts[0].shots, pts[0].errors), (20, 5));
     }

@@ -12,7 +12,7 @@
 //! [`StmtKind::Blank`] so the canonical printer (`slant fmt`) does not lose them; a comment after a
 //! statement on the same line is kept in [`Stmt::comment`].
 
-use std::cell::RefCell;
+use std::cell::{Cell, RefCell};
 use std::sync::Arc;
 
 use nom::bytes::complete::{tag, take_while, take_while1};
@@ -36,6 +36,11 @@ type PResult<'a, T> = IResult<In<'a>, T, PError>;
 /// Deepest nesting of blocks, brackets and parentheses accepted; deeper input is refused before
 /// parsing so recursion cannot overflow the stack.
 pub(crate) const MAX_NESTING: usize = 64;
+
+/// Most binary operators in one expression (outside parentheses) and most `else if` links in
+/// one chain. Both build recursion (evaluation of a left-deep operator tree, the parser's own
+/// `else if`) that bracket counting cannot see.
+pub(crate) const MAX_CHAIN: usize = 1000;
 
 /// Most errors reported for one file; past this the rest are likely cascades.
 const MAX_ERRORS: usize = 20;
@@ -169,6 +174,10 @@ fn is_ident_char(c: char) -> bool {
 /// The parser state: collected errors.
 struct Parser {
     errors: RefCell<Vec<PError>>,
+    /// Prefix operators (`-`, `not`) open around the current point.
+    prefixes: Cell<usize>,
+    /// `else if` links of the chain being parsed.
+    else_ifs: Cell<usize>,
 }
 
 impl Parser {
@@ -528,7 +537,13 @@ impl Parser {
             Ok((j, _)) => {
                 let k = self.sp(j);
                 if let Ok((rest, _)) = self.keyword(k, "if") {
-                    let (rest, nested) = self.if_stmt(k, rest)?;
+                    if self.else_ifs.get() >= MAX_CHAIN {
+                        return fail(&k, format!("more than {MAX_CHAIN} `else if` in one chain"));
+                    }
+                    self.else_ifs.set(self.else_ifs.get() + 1);
+                    let nested = self.if_stmt(k, rest);
+                    self.else_ifs.set(self.else_ifs.get() - 1);
+                    let (rest, nested) = nested?;
                     (rest, vec![nested])
                 } else {
                     let else_word = Ident {
@@ -947,10 +962,19 @@ impl Parser {
 
     fn expr_prec<'a>(&self, i: In<'a>, min: u8) -> PResult<'a, Expr> {
         let (mut i, mut lhs) = self.unary(i)?;
+        let mut operators = 0;
         while let Ok((j, op)) = self.binop(i) {
             let prec = op.precedence();
             if prec < min || prec == 0 {
                 break;
+            }
+            operators += 1;
+            if operators > MAX_CHAIN {
+                let k = self.sp(i);
+                return fail(
+                    &k,
+                    format!("more than {MAX_CHAIN} operators in one expression; split it up"),
+                );
             }
             // Comparisons do not chain: `a < b < c` is an error, caught by requiring a higher
             // precedence on the right.
@@ -976,6 +1000,24 @@ impl Parser {
     /// `unary = '-' unary | 'not' unary | atom`
     fn unary<'a>(&self, i: In<'a>) -> PResult<'a, Expr> {
         let j = self.sp(i);
+        let prefix = char::<_, PError>('-').parse(j).is_ok() || self.keyword(j, "not").is_ok();
+        if !prefix {
+            return self.atom(j);
+        }
+        if self.prefixes.get() >= MAX_NESTING {
+            return fail(
+                &j,
+                format!("more than {MAX_NESTING} prefix operators (`-`, `not`) in a row"),
+            );
+        }
+        self.prefixes.set(self.prefixes.get() + 1);
+        let out = self.prefixed(j);
+        self.prefixes.set(self.prefixes.get() - 1);
+        out
+    }
+
+    /// A `-` or `not` expression starting at `j` (the caller checked the operator is there).
+    fn prefixed<'a>(&self, j: In<'a>) -> PResult<'a, Expr> {
         if let Ok((k, _)) = char::<_, PError>('-').parse(j) {
             let (k, e) = self.unary(k)?;
             return Ok((
@@ -1157,6 +1199,8 @@ pub(crate) fn parse(source: &Arc<Source>) -> Result<Ast, Vec<Diagnostic>> {
     }
     let parser = Parser {
         errors: RefCell::new(Vec::new()),
+        prefixes: Cell::new(0),
+        else_ifs: Cell::new(0),
     };
     let input = In::new(source.text.as_str());
     let stmts = parser.file(input);
