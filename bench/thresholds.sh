@@ -1,6 +1,7 @@
 #!/usr/bin/env bash
-# Threshold sweeps at full size (issue 8): rotated surface code (code capacity and circuit-level
-# depolarizing), repetition code (phenomenological), XZZX vs CSS under a Z-biased circuit model.
+# Threshold sweeps at full size (issue 8): rotated surface code (code capacity, phenomenological
+# and circuit-level depolarizing), repetition code (phenomenological), XZZX vs CSS under a
+# Z-biased circuit model.
 # Each spec in bench/thresholds/*.toml names its model and the published value it checks.
 #
 #   bench/thresholds.sh            full size (hours on a workstation; resumable: rerun after a kill)
@@ -16,7 +17,7 @@ cargo build --release --quiet
 bin="${CARGO_TARGET_DIR:-target}/release/slant"
 out="target/thresholds"
 mkdir -p "$out" docs
-specs="${SPECS:-surface_capacity repetition_phenomenological xzzx_biased surface_circuit}"
+specs="${SPECS:-surface_capacity surface_phenomenological repetition_phenomenological xzzx_biased surface_circuit}"
 for name in $specs; do
   spec="bench/thresholds/$name.toml"
   if [ -n "${QUICK:-}" ]; then
