@@ -437,6 +437,34 @@ fn cli_compare_orders_marks_best() {
     assert_eq!(col(lines[1], 0), "order=hook-safe");
     assert_eq!(col(lines[1], 7), "3");
     assert_eq!(col(lines[2], 7), "2");
+    // The last column lists where a row is best, as `*` does in the table.
+    let best = |line: &str| line.rsplit(',').next().unwrap().to_string();
+    assert!(best(lines[1]).split(';').any(|c| c == "distance"), "{text}");
+    assert!(
+        !best(lines[2]).split(';').any(|c| c == "distance"),
+        "{text}"
+    );
+    // Values holding commas (a custom order) are separated by `;` and quoted in the CSV.
+    let stdout = crate::support::stdout_of(slant().args([
+        "compare",
+        "--family",
+        "surface",
+        "--with",
+        "distance=3",
+        "--vary",
+        "order=hook-safe;custom:nw,ne,sw,se",
+        "--noise",
+        "circuit p=0.001",
+        "--csv",
+    ]));
+    let text = String::from_utf8(stdout).unwrap();
+    assert!(
+        text.lines()
+            .nth(2)
+            .unwrap()
+            .starts_with("\"order=custom:nw,ne,sw,se\","),
+        "{text}"
+    );
     let out = slant()
         .args([
             "compare",

@@ -52,7 +52,8 @@ pub struct Args {
     /// Generate the variants from this family (see `slant new --help`).
     #[arg(long, requires = "vary")]
     pub family: Option<String>,
-    /// The option to vary and its values, e.g. `order=hook-safe,hook-aligned`.
+    /// The option to vary and its values, e.g. `order=hook-safe,hook-aligned`; separate them
+    /// with `;` when a value holds commas (`order=hook-safe;custom:nw,ne,sw,se`).
     #[arg(long, value_name = "KEY=V1,V2,...")]
     pub vary: Option<String>,
     /// A fixed `slant new` option for every variant, e.g. `distance=5` or `periodic` (repeatable).
@@ -120,7 +121,9 @@ fn sources(args: &Args) -> Result<Vec<(String, crate::ir::Circuit)>, CliError> {
         let (key, values) = vary
             .split_once('=')
             .ok_or_else(|| Diagnostic::bare(format!("`--vary {vary}`: expected KEY=V1,V2,...")))?;
-        for v in values.split(',') {
+        // A value may itself hold commas (`custom:nw,ne,sw,se`): then `;` separates the values.
+        let sep = if values.contains(';') { ';' } else { ',' };
+        for v in values.split(sep).map(str::trim).filter(|v| !v.is_empty()) {
             let mut argv = vec![family.clone()];
             for w in &args.with {
                 argv.extend(option_args(w));
@@ -129,7 +132,11 @@ fn sources(args: &Args) -> Result<Vec<(String, crate::ir::Circuit)>, CliError> {
             let parsed = NewArgs::try_parse_from(&argv).map_err(|e| {
                 Diagnostic::bare(format!(
                     "variant `{key}={v}`: {}",
-                    e.to_string().lines().next().unwrap_or("bad option")
+                    e.to_string()
+                        .lines()
+                        .next()
+                        .unwrap_or("bad option")
+                        .trim_start_matches("error: ")
                 ))
             })?;
             let spec = parsed
@@ -506,8 +513,14 @@ fn csv_text(rows: &[Row]) -> String {
             let _ = write!(s, ",rate_p{p},low_p{p},high_p{p},errors_p{p},shots_p{p}");
         }
     }
-    s.push('\n');
-    let opt = |c: Option<&Count>| c.map_or(String::new(), |c| c.value.to_string());
+    s.push_str(",best\n");
+    let columns = Column::all(rows);
+    // Empty: proven absent; `> k` or `?`: absent without proof (see `slant distance`).
+    let opt = |c: Option<&Count>, u: Option<Unproven>| match (c, u) {
+        (Some(c), _) => c.value.to_string(),
+        (None, Some(u)) => u.cell(),
+        (None, None) => String::new(),
+    };
     let quote = |t: &str| {
         if t.contains([',', '"']) {
             format!("\"{}\"", t.replace('"', "\"\""))
@@ -515,7 +528,7 @@ fn csv_text(rows: &[Row]) -> String {
             t.to_string()
         }
     };
-    for r in rows {
+    for (i, r) in rows.iter().enumerate() {
         let _ = write!(
             s,
             "{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{}",
@@ -526,12 +539,12 @@ fn csv_text(rows: &[Row]) -> String {
             r.mechanisms,
             r.hyperedge_share,
             r.undecomposed_share,
-            opt(r.report.distance.as_ref()),
+            opt(r.report.distance.as_ref(), r.report.unresolved.distance),
             r.report
                 .distance
                 .as_ref()
                 .map_or(String::new(), |c| c.lower.to_string()),
-            opt(r.report.high_rate.as_ref()),
+            opt(r.report.high_rate.as_ref(), r.report.unresolved.high_rate),
             r.report
                 .lexicographic
                 .as_ref()
@@ -556,14 +569,22 @@ fn csv_text(rows: &[Row]) -> String {
                 x.rate, x.low, x.high, x.errors, x.shots
             );
         }
-        s.push('\n');
+        // The columns where this row holds the best value, as the table's `*` marks them.
+        let best: Vec<String> = columns
+            .iter()
+            .filter(|&&c| compare::best(rows, c)[i])
+            .map(|&c| column_name(rows, c))
+            .collect();
+        let _ = writeln!(s, ",{}", best.join(";"));
     }
     s
 }
 
 fn json_text(rows: &[Row]) -> Result<String, CliError> {
-    let count = |c: Option<&Count>| {
-        c.map(|c| json!({"value": c.value, "lower": c.lower, "method": c.method.name()}))
+    let count = |c: Option<&Count>, u: Option<Unproven>| match (c, u) {
+        (Some(c), _) => json!({"value": c.value, "lower": c.lower, "method": c.method.name()}),
+        (None, Some(u)) => json!({"value": null, "unproven": u.describe()}),
+        (None, None) => serde_json::Value::Null,
     };
     let columns = Column::all(rows);
     let list: Vec<_> = rows
@@ -592,8 +613,11 @@ fn json_text(rows: &[Row]) -> Result<String, CliError> {
                 "mechanisms": r.mechanisms,
                 "hyperedge_share": r.hyperedge_share,
                 "hyperedge_share_after": r.undecomposed_share,
-                "distance": count(r.report.distance.as_ref()),
-                "high_rate_distance": count(r.report.high_rate.as_ref()),
+                "distance": count(r.report.distance.as_ref(), r.report.unresolved.distance),
+                "high_rate_distance": count(
+                    r.report.high_rate.as_ref(),
+                    r.report.unresolved.high_rate
+                ),
                 "low_rate": r.report.lexicographic.as_ref()
                     .map(|l| json!({"low": l.low, "total": l.total})),
                 "weighted": r.report.weighted.as_ref()

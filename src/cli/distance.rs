@@ -138,6 +138,12 @@ pub fn render(r: &DistanceReport, graph: &FaultGraph, circuit: &Circuit) -> Stri
             r.hyperedges
         );
     }
+    if graph.observables.is_empty() {
+        let _ = writeln!(
+            s,
+            "note: the circuit declares no observable, so no fault can be a logical error"
+        );
+    }
     let shown = [
         ("shortest", r.distance.as_ref().map(|c| &c.error)),
         ("high-rate", r.high_rate.as_ref().map(|c| &c.error)),
