@@ -208,7 +208,7 @@ fn xzzx_native_circuit_infinite_bias_high_rate_distance_is_d() {
         let mut s = GenSpec::new(Family::Xzzx, d);
         s.entangler = Some(Entangler::Native);
         s.basis = Some(LogicalBasis::X);
-        let r = report(&graph_of(&s, "circuit p=0.001 bias=inf"));
+        let r = report(&graph_of(&s, "circuit p=0.001 bias=inf cx=bias-preserving"));
         let high = r.high_rate.as_ref().expect("pure-Z logical exists");
         assert_eq!(high.value, d, "d={d}");
         assert!(high.exact());
@@ -228,6 +228,13 @@ fn css_surface_pure_z_distance_is_d() {
         let high = r.high_rate.as_ref().expect("pure-Z logical");
         assert!(high.exact());
         assert_eq!(high.value, d);
+        // The same circuit-level noise as the XZZX check above (ancilla extraction, d rounds,
+        // bias-preserving CX): still d.
+        let mut s = GenSpec::new(Family::Surface, d);
+        s.basis = Some(LogicalBasis::X);
+        let r = report(&graph_of(&s, "circuit p=0.001 bias=inf cx=bias-preserving"));
+        let high = r.high_rate.as_ref().expect("pure-Z logical");
+        assert_eq!((high.value, high.exact()), (d, true), "circuit-level d={d}");
     }
 }
 
@@ -267,6 +274,27 @@ fn rectangular_xzzx_high_rate_distance_equals_brute_force_z_logical() {
             }
         }
     }
+    // In the basis without a pure-Z logical, the fewest low-rate faults in a logical error
+    // grows with the long side: 1 at 3 × 5, 2 at 3 × 7.
+    let fewest_low = |dz: u32| {
+        [LogicalBasis::Z, LogicalBasis::X]
+            .into_iter()
+            .find_map(|basis| {
+                let mut s = GenSpec::new(Family::Xzzx, 3);
+                (s.dx, s.dz, s.rounds) = (3, dz, 2);
+                s.style = Some(Style::Product);
+                s.basis = Some(basis);
+                let pure_z = report(&graph_of(&s, "capacity p=0.01 bias=inf"));
+                let proven_none =
+                    pure_z.high_rate.is_none() && pure_z.unresolved.high_rate.is_none();
+                proven_none.then(|| {
+                    let biased = report(&graph_of(&s, "capacity p=0.01 bias=100"));
+                    biased.lexicographic.expect("a logical error exists").low
+                })
+            })
+    };
+    assert_eq!(fewest_low(5), Some(1));
+    assert_eq!(fewest_low(7), Some(2));
 }
 
 /// The least weight of a Z-only operator on the data that commutes with every round-0 check of a
