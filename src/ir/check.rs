@@ -8,7 +8,10 @@
 //! with probability 1/2 reproduces the outcome distribution (this is how a Pauli-frame sampler
 //! draws random outcomes). A parity of results is therefore deterministic iff no gauge Pauli flips
 //! it, and when one does, that gauge location names the measurement or reset that randomises it.
-//! The stabilizer tableau in `sim` computes the reference values; tests cross-check the two.
+//! The stabilizer tableau in `sim` computes the reference values. A property test checks this
+//! verdict on random Clifford circuits against two independent ones: noiseless Pauli-frame
+//! sampling, and the tableau run down random branches of the outcome tree
+//! ([`crate::sim::tableau::branch_run`]).
 
 use crate::ir::sensitivity::{sweep, Point};
 use crate::ir::{Circuit, OpKind};

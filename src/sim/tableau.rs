@@ -45,6 +45,14 @@ pub struct Reference {
 
 /// Runs the circuit without noise on a stabilizer tableau.
 pub fn reference_run(circuit: &Circuit) -> Reference {
+    branch_run(circuit, || false)
+}
+
+/// Runs the circuit without noise, resolving each random measurement outcome by `choose()`:
+/// one branch of the circuit's outcome tree ([`reference_run`] takes the all-zero branch).
+/// With fair coin flips this samples the noiseless outcome distribution, so a detector or
+/// observable whose parity differs between two branches is not deterministic.
+pub fn branch_run(circuit: &Circuit, mut choose: impl FnMut() -> bool) -> Reference {
     let mut t = Tableau::new(circuit.qubits.len());
     let mut measurements = vec![false; circuit.records.len()];
     let mut random = vec![false; circuit.records.len()];
@@ -59,7 +67,7 @@ pub fn reference_run(circuit: &Circuit) -> Reference {
             OpKind::Measure { record, .. } => {
                 factors.clear();
                 factors.extend(op.targets.iter().copied().zip(op.paulis.iter().copied()));
-                let m = t.measure(&factors);
+                let m = t.measure_resolving(&factors, &mut choose);
                 measurements[*record as usize] = m.outcome;
                 random[*record as usize] = m.random;
             }
@@ -99,7 +107,7 @@ pub fn reference_run(circuit: &Circuit) -> Reference {
 pub struct Measured {
     /// The result (`true` = eigenvalue −1).
     pub outcome: bool,
-    /// Whether it was random (then `outcome` is `false` and the state collapsed onto +1).
+    /// Whether it was random (then `outcome` is the chosen one and the state collapsed onto it).
     pub random: bool,
 }
 
@@ -373,6 +381,15 @@ impl Tableau {
 
     /// Measures a Pauli product (factors on distinct qubits); random outcomes are resolved as 0.
     pub fn measure(&mut self, factors: &[(u32, Pauli)]) -> Measured {
+        self.measure_resolving(factors, || false)
+    }
+
+    /// Measures a Pauli product; a random outcome is `resolve()` (called only then).
+    pub fn measure_resolving(
+        &mut self,
+        factors: &[(u32, Pauli)],
+        resolve: impl FnOnce() -> bool,
+    ) -> Measured {
         let mut neg = self.load_product(factors);
         let Some(k) = self.sx.iter().position(|&v| v != 0) else {
             return Measured {
@@ -404,14 +421,16 @@ impl Tableau {
         // Project qubit k of the initial state onto |+>: prepend H_k; R becomes ±Z_k.
         self.columns(|x, z, s| col_h(x, z, s, k));
         col_h(&mut sx, &mut sz, &mut neg, k);
-        if neg {
-            // Choose the +1 outcome: prepend X_k.
+        // Now R = ±Z_k on the initial side, where qubit k is |0>: prepending X_k flips its sign.
+        // Choose the outcome: R = +Z_k for 0, −Z_k for 1.
+        let outcome = resolve();
+        if neg != outcome {
             self.columns(|x, z, s| col_x(x, z, s, k));
         }
         self.sx = sx;
         self.sz = sz;
         Measured {
-            outcome: false,
+            outcome,
             random: true,
         }
     }
@@ -533,6 +552,30 @@ mod tests {
                 random: false
             }
         );
+    }
+
+    /// Either branch of a random measurement collapses consistently: in a Bell pair
+    /// (|00> + |11>)/√2 the Z results of the two qubits are equal, whichever the first was, and
+    /// a repeated measurement repeats it (N&C §10.5.3; PRA 70, 052328 (2004), §III).
+    #[test]
+    fn chosen_branches_collapse_consistently() {
+        for first in [false, true] {
+            let mut t = Tableau::new(2);
+            t.apply_gate(Gate::H, &[0]);
+            t.apply_gate(Gate::Cx, &[0, 1]);
+            let m = t.measure_resolving(&[(0, Z)], || first);
+            assert_eq!(
+                m,
+                Measured {
+                    outcome: first,
+                    random: true
+                }
+            );
+            assert_eq!(t.peek(&[(1, Z)]), Some(first));
+            assert_eq!(t.peek(&[(0, Z)]), Some(first));
+            // X⊗X is no longer a stabilizer: its result is random.
+            assert_eq!(t.peek(&[(0, X), (1, X)]), None);
+        }
     }
 
     #[test]
