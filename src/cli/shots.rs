@@ -78,6 +78,12 @@ pub struct Args {
 
 /// Runs `slant shots`.
 pub fn run(args: Args) -> Result<(), CliError> {
+    if args.packed && args.format == Format::ZeroOne {
+        return Err(Diagnostic::bare(
+            "`--packed` applies to .npy output; `--format 01` writes one character per bit",
+        )
+        .into());
+    }
     let circuit = args.circuit.load()?;
     let circuit = args.noise.apply(circuit)?;
     if args.bench {
