@@ -736,8 +736,25 @@ fn check_json_and_stdin() {
     assert_eq!(code, 0);
     let v: serde_json::Value = serde_json::from_str(&out).unwrap();
     assert_eq!(v["detectors"], 1);
+    assert_eq!(v["ok"], true);
     assert_eq!(v["noise_channels"]["depolarizing"], 1);
     assert!((v["noise_total_probability"].as_f64().unwrap() - 0.04).abs() < 1e-12);
+    // A refusal is machine-readable too (and still rendered for people on stderr).
+    let (code, out, err) = slant(&["check", "-", "--json"], Some("qubit a\nczz a\n"));
+    assert_eq!(code, 1);
+    assert!(err.contains("did you mean `cz`?"), "{err}");
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    assert_eq!(v["ok"], false);
+    let e = &v["errors"][0];
+    assert_eq!(e["message"], "unknown statement or gate `czz`");
+    assert_eq!(
+        (
+            e["location"]["line"].clone(),
+            e["location"]["column"].clone()
+        ),
+        (2.into(), 1.into())
+    );
+    assert_eq!(e["hint"], "did you mean `cz`?");
 }
 
 #[test]

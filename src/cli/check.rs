@@ -7,6 +7,8 @@ use serde::Serialize;
 use crate::cli::common::CircuitArgs;
 use crate::cli::CliError;
 use crate::ir::{Circuit, OpKind};
+use crate::lang::diagnostic::Severity;
+use crate::lang::Diagnostic;
 
 /// Arguments of `slant check`.
 #[derive(Debug, clap::Args)]
@@ -144,14 +146,50 @@ impl Summary {
 
 /// Runs `slant check`.
 pub fn run(args: Args) -> Result<(), CliError> {
-    let circuit = args.circuit.load()?;
+    let circuit = match args.circuit.load() {
+        Ok(c) => c,
+        Err(diags) => {
+            if args.json {
+                // Machines get the refusal on stdout too; people still read stderr.
+                let errors: Vec<serde_json::Value> = diags.iter().map(diagnostic_json).collect();
+                let v = serde_json::json!({
+                    "file": args.circuit.file.display().to_string(),
+                    "ok": false,
+                    "errors": errors,
+                });
+                let text = serde_json::to_string_pretty(&v)
+                    .map_err(|e| CliError::Internal(e.to_string()))?;
+                println!("{text}");
+            }
+            return Err(CliError::Rejected(diags));
+        }
+    };
     let summary = Summary::of(&circuit);
     if args.json {
-        let text = serde_json::to_string_pretty(&summary)
-            .map_err(|e| CliError::Internal(e.to_string()))?;
+        let mut v =
+            serde_json::to_value(&summary).map_err(|e| CliError::Internal(e.to_string()))?;
+        v["ok"] = serde_json::Value::Bool(true);
+        let text =
+            serde_json::to_string_pretty(&v).map_err(|e| CliError::Internal(e.to_string()))?;
         println!("{text}");
     } else {
         print!("{}", summary.render());
     }
     Ok(())
+}
+
+/// A diagnostic as JSON: severity, message, location (`null` when it has none) and hint.
+fn diagnostic_json(d: &Diagnostic) -> serde_json::Value {
+    let location = d.location().map(
+        |(file, line, column)| serde_json::json!({"file": file, "line": line, "column": column}),
+    );
+    serde_json::json!({
+        "severity": match d.severity {
+            Severity::Error => "error",
+            Severity::Warning => "warning",
+        },
+        "message": d.message,
+        "location": location,
+        "hint": d.hint,
+    })
 }
