@@ -758,6 +758,23 @@ fn check_json_and_stdin() {
 }
 
 #[test]
+fn record_table_maps_result_names_to_indices() {
+    let c = load(
+        "qubit q[0..2]\nfor r in 0..2 {\n  measure z q[0..2] -> m[r, 0..2]\n}\n\
+         detector = m[1, 0] ^ m[0, 0]\n",
+    )
+    .unwrap();
+    let table = c.record_table();
+    assert_eq!(table.len(), 4);
+    assert_eq!(table["m[0,0]"], 0);
+    assert_eq!(table["m[1,1]"], 3);
+    assert_eq!(
+        c.detectors[0].records,
+        vec![table["m[1,0]"], table["m[0,0]"]]
+    );
+}
+
+#[test]
 fn check_exit_codes_and_rendered_error() {
     let (code, out, err) = slant(&["check", "-"], Some("qubit a\nczz a\n"));
     assert_eq!(code, 1);

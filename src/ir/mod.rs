@@ -361,6 +361,15 @@ pub struct Circuit {
 }
 
 impl Circuit {
+    /// The result name → record index table (names as in [`Record::name`], e.g. `m[2,0]`).
+    pub fn record_table(&self) -> std::collections::HashMap<&str, u32> {
+        self.records
+            .iter()
+            .enumerate()
+            .map(|(i, r)| (r.name.as_str(), i as u32))
+            .collect()
+    }
+
     /// Total number of operations.
     pub fn op_count(&self) -> usize {
         self.layers.iter().map(|l| l.ops.len()).sum()
