@@ -768,9 +768,10 @@ fn record_table_maps_result_names_to_indices() {
     assert_eq!(table.len(), 4);
     assert_eq!(table["m[0,0]"], 0);
     assert_eq!(table["m[1,1]"], 3);
+    // Detector parities are stored as sorted record sets.
     assert_eq!(
         c.detectors[0].records,
-        vec![table["m[1,0]"], table["m[0,0]"]]
+        vec![table["m[0,0]"], table["m[1,0]"]]
     );
 }
 
