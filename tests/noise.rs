@@ -498,3 +498,100 @@ fn cli_compile_and_bias() {
     let stdout = String::from_utf8_lossy(&st.stdout);
     assert!(stdout.contains("verdict: bias lost at"), "{stdout}");
 }
+
+/// An override that selects no qubit of the circuit is refused at its selector value, whether it
+/// names a qubit or a role; the CLI exits 1.
+#[test]
+fn unmatched_overrides_are_located() {
+    let circuit = load("one.slant", ONE_CX);
+    let cases: &[(&str, &str, usize, usize, Option<&str>)] = &[
+        (
+            "p = 0.01\n[gates.default]\n[[override]]\nqubit = \"zz[9]\"\nmeasure = { flip = 0.1 }\n",
+            "has no qubit `zz[9]`",
+            4,
+            9,
+            None,
+        ),
+        (
+            "p = 0.01\n[gates.default]\n[[override]]\nrole = \"nosuchrole\"\nmeasure = { flip = 0.1 }\n",
+            "has no role `nosuchrole`",
+            4,
+            8,
+            Some("the circuit's roles are `data`"),
+        ),
+        (
+            "p = 0.01\n[gates.default]\n\n[[override]]\n  role   =   \"dta\"\nidle = { p = 0.1 }\n",
+            "has no role `dta`",
+            5,
+            14,
+            Some("did you mean `data`?"),
+        ),
+    ];
+    for &(text, msg, line, col, hint) in cases {
+        let m = model(text).unwrap();
+        let errs = compile(&circuit, &m).expect_err(text);
+        assert_eq!(errs.len(), 1, "{text}");
+        assert!(errs[0].message.contains(msg), "{text}: {}", errs[0].message);
+        assert_eq!(
+            errs[0].location().unwrap(),
+            ("m.toml".to_string(), line, col),
+            "{text}"
+        );
+        if let Some(h) = hint {
+            assert_eq!(errs[0].hint.as_deref(), Some(h), "{text}");
+        }
+    }
+    // The same through the binary: located at the file, exit code 1.
+    let dir = tempfile::tempdir().unwrap();
+    let src = dir.path().join("one.slant");
+    std::fs::write(&src, ONE_CX).unwrap();
+    let m = dir.path().join("m.toml");
+    std::fs::write(&m, cases[1].0).unwrap();
+    let st = std::process::Command::new(env!("CARGO_BIN_EXE_slant"))
+        .args([
+            "bias",
+            src.to_str().unwrap(),
+            "--noise",
+            m.to_str().unwrap(),
+        ])
+        .output()
+        .unwrap();
+    assert_eq!(st.status.code(), Some(1));
+    let stderr = String::from_utf8_lossy(&st.stderr);
+    assert!(stderr.contains(&format!("{}:4:8", m.display())), "{stderr}");
+}
+
+/// A qubit name written with spaces, as in the source, selects the same qubit as the printed
+/// form; a name that is not one is refused at the value.
+#[test]
+fn override_qubit_names_are_normalised() {
+    let circuit = load(
+        "grid.slant",
+        "qubit a[0..2, 0..3] role data\nlayer { reset z a[0..2, 0..3] }\nlayer { measure z a[1, 2] -> m }\n",
+    );
+    let q = circuit
+        .qubits
+        .iter()
+        .find(|q| q.name == "a[1,2]")
+        .expect("the expander names the qubit `a[1,2]`");
+    for written in ["a[1,2]", "a[1, 2]", " a[ 1 ,2 ] ", "a [1,\t2]", "a[01, +2]"] {
+        let text = format!(
+            "p = 0.01\n[gates.default]\n[[override]]\nqubit = \"{written}\"\nmeasure = {{ flip = 0.25 }}\n"
+        );
+        let m = model(&text).unwrap_or_else(|d| panic!("{written}: {}", d.render()));
+        assert_eq!(m.measure_for(&[q]).flip, 0.25, "{written}");
+        assert_eq!(m.measure_for(&[&circuit.qubits[0]]).flip, 0.01, "{written}");
+        compile(&circuit, &m).unwrap_or_else(|d| panic!("{written}: {}", d[0].render()));
+    }
+    for bad in ["a[1 2]", "a[1,]", "a[x]", "1a", "a[1"] {
+        let text = format!("[[override]]\nqubit = \"{bad}\"\n");
+        let d = model(&text).expect_err(bad);
+        assert!(
+            d.message.contains("is not a qubit name"),
+            "{bad}: {}",
+            d.message
+        );
+        let (_, line, col) = d.location().unwrap();
+        assert_eq!((line, col), (2, 9), "{bad}");
+    }
+}

@@ -62,7 +62,7 @@ pub fn compile(circuit: &Circuit, model: &NoiseModel) -> Result<Compiled, Vec<Di
     let n = circuit.qubits.len();
     let mut out = circuit.clone();
     let mut notes = Vec::new();
-    let mut errors: Vec<Diagnostic> = Vec::new();
+    let mut errors: Vec<Diagnostic> = model.unmatched_overrides(circuit);
     let mut missing: Vec<Gate> = Vec::new();
     let mut total = 0.0;
     let mut touched = vec![false; n];

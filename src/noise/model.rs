@@ -57,7 +57,9 @@
 //!   `e^(−t/T)`, as T2 does for phase); combined: `X = a(1−b)`, `Z = b(1−a)`, `Y = ab`.
 //!
 //! Overrides apply to a qubit when its name equals `qubit` or it carries the role or tag `role`.
-//! A gate override applies when any of the gate's qubits matches.
+//! Qubit names are compared in the form the circuit prints them, so `"d[1, 2]"` selects `d[1,2]`.
+//! A gate override applies when any of the gate's qubits matches. An override that selects no
+//! qubit of the circuit is an error when the model is compiled onto it.
 
 use std::sync::Arc;
 
@@ -209,7 +211,7 @@ impl IdleNoise {
 /// Which qubits an override applies to.
 #[derive(Clone, Debug, PartialEq)]
 pub enum Selector {
-    /// A qubit by display name.
+    /// A qubit by display name, in the expander's form `name[i,j]` (see [`canonical_qubit_name`]).
     Qubit(String),
     /// Qubits carrying a role or tag.
     Role(String),
@@ -230,6 +232,9 @@ pub struct Override {
     pub idle: Option<IdleNoise>,
     /// The `[[override]]` table.
     pub span: Span,
+    /// The selector's value (`"a[0]"` of `qubit = "a[0]"`), where an override that matches no
+    /// qubit of the circuit is reported.
+    pub selector_span: Span,
 }
 
 /// A parsed noise model.
@@ -383,6 +388,60 @@ impl NoiseModel {
             .unwrap_or(&self.reset)
     }
 
+    /// One error per override that selects no qubit of `circuit`, at the override's selector
+    /// value in the model file. An override that matches nothing is almost always a typo (or a
+    /// model written for another circuit); ignoring it would silently compile the wrong noise.
+    pub fn unmatched_overrides(&self, circuit: &crate::ir::Circuit) -> Vec<Diagnostic> {
+        let mut out = Vec::new();
+        for o in &self.overrides {
+            if circuit.qubits.iter().any(|q| o.selector.matches(q)) {
+                continue;
+            }
+            let (what, name, candidates): (&str, &str, Vec<&str>) = match &o.selector {
+                Selector::Qubit(n) => (
+                    "qubit",
+                    n,
+                    circuit.qubits.iter().map(|q| q.name.as_str()).collect(),
+                ),
+                Selector::Role(r) => {
+                    let mut roles: Vec<&str> = circuit
+                        .qubits
+                        .iter()
+                        .flat_map(|q| q.roles.iter().map(String::as_str))
+                        .collect();
+                    roles.sort_unstable();
+                    roles.dedup();
+                    ("role", r, roles)
+                }
+            };
+            let mut d = Diagnostic::error(
+                &self.source,
+                o.selector_span,
+                format!(
+                    "this override matches no qubit: `{}` has no {what} `{name}`",
+                    circuit.source.name
+                ),
+            );
+            d = match did_you_mean(name, candidates.iter().copied()) {
+                Some(s) => d.with_hint(format!("did you mean `{s}`?")),
+                None if what == "role" && candidates.is_empty() => {
+                    d.with_hint("the circuit declares no roles; add `role NAME` to its qubits")
+                }
+                None if what == "role" => d.with_hint(format!(
+                    "the circuit's roles are {}",
+                    candidates
+                        .iter()
+                        .map(|r| format!("`{r}`"))
+                        .collect::<Vec<_>>()
+                        .join(", ")
+                )),
+                None => d.with_hint("write the name as the circuit declares it, e.g. `a[0]`"),
+            };
+            out.push(d);
+        }
+        out
+    }
+
     /// Idle noise for `qubit`.
     pub fn idle_for(&self, qubit: &crate::ir::Qubit) -> &IdleNoise {
         self.overrides
@@ -392,6 +451,37 @@ impl NoiseModel {
             .find_map(|o| o.idle.as_ref())
             .unwrap_or(&self.idle)
     }
+}
+
+/// The display form the expander gives a qubit (`name` or `name[i,j]`, indices as plain
+/// integers separated by bare commas) for a name written as in the source, so `"a[1, 2]"` and
+/// `"a[ 1,2 ]"` select the qubit `a[1,2]`. `None` when `text` is not a qubit name.
+pub fn canonical_qubit_name(text: &str) -> Option<String> {
+    let text = text.trim();
+    let (base, rest) = match text.find('[') {
+        Some(k) => (text[..k].trim_end(), Some(&text[k + 1..])),
+        None => (text, None),
+    };
+    let mut chars = base.chars();
+    let ident = chars
+        .next()
+        .is_some_and(|c| c.is_ascii_alphabetic() || c == '_')
+        && chars.all(|c| c.is_ascii_alphanumeric() || c == '_');
+    if !ident {
+        return None;
+    }
+    let Some(rest) = rest else {
+        return Some(base.to_string());
+    };
+    let inside = rest.strip_suffix(']')?;
+    // Parsing the indices (rather than deleting spaces) also rejects `a[1 2]` and writes `a[01]`
+    // as the expander does, `a[1]`.
+    let indices = inside
+        .split(',')
+        .map(|i| i.trim().parse::<i64>().map(|v| v.to_string()))
+        .collect::<Result<Vec<_>, _>>()
+        .ok()?;
+    Some(format!("{base}[{}]", indices.join(",")))
 }
 
 impl Selector {
@@ -811,7 +901,13 @@ impl Parser<'_> {
             }
         };
         let selector = match (str_of("qubit")?, str_of("role")?) {
-            (Some(q), None) => Selector::Qubit(q),
+            (Some(q), None) => Selector::Qubit(canonical_qubit_name(&q).ok_or_else(|| {
+                self.err(
+                    t.get("qubit").and_then(|i| i.span()),
+                    format!("`{q}` is not a qubit name"),
+                )
+                .with_hint("write the name as the circuit does, e.g. `a[0]` or `d[1, 2]`")
+            })?),
             (None, Some(r)) => Selector::Role(r),
             (Some(_), Some(_)) => {
                 return Err(self.err(
@@ -827,8 +923,15 @@ impl Parser<'_> {
                 ))
             }
         };
+        let selector_span = span_of(
+            t.get("qubit")
+                .or_else(|| t.get("role"))
+                .and_then(|i| i.span()),
+        )
+        .unwrap_or(at);
         Ok(Override {
             selector,
+            selector_span,
             gates: match t.get("gates") {
                 None => Vec::new(),
                 Some(i) => self.gates(i, base)?,
