@@ -595,3 +595,44 @@ fn override_qubit_names_are_normalised() {
         assert_eq!((line, col), (2, 9), "{bad}");
     }
 }
+
+/// `time_unit` names one of a few units and is shown in the compiled comments; anything else is
+/// refused at the value instead of being ignored.
+#[test]
+fn time_unit_is_checked_and_shown() {
+    for unit in ["s", "ms", "us", "ns"] {
+        let m = model(&format!("time_unit = \"{unit}\"\np = 0.01\n")).unwrap();
+        assert_eq!(m.time_unit, Some(unit));
+    }
+    assert_eq!(model("p = 0.01\n").unwrap().time_unit, None);
+    let cases: &[(&str, &str, usize, usize)] = &[
+        (
+            "p = 0.01\ntime_unit = \"hours\"\n",
+            "unknown time unit `hours`",
+            2,
+            13,
+        ),
+        ("time_unit = \"µs\"\n", "unknown time unit `µs`", 1, 13),
+        ("time_unit = 5\n", "`time_unit` must be a string", 1, 13),
+    ];
+    for &(text, msg, line, col) in cases {
+        let d = model(text).expect_err(text);
+        assert!(d.message.contains(msg), "{text}: {}", d.message);
+        let (_, l, c) = d.location().unwrap();
+        assert_eq!((l, c), (line, col), "{text}");
+    }
+    // The unit appears next to the layer duration in the idle comments.
+    let m = model(
+        "time_unit = \"ns\"\np = 0.001\n[gates.default]\nduration = 20\n[measure]\nduration = 300\n\
+[reset]\nduration = 100\n[idle]\nt1 = 1000\nt2 = 1000\n",
+    )
+    .unwrap();
+    let c = compile(&load("one.slant", ONE_CX), &m).unwrap();
+    let idle: Vec<&str> = c
+        .notes
+        .iter()
+        .filter(|n| n.class == "idle")
+        .map(|n| n.text.as_str())
+        .collect();
+    assert!(idle.contains(&"m.toml idle for 300 ns"), "{idle:?}");
+}

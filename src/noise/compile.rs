@@ -229,7 +229,10 @@ pub fn compile(circuit: &Circuit, model: &NoiseModel) -> Result<Compiled, Vec<Di
                 gate: None,
                 implementation: Implementation::Ideal,
                 input: ch.clone(),
-                text: format!("{model_name} idle for {duration}"),
+                text: match model.time_unit {
+                    Some(unit) => format!("{model_name} idle for {duration} {unit}"),
+                    None => format!("{model_name} idle for {duration}"),
+                },
             });
             ops.push(Op {
                 kind: OpKind::Noise(ch),

@@ -15,6 +15,7 @@
 //! ```toml
 //! p = 0.001            # base total error probability, the default of every `p` below
 //! bias = 100           # base bias eta = pZ/(pX+pY); absent: depolarizing; "inf": pure Z
+//! time_unit = "ns"     # "s", "ms", "us" or "ns": names the unit, converts nothing
 //!
 //! [gates.cx]           # one table per gate name (`cx`, `cz`, `h`, ...) or `default`
 //! duration = 2.0       # needed when idle noise comes from t1/t2
@@ -55,6 +56,12 @@
 //! - Idle of a cat-like qubit from `t_bitflip` and `t2`: independent bit flips and phase flips,
 //!   each flipping with probability `(1 − e^(−t/T))/2` (so that the flipped expectation decays as
 //!   `e^(−t/T)`, as T2 does for phase); combined: `X = a(1−b)`, `Z = b(1−a)`, `Y = ab`.
+//!
+//! `time_unit` only names the unit every duration and time of the file is written in; slant
+//! never converts between units (only ratios such as `t/T1` enter the channels), so one
+//! unit must be used throughout. It is shown next to layer durations in `slant compile`
+//! comments. Other values are refused rather than ignored, so a unit slant would misread cannot
+//! slip through.
 //!
 //! Overrides apply to a qubit when its name equals `qubit` or it carries the role or tag `role`.
 //! Qubit names are compared in the form the circuit prints them, so `"d[1, 2]"` selects `d[1,2]`.
@@ -252,7 +259,12 @@ pub struct NoiseModel {
     pub idle: IdleNoise,
     /// Overrides in file order (later wins).
     pub overrides: Vec<Override>,
+    /// The unit durations and times are written in (one of [`TIME_UNITS`]), for display only.
+    pub time_unit: Option<&'static str>,
 }
+
+/// The values `time_unit` accepts.
+pub const TIME_UNITS: [&str; 4] = ["s", "ms", "us", "ns"];
 
 impl NoiseModel {
     /// The model with the same meaning as a `circuit` preset, with `implementation` for `cx`.
@@ -284,6 +296,7 @@ impl NoiseModel {
             },
             idle: IdleNoise::Rate(rate.clone()),
             overrides: Vec::new(),
+            time_unit: None,
         }
     }
 
@@ -315,6 +328,7 @@ impl NoiseModel {
             ],
             "the top level",
         )?;
+        let time_unit = p.time_unit(root)?;
         let base = p.base_rate(root, None)?;
         let gates = match root.get("gates") {
             None => Vec::new(),
@@ -345,6 +359,7 @@ impl NoiseModel {
             reset,
             idle,
             overrides,
+            time_unit,
         };
         p.check_durations(&model, root)?;
         Ok(model)
@@ -557,6 +572,33 @@ impl Parser<'_> {
             return Err(self.err(item.span(), format!("`{key}` must be a number")));
         }
         Ok(Some(v))
+    }
+
+    fn time_unit(&self, t: &dyn TableLike) -> Result<Option<&'static str>, Diagnostic> {
+        let Some(item) = t.get("time_unit") else {
+            return Ok(None);
+        };
+        let units = TIME_UNITS
+            .iter()
+            .map(|u| format!("`{u}`"))
+            .collect::<Vec<_>>()
+            .join(", ");
+        let Some(s) = item.as_str() else {
+            return Err(self
+                .err(item.span(), "`time_unit` must be a string")
+                .with_hint(format!(
+                    "write e.g. `time_unit = \"ns\"`; units are {units}"
+                )));
+        };
+        match TIME_UNITS.iter().find(|u| **u == s) {
+            Some(u) => Ok(Some(*u)),
+            // No did-you-mean: edit distance would offer `s` for `µs`.
+            None => Err(self
+                .err(item.span(), format!("unknown time unit `{s}`"))
+                .with_hint(format!(
+                    "units are {units} (`us` for microseconds); write every duration and time in it"
+                ))),
+        }
     }
 
     fn probability(&self, t: &dyn TableLike, key: &str) -> Result<Option<f64>, Diagnostic> {
