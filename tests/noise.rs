@@ -636,3 +636,46 @@ fn time_unit_is_checked_and_shown() {
         .collect();
     assert!(idle.contains(&"m.toml idle for 300 ns"), "{idle:?}");
 }
+
+/// A `--noise` value that looks like a path but names no file says so, instead of calling it an
+/// unknown preset; preset typos still get the preset hint.
+#[test]
+fn missing_model_file_is_named() {
+    let dir = tempfile::tempdir().unwrap();
+    let gone = dir.path().join("gone.toml");
+    let no_ext = dir.path().join("model");
+    for text in [
+        gone.to_str().unwrap().to_string(),
+        no_ext.to_str().unwrap().to_string(),
+        "models/cat".to_string(),
+        "  cat.toml".to_string(),
+    ] {
+        let d = NoiseSpec::parse(&text).expect_err(&text);
+        let name = text.trim();
+        assert_eq!(
+            d.message,
+            format!("the noise model file `{name}` does not exist"),
+            "{text}"
+        );
+        assert_eq!(
+            d.location().unwrap(),
+            ("--noise".to_string(), 1, text.find(name).unwrap() + 1)
+        );
+        assert!(d.hint.as_deref().unwrap().contains("path of a model file"));
+    }
+    let d = NoiseSpec::parse("circiut p=0.1").unwrap_err();
+    assert!(d.message.contains("unknown noise preset"), "{}", d.message);
+    // Through the binary: exit 1 with the message.
+    let src = dir.path().join("one.slant");
+    std::fs::write(&src, ONE_CX).unwrap();
+    let st = std::process::Command::new(env!("CARGO_BIN_EXE_slant"))
+        .args(["bias", src.to_str().unwrap(), "--noise", "models/cat"])
+        .output()
+        .unwrap();
+    assert_eq!(st.status.code(), Some(1));
+    let stderr = String::from_utf8_lossy(&st.stderr);
+    assert!(
+        stderr.contains("the noise model file `models/cat` does not exist"),
+        "{stderr}"
+    );
+}

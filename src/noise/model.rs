@@ -1033,22 +1033,34 @@ impl Parser<'_> {
     }
 }
 
-/// The extensions of `--noise` beyond the plain presets: a path to an existing `.toml` model
-/// file, or a `circuit` preset with a `cx=ideal|rotation|bias-preserving` key. Returns `None`
-/// when the text is neither (it is then a plain preset). `cx=ideal` gives the plain preset.
+/// The extensions of `--noise` beyond the plain presets: the path of a model file, or a
+/// `circuit` preset with a `cx=ideal|rotation|bias-preserving` key. Returns `None` when the text
+/// is neither (it is then a plain preset). `cx=ideal` gives the plain preset.
+///
+/// The text is a path when it ends in `.toml`, or is one word containing `/` (no preset
+/// contains one). A path that names no file is reported as such, not as an unknown preset.
 pub fn parse_extension(
     source: &Arc<Source>,
 ) -> Option<Result<crate::noise::NoiseSpec, Diagnostic>> {
     use crate::noise::NoiseSpec;
     let text = source.text.as_str();
     let trimmed = text.trim();
-    if trimmed.ends_with(".toml") {
+    let one_word = !trimmed.contains(char::is_whitespace);
+    if trimmed.ends_with(".toml") || (one_word && trimmed.contains('/')) {
         let path = std::path::Path::new(trimmed);
         let start = text.find(trimmed).unwrap_or(0);
         let at = Span::new(start, start + trimmed.len());
         return Some(match std::fs::read_to_string(path) {
             Ok(body) => NoiseModel::parse(&Source::new(trimmed, body))
                 .map(|m| NoiseSpec::Model(Box::new(m))),
+            Err(e) if e.kind() == std::io::ErrorKind::NotFound => Err(Diagnostic::error(
+                source,
+                at,
+                format!("the noise model file `{trimmed}` does not exist"),
+            )
+            .with_hint(
+                "`--noise` takes the path of a model file or a preset such as `circuit p=0.001`",
+            )),
             Err(e) => Err(Diagnostic::error(
                 source,
                 at,
