@@ -679,3 +679,126 @@ fn missing_model_file_is_named() {
         "{stderr}"
     );
 }
+
+/// Bias-report classes name what produced a channel the same way whether the noise came from a
+/// plain preset, a preset with a gate implementation or a model file: idle noise is `idle`
+/// everywhere, and `noise` is left for channels written in the circuit.
+#[test]
+fn bias_classes_agree_between_presets_and_models() {
+    // `s` idles in the cx layer; the circuit's own channel on `s` has a layer to itself.
+    let text = "qubit c role data\nqubit t role data\nqubit s role data\nreset z c, t, s\n\
+layer { cx c t }\nlayer { noise dephasing p=0.01 s }\nmeasure z c -> a, z t -> b, z s -> e\n";
+    let circuit = load("idle.slant", text);
+    let classes = |spec: &str| -> Vec<String> {
+        let s = NoiseSpec::parse(spec).unwrap();
+        let c = slant::noise::apply_noted(&circuit, &s).unwrap();
+        let mut v: Vec<String> = analyze(&c.circuit, &c.notes)
+            .classes
+            .into_iter()
+            .map(|c| c.class)
+            .collect();
+        v.sort();
+        v
+    };
+    let expected = ["cx", "idle", "noise", "reset"];
+    assert_eq!(classes("circuit p=0.01 bias=10"), expected);
+    assert_eq!(classes("circuit p=0.01 bias=10 cx=rotation"), expected);
+    assert_eq!(
+        classes("circuit p=0.01 bias=10 cx=bias-preserving"),
+        expected
+    );
+    let m = compile(
+        &circuit,
+        &model("p = 0.01\nbias = 10\n[idle]\n[gates.default]\n").unwrap(),
+    )
+    .unwrap();
+    let mut v: Vec<String> = analyze(&m.circuit, &m.notes)
+        .classes
+        .into_iter()
+        .map(|c| c.class)
+        .collect();
+    v.sort();
+    assert_eq!(v, expected);
+    // The idle class carries the same probabilities either way.
+    let idle = |notes_from: &str| {
+        let s = NoiseSpec::parse(notes_from).unwrap();
+        let c = slant::noise::apply_noted(&circuit, &s).unwrap();
+        let r = analyze(&c.circuit, &c.notes);
+        let i = r.classes.iter().find(|c| c.class == "idle").unwrap();
+        (i.input_high, i.input_low)
+    };
+    let (a, b) = (
+        idle("circuit p=0.01 bias=10"),
+        idle("circuit p=0.01 bias=10 cx=rotation"),
+    );
+    assert!(
+        (a.0 - b.0).abs() < 1e-15 && (a.1 - b.1).abs() < 1e-15,
+        "{a:?} {b:?}"
+    );
+    // Code-capacity noise is its own class.
+    let s = NoiseSpec::parse("capacity p=0.01").unwrap();
+    let c = slant::noise::apply_noted(&xzzx(Entangler::Native), &s).unwrap();
+    let r = analyze(&c.circuit, &c.notes);
+    let names: Vec<&str> = r.classes.iter().map(|c| c.class.as_str()).collect();
+    assert_eq!(names, ["round-start"]);
+}
+
+/// Without `round` blocks the per-round section says why it is empty; without a `data` role the
+/// report says every qubit counted as data. Neither line appears when the circuit has both.
+#[test]
+fn bias_report_explains_missing_rounds_and_data() {
+    let dir = tempfile::tempdir().unwrap();
+    let run = |name: &str, text: &str| -> String {
+        let src = dir.path().join(name);
+        std::fs::write(&src, text).unwrap();
+        let st = std::process::Command::new(env!("CARGO_BIN_EXE_slant"))
+            .args([
+                "bias",
+                src.to_str().unwrap(),
+                "--noise",
+                "circuit p=0.01 bias=10",
+            ])
+            .output()
+            .unwrap();
+        assert!(
+            st.status.success(),
+            "{}",
+            String::from_utf8_lossy(&st.stderr)
+        );
+        String::from_utf8(st.stdout).unwrap()
+    };
+    let no_rounds =
+        "effective bias at the data per round: not reported, the circuit has no `round { }` blocks";
+    let no_data = "note: the circuit declares no `data` role, so every qubit is counted as data";
+    let plain = run(
+        "plain.slant",
+        "qubit c\nqubit t\nreset x c\nreset z t\ncx c t\nmeasure x c -> mc\nmeasure z t -> mt\n",
+    );
+    assert!(plain.contains(no_rounds), "{plain}");
+    assert!(plain.contains(no_data), "{plain}");
+    assert!(!plain.contains("(eta = pZ / pX,Y):"), "{plain}");
+    let with_data = run("data.slant", ONE_CX);
+    assert!(with_data.contains(no_rounds), "{with_data}");
+    assert!(!with_data.contains(no_data), "{with_data}");
+    let generated = run(
+        "xzzx.slant",
+        &generate(&{
+            let mut spec = GenSpec::new(Family::Xzzx, 3);
+            spec.rounds = 2;
+            spec
+        })
+        .unwrap(),
+    );
+    assert!(!generated.contains(no_rounds) && !generated.contains(no_data));
+    assert!(generated.contains("  round 1 "), "{generated}");
+    // The JSON carries the same facts.
+    let c = load(
+        "plain.slant",
+        "qubit c\nqubit t\nreset x c\nreset z t\ncx c t\nmeasure x c -> mc\nmeasure z t -> mt\n",
+    );
+    let s = NoiseSpec::parse("circuit p=0.01").unwrap();
+    let n = slant::noise::apply_noted(&c, &s).unwrap();
+    let r = analyze(&n.circuit, &n.notes);
+    assert!(r.all_qubits_data);
+    assert_eq!(r.circuit_rounds, 0);
+}

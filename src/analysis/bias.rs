@@ -16,7 +16,10 @@
 //! the faults they turned into X/Y at the data.
 //!
 //! Also reported: input bias `pZ-type / pother` per operation class (the gate a channel follows,
-//! `reset`, `idle`, or `noise` for channels written in the circuit), before and after the gate
+//! `reset`, `idle`, `round-start` for the per-round data channel of the `capacity` and
+//! `phenomenological` presets, or `noise` for channels written in the circuit and not
+//! following a gate or reset; classes come from the [`Note`]s, which presets and model files
+//! write alike), before and after the gate
 //! implementations; the effective bias at the data per round; the share of fault-graph
 //! probability in mechanisms made only of high-rate faults (classes as tagged by
 //! [`crate::faults`]); and the structure of the graph of mechanisms with a high-rate contributor:
@@ -126,6 +129,11 @@ pub struct BiasReport {
     pub components: Vec<Component>,
     /// Hyperedges (more than two detectors) among those mechanisms.
     pub hyperedges: usize,
+    /// Number of `round` blocks the circuit executes; without any, `rounds` is empty because
+    /// there is nothing to report per round, not because no fault reached the data.
+    pub circuit_rounds: u32,
+    /// The circuit declares no `data` role, so every qubit was counted as data.
+    pub all_qubits_data: bool,
 }
 
 impl BiasReport {
@@ -151,7 +159,8 @@ fn z_type(ps: &[Pauli]) -> bool {
 pub fn analyze(noisy: &Circuit, notes: &[Note]) -> BiasReport {
     let n = noisy.qubits.len();
     let mut data: Vec<bool> = noisy.qubits.iter().map(|q| q.has_role("data")).collect();
-    if !data.iter().any(|&d| d) {
+    let all_qubits_data = !data.iter().any(|&d| d);
+    if all_qubits_data {
         data.fill(true);
     }
     let note_at: HashMap<(usize, usize), &Note> =
@@ -322,6 +331,8 @@ pub fn analyze(noisy: &Circuit, notes: &[Note]) -> BiasReport {
         high_only_share,
         components,
         hyperedges,
+        circuit_rounds: noisy.rounds,
+        all_qubits_data,
     }
 }
 

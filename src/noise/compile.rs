@@ -30,7 +30,8 @@ pub struct Note {
     pub layer: usize,
     /// Position of the inserted operation in its layer.
     pub op: usize,
-    /// Operation class: a gate name, `reset` or `idle`.
+    /// Operation class: a gate name, `reset` or `idle` (and `round-start` for the data channel
+    /// of the `capacity` and `phenomenological` presets).
     pub class: String,
     /// The gate it follows, if any.
     pub gate: Option<Gate>,
