@@ -791,6 +791,26 @@ fn bias_report_explains_missing_rounds_and_data() {
     );
     assert!(!generated.contains(no_rounds) && !generated.contains(no_data));
     assert!(generated.contains("  round 1 "), "{generated}");
+    // Mechanisms but none high-rate-only (a bit-flip code under biased noise): the share is
+    // printed as zero, not as a negative zero.
+    let repetition = run(
+        "repetition.slant",
+        include_str!("../circuits/repetition_d3.slant"),
+    );
+    assert!(
+        repetition.contains("high-rate-only mechanisms: 0.0000\n"),
+        "{repetition}"
+    );
+    // The value itself is a positive zero (the JSON prints it; `f64::max` with a negative zero
+    // depends on the optimisation level, so the text alone cannot be trusted to catch it).
+    let c = load(
+        "repetition.slant",
+        include_str!("../circuits/repetition_d3.slant"),
+    );
+    let n = slant::noise::apply_noted(&c, &NoiseSpec::parse("circuit p=0.01 bias=10").unwrap())
+        .unwrap();
+    let share = analyze(&n.circuit, &n.notes).high_only_share;
+    assert!(share == 0.0 && share.is_sign_positive(), "{share:?}");
     // The JSON carries the same facts.
     let c = load(
         "plain.slant",

@@ -415,8 +415,9 @@ fn graph_structure(noisy: &Circuit) -> (f64, Vec<Component>, usize) {
         .mechanisms
         .iter()
         .filter(|m| m.classes == ClassSet::High)
-        .map(|m| m.probability)
-        .sum();
+        // A fold from +0.0: `Sum` for floats starts at −0.0, so with no high-only mechanism the
+        // share would be −0.0 and print as `-0.0000`.
+        .fold(0.0, |a, m| a + m.probability);
     let nd = graph.detectors.len();
     let mut parent: Vec<usize> = (0..nd).collect();
     fn find(p: &mut [usize], mut x: usize) -> usize {

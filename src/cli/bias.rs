@@ -139,8 +139,7 @@ pub fn render(r: &BiasReport, top: usize) -> String {
     let _ = writeln!(
         s,
         "fault-graph probability in high-rate-only mechanisms: {:.4}",
-        // Rounding can leave a negative zero; print it as zero.
-        r.high_only_share.max(0.0)
+        r.high_only_share
     );
     let chains = r.components.iter().filter(|c| c.chain).count();
     let _ = writeln!(
