@@ -822,3 +822,209 @@ fn bias_report_explains_missing_rounds_and_data() {
     assert!(r.all_qubits_data);
     assert_eq!(r.circuit_rounds, 0);
 }
+
+fn cx_rotation_model(extra: &str) -> String {
+    format!(
+        "[gates.cx]\nzi = 0.001\niz = 0.001\nimplementation = \"rotation\"\n{extra}[measure]\nflip = 0\n[reset]\np = 0\n"
+    )
+}
+
+/// The noise channels of a compiled circuit, in order.
+fn channels(c: &Circuit) -> Vec<Channel> {
+    c.layers
+        .iter()
+        .flat_map(|l| &l.ops)
+        .filter_map(|o| match &o.kind {
+            slant::ir::OpKind::Noise(ch) => Some(ch.clone()),
+            _ => None,
+        })
+        .collect()
+}
+
+/// A model may give a gate's rotation generator. Written equal to the default, it compiles to
+/// exactly the default channel; equal up to a global phase (no `II` term), to the same channel
+/// up to rounding; a different path to the same gate gives a different channel, so the
+/// generator is really used.
+#[test]
+fn model_generator_overrides_default() {
+    let circuit = load("one.slant", ONE_CX);
+    let default = compile(&circuit, &model(&cx_rotation_model("")).unwrap()).unwrap();
+    let explicit = model(&cx_rotation_model(
+        "generator = \"II - ZI - IX + ZX\"\nangle = \"pi/4\"\n",
+    ))
+    .unwrap();
+    assert!(explicit.gates[0].1.generator.is_some());
+    let c = compile(&circuit, &explicit).unwrap();
+    assert_eq!(channels(&c.circuit), channels(&default.circuit));
+    assert_eq!(c.notes[0].generator, explicit.gates[0].1.generator);
+    let report = analyze(&c.circuit, &c.notes);
+    let cx = report.classes.iter().find(|c| c.class == "cx").unwrap();
+    assert!((cx.output_z_share() - 7.0 / 8.0).abs() < 1e-9);
+
+    for (extra, what) in [
+        (
+            "generator = \"ZX - ZI - IX\"\nangle = 0.7853981633974483\n",
+            "no II",
+        ),
+        (
+            "generator = \"-II + ZI + IX - ZX\"\nangle = \"-pi/4\"\n",
+            "negated",
+        ),
+    ] {
+        let m = model(&cx_rotation_model(extra)).unwrap_or_else(|d| panic!("{}", d.render()));
+        let c = compile(&circuit, &m).unwrap();
+        for (a, b) in channels(&c.circuit).iter().zip(channels(&default.circuit)) {
+            let (Channel::Pauli2(a), Channel::Pauli2(b)) = (a, &b) else {
+                panic!("{what}: expected pauli2")
+            };
+            for k in 0..15 {
+                assert!((a[k] - b[k]).abs() < 1e-15, "{what}: term {k}");
+            }
+        }
+    }
+
+    // `II − ZI + 3 IX + ZX` = 4Π + 4·IX with Π = |1⟩⟨1| ⊗ |−⟩⟨−|: IX commutes with Π and
+    // exp(iπ·IX) = −I, so exp(iπ/4·G) is CX up to a sign. Mid-gate (u = 1 − s, hand derivation):
+    // the rest of the gate turns the target about X by 2πu when the control is 0 and by 3πu
+    // when it is 1, so a target Z leaves as P0⊗(cos a Z + sin a Y) + P1⊗(cos b Z + sin b Y),
+    // a = 2πu, b = 3πu: IZ = (cos a + cos b)/2, ZZ = (cos a − cos b)/2, IY = (sin a + sin b)/2,
+    // ZY = (sin a − sin b)/2. Over u ∈ [0, 1] the squares of cos and sin average 1/2 and the
+    // cross terms (cos πu ± cos 5πu)/2 average 0, so each of the four is 1/4 (the default
+    // generator gives 3/8, 3/8, 1/8, 1/8).
+    let other = model(&cx_rotation_model(
+        "generator = \"II - ZI + 3 IX + ZX\"\nangle = \"pi/4\"\n",
+    ))
+    .unwrap_or_else(|d| panic!("{}", d.render()));
+    let g = other.gates[0].1.generator.as_ref().unwrap();
+    let d = slant::noise::implement::mid_gate_fault_with(
+        Gate::Cx,
+        Implementation::Rotation,
+        Some(g),
+        [Pauli::I, Pauli::Z],
+    );
+    for name in ["IZ", "ZZ", "IY", "ZY"] {
+        assert!(
+            (d[idx(name)] - 0.25).abs() < 1e-9,
+            "{name}: {}",
+            d[idx(name)]
+        );
+    }
+    // Through the compiler and the bias report: the Z-type share of the cx channel is now
+    // (1 + 1/2)/2 = 3/4 (control Z stays ZI; target Z is Z-type half the time).
+    let c = compile(&circuit, &other).unwrap();
+    assert_ne!(channels(&c.circuit), channels(&default.circuit));
+    let report = analyze(&c.circuit, &c.notes);
+    let cx = report.classes.iter().find(|c| c.class == "cx").unwrap();
+    assert!(
+        (cx.output_z_share() - 3.0 / 4.0).abs() < 1e-9,
+        "{}",
+        cx.output_z_share()
+    );
+}
+
+/// Generators that are not the gate, malformed, or misplaced are refused at line:col.
+#[test]
+fn bad_generators_are_located() {
+    let cases: &[(&str, &str, usize, usize)] = &[
+        // √CX, not CX: refused at the generator value.
+        (
+            "generator = \"II - ZI - IX + ZX\"\nangle = \"pi/8\"\n",
+            "this generator does not implement `cx`",
+            5,
+            13,
+        ),
+        // CZ's generator given to cx.
+        (
+            "generator = \"II - ZI - IZ + ZZ\"\nangle = \"pi/4\"\n",
+            "this generator does not implement `cx`",
+            5,
+            13,
+        ),
+        // A Pauli string of the wrong length, located inside the string.
+        (
+            "generator = \"II - ZI - IXZ + ZX\"\nangle = \"pi/4\"\n",
+            "`IXZ` has 3 letters",
+            5,
+            24,
+        ),
+        (
+            "generator = \"II - ZI - IX + ZX\"\n",
+            "`generator` needs `angle`",
+            5,
+            1,
+        ),
+        ("angle = \"pi/4\"\n", "`angle` needs `generator`", 5, 1),
+        (
+            "generator = \"II - ZI - IX + ZX\"\nangle = \"tau/4\"\n",
+            "`tau/4` is not an angle",
+            6,
+            9,
+        ),
+        (
+            "generator = \"1e400 II\"\nangle = 1\n",
+            "coefficient `1e400` is not finite",
+            5,
+            14,
+        ),
+        (
+            "generator = \"II - ZI - IX + ZX\"\nangle = \"64*pi\"\n",
+            "winds too far",
+            6,
+            9,
+        ),
+    ];
+    for &(extra, msg, line, col) in cases {
+        let text = cx_rotation_model(extra);
+        let d = model(&text).expect_err(&text);
+        assert!(d.message.contains(msg), "{text}: {}", d.message);
+        let (_, l, c) = d.location().unwrap();
+        assert_eq!((l, c), (line, col), "{text}: {}", d.message);
+    }
+    let d = model(&cx_rotation_model(
+        "generator = \"II - ZI - IX + ZX\"\nangle = \"pi/8\"\n",
+    ))
+    .unwrap_err();
+    assert_eq!(
+        d.hint.as_deref(),
+        Some("`cx` is, for example, `generator = \"II - ZI - IX + ZX\"` with `angle = \"pi/4\"`")
+    );
+    let others: &[(&str, &str, usize, usize)] = &[
+        // A generator needs the rotation implementation.
+        (
+            "[gates.cx]\np = 0.01\ngenerator = \"II - ZI - IX + ZX\"\nangle = \"pi/4\"\n",
+            "`generator` applies only to `implementation = \"rotation\"`",
+            3,
+            1,
+        ),
+        // ... and one gate.
+        (
+            "[gates.default]\np = 0.01\nimplementation = \"rotation\"\ngenerator = \"X\"\nangle = \"pi/2\"\n",
+            "`generator` describes one gate, not `gates.default`",
+            4,
+            1,
+        ),
+        // H to four digits is off by about 1e-5: refused, with the deviation.
+        (
+            "[gates.h]\np = 0.01\nimplementation = \"rotation\"\ngenerator = \"0.7071 X + 0.7071 Z\"\nangle = \"pi/2\"\n",
+            "differs from the gate by 1.5e-5",
+            4,
+            13,
+        ),
+        // Inside an override too.
+        (
+            "p = 0.01\n[gates.default]\n[[override]]\nrole = \"data\"\ngates.cz = { implementation = \"rotation\", generator = \"II - ZI - IX + ZX\", angle = \"pi/4\" }\n",
+            "this generator does not implement `cz`",
+            5,
+            55,
+        ),
+    ];
+    for &(text, msg, line, col) in others {
+        let d = model(text).expect_err(text);
+        assert!(d.message.contains(msg), "{text}: {}", d.message);
+        let (_, l, c) = d.location().unwrap();
+        assert_eq!((l, c), (line, col), "{text}: {}", d.message);
+    }
+    // Eight digits of 1/√2 are close enough.
+    model("[gates.h]\np = 0.01\nimplementation = \"rotation\"\ngenerator = \"0.70710678 X + 0.70710678 Z\"\nangle = \"pi/2\"\n")
+        .unwrap_or_else(|d| panic!("{}", d.render()));
+}

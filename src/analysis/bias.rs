@@ -35,7 +35,7 @@ use serde::Serialize;
 use crate::faults::{ClassSet, ExtractOptions};
 use crate::ir::{Circuit, Gate, OpKind, Pauli};
 use crate::noise::compile::Note;
-use crate::noise::implement::{mid_gate_fault, Implementation};
+use crate::noise::implement::{mid_gate_fault_with, Implementation};
 
 /// Bias of one operation class.
 #[derive(Clone, Debug, PartialEq, Serialize)]
@@ -185,9 +185,9 @@ pub fn analyze(noisy: &Circuit, notes: &[Note]) -> BiasReport {
                     && o.targets.iter().any(|t| op.targets.contains(t))
             });
             let note = note_at.get(&(li, oi)).copied();
-            let (gate, implementation) = match note {
-                Some(x) => (x.gate, x.implementation),
-                None => (None, Implementation::Ideal),
+            let (gate, implementation, generator) = match note {
+                Some(x) => (x.gate, x.implementation, x.generator.as_ref()),
+                None => (None, Implementation::Ideal, None),
             };
             let class = match (note, owner.map(|o| &o.kind)) {
                 (Some(x), _) => x.class.clone(),
@@ -227,7 +227,7 @@ pub fn analyze(noisy: &Circuit, notes: &[Note]) -> BiasReport {
                     let outs: Vec<(f64, Vec<Pauli>)> = match gate {
                         Some(g) if implementation != Implementation::Ideal => {
                             let fault = [term[0], term.get(1).copied().unwrap_or(Pauli::I)];
-                            mid_gate_fault(g, implementation, fault)
+                            mid_gate_fault_with(g, implementation, generator, fault)
                                 .iter()
                                 .enumerate()
                                 .filter(|(_, &w)| w > 1e-15)

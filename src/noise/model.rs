@@ -23,6 +23,11 @@
 //! # zz = 0.001, iz = 0.0005, ...   15 named two-qubit terms (one-qubit gates: x, y, z)
 //! implementation = "bias-preserving"   # ideal (default) | rotation | bias-preserving
 //!
+//! [gates.cz]           # a rotation with its own generator G: the gate is exp(i·angle·G)
+//! implementation = "rotation"
+//! generator = "II - ZI - IZ + ZZ"   # Pauli polynomial, one letter per qubit (first target first)
+//! angle = "pi/4"                    # radians: a number, or "pi/4", "-3*pi/4", ...
+//!
 //! [measure]            # duration and flip probability (default p)
 //! duration = 5.0
 //! flip = 0.002
@@ -57,6 +62,15 @@
 //!   each flipping with probability `(1 − e^(−t/T))/2` (so that the flipped expectation decays as
 //!   `e^(−t/T)`, as T2 does for phase); combined: `X = a(1−b)`, `Z = b(1−a)`, `Y = ab`.
 //!
+//! `generator` (with `angle`, in the section of one gate whose `implementation` is `rotation`)
+//! replaces [`Generator::default_for`]: terms `[COEFFICIENT[*]]PAULIS` joined by `+`/`-`, a
+//! missing coefficient meaning 1 (see [`parse_polynomial`]). Coefficients are real and finite,
+//! so `G` is Hermitian and the rotation unitary. The file is refused, at the `generator` value,
+//! unless `exp(i·angle·G)` equals the gate up to a global phase (largest matrix entry within
+//! [`GATE_TOLERANCE`], so write irrational coefficients to at least eight digits). Generators
+//! that implement the same gate can still differ in what a mid-gate fault becomes: that is the
+//! point of giving one.
+//!
 //! `time_unit` only names the unit every duration and time of the file is written in; slant
 //! never converts between units (only ratios such as `t/T1` enter the channels), so one
 //! unit must be used throughout. It is shown next to layer durations in `slant compile`
@@ -75,7 +89,10 @@ use toml_edit::{ImDocument, Item, TableLike, Value};
 use crate::ir::{Channel, Gate, Pauli};
 use crate::lang::diagnostic::did_you_mean;
 use crate::lang::{Diagnostic, Source, Span};
-use crate::noise::implement::Implementation;
+use crate::noise::implement::{
+    angle_text, parse_angle, parse_polynomial, Generator, Implementation, GATE_TOLERANCE,
+    MAX_WINDING,
+};
 use crate::noise::preset::{Preset, PresetKind};
 
 /// A channel as the model writes it.
@@ -136,6 +153,9 @@ pub struct GateNoise {
     pub rate: Rate,
     /// How the gate is carried out.
     pub implementation: Implementation,
+    /// The rotation's generator when the model gives one (`generator` + `angle`; checked to
+    /// implement the gate); `None`: [`Generator::default_for`].
+    pub generator: Option<Generator>,
     /// Where the model defines it.
     pub span: Span,
 }
@@ -278,6 +298,7 @@ impl NoiseModel {
             duration: None,
             rate: rate.clone(),
             implementation,
+            generator: None,
             span,
         };
         NoiseModel {
@@ -524,7 +545,16 @@ fn span_of(r: Option<std::ops::Range<usize>>) -> Option<Span> {
     r.map(|r| Span::new(r.start, r.end))
 }
 
-const GATE_KEYS_ONE: [&str; 7] = ["bias", "duration", "implementation", "p", "x", "y", "z"];
+/// Keys of every gate section; one-qubit gates add `x`, `y`, `z`, two-qubit gates the 15 term
+/// names.
+const GATE_KEYS: [&str; 6] = [
+    "angle",
+    "bias",
+    "duration",
+    "generator",
+    "implementation",
+    "p",
+];
 
 impl Parser<'_> {
     fn err(&self, span: Option<std::ops::Range<usize>>, msg: impl Into<String>) -> Diagnostic {
@@ -766,7 +796,7 @@ impl Parser<'_> {
             .or_else(|| span_of(self.key_span(t, "p")))
             .unwrap_or(Span::new(0, 0));
         let two = gate.is_some_and(|g| g.arity() == 2);
-        let mut keys: Vec<&str> = GATE_KEYS_ONE[..7].to_vec();
+        let mut keys: Vec<&str> = GATE_KEYS.to_vec();
         let pair_names: Vec<String> = (1..16)
             .map(|k| {
                 Pauli::pair_from_index(k)
@@ -776,10 +806,9 @@ impl Parser<'_> {
             })
             .collect();
         if two {
-            keys.truncate(4);
             keys.extend(pair_names.iter().map(|s| s.as_str()));
-        } else if gate.is_none() {
-            keys.truncate(4);
+        } else if gate.is_some() {
+            keys.extend(["x", "y", "z"]);
         }
         self.known_keys(t, &keys, &format!("`gates.{name}`"))?;
         let implementation = match t.get("implementation") {
@@ -803,8 +832,146 @@ impl Parser<'_> {
             duration: self.positive(t, "duration", true)?,
             rate: self.rate(t, base, two, at, &format!("`gates.{name}`"))?,
             implementation,
+            generator: self.generator(t, name, gate, implementation)?,
             span: at,
         })
+    }
+
+    /// The span of `range` (byte offsets into the string value of `item`) in the file. Offsets
+    /// map one to one only when the value is written literally between one-character quotes
+    /// with no escapes; otherwise the whole value is the best place to point at.
+    fn in_string(&self, item: &Item, range: std::ops::Range<usize>) -> Span {
+        let Some(span) = item.span() else {
+            return Span::new(0, 0);
+        };
+        let raw = &self.source.text[span.clone()];
+        let literal = item
+            .as_str()
+            .is_some_and(|v| raw.len() == v.len() + 2 && &raw[1..raw.len() - 1] == v);
+        if literal {
+            let start = span.start + 1 + range.start;
+            Span::new(start, (span.start + 1 + range.end).max(start + 1))
+        } else {
+            Span::new(span.start, span.end)
+        }
+    }
+
+    /// `generator` and `angle` of a gate section: a rotation `exp(i·angle·G)` replacing the
+    /// default generator. Refused unless it belongs to one gate implemented as a rotation, parses,
+    /// and its rotation is the gate up to a global phase.
+    fn generator(
+        &self,
+        t: &dyn TableLike,
+        name: &str,
+        gate: Option<Gate>,
+        implementation: Implementation,
+    ) -> Result<Option<Generator>, Diagnostic> {
+        let (g_item, a_item) = (t.get("generator"), t.get("angle"));
+        let given = if g_item.is_some() {
+            "generator"
+        } else {
+            "angle"
+        };
+        if g_item.is_none() && a_item.is_none() {
+            return Ok(None);
+        }
+        let Some(gate) = gate else {
+            return Err(self
+                .err(
+                    self.key_span(t, given),
+                    format!("`{given}` describes one gate, not `gates.default`"),
+                )
+                .with_hint("give it in the section of the gate it implements, e.g. `[gates.cx]`"));
+        };
+        let example = Generator::default_for(gate);
+        let example = format!(
+            "`{}` is, for example, `generator = \"{}\"` with `angle = \"{}\"`",
+            gate.name(),
+            example.text(gate.arity()),
+            angle_text(example.theta)
+        );
+        if implementation != Implementation::Rotation {
+            return Err(self
+                .err(
+                    self.key_span(t, given),
+                    format!(
+                        "`{given}` applies only to `implementation = \"rotation\"`, and `gates.{name}` is `{}`",
+                        implementation.name()
+                    ),
+                )
+                .with_hint("set `implementation = \"rotation\"` or remove the generator"));
+        }
+        let (Some(g_item), Some(a_item)) = (g_item, a_item) else {
+            let (has, lacks) = if g_item.is_some() {
+                ("generator", "angle")
+            } else {
+                ("angle", "generator")
+            };
+            return Err(self
+                .err(
+                    self.key_span(t, has),
+                    format!("`{has}` needs `{lacks}` in `gates.{name}`: the gate is exp(i·angle·generator)"),
+                )
+                .with_hint(example));
+        };
+        let Some(text) = g_item.as_str() else {
+            return Err(self
+                .err(g_item.span(), "`generator` must be a string")
+                .with_hint(example));
+        };
+        let terms = parse_polynomial(text, gate.arity()).map_err(|(range, msg)| {
+            Diagnostic::error(self.source, self.in_string(g_item, range), msg).with_hint(
+                "write a sum of Pauli strings with real coefficients, e.g. `II - ZI - IX + ZX` or `0.5 XX + 0.5 YY`",
+            )
+        })?;
+        let angle_hint =
+            "write radians as a number, or a multiple of pi such as `\"pi/4\"` or `\"-3*pi/4\"`";
+        let theta = match a_item.as_value() {
+            Some(Value::Float(f)) if f.value().is_finite() => *f.value(),
+            Some(Value::Integer(i)) => *i.value() as f64,
+            Some(Value::String(s)) => parse_angle(s.value()).ok_or_else(|| {
+                self.err(a_item.span(), format!("`{}` is not an angle", s.value()))
+                    .with_hint(angle_hint)
+            })?,
+            _ => {
+                return Err(self
+                    .err(
+                        a_item.span(),
+                        "`angle` must be a finite number or a multiple of pi",
+                    )
+                    .with_hint(angle_hint))
+            }
+        };
+        let generator = Generator { terms, theta };
+        let winding = generator.winding();
+        if winding > MAX_WINDING {
+            return Err(self
+                .err(
+                    a_item.span(),
+                    format!(
+                        "the rotation winds too far: |angle|·Σ|coefficients| = {winding:.3}·pi is more than {MAX_WINDING}·pi"
+                    ),
+                )
+                .with_hint(example));
+        }
+        let deviation = generator.deviation_from(gate);
+        if deviation.is_nan() || deviation > GATE_TOLERANCE {
+            return Err(self
+                .err(
+                    g_item.span(),
+                    format!(
+                        "this generator does not implement `{}`: exp(i·angle·G) differs from the gate by {deviation:.1e} (largest matrix entry, up to a global phase)",
+                        gate.name()
+                    ),
+                )
+                .with_label(
+                    self.source,
+                    span_of(a_item.span()).unwrap_or(Span::new(0, 0)),
+                    "with this angle",
+                )
+                .with_hint(example));
+        }
+        Ok(Some(generator))
     }
 
     fn measure(

@@ -287,6 +287,7 @@ impl Preset {
             class: class.to_string(),
             gate: Gate::from_name(class),
             implementation: Implementation::Ideal,
+            generator: None,
             input: input.clone(),
             text: format!("preset `{}` {what}", self.text()),
         }
