@@ -498,3 +498,533 @@ fn cli_compile_and_bias() {
     let stdout = String::from_utf8_lossy(&st.stdout);
     assert!(stdout.contains("verdict: bias lost at"), "{stdout}");
 }
+
+/// An override that selects no qubit of the circuit is refused at its selector value, whether it
+/// names a qubit or a role; the CLI exits 1.
+#[test]
+fn unmatched_overrides_are_located() {
+    let circuit = load("one.slant", ONE_CX);
+    let cases: &[(&str, &str, usize, usize, Option<&str>)] = &[
+        (
+            "p = 0.01\n[gates.default]\n[[override]]\nqubit = \"zz[9]\"\nmeasure = { flip = 0.1 }\n",
+            "has no qubit `zz[9]`",
+            4,
+            9,
+            None,
+        ),
+        (
+            "p = 0.01\n[gates.default]\n[[override]]\nrole = \"nosuchrole\"\nmeasure = { flip = 0.1 }\n",
+            "has no role `nosuchrole`",
+            4,
+            8,
+            Some("the circuit's roles are `data`"),
+        ),
+        (
+            "p = 0.01\n[gates.default]\n\n[[override]]\n  role   =   \"dta\"\nidle = { p = 0.1 }\n",
+            "has no role `dta`",
+            5,
+            14,
+            Some("did you mean `data`?"),
+        ),
+    ];
+    for &(text, msg, line, col, hint) in cases {
+        let m = model(text).unwrap();
+        let errs = compile(&circuit, &m).expect_err(text);
+        assert_eq!(errs.len(), 1, "{text}");
+        assert!(errs[0].message.contains(msg), "{text}: {}", errs[0].message);
+        assert_eq!(
+            errs[0].location().unwrap(),
+            ("m.toml".to_string(), line, col),
+            "{text}"
+        );
+        if let Some(h) = hint {
+            assert_eq!(errs[0].hint.as_deref(), Some(h), "{text}");
+        }
+    }
+    // The same through the binary: located at the file, exit code 1.
+    let dir = tempfile::tempdir().unwrap();
+    let src = dir.path().join("one.slant");
+    std::fs::write(&src, ONE_CX).unwrap();
+    let m = dir.path().join("m.toml");
+    std::fs::write(&m, cases[1].0).unwrap();
+    let st = std::process::Command::new(env!("CARGO_BIN_EXE_slant"))
+        .args([
+            "bias",
+            src.to_str().unwrap(),
+            "--noise",
+            m.to_str().unwrap(),
+        ])
+        .output()
+        .unwrap();
+    assert_eq!(st.status.code(), Some(1));
+    let stderr = String::from_utf8_lossy(&st.stderr);
+    assert!(stderr.contains(&format!("{}:4:8", m.display())), "{stderr}");
+}
+
+/// A qubit name written with spaces, as in the source, selects the same qubit as the printed
+/// form; a name that is not one is refused at the value.
+#[test]
+fn override_qubit_names_are_normalised() {
+    let circuit = load(
+        "grid.slant",
+        "qubit a[0..2, 0..3] role data\nlayer { reset z a[0..2, 0..3] }\nlayer { measure z a[1, 2] -> m }\n",
+    );
+    let q = circuit
+        .qubits
+        .iter()
+        .find(|q| q.name == "a[1,2]")
+        .expect("the expander names the qubit `a[1,2]`");
+    for written in ["a[1,2]", "a[1, 2]", " a[ 1 ,2 ] ", "a [1,\t2]", "a[01, +2]"] {
+        let text = format!(
+            "p = 0.01\n[gates.default]\n[[override]]\nqubit = \"{written}\"\nmeasure = {{ flip = 0.25 }}\n"
+        );
+        let m = model(&text).unwrap_or_else(|d| panic!("{written}: {}", d.render()));
+        assert_eq!(m.measure_for(&[q]).flip, 0.25, "{written}");
+        assert_eq!(m.measure_for(&[&circuit.qubits[0]]).flip, 0.01, "{written}");
+        compile(&circuit, &m).unwrap_or_else(|d| panic!("{written}: {}", d[0].render()));
+    }
+    for bad in ["a[1 2]", "a[1,]", "a[x]", "1a", "a[1"] {
+        let text = format!("[[override]]\nqubit = \"{bad}\"\n");
+        let d = model(&text).expect_err(bad);
+        assert!(
+            d.message.contains("is not a qubit name"),
+            "{bad}: {}",
+            d.message
+        );
+        let (_, line, col) = d.location().unwrap();
+        assert_eq!((line, col), (2, 9), "{bad}");
+    }
+}
+
+/// `time_unit` names one of a few units and is shown in the compiled comments; anything else is
+/// refused at the value instead of being ignored.
+#[test]
+fn time_unit_is_checked_and_shown() {
+    for unit in ["s", "ms", "us", "ns"] {
+        let m = model(&format!("time_unit = \"{unit}\"\np = 0.01\n")).unwrap();
+        assert_eq!(m.time_unit, Some(unit));
+    }
+    assert_eq!(model("p = 0.01\n").unwrap().time_unit, None);
+    let cases: &[(&str, &str, usize, usize)] = &[
+        (
+            "p = 0.01\ntime_unit = \"hours\"\n",
+            "unknown time unit `hours`",
+            2,
+            13,
+        ),
+        ("time_unit = \"µs\"\n", "unknown time unit `µs`", 1, 13),
+        ("time_unit = 5\n", "`time_unit` must be a string", 1, 13),
+    ];
+    for &(text, msg, line, col) in cases {
+        let d = model(text).expect_err(text);
+        assert!(d.message.contains(msg), "{text}: {}", d.message);
+        let (_, l, c) = d.location().unwrap();
+        assert_eq!((l, c), (line, col), "{text}");
+    }
+    // The unit appears next to the layer duration in the idle comments.
+    let m = model(
+        "time_unit = \"ns\"\np = 0.001\n[gates.default]\nduration = 20\n[measure]\nduration = 300\n\
+[reset]\nduration = 100\n[idle]\nt1 = 1000\nt2 = 1000\n",
+    )
+    .unwrap();
+    let c = compile(&load("one.slant", ONE_CX), &m).unwrap();
+    let idle: Vec<&str> = c
+        .notes
+        .iter()
+        .filter(|n| n.class == "idle")
+        .map(|n| n.text.as_str())
+        .collect();
+    assert!(idle.contains(&"m.toml idle for 300 ns"), "{idle:?}");
+}
+
+/// A `--noise` value that looks like a path but names no file says so, instead of calling it an
+/// unknown preset; preset typos still get the preset hint.
+#[test]
+fn missing_model_file_is_named() {
+    let dir = tempfile::tempdir().unwrap();
+    let gone = dir.path().join("gone.toml");
+    let no_ext = dir.path().join("model");
+    for text in [
+        gone.to_str().unwrap().to_string(),
+        no_ext.to_str().unwrap().to_string(),
+        "models/cat".to_string(),
+        "  cat.toml".to_string(),
+    ] {
+        let d = NoiseSpec::parse(&text).expect_err(&text);
+        let name = text.trim();
+        assert_eq!(
+            d.message,
+            format!("the noise model file `{name}` does not exist"),
+            "{text}"
+        );
+        assert_eq!(
+            d.location().unwrap(),
+            ("--noise".to_string(), 1, text.find(name).unwrap() + 1)
+        );
+        assert!(d.hint.as_deref().unwrap().contains("path of a model file"));
+    }
+    let d = NoiseSpec::parse("circiut p=0.1").unwrap_err();
+    assert!(d.message.contains("unknown noise preset"), "{}", d.message);
+    // Through the binary: exit 1 with the message.
+    let src = dir.path().join("one.slant");
+    std::fs::write(&src, ONE_CX).unwrap();
+    let st = std::process::Command::new(env!("CARGO_BIN_EXE_slant"))
+        .args(["bias", src.to_str().unwrap(), "--noise", "models/cat"])
+        .output()
+        .unwrap();
+    assert_eq!(st.status.code(), Some(1));
+    let stderr = String::from_utf8_lossy(&st.stderr);
+    assert!(
+        stderr.contains("the noise model file `models/cat` does not exist"),
+        "{stderr}"
+    );
+}
+
+/// Bias-report classes name what produced a channel the same way whether the noise came from a
+/// plain preset, a preset with a gate implementation or a model file: idle noise is `idle`
+/// everywhere, and `noise` is left for channels written in the circuit.
+#[test]
+fn bias_classes_agree_between_presets_and_models() {
+    // `s` idles in the cx layer; the circuit's own channel on `s` has a layer to itself.
+    let text = "qubit c role data\nqubit t role data\nqubit s role data\nreset z c, t, s\n\
+layer { cx c t }\nlayer { noise dephasing p=0.01 s }\nmeasure z c -> a, z t -> b, z s -> e\n";
+    let circuit = load("idle.slant", text);
+    let classes = |spec: &str| -> Vec<String> {
+        let s = NoiseSpec::parse(spec).unwrap();
+        let c = slant::noise::apply_noted(&circuit, &s).unwrap();
+        let mut v: Vec<String> = analyze(&c.circuit, &c.notes)
+            .classes
+            .into_iter()
+            .map(|c| c.class)
+            .collect();
+        v.sort();
+        v
+    };
+    let expected = ["cx", "idle", "noise", "reset"];
+    assert_eq!(classes("circuit p=0.01 bias=10"), expected);
+    assert_eq!(classes("circuit p=0.01 bias=10 cx=rotation"), expected);
+    assert_eq!(
+        classes("circuit p=0.01 bias=10 cx=bias-preserving"),
+        expected
+    );
+    let m = compile(
+        &circuit,
+        &model("p = 0.01\nbias = 10\n[idle]\n[gates.default]\n").unwrap(),
+    )
+    .unwrap();
+    let mut v: Vec<String> = analyze(&m.circuit, &m.notes)
+        .classes
+        .into_iter()
+        .map(|c| c.class)
+        .collect();
+    v.sort();
+    assert_eq!(v, expected);
+    // The idle class carries the same probabilities either way.
+    let idle = |notes_from: &str| {
+        let s = NoiseSpec::parse(notes_from).unwrap();
+        let c = slant::noise::apply_noted(&circuit, &s).unwrap();
+        let r = analyze(&c.circuit, &c.notes);
+        let i = r.classes.iter().find(|c| c.class == "idle").unwrap();
+        (i.input_high, i.input_low)
+    };
+    let (a, b) = (
+        idle("circuit p=0.01 bias=10"),
+        idle("circuit p=0.01 bias=10 cx=rotation"),
+    );
+    assert!(
+        (a.0 - b.0).abs() < 1e-15 && (a.1 - b.1).abs() < 1e-15,
+        "{a:?} {b:?}"
+    );
+    // Code-capacity noise is its own class.
+    let s = NoiseSpec::parse("capacity p=0.01").unwrap();
+    let c = slant::noise::apply_noted(&xzzx(Entangler::Native), &s).unwrap();
+    let r = analyze(&c.circuit, &c.notes);
+    let names: Vec<&str> = r.classes.iter().map(|c| c.class.as_str()).collect();
+    assert_eq!(names, ["round-start"]);
+}
+
+/// Without `round` blocks the per-round section says why it is empty; without a `data` role the
+/// report says every qubit counted as data. Neither line appears when the circuit has both.
+#[test]
+fn bias_report_explains_missing_rounds_and_data() {
+    let dir = tempfile::tempdir().unwrap();
+    let run = |name: &str, text: &str| -> String {
+        let src = dir.path().join(name);
+        std::fs::write(&src, text).unwrap();
+        let st = std::process::Command::new(env!("CARGO_BIN_EXE_slant"))
+            .args([
+                "bias",
+                src.to_str().unwrap(),
+                "--noise",
+                "circuit p=0.01 bias=10",
+            ])
+            .output()
+            .unwrap();
+        assert!(
+            st.status.success(),
+            "{}",
+            String::from_utf8_lossy(&st.stderr)
+        );
+        String::from_utf8(st.stdout).unwrap()
+    };
+    let no_rounds =
+        "effective bias at the data per round: not reported, the circuit has no `round { }` blocks";
+    let no_data = "note: the circuit declares no `data` role, so every qubit is counted as data";
+    let plain = run(
+        "plain.slant",
+        "qubit c\nqubit t\nreset x c\nreset z t\ncx c t\nmeasure x c -> mc\nmeasure z t -> mt\n",
+    );
+    assert!(plain.contains(no_rounds), "{plain}");
+    assert!(plain.contains(no_data), "{plain}");
+    assert!(!plain.contains("(eta = pZ / pX,Y):"), "{plain}");
+    let with_data = run("data.slant", ONE_CX);
+    assert!(with_data.contains(no_rounds), "{with_data}");
+    assert!(!with_data.contains(no_data), "{with_data}");
+    let generated = run(
+        "xzzx.slant",
+        &generate(&{
+            let mut spec = GenSpec::new(Family::Xzzx, 3);
+            spec.rounds = 2;
+            spec
+        })
+        .unwrap(),
+    );
+    assert!(!generated.contains(no_rounds) && !generated.contains(no_data));
+    assert!(generated.contains("  round 1 "), "{generated}");
+    // Mechanisms but none high-rate-only (a bit-flip code under biased noise): the share is
+    // printed as zero, not as a negative zero.
+    let repetition = run(
+        "repetition.slant",
+        include_str!("../circuits/repetition_d3.slant"),
+    );
+    assert!(
+        repetition.contains("high-rate-only mechanisms: 0.0000\n"),
+        "{repetition}"
+    );
+    // The value itself is a positive zero (the JSON prints it; `f64::max` with a negative zero
+    // depends on the optimisation level, so the text alone cannot be trusted to catch it).
+    let c = load(
+        "repetition.slant",
+        include_str!("../circuits/repetition_d3.slant"),
+    );
+    let n = slant::noise::apply_noted(&c, &NoiseSpec::parse("circuit p=0.01 bias=10").unwrap())
+        .unwrap();
+    let share = analyze(&n.circuit, &n.notes).high_only_share;
+    assert!(share == 0.0 && share.is_sign_positive(), "{share:?}");
+    // The JSON carries the same facts.
+    let c = load(
+        "plain.slant",
+        "qubit c\nqubit t\nreset x c\nreset z t\ncx c t\nmeasure x c -> mc\nmeasure z t -> mt\n",
+    );
+    let s = NoiseSpec::parse("circuit p=0.01").unwrap();
+    let n = slant::noise::apply_noted(&c, &s).unwrap();
+    let r = analyze(&n.circuit, &n.notes);
+    assert!(r.all_qubits_data);
+    assert_eq!(r.circuit_rounds, 0);
+}
+
+fn cx_rotation_model(extra: &str) -> String {
+    format!(
+        "[gates.cx]\nzi = 0.001\niz = 0.001\nimplementation = \"rotation\"\n{extra}[measure]\nflip = 0\n[reset]\np = 0\n"
+    )
+}
+
+/// The noise channels of a compiled circuit, in order.
+fn channels(c: &Circuit) -> Vec<Channel> {
+    c.layers
+        .iter()
+        .flat_map(|l| &l.ops)
+        .filter_map(|o| match &o.kind {
+            slant::ir::OpKind::Noise(ch) => Some(ch.clone()),
+            _ => None,
+        })
+        .collect()
+}
+
+/// A model may give a gate's rotation generator. Written equal to the default, it compiles to
+/// exactly the default channel; equal up to a global phase (no `II` term), to the same channel
+/// up to rounding; a different path to the same gate gives a different channel, so the
+/// generator is really used.
+#[test]
+fn model_generator_overrides_default() {
+    let circuit = load("one.slant", ONE_CX);
+    let default = compile(&circuit, &model(&cx_rotation_model("")).unwrap()).unwrap();
+    let explicit = model(&cx_rotation_model(
+        "generator = \"II - ZI - IX + ZX\"\nangle = \"pi/4\"\n",
+    ))
+    .unwrap();
+    assert!(explicit.gates[0].1.generator.is_some());
+    let c = compile(&circuit, &explicit).unwrap();
+    assert_eq!(channels(&c.circuit), channels(&default.circuit));
+    assert_eq!(c.notes[0].generator, explicit.gates[0].1.generator);
+    let report = analyze(&c.circuit, &c.notes);
+    let cx = report.classes.iter().find(|c| c.class == "cx").unwrap();
+    assert!((cx.output_z_share() - 7.0 / 8.0).abs() < 1e-9);
+
+    for (extra, what) in [
+        (
+            "generator = \"ZX - ZI - IX\"\nangle = 0.7853981633974483\n",
+            "no II",
+        ),
+        (
+            "generator = \"-II + ZI + IX - ZX\"\nangle = \"-pi/4\"\n",
+            "negated",
+        ),
+    ] {
+        let m = model(&cx_rotation_model(extra)).unwrap_or_else(|d| panic!("{}", d.render()));
+        let c = compile(&circuit, &m).unwrap();
+        for (a, b) in channels(&c.circuit).iter().zip(channels(&default.circuit)) {
+            let (Channel::Pauli2(a), Channel::Pauli2(b)) = (a, &b) else {
+                panic!("{what}: expected pauli2")
+            };
+            for k in 0..15 {
+                assert!((a[k] - b[k]).abs() < 1e-15, "{what}: term {k}");
+            }
+        }
+    }
+
+    // `II − ZI + 3 IX + ZX` = 4Π + 4·IX with Π = |1⟩⟨1| ⊗ |−⟩⟨−|: IX commutes with Π and
+    // exp(iπ·IX) = −I, so exp(iπ/4·G) is CX up to a sign. Mid-gate (u = 1 − s, hand derivation):
+    // the rest of the gate turns the target about X by 2πu when the control is 0 and by 3πu
+    // when it is 1, so a target Z leaves as P0⊗(cos a Z + sin a Y) + P1⊗(cos b Z + sin b Y),
+    // a = 2πu, b = 3πu: IZ = (cos a + cos b)/2, ZZ = (cos a − cos b)/2, IY = (sin a + sin b)/2,
+    // ZY = (sin a − sin b)/2. Over u ∈ [0, 1] the squares of cos and sin average 1/2 and the
+    // cross terms (cos πu ± cos 5πu)/2 average 0, so each of the four is 1/4 (the default
+    // generator gives 3/8, 3/8, 1/8, 1/8).
+    let other = model(&cx_rotation_model(
+        "generator = \"II - ZI + 3 IX + ZX\"\nangle = \"pi/4\"\n",
+    ))
+    .unwrap_or_else(|d| panic!("{}", d.render()));
+    let g = other.gates[0].1.generator.as_ref().unwrap();
+    let d = slant::noise::implement::mid_gate_fault_with(
+        Gate::Cx,
+        Implementation::Rotation,
+        Some(g),
+        [Pauli::I, Pauli::Z],
+    );
+    for name in ["IZ", "ZZ", "IY", "ZY"] {
+        assert!(
+            (d[idx(name)] - 0.25).abs() < 1e-9,
+            "{name}: {}",
+            d[idx(name)]
+        );
+    }
+    // Through the compiler and the bias report: the Z-type share of the cx channel is now
+    // (1 + 1/2)/2 = 3/4 (control Z stays ZI; target Z is Z-type half the time).
+    let c = compile(&circuit, &other).unwrap();
+    assert_ne!(channels(&c.circuit), channels(&default.circuit));
+    let report = analyze(&c.circuit, &c.notes);
+    let cx = report.classes.iter().find(|c| c.class == "cx").unwrap();
+    assert!(
+        (cx.output_z_share() - 3.0 / 4.0).abs() < 1e-9,
+        "{}",
+        cx.output_z_share()
+    );
+}
+
+/// Generators that are not the gate, malformed, or misplaced are refused at line:col.
+#[test]
+fn bad_generators_are_located() {
+    let cases: &[(&str, &str, usize, usize)] = &[
+        // √CX, not CX: refused at the generator value.
+        (
+            "generator = \"II - ZI - IX + ZX\"\nangle = \"pi/8\"\n",
+            "this generator does not implement `cx`",
+            5,
+            13,
+        ),
+        // CZ's generator given to cx.
+        (
+            "generator = \"II - ZI - IZ + ZZ\"\nangle = \"pi/4\"\n",
+            "this generator does not implement `cx`",
+            5,
+            13,
+        ),
+        // A Pauli string of the wrong length, located inside the string.
+        (
+            "generator = \"II - ZI - IXZ + ZX\"\nangle = \"pi/4\"\n",
+            "`IXZ` has 3 letters",
+            5,
+            24,
+        ),
+        (
+            "generator = \"II - ZI - IX + ZX\"\n",
+            "`generator` needs `angle`",
+            5,
+            1,
+        ),
+        ("angle = \"pi/4\"\n", "`angle` needs `generator`", 5, 1),
+        (
+            "generator = \"II - ZI - IX + ZX\"\nangle = \"tau/4\"\n",
+            "`tau/4` is not an angle",
+            6,
+            9,
+        ),
+        (
+            "generator = \"1e400 II\"\nangle = 1\n",
+            "coefficient `1e400` is not finite",
+            5,
+            14,
+        ),
+        (
+            "generator = \"II - ZI - IX + ZX\"\nangle = \"64*pi\"\n",
+            "winds too far",
+            6,
+            9,
+        ),
+    ];
+    for &(extra, msg, line, col) in cases {
+        let text = cx_rotation_model(extra);
+        let d = model(&text).expect_err(&text);
+        assert!(d.message.contains(msg), "{text}: {}", d.message);
+        let (_, l, c) = d.location().unwrap();
+        assert_eq!((l, c), (line, col), "{text}: {}", d.message);
+    }
+    let d = model(&cx_rotation_model(
+        "generator = \"II - ZI - IX + ZX\"\nangle = \"pi/8\"\n",
+    ))
+    .unwrap_err();
+    assert_eq!(
+        d.hint.as_deref(),
+        Some("`cx` is, for example, `generator = \"II - ZI - IX + ZX\"` with `angle = \"pi/4\"`")
+    );
+    let others: &[(&str, &str, usize, usize)] = &[
+        // A generator needs the rotation implementation.
+        (
+            "[gates.cx]\np = 0.01\ngenerator = \"II - ZI - IX + ZX\"\nangle = \"pi/4\"\n",
+            "`generator` applies only to `implementation = \"rotation\"`",
+            3,
+            1,
+        ),
+        // ... and one gate.
+        (
+            "[gates.default]\np = 0.01\nimplementation = \"rotation\"\ngenerator = \"X\"\nangle = \"pi/2\"\n",
+            "`generator` describes one gate, not `gates.default`",
+            4,
+            1,
+        ),
+        // H to four digits is off by about 1e-5: refused, with the deviation.
+        (
+            "[gates.h]\np = 0.01\nimplementation = \"rotation\"\ngenerator = \"0.7071 X + 0.7071 Z\"\nangle = \"pi/2\"\n",
+            "differs from the gate by 1.5e-5",
+            4,
+            13,
+        ),
+        // Inside an override too.
+        (
+            "p = 0.01\n[gates.default]\n[[override]]\nrole = \"data\"\ngates.cz = { implementation = \"rotation\", generator = \"II - ZI - IX + ZX\", angle = \"pi/4\" }\n",
+            "this generator does not implement `cz`",
+            5,
+            55,
+        ),
+    ];
+    for &(text, msg, line, col) in others {
+        let d = model(text).expect_err(text);
+        assert!(d.message.contains(msg), "{text}: {}", d.message);
+        let (_, l, c) = d.location().unwrap();
+        assert_eq!((l, c), (line, col), "{text}: {}", d.message);
+    }
+    // Eight digits of 1/√2 are close enough.
+    model("[gates.h]\np = 0.01\nimplementation = \"rotation\"\ngenerator = \"0.70710678 X + 0.70710678 Z\"\nangle = \"pi/2\"\n")
+        .unwrap_or_else(|d| panic!("{}", d.render()));
+}

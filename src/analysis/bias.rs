@@ -16,7 +16,10 @@
 //! the faults they turned into X/Y at the data.
 //!
 //! Also reported: input bias `pZ-type / pother` per operation class (the gate a channel follows,
-//! `reset`, `idle`, or `noise` for channels written in the circuit), before and after the gate
+//! `reset`, `idle`, `round-start` for the per-round data channel of the `capacity` and
+//! `phenomenological` presets, or `noise` for channels written in the circuit and not
+//! following a gate or reset; classes come from the [`Note`]s, which presets and model files
+//! write alike), before and after the gate
 //! implementations; the effective bias at the data per round; the share of fault-graph
 //! probability in mechanisms made only of high-rate faults (classes as tagged by
 //! [`crate::faults`]); and the structure of the graph of mechanisms with a high-rate contributor:
@@ -32,7 +35,7 @@ use serde::Serialize;
 use crate::faults::{ClassSet, ExtractOptions};
 use crate::ir::{Circuit, Gate, OpKind, Pauli};
 use crate::noise::compile::Note;
-use crate::noise::implement::{mid_gate_fault, Implementation};
+use crate::noise::implement::{mid_gate_fault_with, Implementation};
 
 /// Bias of one operation class.
 #[derive(Clone, Debug, PartialEq, Serialize)]
@@ -126,6 +129,11 @@ pub struct BiasReport {
     pub components: Vec<Component>,
     /// Hyperedges (more than two detectors) among those mechanisms.
     pub hyperedges: usize,
+    /// Number of `round` blocks the circuit executes; without any, `rounds` is empty because
+    /// there is nothing to report per round, not because no fault reached the data.
+    pub circuit_rounds: u32,
+    /// The circuit declares no `data` role, so every qubit was counted as data.
+    pub all_qubits_data: bool,
 }
 
 impl BiasReport {
@@ -151,7 +159,8 @@ fn z_type(ps: &[Pauli]) -> bool {
 pub fn analyze(noisy: &Circuit, notes: &[Note]) -> BiasReport {
     let n = noisy.qubits.len();
     let mut data: Vec<bool> = noisy.qubits.iter().map(|q| q.has_role("data")).collect();
-    if !data.iter().any(|&d| d) {
+    let all_qubits_data = !data.iter().any(|&d| d);
+    if all_qubits_data {
         data.fill(true);
     }
     let note_at: HashMap<(usize, usize), &Note> =
@@ -176,9 +185,9 @@ pub fn analyze(noisy: &Circuit, notes: &[Note]) -> BiasReport {
                     && o.targets.iter().any(|t| op.targets.contains(t))
             });
             let note = note_at.get(&(li, oi)).copied();
-            let (gate, implementation) = match note {
-                Some(x) => (x.gate, x.implementation),
-                None => (None, Implementation::Ideal),
+            let (gate, implementation, generator) = match note {
+                Some(x) => (x.gate, x.implementation, x.generator.as_ref()),
+                None => (None, Implementation::Ideal, None),
             };
             let class = match (note, owner.map(|o| &o.kind)) {
                 (Some(x), _) => x.class.clone(),
@@ -218,7 +227,7 @@ pub fn analyze(noisy: &Circuit, notes: &[Note]) -> BiasReport {
                     let outs: Vec<(f64, Vec<Pauli>)> = match gate {
                         Some(g) if implementation != Implementation::Ideal => {
                             let fault = [term[0], term.get(1).copied().unwrap_or(Pauli::I)];
-                            mid_gate_fault(g, implementation, fault)
+                            mid_gate_fault_with(g, implementation, generator, fault)
                                 .iter()
                                 .enumerate()
                                 .filter(|(_, &w)| w > 1e-15)
@@ -322,6 +331,8 @@ pub fn analyze(noisy: &Circuit, notes: &[Note]) -> BiasReport {
         high_only_share,
         components,
         hyperedges,
+        circuit_rounds: noisy.rounds,
+        all_qubits_data,
     }
 }
 
@@ -404,8 +415,9 @@ fn graph_structure(noisy: &Circuit) -> (f64, Vec<Component>, usize) {
         .mechanisms
         .iter()
         .filter(|m| m.classes == ClassSet::High)
-        .map(|m| m.probability)
-        .sum();
+        // A fold from +0.0: `Sum` for floats starts at −0.0, so with no high-only mechanism the
+        // share would be −0.0 and print as `-0.0000`.
+        .fold(0.0, |a, m| a + m.probability);
     let nd = graph.detectors.len();
     let mut parent: Vec<usize> = (0..nd).collect();
     fn find(p: &mut [usize], mut x: usize) -> usize {

@@ -24,7 +24,7 @@ use crate::noise::NoiseSpec;
 pub struct Noisy {
     /// The circuit with explicit channels.
     pub circuit: Circuit,
-    /// The compiler's notes (empty for presets, whose channels need no explanation).
+    /// What produced each inserted channel (see [`crate::noise::apply_noted`]).
     pub notes: Vec<Note>,
     /// Total duration from a hardware model; `None` when the model gives no durations (the
     /// presets never do).
@@ -39,20 +39,16 @@ pub fn with_noise(circuit: Circuit, spec: Option<&NoiseSpec>) -> Result<Noisy, V
             notes: Vec::new(),
             duration: None,
         }),
-        Some(NoiseSpec::Model(m)) => {
-            let c = crate::noise::compile::compile(&circuit, m)?;
+        Some(spec) => {
+            let c = crate::noise::apply_noted(&circuit, spec)?;
             Ok(Noisy {
                 circuit: c.circuit,
                 notes: c.notes,
-                // Zero means no operation had a duration: the model says nothing about time.
+                // Zero means no operation had a duration: the model (or preset) says nothing
+                // about time.
                 duration: (c.duration > 0.0).then_some(c.duration),
             })
         }
-        Some(spec) => Ok(Noisy {
-            circuit: crate::noise::apply(&circuit, spec)?,
-            notes: Vec::new(),
-            duration: None,
-        }),
     }
 }
 

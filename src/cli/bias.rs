@@ -65,19 +65,25 @@ fn eta(x: f64) -> String {
 pub fn render(r: &BiasReport, top: usize) -> String {
     use std::fmt::Write as _;
     let mut s = String::new();
+    if r.all_qubits_data {
+        let _ = writeln!(
+            s,
+            "note: the circuit declares no `data` role, so every qubit is counted as data"
+        );
+    }
     let _ = writeln!(
         s,
         "input bias per operation class (eta = pZ-type / pother):"
     );
     let _ = writeln!(
         s,
-        "  {:<10} {:>12} {:>12} {:>10} {:>14}",
+        "  {:<12} {:>12} {:>12} {:>10} {:>14}",
         "class", "p Z-type", "p other", "eta in", "Z share out"
     );
     for c in &r.classes {
         let _ = writeln!(
             s,
-            "  {:<10} {:>12.4e} {:>12.4e} {:>10} {:>14.4}",
+            "  {:<12} {:>12.4e} {:>12.4e} {:>10} {:>14.4}",
             c.class,
             c.input_high,
             c.input_low,
@@ -85,7 +91,17 @@ pub fn render(r: &BiasReport, top: usize) -> String {
             c.output_z_share()
         );
     }
-    let _ = writeln!(s, "effective bias at the data per round (eta = pZ / pX,Y):");
+    if r.circuit_rounds == 0 {
+        let _ = writeln!(
+            s,
+            "effective bias at the data per round: not reported, the circuit has no `round {{ }}` blocks"
+        );
+    } else {
+        let _ = writeln!(s, "effective bias at the data per round (eta = pZ / pX,Y):");
+    }
+    if r.circuit_rounds > 0 && r.rounds.is_empty() {
+        let _ = writeln!(s, "  no fault reaches the data inside a round");
+    }
     for rb in &r.rounds {
         let _ = writeln!(
             s,
@@ -123,8 +139,7 @@ pub fn render(r: &BiasReport, top: usize) -> String {
     let _ = writeln!(
         s,
         "fault-graph probability in high-rate-only mechanisms: {:.4}",
-        // Rounding can leave a negative zero; print it as zero.
-        r.high_only_share.max(0.0)
+        r.high_only_share
     );
     let chains = r.components.iter().filter(|c| c.chain).count();
     let _ = writeln!(

@@ -7,8 +7,8 @@
 //!
 //! Placement (the same as the `circuit` preset, so a model with the preset's meaning gives the
 //! same circuit): in every layer holding at least one gate, reset or measurement —
-//! right after each gate its effective channel ([`crate::noise::implement::effective_channel`]
-//! of the gate section's rate and implementation); right after each reset the orthogonal flip;
+//! right after each gate its effective channel ([`crate::noise::implement::effective_channel_with`]
+//! of the gate section's rate, implementation and generator); right after each reset the orthogonal flip;
 //! each measurement's flip combined with the model's (`f ⊕ q = f + q − 2fq`); at the end of the
 //! layer the idle channel on every qubit that no gate, reset or measurement of the layer touches.
 //! The layer's duration is the longest duration of its operations (0 when the model gives
@@ -20,7 +20,7 @@ use std::fmt::Write as _;
 
 use crate::ir::{Basis, Channel, Circuit, Gate, Op, OpKind, Pauli};
 use crate::lang::Diagnostic;
-use crate::noise::implement::{effective_channel, Implementation};
+use crate::noise::implement::{effective_channel_with, Generator, Implementation};
 use crate::noise::model::NoiseModel;
 
 /// What produced one inserted channel.
@@ -30,12 +30,15 @@ pub struct Note {
     pub layer: usize,
     /// Position of the inserted operation in its layer.
     pub op: usize,
-    /// Operation class: a gate name, `reset` or `idle`.
+    /// Operation class: a gate name, `reset` or `idle` (and `round-start` for the data channel
+    /// of the `capacity` and `phenomenological` presets).
     pub class: String,
     /// The gate it follows, if any.
     pub gate: Option<Gate>,
     /// How that gate is implemented.
     pub implementation: Implementation,
+    /// The model's own rotation generator for that gate, if it gives one.
+    pub generator: Option<Generator>,
     /// The channel as the model writes it, before mid-gate faults are transformed.
     pub input: Channel,
     /// Human-readable origin, used as the comment in [`to_text`].
@@ -62,7 +65,7 @@ pub fn compile(circuit: &Circuit, model: &NoiseModel) -> Result<Compiled, Vec<Di
     let n = circuit.qubits.len();
     let mut out = circuit.clone();
     let mut notes = Vec::new();
-    let mut errors: Vec<Diagnostic> = Vec::new();
+    let mut errors: Vec<Diagnostic> = model.unmatched_overrides(circuit);
     let mut missing: Vec<Gate> = Vec::new();
     let mut total = 0.0;
     let mut touched = vec![false; n];
@@ -113,12 +116,22 @@ pub fn compile(circuit: &Circuit, model: &NoiseModel) -> Result<Compiled, Vec<Di
                             ));
                             continue;
                         };
-                        let ch = effective_channel(g, sec.implementation, &input);
+                        let ch = effective_channel_with(
+                            g,
+                            sec.implementation,
+                            sec.generator.as_ref(),
+                            &input,
+                        );
                         let text = format!(
-                            "{} after `{}` ({})",
+                            "{} after `{}` ({}{})",
                             model_name,
                             g.name(),
-                            sec.implementation.name()
+                            sec.implementation.name(),
+                            if sec.generator.is_some() {
+                                " by the model's generator"
+                            } else {
+                                ""
+                            }
                         );
                         extra.push((
                             app.to_vec(),
@@ -129,6 +142,7 @@ pub fn compile(circuit: &Circuit, model: &NoiseModel) -> Result<Compiled, Vec<Di
                                 class: g.name().to_string(),
                                 gate: Some(g),
                                 implementation: sec.implementation,
+                                generator: sec.generator.clone(),
                                 input,
                                 text,
                             },
@@ -156,6 +170,7 @@ pub fn compile(circuit: &Circuit, model: &NoiseModel) -> Result<Compiled, Vec<Di
                                 class: "reset".into(),
                                 gate: None,
                                 implementation: Implementation::Ideal,
+                                generator: None,
                                 input: ch,
                                 text,
                             },
@@ -228,8 +243,12 @@ pub fn compile(circuit: &Circuit, model: &NoiseModel) -> Result<Compiled, Vec<Di
                 class: "idle".into(),
                 gate: None,
                 implementation: Implementation::Ideal,
+                generator: None,
                 input: ch.clone(),
-                text: format!("{model_name} idle for {duration}"),
+                text: match model.time_unit {
+                    Some(unit) => format!("{model_name} idle for {duration} {unit}"),
+                    None => format!("{model_name} idle for {duration}"),
+                },
             });
             ops.push(Op {
                 kind: OpKind::Noise(ch),

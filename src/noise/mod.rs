@@ -68,8 +68,24 @@ impl NoiseSpec {
 
 /// Returns a copy of `circuit` with the noise of `spec` written in as explicit operations.
 pub fn apply(circuit: &Circuit, spec: &NoiseSpec) -> Result<Circuit, Vec<Diagnostic>> {
+    apply_noted(circuit, spec).map(|c| c.circuit)
+}
+
+/// Like [`apply`], with one [`compile::Note`] per inserted channel saying what produced it and
+/// its operation class (presets and model files class channels alike). Presets give no
+/// durations, so their total duration is 0.
+pub fn apply_noted(
+    circuit: &Circuit,
+    spec: &NoiseSpec,
+) -> Result<compile::Compiled, Vec<Diagnostic>> {
     match spec {
-        NoiseSpec::Model(m) => compile::compile(circuit, m).map(|c| c.circuit),
-        NoiseSpec::Preset(p) => p.apply(circuit),
+        NoiseSpec::Model(m) => compile::compile(circuit, m),
+        NoiseSpec::Preset(p) => p
+            .apply_noted(circuit)
+            .map(|(circuit, notes)| compile::Compiled {
+                circuit,
+                notes,
+                duration: 0.0,
+            }),
     }
 }

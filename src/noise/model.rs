@@ -15,12 +15,18 @@
 //! ```toml
 //! p = 0.001            # base total error probability, the default of every `p` below
 //! bias = 100           # base bias eta = pZ/(pX+pY); absent: depolarizing; "inf": pure Z
+//! time_unit = "ns"     # "s", "ms", "us" or "ns": names the unit, converts nothing
 //!
 //! [gates.cx]           # one table per gate name (`cx`, `cz`, `h`, ...) or `default`
 //! duration = 2.0       # needed when idle noise comes from t1/t2
 //! p = 0.002            # after-gate channel: p + bias, or
 //! # zz = 0.001, iz = 0.0005, ...   15 named two-qubit terms (one-qubit gates: x, y, z)
 //! implementation = "bias-preserving"   # ideal (default) | rotation | bias-preserving
+//!
+//! [gates.cz]           # a rotation with its own generator G: the gate is exp(i·angle·G)
+//! implementation = "rotation"
+//! generator = "II - ZI - IZ + ZZ"   # Pauli polynomial, one letter per qubit (first target first)
+//! angle = "pi/4"                    # radians: a number, or "pi/4", "-3*pi/4", ...
 //!
 //! [measure]            # duration and flip probability (default p)
 //! duration = 5.0
@@ -56,8 +62,25 @@
 //!   each flipping with probability `(1 − e^(−t/T))/2` (so that the flipped expectation decays as
 //!   `e^(−t/T)`, as T2 does for phase); combined: `X = a(1−b)`, `Z = b(1−a)`, `Y = ab`.
 //!
+//! `generator` (with `angle`, in the section of one gate whose `implementation` is `rotation`)
+//! replaces [`Generator::default_for`]: terms `[COEFFICIENT[*]]PAULIS` joined by `+`/`-`, a
+//! missing coefficient meaning 1 (see [`parse_polynomial`]). Coefficients are real and finite,
+//! so `G` is Hermitian and the rotation unitary. The file is refused, at the `generator` value,
+//! unless `exp(i·angle·G)` equals the gate up to a global phase (largest matrix entry within
+//! [`GATE_TOLERANCE`], so write irrational coefficients to at least eight digits). Generators
+//! that implement the same gate can still differ in what a mid-gate fault becomes: that is the
+//! point of giving one.
+//!
+//! `time_unit` only names the unit every duration and time of the file is written in; slant
+//! never converts between units (only ratios such as `t/T1` enter the channels), so one
+//! unit must be used throughout. It is shown next to layer durations in `slant compile`
+//! comments. Other values are refused rather than ignored, so a unit slant would misread cannot
+//! slip through.
+//!
 //! Overrides apply to a qubit when its name equals `qubit` or it carries the role or tag `role`.
-//! A gate override applies when any of the gate's qubits matches.
+//! Qubit names are compared in the form the circuit prints them, so `"d[1, 2]"` selects `d[1,2]`.
+//! A gate override applies when any of the gate's qubits matches. An override that selects no
+//! qubit of the circuit is an error when the model is compiled onto it.
 
 use std::sync::Arc;
 
@@ -66,7 +89,10 @@ use toml_edit::{ImDocument, Item, TableLike, Value};
 use crate::ir::{Channel, Gate, Pauli};
 use crate::lang::diagnostic::did_you_mean;
 use crate::lang::{Diagnostic, Source, Span};
-use crate::noise::implement::Implementation;
+use crate::noise::implement::{
+    angle_text, parse_angle, parse_polynomial, Generator, Implementation, GATE_TOLERANCE,
+    MAX_WINDING,
+};
 use crate::noise::preset::{Preset, PresetKind};
 
 /// A channel as the model writes it.
@@ -127,6 +153,9 @@ pub struct GateNoise {
     pub rate: Rate,
     /// How the gate is carried out.
     pub implementation: Implementation,
+    /// The rotation's generator when the model gives one (`generator` + `angle`; checked to
+    /// implement the gate); `None`: [`Generator::default_for`].
+    pub generator: Option<Generator>,
     /// Where the model defines it.
     pub span: Span,
 }
@@ -209,7 +238,7 @@ impl IdleNoise {
 /// Which qubits an override applies to.
 #[derive(Clone, Debug, PartialEq)]
 pub enum Selector {
-    /// A qubit by display name.
+    /// A qubit by display name, in the expander's form `name[i,j]` (see [`canonical_qubit_name`]).
     Qubit(String),
     /// Qubits carrying a role or tag.
     Role(String),
@@ -230,6 +259,9 @@ pub struct Override {
     pub idle: Option<IdleNoise>,
     /// The `[[override]]` table.
     pub span: Span,
+    /// The selector's value (`"a[0]"` of `qubit = "a[0]"`), where an override that matches no
+    /// qubit of the circuit is reported.
+    pub selector_span: Span,
 }
 
 /// A parsed noise model.
@@ -247,7 +279,12 @@ pub struct NoiseModel {
     pub idle: IdleNoise,
     /// Overrides in file order (later wins).
     pub overrides: Vec<Override>,
+    /// The unit durations and times are written in (one of [`TIME_UNITS`]), for display only.
+    pub time_unit: Option<&'static str>,
 }
+
+/// The values `time_unit` accepts.
+pub const TIME_UNITS: [&str; 4] = ["s", "ms", "us", "ns"];
 
 impl NoiseModel {
     /// The model with the same meaning as a `circuit` preset, with `implementation` for `cx`.
@@ -261,6 +298,7 @@ impl NoiseModel {
             duration: None,
             rate: rate.clone(),
             implementation,
+            generator: None,
             span,
         };
         NoiseModel {
@@ -279,6 +317,7 @@ impl NoiseModel {
             },
             idle: IdleNoise::Rate(rate.clone()),
             overrides: Vec::new(),
+            time_unit: None,
         }
     }
 
@@ -310,6 +349,7 @@ impl NoiseModel {
             ],
             "the top level",
         )?;
+        let time_unit = p.time_unit(root)?;
         let base = p.base_rate(root, None)?;
         let gates = match root.get("gates") {
             None => Vec::new(),
@@ -340,6 +380,7 @@ impl NoiseModel {
             reset,
             idle,
             overrides,
+            time_unit,
         };
         p.check_durations(&model, root)?;
         Ok(model)
@@ -383,6 +424,60 @@ impl NoiseModel {
             .unwrap_or(&self.reset)
     }
 
+    /// One error per override that selects no qubit of `circuit`, at the override's selector
+    /// value in the model file. An override that matches nothing is almost always a typo (or a
+    /// model written for another circuit); ignoring it would silently compile the wrong noise.
+    pub fn unmatched_overrides(&self, circuit: &crate::ir::Circuit) -> Vec<Diagnostic> {
+        let mut out = Vec::new();
+        for o in &self.overrides {
+            if circuit.qubits.iter().any(|q| o.selector.matches(q)) {
+                continue;
+            }
+            let (what, name, candidates): (&str, &str, Vec<&str>) = match &o.selector {
+                Selector::Qubit(n) => (
+                    "qubit",
+                    n,
+                    circuit.qubits.iter().map(|q| q.name.as_str()).collect(),
+                ),
+                Selector::Role(r) => {
+                    let mut roles: Vec<&str> = circuit
+                        .qubits
+                        .iter()
+                        .flat_map(|q| q.roles.iter().map(String::as_str))
+                        .collect();
+                    roles.sort_unstable();
+                    roles.dedup();
+                    ("role", r, roles)
+                }
+            };
+            let mut d = Diagnostic::error(
+                &self.source,
+                o.selector_span,
+                format!(
+                    "this override matches no qubit: `{}` has no {what} `{name}`",
+                    circuit.source.name
+                ),
+            );
+            d = match did_you_mean(name, candidates.iter().copied()) {
+                Some(s) => d.with_hint(format!("did you mean `{s}`?")),
+                None if what == "role" && candidates.is_empty() => {
+                    d.with_hint("the circuit declares no roles; add `role NAME` to its qubits")
+                }
+                None if what == "role" => d.with_hint(format!(
+                    "the circuit's roles are {}",
+                    candidates
+                        .iter()
+                        .map(|r| format!("`{r}`"))
+                        .collect::<Vec<_>>()
+                        .join(", ")
+                )),
+                None => d.with_hint("write the name as the circuit declares it, e.g. `a[0]`"),
+            };
+            out.push(d);
+        }
+        out
+    }
+
     /// Idle noise for `qubit`.
     pub fn idle_for(&self, qubit: &crate::ir::Qubit) -> &IdleNoise {
         self.overrides
@@ -392,6 +487,37 @@ impl NoiseModel {
             .find_map(|o| o.idle.as_ref())
             .unwrap_or(&self.idle)
     }
+}
+
+/// The display form the expander gives a qubit (`name` or `name[i,j]`, indices as plain
+/// integers separated by bare commas) for a name written as in the source, so `"a[1, 2]"` and
+/// `"a[ 1,2 ]"` select the qubit `a[1,2]`. `None` when `text` is not a qubit name.
+pub fn canonical_qubit_name(text: &str) -> Option<String> {
+    let text = text.trim();
+    let (base, rest) = match text.find('[') {
+        Some(k) => (text[..k].trim_end(), Some(&text[k + 1..])),
+        None => (text, None),
+    };
+    let mut chars = base.chars();
+    let ident = chars
+        .next()
+        .is_some_and(|c| c.is_ascii_alphabetic() || c == '_')
+        && chars.all(|c| c.is_ascii_alphanumeric() || c == '_');
+    if !ident {
+        return None;
+    }
+    let Some(rest) = rest else {
+        return Some(base.to_string());
+    };
+    let inside = rest.strip_suffix(']')?;
+    // Parsing the indices (rather than deleting spaces) also rejects `a[1 2]` and writes `a[01]`
+    // as the expander does, `a[1]`.
+    let indices = inside
+        .split(',')
+        .map(|i| i.trim().parse::<i64>().map(|v| v.to_string()))
+        .collect::<Result<Vec<_>, _>>()
+        .ok()?;
+    Some(format!("{base}[{}]", indices.join(",")))
 }
 
 impl Selector {
@@ -419,7 +545,16 @@ fn span_of(r: Option<std::ops::Range<usize>>) -> Option<Span> {
     r.map(|r| Span::new(r.start, r.end))
 }
 
-const GATE_KEYS_ONE: [&str; 7] = ["bias", "duration", "implementation", "p", "x", "y", "z"];
+/// Keys of every gate section; one-qubit gates add `x`, `y`, `z`, two-qubit gates the 15 term
+/// names.
+const GATE_KEYS: [&str; 6] = [
+    "angle",
+    "bias",
+    "duration",
+    "generator",
+    "implementation",
+    "p",
+];
 
 impl Parser<'_> {
     fn err(&self, span: Option<std::ops::Range<usize>>, msg: impl Into<String>) -> Diagnostic {
@@ -467,6 +602,33 @@ impl Parser<'_> {
             return Err(self.err(item.span(), format!("`{key}` must be a number")));
         }
         Ok(Some(v))
+    }
+
+    fn time_unit(&self, t: &dyn TableLike) -> Result<Option<&'static str>, Diagnostic> {
+        let Some(item) = t.get("time_unit") else {
+            return Ok(None);
+        };
+        let units = TIME_UNITS
+            .iter()
+            .map(|u| format!("`{u}`"))
+            .collect::<Vec<_>>()
+            .join(", ");
+        let Some(s) = item.as_str() else {
+            return Err(self
+                .err(item.span(), "`time_unit` must be a string")
+                .with_hint(format!(
+                    "write e.g. `time_unit = \"ns\"`; units are {units}"
+                )));
+        };
+        match TIME_UNITS.iter().find(|u| **u == s) {
+            Some(u) => Ok(Some(*u)),
+            // No did-you-mean: edit distance would offer `s` for `µs`.
+            None => Err(self
+                .err(item.span(), format!("unknown time unit `{s}`"))
+                .with_hint(format!(
+                    "units are {units} (`us` for microseconds); write every duration and time in it"
+                ))),
+        }
     }
 
     fn probability(&self, t: &dyn TableLike, key: &str) -> Result<Option<f64>, Diagnostic> {
@@ -634,7 +796,7 @@ impl Parser<'_> {
             .or_else(|| span_of(self.key_span(t, "p")))
             .unwrap_or(Span::new(0, 0));
         let two = gate.is_some_and(|g| g.arity() == 2);
-        let mut keys: Vec<&str> = GATE_KEYS_ONE[..7].to_vec();
+        let mut keys: Vec<&str> = GATE_KEYS.to_vec();
         let pair_names: Vec<String> = (1..16)
             .map(|k| {
                 Pauli::pair_from_index(k)
@@ -644,10 +806,9 @@ impl Parser<'_> {
             })
             .collect();
         if two {
-            keys.truncate(4);
             keys.extend(pair_names.iter().map(|s| s.as_str()));
-        } else if gate.is_none() {
-            keys.truncate(4);
+        } else if gate.is_some() {
+            keys.extend(["x", "y", "z"]);
         }
         self.known_keys(t, &keys, &format!("`gates.{name}`"))?;
         let implementation = match t.get("implementation") {
@@ -671,8 +832,146 @@ impl Parser<'_> {
             duration: self.positive(t, "duration", true)?,
             rate: self.rate(t, base, two, at, &format!("`gates.{name}`"))?,
             implementation,
+            generator: self.generator(t, name, gate, implementation)?,
             span: at,
         })
+    }
+
+    /// The span of `range` (byte offsets into the string value of `item`) in the file. Offsets
+    /// map one to one only when the value is written literally between one-character quotes
+    /// with no escapes; otherwise the whole value is the best place to point at.
+    fn in_string(&self, item: &Item, range: std::ops::Range<usize>) -> Span {
+        let Some(span) = item.span() else {
+            return Span::new(0, 0);
+        };
+        let raw = &self.source.text[span.clone()];
+        let literal = item
+            .as_str()
+            .is_some_and(|v| raw.len() == v.len() + 2 && &raw[1..raw.len() - 1] == v);
+        if literal {
+            let start = span.start + 1 + range.start;
+            Span::new(start, (span.start + 1 + range.end).max(start + 1))
+        } else {
+            Span::new(span.start, span.end)
+        }
+    }
+
+    /// `generator` and `angle` of a gate section: a rotation `exp(i·angle·G)` replacing the
+    /// default generator. Refused unless it belongs to one gate implemented as a rotation, parses,
+    /// and its rotation is the gate up to a global phase.
+    fn generator(
+        &self,
+        t: &dyn TableLike,
+        name: &str,
+        gate: Option<Gate>,
+        implementation: Implementation,
+    ) -> Result<Option<Generator>, Diagnostic> {
+        let (g_item, a_item) = (t.get("generator"), t.get("angle"));
+        let given = if g_item.is_some() {
+            "generator"
+        } else {
+            "angle"
+        };
+        if g_item.is_none() && a_item.is_none() {
+            return Ok(None);
+        }
+        let Some(gate) = gate else {
+            return Err(self
+                .err(
+                    self.key_span(t, given),
+                    format!("`{given}` describes one gate, not `gates.default`"),
+                )
+                .with_hint("give it in the section of the gate it implements, e.g. `[gates.cx]`"));
+        };
+        let example = Generator::default_for(gate);
+        let example = format!(
+            "`{}` is, for example, `generator = \"{}\"` with `angle = \"{}\"`",
+            gate.name(),
+            example.text(gate.arity()),
+            angle_text(example.theta)
+        );
+        if implementation != Implementation::Rotation {
+            return Err(self
+                .err(
+                    self.key_span(t, given),
+                    format!(
+                        "`{given}` applies only to `implementation = \"rotation\"`, and `gates.{name}` is `{}`",
+                        implementation.name()
+                    ),
+                )
+                .with_hint("set `implementation = \"rotation\"` or remove the generator"));
+        }
+        let (Some(g_item), Some(a_item)) = (g_item, a_item) else {
+            let (has, lacks) = if g_item.is_some() {
+                ("generator", "angle")
+            } else {
+                ("angle", "generator")
+            };
+            return Err(self
+                .err(
+                    self.key_span(t, has),
+                    format!("`{has}` needs `{lacks}` in `gates.{name}`: the gate is exp(i·angle·generator)"),
+                )
+                .with_hint(example));
+        };
+        let Some(text) = g_item.as_str() else {
+            return Err(self
+                .err(g_item.span(), "`generator` must be a string")
+                .with_hint(example));
+        };
+        let terms = parse_polynomial(text, gate.arity()).map_err(|(range, msg)| {
+            Diagnostic::error(self.source, self.in_string(g_item, range), msg).with_hint(
+                "write a sum of Pauli strings with real coefficients, e.g. `II - ZI - IX + ZX` or `0.5 XX + 0.5 YY`",
+            )
+        })?;
+        let angle_hint =
+            "write radians as a number, or a multiple of pi such as `\"pi/4\"` or `\"-3*pi/4\"`";
+        let theta = match a_item.as_value() {
+            Some(Value::Float(f)) if f.value().is_finite() => *f.value(),
+            Some(Value::Integer(i)) => *i.value() as f64,
+            Some(Value::String(s)) => parse_angle(s.value()).ok_or_else(|| {
+                self.err(a_item.span(), format!("`{}` is not an angle", s.value()))
+                    .with_hint(angle_hint)
+            })?,
+            _ => {
+                return Err(self
+                    .err(
+                        a_item.span(),
+                        "`angle` must be a finite number or a multiple of pi",
+                    )
+                    .with_hint(angle_hint))
+            }
+        };
+        let generator = Generator { terms, theta };
+        let winding = generator.winding();
+        if winding > MAX_WINDING {
+            return Err(self
+                .err(
+                    a_item.span(),
+                    format!(
+                        "the rotation winds too far: |angle|·Σ|coefficients| = {winding:.3}·pi is more than {MAX_WINDING}·pi"
+                    ),
+                )
+                .with_hint(example));
+        }
+        let deviation = generator.deviation_from(gate);
+        if deviation.is_nan() || deviation > GATE_TOLERANCE {
+            return Err(self
+                .err(
+                    g_item.span(),
+                    format!(
+                        "this generator does not implement `{}`: exp(i·angle·G) differs from the gate by {deviation:.1e} (largest matrix entry, up to a global phase)",
+                        gate.name()
+                    ),
+                )
+                .with_label(
+                    self.source,
+                    span_of(a_item.span()).unwrap_or(Span::new(0, 0)),
+                    "with this angle",
+                )
+                .with_hint(example));
+        }
+        Ok(Some(generator))
     }
 
     fn measure(
@@ -811,7 +1110,13 @@ impl Parser<'_> {
             }
         };
         let selector = match (str_of("qubit")?, str_of("role")?) {
-            (Some(q), None) => Selector::Qubit(q),
+            (Some(q), None) => Selector::Qubit(canonical_qubit_name(&q).ok_or_else(|| {
+                self.err(
+                    t.get("qubit").and_then(|i| i.span()),
+                    format!("`{q}` is not a qubit name"),
+                )
+                .with_hint("write the name as the circuit does, e.g. `a[0]` or `d[1, 2]`")
+            })?),
             (None, Some(r)) => Selector::Role(r),
             (Some(_), Some(_)) => {
                 return Err(self.err(
@@ -827,8 +1132,15 @@ impl Parser<'_> {
                 ))
             }
         };
+        let selector_span = span_of(
+            t.get("qubit")
+                .or_else(|| t.get("role"))
+                .and_then(|i| i.span()),
+        )
+        .unwrap_or(at);
         Ok(Override {
             selector,
+            selector_span,
             gates: match t.get("gates") {
                 None => Vec::new(),
                 Some(i) => self.gates(i, base)?,
@@ -888,22 +1200,34 @@ impl Parser<'_> {
     }
 }
 
-/// The extensions of `--noise` beyond the plain presets: a path to an existing `.toml` model
-/// file, or a `circuit` preset with a `cx=ideal|rotation|bias-preserving` key. Returns `None`
-/// when the text is neither (it is then a plain preset). `cx=ideal` gives the plain preset.
+/// The extensions of `--noise` beyond the plain presets: the path of a model file, or a
+/// `circuit` preset with a `cx=ideal|rotation|bias-preserving` key. Returns `None` when the text
+/// is neither (it is then a plain preset). `cx=ideal` gives the plain preset.
+///
+/// The text is a path when it ends in `.toml`, or is one word containing `/` (no preset
+/// contains one). A path that names no file is reported as such, not as an unknown preset.
 pub fn parse_extension(
     source: &Arc<Source>,
 ) -> Option<Result<crate::noise::NoiseSpec, Diagnostic>> {
     use crate::noise::NoiseSpec;
     let text = source.text.as_str();
     let trimmed = text.trim();
-    if trimmed.ends_with(".toml") {
+    let one_word = !trimmed.contains(char::is_whitespace);
+    if trimmed.ends_with(".toml") || (one_word && trimmed.contains('/')) {
         let path = std::path::Path::new(trimmed);
         let start = text.find(trimmed).unwrap_or(0);
         let at = Span::new(start, start + trimmed.len());
         return Some(match std::fs::read_to_string(path) {
             Ok(body) => NoiseModel::parse(&Source::new(trimmed, body))
                 .map(|m| NoiseSpec::Model(Box::new(m))),
+            Err(e) if e.kind() == std::io::ErrorKind::NotFound => Err(Diagnostic::error(
+                source,
+                at,
+                format!("the noise model file `{trimmed}` does not exist"),
+            )
+            .with_hint(
+                "`--noise` takes the path of a model file or a preset such as `circuit p=0.001`",
+            )),
             Err(e) => Err(Diagnostic::error(
                 source,
                 at,

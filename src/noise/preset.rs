@@ -20,9 +20,11 @@
 
 use std::sync::Arc;
 
-use crate::ir::{Basis, Channel, Circuit, Layer, Op, OpKind, Pauli};
+use crate::ir::{Basis, Channel, Circuit, Gate, Layer, Op, OpKind, Pauli};
 use crate::lang::diagnostic::did_you_mean;
 use crate::lang::{Diagnostic, Source, Span};
+use crate::noise::compile::Note;
+use crate::noise::implement::Implementation;
 
 /// Which preset.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -250,15 +252,48 @@ impl Preset {
         }
     }
 
+    /// The preset as `--noise` text in canonical form, e.g. `circuit p=0.001 bias=100`.
+    pub fn text(&self) -> String {
+        let mut s = format!("{} p={}", self.kind.name(), self.p);
+        if let Some(q) = self.q {
+            s.push_str(&format!(" q={q}"));
+        }
+        if let Some(b) = self.bias {
+            s.push_str(&format!(" bias={b}"));
+        }
+        s
+    }
+
     /// Writes the preset's noise into a copy of `circuit`.
     pub fn apply(&self, circuit: &Circuit) -> Result<Circuit, Vec<Diagnostic>> {
+        self.apply_noted(circuit).map(|(c, _)| c)
+    }
+
+    /// Like [`Preset::apply`], with one [`Note`] per inserted channel, classed as the model
+    /// compiler classes them (the gate it follows, `reset`, `idle`) or `round-start` for the
+    /// data channel of `capacity` and `phenomenological`; the bias report groups channels by
+    /// these classes, so presets and model files must agree on them.
+    pub fn apply_noted(&self, circuit: &Circuit) -> Result<(Circuit, Vec<Note>), Vec<Diagnostic>> {
         match self.kind {
             PresetKind::Capacity | PresetKind::Phenomenological => self.apply_rounds(circuit),
             PresetKind::Circuit => Ok(self.apply_circuit(circuit)),
         }
     }
 
-    fn apply_rounds(&self, circuit: &Circuit) -> Result<Circuit, Vec<Diagnostic>> {
+    fn note(&self, layer: usize, op: usize, class: &str, input: &Channel, what: &str) -> Note {
+        Note {
+            layer,
+            op,
+            class: class.to_string(),
+            gate: Gate::from_name(class),
+            implementation: Implementation::Ideal,
+            generator: None,
+            input: input.clone(),
+            text: format!("preset `{}` {what}", self.text()),
+        }
+    }
+
+    fn apply_rounds(&self, circuit: &Circuit) -> Result<(Circuit, Vec<Note>), Vec<Diagnostic>> {
         let name = self.kind.name();
         let data: Vec<u32> = (0..circuit.qubits.len() as u32)
             .filter(|&q| circuit.qubits[q as usize].has_role("data"))
@@ -290,13 +325,22 @@ impl Preset {
             _ => 0.0,
         };
         let mut out = circuit.clone();
+        let mut notes = Vec::new();
         out.layers = Vec::with_capacity(circuit.layers.len() + circuit.rounds as usize);
         let mut previous = None;
         for layer in &circuit.layers {
             if layer.round.is_some() && layer.round != previous {
+                let ch = self.one_qubit(self.p);
+                notes.push(self.note(
+                    out.layers.len(),
+                    0,
+                    "round-start",
+                    &ch,
+                    "on the data at the start of the round",
+                ));
                 out.layers.push(Layer {
                     ops: vec![Op {
-                        kind: OpKind::Noise(self.one_qubit(self.p)),
+                        kind: OpKind::Noise(ch),
                         targets: data.clone(),
                         paulis: Vec::new(),
                         span: layer.span,
@@ -316,15 +360,16 @@ impl Preset {
             }
             out.layers.push(layer);
         }
-        Ok(out)
+        Ok((out, notes))
     }
 
-    fn apply_circuit(&self, circuit: &Circuit) -> Circuit {
+    fn apply_circuit(&self, circuit: &Circuit) -> (Circuit, Vec<Note>) {
         let p = self.p;
         let n = circuit.qubits.len();
         let mut out = circuit.clone();
+        let mut notes = Vec::new();
         let mut touched = vec![false; n];
-        for layer in &mut out.layers {
+        for (li, layer) in out.layers.iter_mut().enumerate() {
             let active = layer
                 .ops
                 .iter()
@@ -355,8 +400,17 @@ impl Preset {
                     }
                 }
                 let (targets, span) = (op.targets.clone(), op.span);
+                let (class, what) = match &op.kind {
+                    OpKind::Gate(g) => (g.name().to_string(), format!("after `{}`", g.name())),
+                    OpKind::Reset(b) => (
+                        "reset".to_string(),
+                        format!("reset error after `reset {}`", b.name()),
+                    ),
+                    _ => (String::new(), String::new()),
+                };
                 ops.push(op);
                 if let Some(ch) = extra {
+                    notes.push(self.note(li, ops.len(), &class, &ch, &what));
                     ops.push(Op {
                         kind: OpKind::Noise(ch),
                         targets,
@@ -367,8 +421,10 @@ impl Preset {
             }
             let idle: Vec<u32> = (0..n as u32).filter(|&q| !touched[q as usize]).collect();
             if !idle.is_empty() {
+                let ch = self.one_qubit(p);
+                notes.push(self.note(li, ops.len(), "idle", &ch, "idle"));
                 ops.push(Op {
-                    kind: OpKind::Noise(self.one_qubit(p)),
+                    kind: OpKind::Noise(ch),
                     targets: idle,
                     paulis: Vec::new(),
                     span: layer.span,
@@ -376,7 +432,7 @@ impl Preset {
             }
             layer.ops = ops;
         }
-        out
+        (out, notes)
     }
 }
 
