@@ -513,13 +513,6 @@ fn unmatched_overrides_are_located() {
             None,
         ),
         (
-            "p = 0.01\n[gates.default]\n[[override]]\nrole = \"nosuchrole\"\nmeasure = { flip = 0.1 }\n",
-            "has no role `nosuchrole`",
-            4,
-            8,
-            Some("the circuit's roles are `data`"),
-        ),
-        (
             "p = 0.01\n[gates.default]\n\n[[override]]\n  role   =   \"dta\"\nidle = { p = 0.1 }\n",
             "has no role `dta`",
             5,
@@ -541,6 +534,19 @@ fn unmatched_overrides_are_located() {
             assert_eq!(errs[0].hint.as_deref(), Some(h), "{text}");
         }
     }
+    // A role the circuit does not use at all is skipped with a located warning: one hardware
+    // model serves circuits with and without ancillas.
+    let unused = "p = 0.01\n[gates.default]\n[[override]]\nrole = \"nosuchrole\"\nmeasure = { flip = 0.1 }\n";
+    let compiled = compile(&circuit, &model(unused).unwrap()).expect("a warning only");
+    assert_eq!(compiled.warnings.len(), 1);
+    let w = &compiled.warnings[0];
+    assert!(
+        w.message.contains("has no role `nosuchrole`"),
+        "{}",
+        w.message
+    );
+    assert_eq!(w.location().unwrap(), ("m.toml".to_string(), 4, 8));
+    assert_eq!(w.hint.as_deref(), Some("the circuit's roles are `data`"));
     // The same through the binary: located at the file, exit code 1.
     let dir = tempfile::tempdir().unwrap();
     let src = dir.path().join("one.slant");
@@ -558,6 +564,26 @@ fn unmatched_overrides_are_located() {
         .unwrap();
     assert_eq!(st.status.code(), Some(1));
     let stderr = String::from_utf8_lossy(&st.stderr);
+    assert!(
+        stderr.contains(&format!("{}:5:14", m.display())),
+        "{stderr}"
+    );
+    std::fs::write(&m, unused).unwrap();
+    let st = std::process::Command::new(env!("CARGO_BIN_EXE_slant"))
+        .args([
+            "bias",
+            src.to_str().unwrap(),
+            "--noise",
+            m.to_str().unwrap(),
+        ])
+        .output()
+        .unwrap();
+    assert_eq!(st.status.code(), Some(0));
+    let stderr = String::from_utf8_lossy(&st.stderr);
+    assert!(
+        stderr.contains("warning: this override matches no qubit"),
+        "{stderr}"
+    );
     assert!(stderr.contains(&format!("{}:4:8", m.display())), "{stderr}");
 }
 
@@ -1027,4 +1053,50 @@ fn bad_generators_are_located() {
     // Eight digits of 1/√2 are close enough.
     model("[gates.h]\np = 0.01\nimplementation = \"rotation\"\ngenerator = \"0.70710678 X + 0.70710678 Z\"\nangle = \"pi/2\"\n")
         .unwrap_or_else(|d| panic!("{}", d.render()));
+}
+
+/// Every shipped model compiles onto every bundled circuit (overrides for roles a circuit does
+/// not use are skipped with a warning, never an error), and the result still passes the checks.
+#[test]
+fn shipped_models_compile_onto_every_bundled_circuit() {
+    let root = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("circuits");
+    let files = |dir: &std::path::Path, ext: &str| {
+        let mut v: Vec<std::path::PathBuf> = std::fs::read_dir(dir)
+            .unwrap()
+            .flatten()
+            .map(|e| e.path())
+            .filter(|p| p.extension().is_some_and(|e| e == ext))
+            .collect();
+        v.sort();
+        v
+    };
+    let models = files(&root.join("models"), "toml");
+    let circuits = files(&root, "slant");
+    assert!(!models.is_empty() && !circuits.is_empty());
+    for m in &models {
+        let text = std::fs::read_to_string(m).unwrap();
+        let model = NoiseModel::parse(&Source::new(m.display().to_string(), text)).unwrap();
+        for c in &circuits {
+            let circuit = load(
+                &c.display().to_string(),
+                &std::fs::read_to_string(c).unwrap(),
+            );
+            let compiled = compile(&circuit, &model).unwrap_or_else(|e| {
+                panic!("{} on {}: {}", m.display(), c.display(), e[0].render())
+            });
+            assert!(
+                compiled
+                    .warnings
+                    .iter()
+                    .all(|w| w.message.contains("has no role")),
+                "{} on {}",
+                m.display(),
+                c.display()
+            );
+            let text = to_text(&compiled.circuit, &compiled.notes, &[]);
+            slant::load_source(&Source::new("compiled.slant", text), &[]).unwrap_or_else(|e| {
+                panic!("{} on {}: {}", m.display(), c.display(), e[0].render())
+            });
+        }
+    }
 }

@@ -48,7 +48,11 @@ impl NoiseArgs {
             return Ok(circuit);
         };
         let spec = crate::noise::NoiseSpec::parse(text).map_err(|d| vec![d])?;
-        crate::noise::apply(&circuit, &spec)
+        let compiled = crate::noise::apply_noted(&circuit, &spec)?;
+        for w in &compiled.warnings {
+            eprint!("{}", w.render());
+        }
+        Ok(compiled.circuit)
     }
 }
 

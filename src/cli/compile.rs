@@ -25,13 +25,17 @@ pub struct Args {
 }
 
 /// Writes the noise of `spec` into `circuit`, with the notes saying what produced each
-/// inserted channel.
+/// inserted channel; the model's warnings go to standard error.
 pub fn compile_spec(
     circuit: &Circuit,
     text: &str,
 ) -> Result<(Circuit, Vec<Note>), Vec<Diagnostic>> {
     let spec = NoiseSpec::parse(text).map_err(|d| vec![d])?;
-    crate::noise::apply_noted(circuit, &spec).map(|c| (c.circuit, c.notes))
+    let compiled = crate::noise::apply_noted(circuit, &spec)?;
+    for w in &compiled.warnings {
+        eprint!("{}", w.render());
+    }
+    Ok((compiled.circuit, compiled.notes))
 }
 
 /// Runs `slant compile`.

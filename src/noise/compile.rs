@@ -54,6 +54,9 @@ pub struct Compiled {
     pub notes: Vec<Note>,
     /// Total duration: the sum of the layer durations.
     pub duration: f64,
+    /// Warnings about the model against this circuit (e.g. an override for a role the circuit
+    /// does not use); callers show them.
+    pub warnings: Vec<Diagnostic>,
 }
 
 fn combine(a: f64, b: f64) -> f64 {
@@ -65,7 +68,10 @@ pub fn compile(circuit: &Circuit, model: &NoiseModel) -> Result<Compiled, Vec<Di
     let n = circuit.qubits.len();
     let mut out = circuit.clone();
     let mut notes = Vec::new();
-    let mut errors: Vec<Diagnostic> = model.unmatched_overrides(circuit);
+    let (mut errors, warnings): (Vec<Diagnostic>, Vec<Diagnostic>) = model
+        .unmatched_overrides(circuit)
+        .into_iter()
+        .partition(|d| d.severity == crate::lang::diagnostic::Severity::Error);
     let mut missing: Vec<Gate> = Vec::new();
     let mut total = 0.0;
     let mut touched = vec![false; n];
@@ -267,6 +273,7 @@ pub fn compile(circuit: &Circuit, model: &NoiseModel) -> Result<Compiled, Vec<Di
         circuit: out,
         notes,
         duration: total,
+        warnings,
     })
 }
 

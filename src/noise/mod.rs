@@ -86,6 +86,7 @@ pub fn apply_noted(
                 circuit,
                 notes,
                 duration: 0.0,
+                warnings: Vec::new(),
             }),
     }
 }

@@ -424,9 +424,12 @@ impl NoiseModel {
             .unwrap_or(&self.reset)
     }
 
-    /// One error per override that selects no qubit of `circuit`, at the override's selector
-    /// value in the model file. An override that matches nothing is almost always a typo (or a
-    /// model written for another circuit); ignoring it would silently compile the wrong noise.
+    /// One diagnostic per override that selects no qubit of `circuit`, at the override's
+    /// selector value in the model file. A qubit name that matches nothing, or a role close to
+    /// one the circuit declares, is almost always a typo: an error, since ignoring it would
+    /// silently compile the wrong noise. A role the circuit simply does not use (an `ancilla`
+    /// override applied to a product-measurement circuit) is a warning: one hardware model must
+    /// serve every circuit written for that hardware.
     pub fn unmatched_overrides(&self, circuit: &crate::ir::Circuit) -> Vec<Diagnostic> {
         let mut out = Vec::new();
         for o in &self.overrides {
@@ -458,7 +461,12 @@ impl NoiseModel {
                     circuit.source.name
                 ),
             );
-            d = match did_you_mean(name, candidates.iter().copied()) {
+            let suggestion = did_you_mean(name, candidates.iter().copied());
+            if what == "role" && suggestion.is_none() {
+                d.severity = crate::lang::diagnostic::Severity::Warning;
+                d.message.push_str("; the override is skipped");
+            }
+            d = match suggestion {
                 Some(s) => d.with_hint(format!("did you mean `{s}`?")),
                 None if what == "role" && candidates.is_empty() => {
                     d.with_hint("the circuit declares no roles; add `role NAME` to its qubits")
