@@ -322,6 +322,36 @@ fn non_utf8_bytes() {
 }
 
 #[test]
+fn byte_order_mark_is_skipped() {
+    // Some Windows editors start UTF-8 files with U+FEFF; it is not part of the circuit.
+    let text = "\u{feff}qubit a\nh a\n";
+    let (code, out, err) = slant(&["check", "-"], Some(text));
+    assert_eq!(code, 0, "{err}");
+    assert!(out.contains("qubits        1"), "{out}");
+    // Locations count from the character after the mark.
+    let (code, _, err) = slant(&["check", "-"], Some("\u{feff}czz a\n"));
+    assert_eq!(code, 1);
+    assert!(err.contains("--> -:1:1\n"), "{err}");
+    // Bytes that are not UTF-8 are still located in the text after the mark.
+    let err = slant::lang::source_from_bytes(
+        "t.slant".into(),
+        b"\xef\xbb\xbfqubit a\n\xffh a\n".to_vec(),
+    )
+    .unwrap_err();
+    assert_eq!(err.location().map(|l| (l.1, l.2)), Some((2, 1)));
+    // The canonical form has no mark: `fmt` drops it and `fmt --check` flags it.
+    let (code, out, _) = slant(&["fmt", "-"], Some(text));
+    assert_eq!((code, out.as_str()), (0, "qubit a\nh a\n"));
+    let (code, _, _) = slant(&["fmt", "--check", "-"], Some(text));
+    assert_eq!(code, 3);
+    // Anywhere but the start it is an ordinary character, refused with a location.
+    let (code, _, err) = slant(&["check", "-"], Some("qubit a\n\u{feff}h a\n"));
+    assert_eq!(code, 1);
+    assert!(err.contains("-:2:1"), "{err}");
+    assert!(err.contains("the invisible character U+FEFF"), "{err}");
+}
+
+#[test]
 fn very_long_line_is_windowed() {
     let mut text = String::from("qubit a\n");
     for _ in 0..2000 {
