@@ -268,6 +268,58 @@ fn override_of_unknown_parameter() {
 }
 
 #[test]
+fn override_of_a_generator_option_names_the_parameters() {
+    // Generated rotated patches take `dx` and `dz`, not the generator's `--distance`.
+    let text = "param dx = 3\nparam dz = 3\nparam rounds = 3\nqubit a\n";
+    for name in ["distanse", "distance", "Distance"] {
+        let sets = vec![(name.to_string(), 5)];
+        let errs = slant::load_source(&Source::new("t", text), &sets).unwrap_err();
+        assert_eq!(
+            errs[0].message,
+            format!("`--set {name}=...` names no parameter of this circuit")
+        );
+        assert_eq!(
+            errs[0].hint.as_deref(),
+            Some(
+                "did you mean `dx` and `dz`? this circuit takes its two distances separately: \
+                 `--set dx=5 --set dz=5`"
+            ),
+            "{name}"
+        );
+    }
+    // A close name still gets the plain suggestion, whatever its case.
+    let sets = vec![("ROUNDS".to_string(), 2)];
+    let errs = slant::load_source(&Source::new("t", text), &sets).unwrap_err();
+    assert_eq!(errs[0].hint.as_deref(), Some("did you mean `rounds`?"));
+    // Through the binary: a circuit that does not take the name is rejected input (exit 1).
+    let (code, _, err) = slant(&["check", "-", "--set", "distanse=5"], Some(text));
+    assert_eq!(code, 1);
+    assert!(err.contains("did you mean `dx` and `dz`?"), "{err}");
+}
+
+#[test]
+fn malformed_set_is_a_usage_error() {
+    // A setting that could never name a parameter is a bad flag: exit 2, before reading input.
+    for (set, message) in [
+        ("=3", "give the parameter's name before `=`"),
+        (" =3", "give the parameter's name before `=`"),
+        ("3x=1", "`3x` is not a parameter name"),
+        ("a b=1", "`a b` is not a parameter name"),
+        ("rounds", "expected NAME=INT"),
+        ("rounds=x", "`x` is not an integer"),
+    ] {
+        let (code, _, err) = slant(&["check", "-", "--set", set], Some("qubit a\n"));
+        assert_eq!(code, 2, "--set {set:?}: {err}");
+        assert!(err.contains(message), "--set {set:?}: {err}");
+    }
+    let (code, _, err) = slant(
+        &["check", "-", "--set", "_n2=1"],
+        Some("param _n2 = 0\nqubit a\n"),
+    );
+    assert_eq!(code, 0, "{err}");
+}
+
+#[test]
 fn non_deterministic_detector_names_the_culprit() {
     let text =
         "qubit a\nqubit b\nh b\nmeasure z a -> ma\nmeasure z b -> mb\ndetector both = ma ^ mb\n";
