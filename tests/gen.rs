@@ -255,6 +255,77 @@ fn cli_writes_file_and_refuses_bad_specs() {
     assert_eq!(out.status.code(), Some(2));
 }
 
+#[test]
+fn distances_out_of_range_are_usage_errors() {
+    // Zero and oversized distances are refused by the argument parser (exit 2) with the rule,
+    // whatever the family; the family's own rules come after (exit 1).
+    let cases: [(&[&str], &str); 5] = [
+        (
+            &["surface", "--distance", "0"],
+            "the distance must be at least 1",
+        ),
+        (
+            &["repetition", "--distance", "0"],
+            "the distance must be at least 1",
+        ),
+        (
+            &["xzzx", "--dx", "0", "--dz", "3"],
+            "the distance must be at least 1",
+        ),
+        (
+            &["surface", "--distance", "1002"],
+            "the distance must be at most 1001",
+        ),
+        (
+            &["xzzx", "--dx", "3", "--dz", "100000"],
+            "the distance must be at most 1001",
+        ),
+    ];
+    for (args, msg) in cases {
+        let out = slant().arg("new").args(args).output().unwrap();
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert_eq!(out.status.code(), Some(2), "{args:?}: {err}");
+        assert!(err.contains(msg), "{args:?}: {err}");
+        assert!(!err.contains("--rounds"), "{args:?}: {err}");
+        assert!(out.stdout.is_empty());
+    }
+    let out = slant()
+        .args(["new", "surface", "--distance", "1"])
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(1));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("distance must be odd and at least 3"));
+    // The library refuses the same specs, naming the distance rather than the rounds.
+    let mut s = GenSpec::new(Family::Surface, 0);
+    assert!(generate(&s).unwrap_err().0.contains("distance must be odd"));
+    s = GenSpec::new(Family::Surface, 1003);
+    let e = generate(&s).unwrap_err().0;
+    assert!(e.contains("distance must be at most 1001, got 1003"), "{e}");
+    s = GenSpec::new(Family::Xzzx, 3);
+    s.periodic = true;
+    s.dx = 1002;
+    let e = generate(&s).unwrap_err().0;
+    assert!(e.contains("`--dx` must be at most 1001, got 1002"), "{e}");
+}
+
+#[test]
+fn largest_distance_generates_quickly() {
+    // Checking the coupling order once compared every pair of checks (minutes at this size);
+    // it is linear now. Only generation runs here: the circuit is far past the size limit.
+    for family in ["surface", "xzzx"] {
+        let out = slant()
+            .args(["new", family, "--distance", "1001", "--rounds", "1"])
+            .output()
+            .unwrap();
+        assert!(
+            out.status.success(),
+            "{}",
+            String::from_utf8_lossy(&out.stderr)
+        );
+        assert!(String::from_utf8_lossy(&out.stdout).contains("param dx = 1001"));
+    }
+}
+
 /// Under pure Z noise XZZX faults flip detector pairs along one diagonal ("The XZZX surface
 /// code", Nat. Commun. 12, 2172 (2021)): found here from the product measurements of the
 /// circuit, not from the generator.

@@ -268,6 +268,58 @@ fn override_of_unknown_parameter() {
 }
 
 #[test]
+fn override_of_a_generator_option_names_the_parameters() {
+    // Generated rotated patches take `dx` and `dz`, not the generator's `--distance`.
+    let text = "param dx = 3\nparam dz = 3\nparam rounds = 3\nqubit a\n";
+    for name in ["distanse", "distance", "Distance"] {
+        let sets = vec![(name.to_string(), 5)];
+        let errs = slant::load_source(&Source::new("t", text), &sets).unwrap_err();
+        assert_eq!(
+            errs[0].message,
+            format!("`--set {name}=...` names no parameter of this circuit")
+        );
+        assert_eq!(
+            errs[0].hint.as_deref(),
+            Some(
+                "did you mean `dx` and `dz`? this circuit takes its two distances separately: \
+                 `--set dx=5 --set dz=5`"
+            ),
+            "{name}"
+        );
+    }
+    // A close name still gets the plain suggestion, whatever its case.
+    let sets = vec![("ROUNDS".to_string(), 2)];
+    let errs = slant::load_source(&Source::new("t", text), &sets).unwrap_err();
+    assert_eq!(errs[0].hint.as_deref(), Some("did you mean `rounds`?"));
+    // Through the binary: a circuit that does not take the name is rejected input (exit 1).
+    let (code, _, err) = slant(&["check", "-", "--set", "distanse=5"], Some(text));
+    assert_eq!(code, 1);
+    assert!(err.contains("did you mean `dx` and `dz`?"), "{err}");
+}
+
+#[test]
+fn malformed_set_is_a_usage_error() {
+    // A setting that could never name a parameter is a bad flag: exit 2, before reading input.
+    for (set, message) in [
+        ("=3", "give the parameter's name before `=`"),
+        (" =3", "give the parameter's name before `=`"),
+        ("3x=1", "`3x` is not a parameter name"),
+        ("a b=1", "`a b` is not a parameter name"),
+        ("rounds", "expected NAME=INT"),
+        ("rounds=x", "`x` is not an integer"),
+    ] {
+        let (code, _, err) = slant(&["check", "-", "--set", set], Some("qubit a\n"));
+        assert_eq!(code, 2, "--set {set:?}: {err}");
+        assert!(err.contains(message), "--set {set:?}: {err}");
+    }
+    let (code, _, err) = slant(
+        &["check", "-", "--set", "_n2=1"],
+        Some("param _n2 = 0\nqubit a\n"),
+    );
+    assert_eq!(code, 0, "{err}");
+}
+
+#[test]
 fn non_deterministic_detector_names_the_culprit() {
     let text =
         "qubit a\nqubit b\nh b\nmeasure z a -> ma\nmeasure z b -> mb\ndetector both = ma ^ mb\n";
@@ -319,6 +371,36 @@ fn non_utf8_bytes() {
         .unwrap_err();
     assert_eq!(err.message, "the file is not valid UTF-8");
     assert_eq!(err.location().map(|l| (l.1, l.2)), Some((2, 1)));
+}
+
+#[test]
+fn byte_order_mark_is_skipped() {
+    // Some Windows editors start UTF-8 files with U+FEFF; it is not part of the circuit.
+    let text = "\u{feff}qubit a\nh a\n";
+    let (code, out, err) = slant(&["check", "-"], Some(text));
+    assert_eq!(code, 0, "{err}");
+    assert!(out.contains("qubits        1"), "{out}");
+    // Locations count from the character after the mark.
+    let (code, _, err) = slant(&["check", "-"], Some("\u{feff}czz a\n"));
+    assert_eq!(code, 1);
+    assert!(err.contains("--> -:1:1\n"), "{err}");
+    // Bytes that are not UTF-8 are still located in the text after the mark.
+    let err = slant::lang::source_from_bytes(
+        "t.slant".into(),
+        b"\xef\xbb\xbfqubit a\n\xffh a\n".to_vec(),
+    )
+    .unwrap_err();
+    assert_eq!(err.location().map(|l| (l.1, l.2)), Some((2, 1)));
+    // The canonical form has no mark: `fmt` drops it and `fmt --check` flags it.
+    let (code, out, _) = slant(&["fmt", "-"], Some(text));
+    assert_eq!((code, out.as_str()), (0, "qubit a\nh a\n"));
+    let (code, _, _) = slant(&["fmt", "--check", "-"], Some(text));
+    assert_eq!(code, 3);
+    // Anywhere but the start it is an ordinary character, refused with a location.
+    let (code, _, err) = slant(&["check", "-"], Some("qubit a\n\u{feff}h a\n"));
+    assert_eq!(code, 1);
+    assert!(err.contains("-:2:1"), "{err}");
+    assert!(err.contains("the invisible character U+FEFF"), "{err}");
 }
 
 #[test]

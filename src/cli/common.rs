@@ -56,16 +56,34 @@ impl NoiseArgs {
     }
 }
 
-/// Parses `NAME=INT`.
+/// Parses `NAME=INT`. A name that could not be a parameter (empty, or not a language name) is a
+/// usage error here, before any file is read, like any other malformed flag.
 pub fn parse_setting(s: &str) -> Result<(String, i64), String> {
     let (k, v) = s
         .split_once('=')
         .ok_or_else(|| format!("expected NAME=INT, found `{s}`"))?;
+    let k = k.trim();
+    if k.is_empty() {
+        return Err(format!(
+            "expected NAME=INT, found `{s}`: give the parameter's name before `=`"
+        ));
+    }
+    let mut chars = k.chars();
+    let valid = chars
+        .next()
+        .is_some_and(|c| c.is_ascii_alphabetic() || c == '_')
+        && chars.all(|c| c.is_ascii_alphanumeric() || c == '_');
+    if !valid {
+        return Err(format!(
+            "`{k}` is not a parameter name (names are letters, digits and `_`, not starting with \
+             a digit)"
+        ));
+    }
     let v: i64 = v
         .trim()
         .parse()
         .map_err(|_| format!("`{v}` is not an integer"))?;
-    Ok((k.trim().to_string(), v))
+    Ok((k.to_string(), v))
 }
 
 /// Reads a file (or standard input for `-`) into a [`Source`]. Bytes that are not UTF-8 are

@@ -40,8 +40,10 @@ pub fn run(args: Args) -> Result<(), CliError> {
             }
         };
         let text = crate::lang::print::print(&ast);
+        // The canonical form has no byte-order mark: `--check` flags one, `--write` drops it.
+        let canonical = text == source.text && !source.had_bom();
         if args.check {
-            if text != source.text {
+            if !canonical {
                 differs = true;
                 println!(
                     "{}: not in canonical form (run `slant fmt --write`)",
@@ -49,7 +51,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
                 );
             }
         } else if args.write {
-            if text != source.text {
+            if !canonical {
                 write_atomic(path, text.as_bytes()).map_err(|d| CliError::Rejected(vec![d]))?;
             }
         } else {

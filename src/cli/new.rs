@@ -7,7 +7,7 @@ use std::path::PathBuf;
 
 use crate::cli::output::write_atomic;
 use crate::cli::CliError;
-use crate::gen::{Entangler, Family, Flip, GenSpec, LogicalBasis, Order, Style};
+use crate::gen::{Entangler, Family, Flip, GenSpec, LogicalBasis, Order, Style, MAX_DISTANCE};
 use crate::lang::Diagnostic;
 
 /// Arguments of `slant new`.
@@ -24,14 +24,16 @@ pub struct Args {
     /// Code family: repetition, surface or xzzx.
     #[arg(value_parser = parse_family)]
     pub family: Family,
-    /// Code distance (square patch; the torus gets d columns × d+1 rows). Default 3.
-    #[arg(long, short = 'd')]
+    /// Code distance (square patch; the torus gets d columns × d+1 rows), at most 1001.
+    /// Default 3.
+    #[arg(long, short = 'd', value_parser = parse_distance)]
     pub distance: Option<u32>,
-    /// Weight of the shortest X-type logical: rows of the patch (torus: rows).
-    #[arg(long)]
+    /// Weight of the shortest X-type logical: rows of the patch (torus: rows), at most 1001.
+    #[arg(long, value_parser = parse_distance)]
     pub dx: Option<u32>,
-    /// Weight of the shortest Z-type logical: columns of the patch (torus: columns).
-    #[arg(long)]
+    /// Weight of the shortest Z-type logical: columns of the patch (torus: columns), at most
+    /// 1001.
+    #[arg(long, value_parser = parse_distance)]
     pub dz: Option<u32>,
     /// Syndrome-extraction rounds. Default: the larger of dx and dz.
     #[arg(long)]
@@ -61,6 +63,26 @@ pub struct Args {
 
 fn parse_family(s: &str) -> Result<Family, String> {
     s.parse()
+}
+
+/// A distance or side length: a whole number in `1..=MAX_DISTANCE`. Values outside that range
+/// are usage errors whatever the family; the family's own rules (odd, at least 3, co-prime) are
+/// checked by the generator.
+fn parse_distance(s: &str) -> Result<u32, String> {
+    let v: u64 = s
+        .trim()
+        .parse()
+        .map_err(|_| format!("`{s}` is not a whole number"))?;
+    if v == 0 {
+        return Err("the distance must be at least 1".into());
+    }
+    if v > u64::from(MAX_DISTANCE) {
+        return Err(format!(
+            "the distance must be at most {MAX_DISTANCE} ({})",
+            crate::gen::TOO_LARGE
+        ));
+    }
+    Ok(v as u32)
 }
 
 impl Args {

@@ -47,6 +47,18 @@ pub const FAMILIES: [(&str, &str); 3] = [
     ),
 ];
 
+/// The largest distance (and torus side) the generators accept.
+///
+/// The text they write does not grow with the distance, but checking the coupling order is
+/// linear in the number of checks, and nothing downstream could use a larger patch: at distance
+/// 1001 a patch already has about a million data qubits, and one round of it is past the default
+/// size limit of `slant check`.
+pub const MAX_DISTANCE: u32 = 1001;
+
+/// Why [`MAX_DISTANCE`] exists, in the words of the error message.
+pub(crate) const TOO_LARGE: &str =
+    "larger patches cannot be checked or simulated in reasonable time";
+
 /// A code family.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub enum Family {
@@ -351,8 +363,17 @@ impl GenSpec {
     fn resolve(&self) -> Result<Resolved, GenError> {
         let err = |m: String| Err(GenError(m));
         let fam = self.family.name();
-        if self.rounds == 0 {
-            return err("`--rounds` must be at least 1".into());
+        for (name, v) in [("dx", self.dx), ("dz", self.dz)] {
+            if v > MAX_DISTANCE {
+                let what = if self.family == Family::Repetition || self.dx == self.dz {
+                    "distance".to_string()
+                } else {
+                    format!("`--{name}`")
+                };
+                return err(format!(
+                    "{what} must be at most {MAX_DISTANCE}, got {v} ({TOO_LARGE})"
+                ));
+            }
         }
         if self.flip.is_some() && self.family != Family::Repetition {
             return err(format!(
@@ -404,6 +425,11 @@ impl GenSpec {
                     ));
                 }
             }
+        }
+        // After the distances: a missing `--rounds` defaults to the distance, so a zero distance
+        // would otherwise be reported as zero rounds.
+        if self.rounds == 0 {
+            return err("`--rounds` must be at least 1".into());
         }
         let style = self.style.unwrap_or(if self.periodic {
             Style::Product

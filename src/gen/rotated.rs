@@ -337,30 +337,46 @@ fn write_product_round(w: &mut Text, xzzx: bool) {
 /// and Z-type check pair meets in an order that measures both correctly: on their shared data
 /// qubits the X-type check must come first an even number of times (otherwise the partial
 /// couplings do not commute and the ancilla results are random).
+///
+/// Linear in the number of checks: a check shares data only with the checks next to it, so each
+/// X-type check is compared with its (at most eight) neighbours, and step clashes go through a
+/// table indexed by data qubit and step. Both scans visit checks in the same order as a scan of
+/// all pairs would, so the first problem found (and reported) is the same.
 fn validate_order(order: &Order, rows: i64, cols: i64) -> Result<(), GenError> {
-    let checks: Vec<(i64, i64, bool)> = (0..=cols)
-        .flat_map(|i| (0..=rows).map(move |j| (i, j)))
-        .filter_map(|(i, j)| {
-            let x = (i + j) % 2 == 0 && i > 0 && i < cols;
-            let z = (i + j) % 2 == 1 && j > 0 && j < rows;
-            (x || z).then_some((i, j, x))
-        })
-        .collect();
-    let touches = |&(i, j, x): &(i64, i64, bool)| -> Vec<((i64, i64), usize)> {
-        let list = if x { order.x_type } else { order.z_type };
-        list.iter()
-            .enumerate()
-            .filter_map(|(step, d)| {
-                let (di, dj) = d.offset();
-                let (a, b) = (i + di, j + dj);
-                (a >= 0 && a < cols && b >= 0 && b < rows).then_some(((a, b), step))
-            })
-            .collect()
+    let kind = |i: i64, j: i64| -> Option<bool> {
+        if i < 0 || i > cols || j < 0 || j > rows {
+            return None;
+        }
+        let x = (i + j) % 2 == 0 && i > 0 && i < cols;
+        let z = (i + j) % 2 == 1 && j > 0 && j < rows;
+        (x || z).then_some(x)
     };
-    let mut busy = std::collections::HashMap::new();
-    for c in &checks {
-        for (q, step) in touches(c) {
-            if let Some(other) = busy.insert((q, step), (c.0, c.1)) {
+    let checks = (0..=cols)
+        .flat_map(|i| (0..=rows).map(move |j| (i, j)))
+        .filter_map(|(i, j)| kind(i, j).map(|x| (i, j, x)));
+    // The data qubits a check touches, with the step of each (`None` where the corner is off the
+    // patch).
+    let touches = |(i, j, x): (i64, i64, bool)| -> [Option<((i64, i64), usize)>; 4] {
+        let list = if x { order.x_type } else { order.z_type };
+        let mut out = [None; 4];
+        for (step, d) in list.iter().enumerate() {
+            let (di, dj) = d.offset();
+            let (a, b) = (i + di, j + dj);
+            if a >= 0 && a < cols && b >= 0 && b < rows {
+                out[step] = Some(((a, b), step));
+            }
+        }
+        out
+    };
+    // busy[(a * rows + b) * 4 + step] = 1 + index of the first check that touches data (a, b)
+    // in that step, 0 if none does yet.
+    let mut busy = vec![0usize; (rows * cols * 4).max(0) as usize];
+    let check_of = |k: usize| ((k - 1) as i64 / (rows + 1), (k - 1) as i64 % (rows + 1));
+    for c in checks.clone() {
+        for (q, step) in touches(c).into_iter().flatten() {
+            let slot = &mut busy[((q.0 * rows + q.1) * 4) as usize + step];
+            if *slot != 0 {
+                let other = check_of(*slot);
                 return Err(GenError(format!(
                     "order `{}` makes data qubit d[{}, {}] meet checks ({}, {}) and ({}, {}) in \
                      the same step {step}; pick an order where each step moves every check the \
@@ -368,25 +384,29 @@ fn validate_order(order: &Order, rows: i64, cols: i64) -> Result<(), GenError> {
                     order.name, q.0, q.1, other.0, other.1, c.0, c.1
                 )));
             }
+            *slot = (c.0 * (rows + 1) + c.1) as usize + 1;
         }
     }
-    for a in checks.iter().filter(|c| c.2) {
+    for a in checks.filter(|c| c.2) {
         let ta = touches(a);
-        for b in checks.iter().filter(|c| !c.2) {
-            if (a.0 - b.0).abs() > 1 || (a.1 - b.1).abs() > 1 {
+        // Neighbours in the order of the list of checks (by `i`, then `j`).
+        for (di, dj) in (-1..=1).flat_map(|di| (-1..=1).map(move |dj| (di, dj))) {
+            let (i, j) = (a.0 + di, a.1 + dj);
+            if kind(i, j) != Some(false) {
                 continue;
             }
-            let tb = touches(b);
+            let tb = touches((i, j, false));
             let x_first = ta
                 .iter()
-                .filter(|(q, sa)| tb.iter().any(|(p, sb)| p == q && sa < sb))
+                .flatten()
+                .filter(|(q, sa)| tb.iter().flatten().any(|(p, sb)| p == q && sa < sb))
                 .count();
             if x_first % 2 == 1 {
                 return Err(GenError(format!(
                     "order `{}` does not measure checks ({}, {}) and ({}, {}) correctly: on their \
                      shared data the X-type check goes first once; use an order in which it goes \
                      first on both or on neither",
-                    order.name, a.0, a.1, b.0, b.1
+                    order.name, a.0, a.1, i, j
                 )));
             }
         }
@@ -397,6 +417,109 @@ fn validate_order(order: &Order, rows: i64, cols: i64) -> Result<(), GenError> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// The all-pairs version `validate_order` replaced: kept as the reference it must agree
+    /// with, message for message.
+    fn validate_order_all_pairs(order: &Order, rows: i64, cols: i64) -> Result<(), GenError> {
+        let checks: Vec<(i64, i64, bool)> = (0..=cols)
+            .flat_map(|i| (0..=rows).map(move |j| (i, j)))
+            .filter_map(|(i, j)| {
+                let x = (i + j) % 2 == 0 && i > 0 && i < cols;
+                let z = (i + j) % 2 == 1 && j > 0 && j < rows;
+                (x || z).then_some((i, j, x))
+            })
+            .collect();
+        let touches = |&(i, j, x): &(i64, i64, bool)| -> Vec<((i64, i64), usize)> {
+            let list = if x { order.x_type } else { order.z_type };
+            list.iter()
+                .enumerate()
+                .filter_map(|(step, d)| {
+                    let (di, dj) = d.offset();
+                    let (a, b) = (i + di, j + dj);
+                    (a >= 0 && a < cols && b >= 0 && b < rows).then_some(((a, b), step))
+                })
+                .collect()
+        };
+        let mut busy = std::collections::HashMap::new();
+        for c in &checks {
+            for (q, step) in touches(c) {
+                if let Some(other) = busy.insert((q, step), (c.0, c.1)) {
+                    return Err(GenError(format!(
+                        "order `{}` makes data qubit d[{}, {}] meet checks ({}, {}) and ({}, {}) \
+                         in the same step {step}; pick an order where each step moves every \
+                         check the same way",
+                        order.name, q.0, q.1, other.0, other.1, c.0, c.1
+                    )));
+                }
+            }
+        }
+        for a in checks.iter().filter(|c| c.2) {
+            let ta = touches(a);
+            for b in checks.iter().filter(|c| !c.2) {
+                if (a.0 - b.0).abs() > 1 || (a.1 - b.1).abs() > 1 {
+                    continue;
+                }
+                let tb = touches(b);
+                let x_first = ta
+                    .iter()
+                    .filter(|(q, sa)| tb.iter().any(|(p, sb)| p == q && sa < sb))
+                    .count();
+                if x_first % 2 == 1 {
+                    return Err(GenError(format!(
+                        "order `{}` does not measure checks ({}, {}) and ({}, {}) correctly: on \
+                         their shared data the X-type check goes first once; use an order in \
+                         which it goes first on both or on neither",
+                        order.name, a.0, a.1, b.0, b.1
+                    )));
+                }
+            }
+        }
+        Ok(())
+    }
+
+    fn permutations() -> Vec<[Dir; 4]> {
+        let mut out = Vec::new();
+        for a in Dir::ALL {
+            for b in Dir::ALL {
+                for c in Dir::ALL {
+                    for d in Dir::ALL {
+                        let p = [a, b, c, d];
+                        if Dir::ALL.iter().all(|x| p.contains(x)) {
+                            out.push(p);
+                        }
+                    }
+                }
+            }
+        }
+        out
+    }
+
+    #[test]
+    fn linear_validation_agrees_with_all_pairs() {
+        let perms = permutations();
+        assert_eq!(perms.len(), 24);
+        let (mut ok, mut bad) = (0, 0);
+        for x in &perms {
+            for z in &perms {
+                let order = Order {
+                    name: "custom".into(),
+                    x_type: *x,
+                    z_type: *z,
+                };
+                for (rows, cols) in [(3, 3), (3, 5), (5, 3), (5, 5), (7, 5)] {
+                    let fast = validate_order(&order, rows, cols);
+                    assert_eq!(fast, validate_order_all_pairs(&order, rows, cols));
+                    if fast.is_ok() {
+                        ok += 1;
+                    } else {
+                        bad += 1;
+                    }
+                }
+            }
+        }
+        // Both outcomes occur, so the comparison covers both the accepting and refusing paths.
+        assert!(ok > 0 && bad > 0, "{ok} valid, {bad} refused");
+    }
 
     #[test]
     fn standard_orders_are_valid_and_a_bad_one_is_not() {

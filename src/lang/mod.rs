@@ -25,7 +25,9 @@ pub fn source_from_bytes(name: String, bytes: Vec<u8>) -> Result<Arc<Source>, Di
     match String::from_utf8(bytes) {
         Ok(text) => Ok(Source::new(name, text)),
         Err(e) => {
-            let at = e.utf8_error().valid_up_to();
+            // `Source::new` drops a byte-order mark, which moves every offset back by its length.
+            let bom = e.as_bytes().starts_with(span::BOM.to_string().as_bytes());
+            let at = e.utf8_error().valid_up_to() - if bom { span::BOM.len_utf8() } else { 0 };
             let lossy = String::from_utf8_lossy(e.as_bytes()).into_owned();
             // Offsets shift in the lossy text only after the bad byte, so `at` is still right.
             let src = Source::new(name, lossy);

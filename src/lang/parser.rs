@@ -125,8 +125,18 @@ fn describe(i: &In) -> String {
                 .collect();
             format!("`{word}`")
         }
+        // Shown by code point: quoted as is, these would print as nothing (or break the line).
+        Some(c) if is_invisible(c) => format!("the invisible character U+{:04X}", c as u32),
         Some(c) => format!("`{c}`"),
     }
+}
+
+/// Characters a terminal shows as nothing or as plain space: controls, spaces other than the
+/// ASCII one, and the zero-width and byte-order marks editors leave behind.
+fn is_invisible(c: char) -> bool {
+    (c.is_control() && c != '\t')
+        || (c.is_whitespace() && c != ' ' && c != '\t')
+        || matches!(c, '\u{200b}'..='\u{200f}' | '\u{2060}' | '\u{feff}')
 }
 
 fn token_len(i: &In) -> usize {

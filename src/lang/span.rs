@@ -33,20 +33,30 @@ impl Span {
     }
 }
 
+/// The UTF-8 byte-order mark, which some editors write at the start of a file.
+pub const BOM: char = '\u{feff}';
+
 /// A named text, shared by the AST, the IR and diagnostics.
 #[derive(Debug, PartialEq, Eq)]
 pub struct Source {
     /// Path as given by the user (`-` for standard input).
     pub name: String,
-    /// Full text.
+    /// Full text, without a leading byte-order mark.
     pub text: String,
     line_starts: Vec<u32>,
+    bom: bool,
 }
 
 impl Source {
-    /// Wraps a text under a display name.
+    /// Wraps a text under a display name. A leading byte-order mark is dropped (and remembered,
+    /// see [`Source::had_bom`]): it says nothing about the circuit, and dropping it keeps byte
+    /// offsets, lines and columns those of the text an editor shows.
     pub fn new(name: impl Into<String>, text: impl Into<String>) -> Arc<Source> {
-        let text = text.into();
+        let mut text = text.into();
+        let bom = text.starts_with(BOM);
+        if bom {
+            text.drain(..BOM.len_utf8());
+        }
         let mut line_starts = vec![0];
         for (i, b) in text.bytes().enumerate() {
             if b == b'\n' {
@@ -57,7 +67,14 @@ impl Source {
             name: name.into(),
             text,
             line_starts,
+            bom,
         })
+    }
+
+    /// Whether the text started with a byte-order mark (dropped from [`Source::text`]); `slant
+    /// fmt` uses it to treat such a file as not canonical.
+    pub fn had_bom(&self) -> bool {
+        self.bom
     }
 
     /// One-based line and column (in characters) of a byte offset.
@@ -106,5 +123,14 @@ mod tests {
         assert_eq!(s.line_col(7), (4, 1));
         assert_eq!(s.line_text(2), "cd");
         assert_eq!(s.line_text(4), "xyz");
+    }
+
+    #[test]
+    fn byte_order_mark_is_dropped() {
+        let s = Source::new("t", "\u{feff}ab\ncd");
+        assert!(s.had_bom());
+        assert_eq!(s.text, "ab\ncd");
+        assert_eq!(s.line_col(3), (2, 1));
+        assert!(!Source::new("t", "ab").had_bom());
     }
 }
