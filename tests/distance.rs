@@ -351,19 +351,26 @@ fn distance_matches_brute_force_on_small_graphs() {
     );
 }
 
+/// The fault graph of [`HYPER`].
+fn hyperedge_graph() -> FaultGraph {
+    let circuit = slant::load_source(&Source::new("hyper.slant", HYPER), &[]).expect("load");
+    slant::faults::extract(&circuit, &ExtractOptions::default())
+}
+
+/// Six qubits under dephasing, read in X, with five detectors of three or four results each.
+const HYPER: &str = "qubit q[0..6]\nreset x q[0..6]\nnoise dephasing p=0.01 q[0..6]\n\
+    measure x q[0..6] -> f[0..6]\n\
+    detector = f[0] ^ f[1] ^ f[2] ^ f[3]\ndetector = f[0] ^ f[1] ^ f[4] ^ f[5]\n\
+    detector = f[2] ^ f[3] ^ f[4] ^ f[5]\ndetector = f[0] ^ f[2] ^ f[4]\n\
+    detector = f[1] ^ f[3] ^ f[5]\nobservable o = f[0] ^ f[2]\n";
+
 // Hyperedges only: every fault of this small code-capacity circuit flips three detectors (each
 // qubit lies in three of the detector parities), so the graph search has nothing to use and the
 // exhaustive meet-in-the-middle search must match brute force over all subsets. The least
 // logical error has weight 4 (`{0,1,4,5}` or `{2,3,4,5}`, found by hand from the parities).
 #[test]
 fn exhaustive_search_matches_brute_force_on_hyperedges() {
-    let text = "qubit q[0..6]\nreset x q[0..6]\nnoise dephasing p=0.01 q[0..6]\n\
-        measure x q[0..6] -> f[0..6]\n\
-        detector = f[0] ^ f[1] ^ f[2] ^ f[3]\ndetector = f[0] ^ f[1] ^ f[4] ^ f[5]\n\
-        detector = f[2] ^ f[3] ^ f[4] ^ f[5]\ndetector = f[0] ^ f[2] ^ f[4]\n\
-        detector = f[1] ^ f[3] ^ f[5]\nobservable o = f[0] ^ f[2]\n";
-    let circuit = slant::load_source(&Source::new("hyper.slant", text), &[]).expect("load");
-    let g = slant::faults::extract(&circuit, &ExtractOptions::default());
+    let g = hyperedge_graph();
     assert!(g.mechanisms.iter().all(|m| m.detectors.len() > 2));
     let r = report(&g);
     let c = r.distance.as_ref().expect("logical error");
@@ -381,13 +388,7 @@ fn exhaustive_search_matches_brute_force_on_hyperedges() {
 fn unfinished_searches_are_reported_as_unproven() {
     // The same 4-mechanism logical error as above, searched with too small a depth or state
     // cap: "none" would be false, so the report gives the proven bound or says it cannot tell.
-    let text = "qubit q[0..6]\nreset x q[0..6]\nnoise dephasing p=0.01 q[0..6]\n\
-        measure x q[0..6] -> f[0..6]\n\
-        detector = f[0] ^ f[1] ^ f[2] ^ f[3]\ndetector = f[0] ^ f[1] ^ f[4] ^ f[5]\n\
-        detector = f[2] ^ f[3] ^ f[4] ^ f[5]\ndetector = f[0] ^ f[2] ^ f[4]\n\
-        detector = f[1] ^ f[3] ^ f[5]\nobservable o = f[0] ^ f[2]\n";
-    let circuit = slant::load_source(&Source::new("hyper.slant", text), &[]).expect("load");
-    let g = slant::faults::extract(&circuit, &ExtractOptions::default());
+    let g = hyperedge_graph();
     let shallow = DistanceOptions {
         exhaustive_depth: 3,
         ..DistanceOptions::default()

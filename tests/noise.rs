@@ -552,16 +552,19 @@ fn unmatched_overrides_are_located() {
     let src = dir.path().join("one.slant");
     std::fs::write(&src, ONE_CX).unwrap();
     let m = dir.path().join("m.toml");
+    let bias = || {
+        std::process::Command::new(env!("CARGO_BIN_EXE_slant"))
+            .args([
+                "bias",
+                src.to_str().unwrap(),
+                "--noise",
+                m.to_str().unwrap(),
+            ])
+            .output()
+            .unwrap()
+    };
     std::fs::write(&m, cases[1].0).unwrap();
-    let st = std::process::Command::new(env!("CARGO_BIN_EXE_slant"))
-        .args([
-            "bias",
-            src.to_str().unwrap(),
-            "--noise",
-            m.to_str().unwrap(),
-        ])
-        .output()
-        .unwrap();
+    let st = bias();
     assert_eq!(st.status.code(), Some(1));
     let stderr = String::from_utf8_lossy(&st.stderr);
     assert!(
@@ -569,15 +572,7 @@ fn unmatched_overrides_are_located() {
         "{stderr}"
     );
     std::fs::write(&m, unused).unwrap();
-    let st = std::process::Command::new(env!("CARGO_BIN_EXE_slant"))
-        .args([
-            "bias",
-            src.to_str().unwrap(),
-            "--noise",
-            m.to_str().unwrap(),
-        ])
-        .output()
-        .unwrap();
+    let st = bias();
     assert_eq!(st.status.code(), Some(0));
     let stderr = String::from_utf8_lossy(&st.stderr);
     assert!(

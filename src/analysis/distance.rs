@@ -372,33 +372,23 @@ fn count_distance(
     let limit = upper
         .as_ref()
         .map_or(opts.exhaustive_depth, |e| e.mechanisms.len() as u32 - 1);
+    // A logical error the exhaustive search proved least.
+    let exact = |error: LogicalError| {
+        let n = error.mechanisms.len() as u32;
+        Ok((
+            Some(Count {
+                value: n,
+                lower: n,
+                method: Method::Exhaustive,
+                error,
+            }),
+            None,
+        ))
+    };
     match exhaustive(graph, allow, limit, opts.max_states) {
-        Exhaustive::Found(e) => {
-            let error = verified(graph, e)?;
-            let n = error.mechanisms.len() as u32;
-            return Ok((
-                Some(Count {
-                    value: n,
-                    lower: n,
-                    method: Method::Exhaustive,
-                    error,
-                }),
-                None,
-            ));
-        }
+        Exhaustive::Found(e) => return exact(verified(graph, e)?),
         Exhaustive::NoneUpTo => match upper {
-            Some(error) => {
-                let n = error.mechanisms.len() as u32;
-                return Ok((
-                    Some(Count {
-                        value: n,
-                        lower: n,
-                        method: Method::Exhaustive,
-                        error,
-                    }),
-                    None,
-                ));
-            }
+            Some(error) => return exact(error),
             None => return Ok((None, Some(Unproven::AboveDepth(limit)))),
         },
         Exhaustive::Capped => {}
