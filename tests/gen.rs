@@ -302,10 +302,20 @@ fn distances_out_of_range_are_usage_errors() {
     let e = generate(&s).unwrap_err().0;
     assert!(e.contains("distance must be at most 1001, got 1003"), "{e}");
     s = GenSpec::new(Family::Xzzx, 3);
-    s.periodic = true;
-    s.dx = 1002;
+    s.dx = 1003;
     let e = generate(&s).unwrap_err().0;
-    assert!(e.contains("`--dx` must be at most 1001, got 1002"), "{e}");
+    assert!(e.contains("`--dx` must be at most 1001, got 1003"), "{e}");
+    // `--distance 1001` on the torus asks for 1001 × 1002.
+    let out = slant()
+        .args(["new", "xzzx", "--periodic", "--distance", "1001"])
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(1));
+    let e = String::from_utf8_lossy(&out.stderr);
+    assert!(
+        e.contains("torus sides must be at most 1001, got 1001 × 1002"),
+        "{e}"
+    );
 }
 
 #[test]

@@ -235,10 +235,11 @@ fn unexpected_closing_brace() {
 
 #[test]
 fn loop_past_the_size_limit() {
+    // 10^10 lone `h a`: a layer, an operation and its target each.
     let text = "qubit a\nfor i in 0..100000 {\n    for j in 0..100000 {\n        h a\n    }\n}\n";
     rejects(
         text,
-        "this loop would expand to about 10000000000 items",
+        "this loop would expand to about 40000000000 items",
         2,
         1,
     );
@@ -246,13 +247,125 @@ fn loop_past_the_size_limit() {
 
 #[test]
 fn size_limit_is_configurable_on_the_command_line() {
+    use slant::ir::expand::cost;
     let text = "param n = 50\nqubit q[0..n]\nfor k in 0..n {\n    h q[k]\n}\n";
+    // The count is exact: 50 qubits and 50 lone single-target gates.
+    let items = 50 * cost::QUBIT + 50 * (cost::LAYER + cost::OP + cost::TARGET);
     let (code, _, err) = slant(&["check", "-", "--max-items", "60"], Some(text));
     assert_eq!(code, 1);
-    assert!(err.contains("limit of 60 items"), "{err}");
+    assert!(err.contains("past the limit of 60"), "{err}");
     assert!(err.contains("--max-items"), "{err}");
-    let (code, _, _) = slant(&["check", "-", "--max-items", "200"], Some(text));
-    assert_eq!(code, 0);
+    let below = (items - 1).to_string();
+    let (code, _, err) = slant(&["check", "-", "--max-items", &below], Some(text));
+    assert_eq!(code, 1);
+    assert!(
+        err.contains(&format!("the circuit would expand to about {items} items")),
+        "{err}"
+    );
+    let (code, _, err) = slant(
+        &["check", "-", "--max-items", &items.to_string()],
+        Some(text),
+    );
+    assert_eq!(code, 0, "{err}");
+}
+
+/// Refused by the up-front count (a "would" message at `line:col`) under `--max-items max`,
+/// with the hint, through the binary.
+fn refused_up_front(text: &str, max: u64, message: &str, location: &str) {
+    let (code, _, err) = slant(&["check", "-", "--max-items", &max.to_string()], Some(text));
+    assert_eq!(code, 1, "{err}");
+    assert!(err.contains(message), "{err}");
+    assert!(err.contains(&format!("--> -:{location}\n")), "{err}");
+    assert!(err.contains("raise the limit with `--max-items`"), "{err}");
+}
+
+#[test]
+fn size_limit_counts_targets_terms_and_records() {
+    // Once only statements were counted, so each of these passed as a few hundred items.
+    // 100 gates of 100 targets each.
+    refused_up_front(
+        "qubit q[0..100]\nfor i in 0..100 { h q[0..100] }\n",
+        5000,
+        "this loop would expand to about 10300 items, past the limit of 5000",
+        "2:1",
+    );
+    // 100 detectors of 20 terms each.
+    refused_up_front(
+        "qubit a\nfor k in 0..20 { measure z a -> m[k] }\nfor i in 0..100 { detector = m[0..20] }\n",
+        1500,
+        "this loop would expand to about 2300 items, past the limit of 1500",
+        "3:1",
+    );
+    // One statement naming a million qubits.
+    refused_up_front(
+        "qubit q[0..1000, 0..1000]\n",
+        100,
+        "this statement would expand to about 4000000 items, past the limit of 100",
+        "1:1",
+    );
+    // A loop that builds nothing still takes time: its iterations count as steps.
+    refused_up_front(
+        "qubit a\nfor i in 0..1000000000000 { }\n",
+        1000,
+        "this loop would run about 1000000000000 steps",
+        "2:1",
+    );
+}
+
+#[test]
+fn size_limit_sees_loops_whose_bounds_depend_on_outer_variables() {
+    // The inner bound depends on `i`: this once slipped past the up-front estimate and was
+    // only refused by the running count, after building everything up to the limit.
+    refused_up_front(
+        "qubit a\nfor i in 0..100 {\n    for j in 0..i { h a }\n}\n",
+        10000,
+        "this loop would expand to at least",
+        "2:1",
+    );
+    // So does a condition on the loop variable (here the steps pass the limit first: each
+    // iteration evaluates the condition, every other one builds a gate).
+    refused_up_front(
+        "qubit a\nfor i in 0..1000000 {\n    if i % 2 == 0 { h a }\n}\n",
+        10000,
+        "this loop would run at least 10003 steps",
+        "2:1",
+    );
+    // Within the limit, the walk counts exactly and the circuit loads.
+    let (code, _, err) = slant(
+        &["check", "-", "--max-items", "20000"],
+        Some("qubit a\nfor i in 0..100 {\n    for j in 0..i { h a }\n}\n"),
+    );
+    assert_eq!(code, 0, "{err}");
+}
+
+#[test]
+fn default_limit_refuses_memory_bombs_at_once() {
+    // Each of these once loaded (using 0.8 to 8 GB) or was refused only after tens of
+    // seconds. Under the default limit they are refused before anything is built.
+    for (text, location) in [
+        ("qubit a\nfor i in 0..19000000 { h a }\n", "2:1"),
+        (
+            "qubit q[0..10000]\nfor i in 0..20000 { h q[0..10000] }\n",
+            "2:1",
+        ),
+        (
+            "qubit a\nfor k in 0..2000 { measure z a -> m[k] }\n\
+             for i in 0..100000 { detector = m[0..2000] }\n",
+            "3:1",
+        ),
+        (
+            "qubit a\nfor i in 0..7000 {\n    for j in 0..i { h a }\n}\n",
+            "2:1",
+        ),
+    ] {
+        let start = std::time::Instant::now();
+        let (code, _, err) = slant(&["check", "-"], Some(text));
+        assert_eq!(code, 1, "{err}");
+        assert!(err.contains("past the limit of 20000000"), "{err}");
+        assert!(err.contains(&format!("--> -:{location}\n")), "{err}");
+        // Not a timing test: a generous bound that only a runaway expansion would miss.
+        assert!(start.elapsed().as_secs() < 20, "{text}");
+    }
 }
 
 #[test]

@@ -14,7 +14,9 @@ pub struct CircuitArgs {
     /// Override a parameter, e.g. `--set distance=5` (repeatable).
     #[arg(long = "set", value_name = "NAME=INT", value_parser = parse_setting)]
     pub set: Vec<(String, i64)>,
-    /// Refuse circuits that expand to more items (qubits, operations, results, detectors).
+    /// Refuse circuits that expand to more items, or whose loops take more steps. Items are
+    /// weighted by memory: a qubit 4, an operation 2 plus 1 per target, a result 2, a detector
+    /// or observable 3 plus 1 per term, a layer, coordinate or role 1.
     #[arg(long, value_name = "N", default_value_t = crate::ir::expand::Limits::default().max_items)]
     pub max_items: u64,
 }

@@ -363,6 +363,12 @@ impl GenSpec {
     fn resolve(&self) -> Result<Resolved, GenError> {
         let err = |m: String| Err(GenError(m));
         let fam = self.family.name();
+        if self.periodic && self.dx.max(self.dz) > MAX_DISTANCE {
+            return err(format!(
+                "torus sides must be at most {MAX_DISTANCE}, got {} × {} ({TOO_LARGE})",
+                self.dz, self.dx
+            ));
+        }
         for (name, v) in [("dx", self.dx), ("dz", self.dz)] {
             if v > MAX_DISTANCE {
                 let what = if self.family == Family::Repetition || self.dx == self.dz {

@@ -5,15 +5,29 @@
 //! layer touches each qubit at most once (noise excepted), names are declared once, results are
 //! measured before they are used, probabilities lie in `[0, 1]`.
 //!
-//! Size bombs: before expanding, `Expander::estimate` walks the AST multiplying loop trip counts; a
-//! circuit whose estimate passes [`Limits::max_items`] is refused with the loop that causes it,
-//! before any memory is spent. A running count during expansion backs the estimate up.
+//! Size bombs: the guard counts *items*, the things the expanded circuit stores, weighted by
+//! what they cost (see [`cost`]): qubits, layers, operations and each of their targets,
+//! measurement results, detectors and observables and each of their parity terms, coordinates
+//! and roles. It also counts *steps* (statements executed, loop iterations, and expression
+//! terms evaluated, a few to a step), which cost time but no memory, so that
+//! `for i in 0..10^12 {}` is refused too. Both are bounded by [`Limits::max_items`].
+//!
+//! Before expanding, `Expander::estimate` counts both without building anything. The count is
+//! exact, not a guess: a loop whose body's count cannot change with the loop variable (the
+//! variable appears in no loop bound, condition or range inside it) is counted once and
+//! multiplied by its trip count; any other loop is walked iteration by iteration with the
+//! variable set, which costs about as much time per step counted as expanding does, and stops as
+//! soon as the limit is passed. A loop whose count depends on no variable outside it is counted
+//! once however often an enclosing loop is walked. A circuit past the limit is refused at the
+//! loop or statement that passes it, before any memory is spent. The same counts are kept while
+//! expanding, as a backstop.
 //!
 //! Conventions: names of indexed things print as `base[i,j]`; ranges `a..b` are half-open and
 //! expand in row-major order; integer `/` and `%` use Euclidean division so negative indices
 //! behave predictably.
 
 use std::collections::HashMap;
+use std::fmt::Write as _;
 use std::sync::Arc;
 
 use crate::ir::{
@@ -26,16 +40,85 @@ use crate::lang::{Ast, Diagnostic, Source, Span};
 /// Size limits for expansion.
 #[derive(Clone, Debug)]
 pub struct Limits {
-    /// Maximum number of expanded items (qubits, operations, records, detectors).
+    /// Maximum number of expanded items (weighted as in [`cost`]), and of steps.
     pub max_items: u64,
 }
 
 impl Default for Limits {
     fn default() -> Self {
-        // A distance-25, 25-round surface-code memory is about 1e5 items; 2e7 leaves room for
-        // far larger studies while refusing accidental exponents.
+        // With the weights of `cost` (at most ~70 bytes an item), circuits at the limit loaded
+        // and checked in at most 1.4 GB (but see the gap noted there). A distance-25, 25-round
+        // surface-code memory is about 5e5 items.
         Limits {
             max_items: 20_000_000,
+        }
+    }
+}
+
+/// How much each expanded thing counts against [`Limits::max_items`].
+///
+/// The weights follow memory. Loading and checking circuits made of nothing but one kind of
+/// thing (qubits; lone operations; operations in layers; measurements, alone or in layers;
+/// detectors, observables and their terms), one item stood for at most about 70 bytes of peak
+/// memory, all stages together: the expanded circuit, the expander's name tables and the
+/// determinism check's tables. The dearest things are measurements (the result's name is kept
+/// twice, in the record list and in the lookup table) and qubits (likewise).
+///
+/// Not covered: the determinism check keeps, per qubit, the set of detectors an error there
+/// would flip. In circuits where a qubit is measured many times without a reset and many other
+/// qubits are entangled with it first, those sets hold qubits × detectors ids, which no count
+/// of items bounds (1000 qubits fanned into one that is measured 200 000 times took 0.9 GB).
+pub mod cost {
+    /// A qubit.
+    pub const QUBIT: u64 = 4;
+    /// A coordinate of a qubit or detector, or a role of a qubit.
+    pub const COORD: u64 = 1;
+    /// A layer (a `layer` block, or an operation statement outside one).
+    pub const LAYER: u64 = 1;
+    /// An operation.
+    pub const OP: u64 = 2;
+    /// One target qubit of an operation.
+    pub const TARGET: u64 = 1;
+    /// A measurement result, on top of its measurement operation.
+    pub const RECORD: u64 = 2;
+    /// A detector or observable.
+    pub const DETECTOR: u64 = 3;
+    /// A result named in a detector's or observable's parity.
+    pub const TERM: u64 = 1;
+}
+
+/// Items and steps of some part of a circuit.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+struct Tally {
+    items: u64,
+    steps: u64,
+}
+
+impl Tally {
+    const STEP: Tally = Tally { items: 0, steps: 1 };
+
+    fn items(items: u64) -> Tally {
+        Tally { items, steps: 0 }
+    }
+
+    fn plus(self, o: Tally) -> Tally {
+        Tally {
+            items: self.items.saturating_add(o.items),
+            steps: self.steps.saturating_add(o.steps),
+        }
+    }
+
+    fn times(self, n: u64) -> Tally {
+        Tally {
+            items: self.items.saturating_mul(n),
+            steps: self.steps.saturating_mul(n),
+        }
+    }
+
+    fn max(self, o: Tally) -> Tally {
+        Tally {
+            items: self.items.max(o.items),
+            steps: self.steps.max(o.steps),
         }
     }
 }
@@ -72,7 +155,6 @@ impl Value {
 
 struct OpenLayer {
     layer: Layer,
-    used: HashMap<u32, Span>,
 }
 
 struct Expander {
@@ -88,12 +170,27 @@ struct Expander {
     detectors: Vec<Detector>,
     detector_names: HashMap<String, Span>,
     observables: Vec<Observable>,
+    observable_ids: HashMap<String, usize>,
+    /// Per `for` statement (by address), for the up-front count: whether its body's count
+    /// depends on its variable, and the names its count depends on.
+    loop_vars: HashMap<usize, (bool, Vec<String>)>,
+    /// Up-front counts of `for` statements whose count depends on no loop variable outside
+    /// them: each is counted once however often an outer loop is walked.
+    loop_counts: HashMap<usize, Tally>,
     layers: Vec<Layer>,
     open: Option<OpenLayer>,
+    /// Serial number of the open layer (0: none yet).
+    layer_serial: u32,
+    /// Per qubit: the serial of the last layer that used it and where, to refuse a second use
+    /// in one layer without a table per layer.
+    last_use: Vec<(u32, Span)>,
     round: Option<u32>,
     rounds: u32,
-    items: u64,
+    /// Items and steps spent so far.
+    used: Tally,
     max_items: u64,
+    /// Set once the size limit is passed: nothing more is expanded.
+    halted: bool,
     errors: Vec<Diagnostic>,
     /// Results used before being measured: (name, use span). Resolved at the end to tell
     /// "measured later" from "never measured".
@@ -123,12 +220,18 @@ impl Expander {
             detectors: Vec::new(),
             detector_names: HashMap::new(),
             observables: Vec::new(),
+            observable_ids: HashMap::new(),
+            loop_vars: HashMap::new(),
+            loop_counts: HashMap::new(),
             layers: Vec::new(),
             open: None,
+            layer_serial: 0,
+            last_use: Vec::new(),
             round: None,
             rounds: 0,
-            items: 0,
+            used: Tally::default(),
             max_items,
+            halted: false,
             errors: Vec::new(),
             pending: Vec::new(),
             depth_loop: 0,
@@ -156,7 +259,59 @@ impl Expander {
             .map(|(_, v)| *v)
     }
 
+    /// Evaluates an expression.
     fn eval(&self, e: &Expr) -> R<Value> {
+        match self.value(e) {
+            Some(v) => Ok(v),
+            None => self.eval_diagnosed(e),
+        }
+    }
+
+    /// Evaluates an expression, `None` on any error. This is the path nearly every evaluation
+    /// takes, and it is several times faster than building `Result`s that carry diagnostics up
+    /// every level; [`Expander::eval`] goes back for the diagnostic when it fails.
+    fn value(&self, e: &Expr) -> Option<Value> {
+        Some(match &e.kind {
+            ExprKind::Int(v) => Value::Int(*v),
+            ExprKind::Float(v) => Value::Float(*v),
+            ExprKind::Var(name) => Value::Int(self.lookup(name)?),
+            ExprKind::Neg(a) => match self.value(a)? {
+                Value::Int(v) => Value::Int(v.checked_neg()?),
+                Value::Float(v) => Value::Float(-v),
+            },
+            ExprKind::Not(a) => Value::Int(i64::from(!self.truth_value(a)?)),
+            ExprKind::Binary(op, a, b) => {
+                if matches!(op, BinOp::And | BinOp::Or) {
+                    let l = self.truth_value(a)?;
+                    let r = if *op == BinOp::And {
+                        l && self.truth_value(b)?
+                    } else {
+                        l || self.truth_value(b)?
+                    };
+                    return Some(Value::Int(i64::from(r)));
+                }
+                arith(*op, self.value(a)?, self.value(b)?)?
+            }
+        })
+    }
+
+    /// [`Expander::value`] of an integer expression.
+    fn int_value(&self, e: &Expr) -> Option<i64> {
+        match self.value(e)? {
+            Value::Int(v) => Some(v),
+            Value::Float(_) => None,
+        }
+    }
+
+    fn truth_value(&self, e: &Expr) -> Option<bool> {
+        match self.value(e)? {
+            Value::Int(v) => Some(v != 0),
+            Value::Float(_) => None,
+        }
+    }
+
+    /// [`Expander::eval`] for an expression that fails, to say why and where.
+    fn eval_diagnosed(&self, e: &Expr) -> R<Value> {
         Ok(match &e.kind {
             ExprKind::Int(v) => Value::Int(*v),
             ExprKind::Float(v) => Value::Float(*v),
@@ -204,42 +359,19 @@ impl Expander {
     }
 
     fn binary(&self, op: BinOp, l: Value, r: Value, span: Span, rspan: Span) -> R<Value> {
-        let overflow = || self.err(span, "arithmetic overflow");
-        if let (Value::Int(a), Value::Int(b)) = (l, r) {
-            let v = match op {
-                BinOp::Add => a.checked_add(b).ok_or_else(overflow)?,
-                BinOp::Sub => a.checked_sub(b).ok_or_else(overflow)?,
-                BinOp::Mul => a.checked_mul(b).ok_or_else(overflow)?,
-                BinOp::Div | BinOp::Rem if b == 0 => {
-                    return Err(self.err(rspan, "division by zero"))
-                }
-                BinOp::Div => a.checked_div_euclid(b).ok_or_else(overflow)?,
-                BinOp::Rem => a.checked_rem_euclid(b).ok_or_else(overflow)?,
-                BinOp::Eq => i64::from(a == b),
-                BinOp::Ne => i64::from(a != b),
-                BinOp::Lt => i64::from(a < b),
-                BinOp::Le => i64::from(a <= b),
-                BinOp::Gt => i64::from(a > b),
-                BinOp::Ge => i64::from(a >= b),
-                BinOp::And | BinOp::Or => unreachable_logic(),
+        arith(op, l, r).ok_or_else(|| {
+            let both_int = matches!((l, r), (Value::Int(_), Value::Int(_)));
+            let zero = match r {
+                Value::Int(b) => b == 0,
+                Value::Float(b) => b == 0.0,
             };
-            return Ok(Value::Int(v));
-        }
-        let (a, b) = (l.as_f64(), r.as_f64());
-        Ok(match op {
-            BinOp::Add => Value::Float(a + b),
-            BinOp::Sub => Value::Float(a - b),
-            BinOp::Mul => Value::Float(a * b),
-            BinOp::Div if b == 0.0 => return Err(self.err(rspan, "division by zero")),
-            BinOp::Div => Value::Float(a / b),
-            BinOp::Rem => return Err(self.err(span, "`%` needs integers")),
-            BinOp::Eq => Value::Int(i64::from(a == b)),
-            BinOp::Ne => Value::Int(i64::from(a != b)),
-            BinOp::Lt => Value::Int(i64::from(a < b)),
-            BinOp::Le => Value::Int(i64::from(a <= b)),
-            BinOp::Gt => Value::Int(i64::from(a > b)),
-            BinOp::Ge => Value::Int(i64::from(a >= b)),
-            BinOp::And | BinOp::Or => Value::Int(unreachable_logic()),
+            if zero && (op == BinOp::Div || (op == BinOp::Rem && both_int)) {
+                self.err(rspan, "division by zero")
+            } else if op == BinOp::Rem && !both_int {
+                self.err(span, "`%` needs integers")
+            } else {
+                self.err(span, "arithmetic overflow")
+            }
         })
     }
 
@@ -266,43 +398,108 @@ impl Expander {
 
     // ---- names ------------------------------------------------------------------------------
 
-    /// Expands a reference into display names, ranges in row-major order.
-    fn names(&self, r: &Ref) -> R<Vec<String>> {
-        let mut lists: Vec<Vec<i64>> = Vec::new();
+    /// Calls `f` with the display name of every item a reference names, ranges in row-major
+    /// order. The names are written one at a time into a single buffer: a reference to a
+    /// million qubits costs no million strings.
+    fn each_name(&self, r: &Ref, mut f: impl FnMut(&str) -> R<()>) -> R<()> {
+        // (first value, number of values) of each index position.
+        let mut dims: Vec<(i64, u64)> = Vec::with_capacity(r.index.len());
+        let mut total: u64 = 1;
         for ix in &r.index {
-            match ix {
-                Index::Single(e) => lists.push(vec![self.int(e)?]),
+            let dim = match ix {
+                Index::Single(e) => (self.int(e)?, 1),
                 Index::Range(a, b) => {
                     let (a, b) = (self.int(a)?, self.int(b)?);
-                    if b - a > self.max_items as i64 {
+                    let len = (i128::from(b) - i128::from(a)).max(0) as u64;
+                    if len > self.max_items {
                         return Err(self.err(
                             r.span,
                             format!("range `{a}..{b}` is larger than the size limit"),
                         ));
                     }
-                    lists.push((a..b).collect());
+                    (a, len)
                 }
-            }
+            };
+            total = total.saturating_mul(dim.1);
+            dims.push(dim);
+        }
+        if total > self.max_items {
+            return Err(self.err(
+                r.span,
+                format!(
+                    "`{}` names {total} items, more than the size limit",
+                    r.name.name
+                ),
+            ));
         }
         let base = &r.name.name;
-        if lists.is_empty() {
-            return Ok(vec![base.clone()]);
+        if dims.is_empty() {
+            return f(base);
         }
-        let mut out = vec![String::new()];
-        for (k, list) in lists.iter().enumerate() {
-            let mut next = Vec::with_capacity(out.len() * list.len());
-            for prefix in &out {
-                for v in list {
-                    next.push(if k == 0 {
-                        format!("{v}")
-                    } else {
-                        format!("{prefix},{v}")
-                    });
+        if total == 0 {
+            return Ok(());
+        }
+        let mut offsets = vec![0u64; dims.len()];
+        let mut buf = String::with_capacity(base.len() + 12 * dims.len());
+        loop {
+            buf.clear();
+            buf.push_str(base);
+            buf.push('[');
+            for (k, (&(start, _), &off)) in dims.iter().zip(&offsets).enumerate() {
+                if k > 0 {
+                    buf.push(',');
                 }
+                // `off < len <= end - start`, so the sum is a value of the range.
+                let _ = write!(buf, "{}", start.wrapping_add(off as i64));
             }
-            out = next;
+            buf.push(']');
+            f(&buf)?;
+            // Advance the last index position first (row-major order).
+            let mut k = dims.len();
+            loop {
+                if k == 0 {
+                    return Ok(());
+                }
+                k -= 1;
+                offsets[k] += 1;
+                if offsets[k] < dims[k].1 {
+                    break;
+                }
+                offsets[k] = 0;
+            }
         }
-        Ok(out.into_iter().map(|s| format!("{base}[{s}]")).collect())
+    }
+
+    /// The display names of every item a reference names, ranges in row-major order.
+    fn names(&self, r: &Ref) -> R<Vec<String>> {
+        let mut out = Vec::new();
+        self.each_name(r, |n| {
+            out.push(n.to_string());
+            Ok(())
+        })?;
+        Ok(out)
+    }
+
+    /// How many results a parity names, repeats included.
+    fn term_count(&self, parity: &[Ref]) -> u64 {
+        parity
+            .iter()
+            .fold(0u64, |n, r| n.saturating_add(self.name_count(r)))
+    }
+
+    /// How many names a reference expands to, without expanding it (0 if an index cannot be
+    /// evaluated: expansion reports that).
+    fn name_count(&self, r: &Ref) -> u64 {
+        let mut n: u64 = 1;
+        for ix in &r.index {
+            if let Index::Range(a, b) = ix {
+                let (Some(a), Some(b)) = (self.int_value(a), self.int_value(b)) else {
+                    return 0;
+                };
+                n = n.saturating_mul((i128::from(b) - i128::from(a)).max(0) as u64);
+            }
+        }
+        n
     }
 
     fn single_name(&self, r: &Ref, what: &str) -> R<String> {
@@ -317,14 +514,14 @@ impl Expander {
     }
 
     fn qubits_of(&self, r: &Ref) -> R<Vec<u32>> {
-        let names = self.names(r)?;
-        let mut out = Vec::with_capacity(names.len());
-        for n in names {
-            match self.qubit_ids.get(&n) {
-                Some(&q) => out.push(q),
-                None => return Err(self.undefined_qubit(r, &n)),
+        let mut out = Vec::new();
+        self.each_name(r, |n| match self.qubit_ids.get(n) {
+            Some(&q) => {
+                out.push(q);
+                Ok(())
             }
-        }
+            None => Err(self.undefined_qubit(r, n)),
+        })?;
         Ok(out)
     }
 
@@ -354,40 +551,51 @@ impl Expander {
     }
 
     fn records_of(&mut self, r: &Ref) -> R<Vec<Option<u32>>> {
-        let names = self.names(r)?;
-        Ok(names
-            .into_iter()
-            .map(|n| match self.record_ids.get(&n) {
-                Some(&id) => Some(id),
-                None => {
-                    self.pending.push((n, r.span));
-                    None
-                }
-            })
-            .collect())
+        let mut out = Vec::new();
+        let mut pending = Vec::new();
+        self.each_name(r, |n| {
+            let id = self.record_ids.get(n).copied();
+            if id.is_none() {
+                pending.push((n.to_string(), r.span));
+            }
+            out.push(id);
+            Ok(())
+        })?;
+        self.pending.extend(pending);
+        Ok(out)
     }
 
     // ---- layers -----------------------------------------------------------------------------
 
-    fn count(&mut self, n: u64, span: Span) -> R<()> {
-        self.items += n;
-        if self.items > self.max_items {
-            return Err(self
-                .err(
-                    span,
-                    format!(
-                        "the circuit expands past the size limit of {} items",
-                        self.max_items
-                    ),
-                )
-                .with_hint("shrink the parameters, or raise the limit with `--max-items`"));
-        }
-        Ok(())
+    /// Spends `t` of the budget; past the limit, refuses at `span` and halts the expansion.
+    fn spend(&mut self, t: Tally, span: Span) -> R<()> {
+        self.used = self.used.plus(t);
+        let what = if self.used.items > self.max_items {
+            format!(
+                "the circuit expands past the size limit of {} items",
+                self.max_items
+            )
+        } else if self.used.steps > self.max_items {
+            format!(
+                "the circuit runs past the limit of {} steps (statements, loop iterations and \
+                 expression terms)",
+                self.max_items
+            )
+        } else {
+            return Ok(());
+        };
+        self.halted = true;
+        Err(self
+            .err(span, what)
+            .with_hint("shrink the parameters, or raise the limit with `--max-items`"))
     }
 
     /// Adds an op to the open layer, or to a layer of its own outside `layer` blocks.
     fn push_op(&mut self, op: Op, target_spans: &[Span]) -> R<()> {
-        self.count(1, op.span)?;
+        self.spend(
+            Tally::items(cost::OP + cost::TARGET * op.targets.len() as u64),
+            op.span,
+        )?;
         let exclusive = !matches!(op.kind, OpKind::Noise(_));
         let Some(open) = self.open.as_mut() else {
             return Err(Diagnostic::error(
@@ -398,35 +606,45 @@ impl Expander {
         };
         let mut result = Ok(());
         if exclusive {
+            if self.last_use.len() < self.qubits.len() {
+                self.last_use
+                    .resize(self.qubits.len(), (0, Span::default()));
+            }
             for (k, &q) in op.targets.iter().enumerate() {
                 let span = target_spans.get(k).copied().unwrap_or(op.span);
-                if let Some(&first) = open.used.get(&q) {
+                let slot = &mut self.last_use[q as usize];
+                if slot.0 == self.layer_serial {
                     let name = &self.qubits[q as usize].name;
                     result = Err(Diagnostic::error(&self.src, span, format!("qubit `{name}` is used twice in one layer"))
-                        .with_label(&self.src, first, "first used here")
+                        .with_label(&self.src, slot.1, "first used here")
                         .with_hint("operations in one layer act on disjoint qubits; move one into the next `layer`"));
                     break;
                 }
-                open.used.insert(q, span);
+                *slot = (self.layer_serial, span);
             }
         }
         open.layer.ops.push(op);
         result
     }
 
-    fn open_layer(&mut self, span: Span) {
+    fn open_layer(&mut self, span: Span) -> R<()> {
+        self.spend(Tally::items(cost::LAYER), span)?;
+        self.layer_serial += 1;
         self.open = Some(OpenLayer {
             layer: Layer {
                 ops: Vec::new(),
                 round: self.round,
                 span,
             },
-            used: HashMap::new(),
         });
+        Ok(())
     }
 
     fn close_layer(&mut self) {
-        if let Some(open) = self.open.take() {
+        if let Some(mut open) = self.open.take() {
+            // Most layers are built by pushing ops one at a time; without this a lone operation
+            // would keep room for four.
+            open.layer.ops.shrink_to_fit();
             self.layers.push(open.layer);
         }
     }
@@ -435,10 +653,13 @@ impl Expander {
 
     fn block(&mut self, stmts: &[Stmt]) {
         for st in stmts {
-            if self.errors.len() >= MAX_ERRORS {
+            if self.errors.len() >= MAX_ERRORS || self.halted {
                 return;
             }
-            if let Err(d) = self.stmt(st) {
+            let result = self
+                .spend(stmt_steps(st), st.span)
+                .and_then(|()| self.stmt(st));
+            if let Err(d) = result {
                 self.report(d);
             }
         }
@@ -454,7 +675,7 @@ impl Expander {
         );
         if is_op && self.open.is_none() {
             // A lone operation statement outside `layer { }` is a layer of its own.
-            self.open_layer(st.span);
+            self.open_layer(st.span)?;
             let result = self.stmt_inner(st);
             self.close_layer();
             return result;
@@ -471,6 +692,13 @@ impl Expander {
                 coords,
                 roles,
             } => {
+                // Paid for before the names are built, so a huge range is refused first.
+                let per_qubit = cost::QUBIT
+                    + cost::COORD * (coords.as_ref().map_or(0, Vec::len) + roles.len()) as u64;
+                self.spend(
+                    Tally::items(self.name_count(target).saturating_mul(per_qubit)),
+                    st.span,
+                )?;
                 let names = self.names(target)?;
                 if names.len() != 1 && coords.is_some() {
                     return Err(self
@@ -492,7 +720,6 @@ impl Expander {
                             .err(target.span, format!("qubit `{name}` is declared twice"))
                             .with_label(&self.src, first, "first declared here"));
                     }
-                    self.count(1, st.span)?;
                     let id = self.qubits.len() as u32;
                     self.qubit_ids.insert(name.clone(), id);
                     self.qubit_bases
@@ -511,7 +738,7 @@ impl Expander {
                 if self.open.is_some() {
                     return Err(self.err(st.span, "a `layer` cannot contain another `layer`"));
                 }
-                self.open_layer(st.span);
+                self.open_layer(st.span)?;
                 self.block(body);
                 self.close_layer();
             }
@@ -559,6 +786,10 @@ impl Expander {
                 self.depth_loop += 1;
                 let mut v = a;
                 while v < b {
+                    if let Err(d) = self.spend(Tally::STEP, st.span) {
+                        self.depth_loop -= 1;
+                        return Err(d);
+                    }
                     self.vars.push((var.name.clone(), v));
                     let before = self.errors.len();
                     self.block(body);
@@ -620,6 +851,15 @@ impl Expander {
                 coords,
                 parity,
             } => {
+                let terms = self.term_count(parity);
+                self.spend(
+                    Tally::items(
+                        cost::DETECTOR
+                            + cost::COORD * coords.as_ref().map_or(0, Vec::len) as u64
+                            + cost::TERM.saturating_mul(terms),
+                    ),
+                    st.span,
+                )?;
                 let records = self.parity(parity)?;
                 let name = match name {
                     Some(r) => {
@@ -641,7 +881,6 @@ impl Expander {
                         .collect::<R<Vec<_>>>()?,
                     None => Vec::new(),
                 };
-                self.count(1, st.span)?;
                 if let Some(records) = records {
                     self.detectors.push(Detector {
                         name,
@@ -657,8 +896,16 @@ impl Expander {
                 parity,
             } => {
                 let n = self.single_name(name, "an observable name")?;
-                let records = self.parity(parity)?;
-                let existing = self.observables.iter().position(|o| o.name == n);
+                let terms = self.term_count(parity);
+                let own = if *extend { 0 } else { cost::DETECTOR };
+                self.spend(
+                    Tally::items(own + cost::TERM.saturating_mul(terms)),
+                    st.span,
+                )?;
+                // Kept unsorted with repeats until `finish`: merging sorted lists at every `^=`
+                // would cost time quadratic in the number of extensions.
+                let records = self.parity_terms(parity)?;
+                let existing = self.observable_ids.get(&n).copied();
                 match (existing, extend) {
                     (Some(k), false) => {
                         return Err(self
@@ -678,12 +925,12 @@ impl Expander {
                     }
                     (Some(k), true) => {
                         if let Some(records) = records {
-                            let merged = xor_sorted(&self.observables[k].records, &records);
-                            self.observables[k].records = merged;
+                            self.observables[k].records.extend(records);
                         }
                     }
                     (None, false) => {
-                        self.count(1, st.span)?;
+                        self.observable_ids
+                            .insert(n.clone(), self.observables.len());
                         self.observables.push(Observable {
                             name: n,
                             records: records.unwrap_or_default(),
@@ -789,6 +1036,10 @@ impl Expander {
             .iter()
             .map(|(_, r)| self.qubits_of(r))
             .collect::<R<Vec<_>>>()?;
+        self.spend(
+            Tally::items(self.name_count(&o.result).saturating_mul(cost::RECORD)),
+            st.span,
+        )?;
         let results = self.names(&o.result)?;
         let len = results.len();
         if lists.iter().any(|l| l.len() != len) {
@@ -986,6 +1237,12 @@ impl Expander {
     /// Resolves a parity to sorted record indices (repeats cancel). `None` if some result is not
     /// measured yet (reported at the end, once it is known whether it is measured later).
     fn parity(&mut self, refs: &[Ref]) -> R<Option<Vec<u32>>> {
+        Ok(self.parity_terms(refs)?.map(cancel_pairs))
+    }
+
+    /// The record indices a parity names, in the order written, repeats kept. `None` as for
+    /// [`Expander::parity`].
+    fn parity_terms(&mut self, refs: &[Ref]) -> R<Option<Vec<u32>>> {
         let mut out = Vec::new();
         let mut complete = true;
         for r in refs {
@@ -996,24 +1253,12 @@ impl Expander {
                 }
             }
         }
-        if !complete {
-            return Ok(None);
-        }
-        out.sort_unstable();
-        let mut dedup: Vec<u32> = Vec::with_capacity(out.len());
-        for id in out {
-            if dedup.last() == Some(&id) {
-                dedup.pop();
-            } else {
-                dedup.push(id);
-            }
-        }
-        Ok(Some(dedup))
+        Ok(complete.then_some(out))
     }
 
     // ---- size estimate ----------------------------------------------------------------------
 
-    fn check_estimate(&mut self, stmts: &[Stmt]) -> R<()> {
+    fn check_estimate(&mut self, stmts: &[Stmt]) -> R<Tally> {
         // Parameters are needed for loop bounds: evaluate them here in a scratch copy.
         let mut params = Vec::new();
         for st in stmts {
@@ -1033,70 +1278,212 @@ impl Expander {
             }
         }
         let saved = std::mem::replace(&mut self.params, params);
-        let result = self.estimate(stmts).map(|_| ());
+        let result = self.estimate(stmts, false, true);
         self.params = saved;
         result
     }
 
-    /// Estimated number of expanded items, refusing at the loop that passes the limit.
-    fn estimate(&mut self, stmts: &[Stmt]) -> R<u64> {
-        let mut total: u64 = 0;
+    /// The refusal for a count `t` past the limit, if it is. `what` says what `t` counts:
+    /// "this loop", "this statement" or "the circuit" (everything up to `span`); `partial`, that
+    /// counting stopped early, so `t` is a lower bound.
+    fn past_limit(&self, t: Tally, span: Span, what: &str, partial: bool) -> Option<Diagnostic> {
+        let max = self.max_items;
+        let about = if partial { "at least" } else { "about" };
+        let msg = if t.items > max {
+            format!(
+                "{what} would expand to {about} {} items, past the limit of {max}",
+                t.items
+            )
+        } else if t.steps > max {
+            format!(
+                "{what} would run {about} {} steps (statements, loop iterations and expression \
+                 terms), past the limit of {max}",
+                t.steps
+            )
+        } else {
+            return None;
+        };
+        let hint = if what == "this loop" {
+            "shrink the loop bounds or parameters, or raise the limit with `--max-items`"
+        } else {
+            "shrink the ranges or parameters, or raise the limit with `--max-items`"
+        };
+        Some(self.err(span, msg).with_hint(hint))
+    }
+
+    /// Counts the items and steps `block` will spend on `stmts` (see the module docs), refusing
+    /// at the loop or statement that passes the limit, or at the top-level statement where the
+    /// circuit's running total does (`top`). `in_layer`: inside a `layer` block, where
+    /// operations do not open layers of their own.
+    fn estimate(&mut self, stmts: &[Stmt], in_layer: bool, top: bool) -> R<Tally> {
+        let mut total = Tally::default();
         for st in stmts {
-            let n = match &st.kind {
-                StmtKind::For {
-                    var,
-                    start,
-                    end,
-                    step,
-                    body,
-                } => {
-                    let (Ok(a), Ok(b)) = (self.int(start), self.int(end)) else {
-                        continue;
-                    };
-                    let s = step
-                        .as_ref()
-                        .and_then(|e| self.int(e).ok())
-                        .unwrap_or(1)
-                        .max(1);
-                    let trips = if b > a {
-                        ((b as i128 - a as i128 + s as i128 - 1) / s as i128) as u64
-                    } else {
-                        0
-                    };
-                    if trips == 0 {
-                        continue;
-                    }
-                    self.vars.push((var.name.clone(), a));
-                    let inner = self.estimate(body);
-                    self.vars.pop();
-                    let n = trips.saturating_mul(inner?.max(1));
-                    if n > self.max_items {
-                        return Err(self
-                            .err(st.span, format!("this loop would expand to about {n} items, past the limit of {}", self.max_items))
-                            .with_hint("shrink the loop bounds or parameters, or raise the limit with `--max-items`"));
-                    }
-                    n
-                }
-                StmtKind::If {
-                    then, otherwise, ..
-                } => self.estimate(then)?.max(self.estimate(otherwise)?),
-                StmtKind::Layer(b) | StmtKind::Round(b) => self.estimate(b)?,
-                _ => 1,
+            let t = self.estimate_stmt(st, in_layer)?.plus(stmt_steps(st));
+            let what = if matches!(st.kind, StmtKind::For { .. }) {
+                "this loop"
+            } else {
+                "this statement"
             };
-            total = total.saturating_add(n);
-            if total > self.max_items {
-                return Err(self
-                    .err(
-                        st.span,
-                        format!(
-                            "the circuit would expand to about {total} items, past the limit of {}",
-                            self.max_items
-                        ),
-                    )
-                    .with_hint("raise the limit with `--max-items`"));
+            if let Some(d) = self.past_limit(t, st.span, what, false) {
+                return Err(d);
+            }
+            total = total.plus(t);
+            if top {
+                if let Some(d) = self.past_limit(total, st.span, "the circuit", false) {
+                    return Err(d);
+                }
             }
         }
         Ok(total)
+    }
+
+    fn estimate_stmt(&mut self, st: &Stmt, in_layer: bool) -> R<Tally> {
+        let n = |x: &Expander, r: &Ref| x.name_count(r);
+        // An operation statement outside `layer { }` opens a layer of its own.
+        let lone = if in_layer { 0 } else { cost::LAYER };
+        let items = match &st.kind {
+            StmtKind::Blank | StmtKind::Comment(_) | StmtKind::Param { .. } => 0,
+            StmtKind::Qubit {
+                target,
+                coords,
+                roles,
+            } => {
+                let per_qubit = cost::QUBIT
+                    + cost::COORD * (coords.as_ref().map_or(0, Vec::len) + roles.len()) as u64;
+                n(self, target).saturating_mul(per_qubit)
+            }
+            StmtKind::Layer(body) => {
+                return Ok(Tally::items(cost::LAYER).plus(self.estimate(body, true, false)?))
+            }
+            StmtKind::Round(body) => return self.estimate(body, in_layer, false),
+            StmtKind::If {
+                cond,
+                then,
+                otherwise,
+            } => {
+                return match self.truth_value(cond) {
+                    Some(true) => self.estimate(then, in_layer, false),
+                    Some(false) => self.estimate(otherwise, in_layer, false),
+                    // Expansion reports the condition; either branch is a safe count till then.
+                    None => Ok(self
+                        .estimate(then, in_layer, false)?
+                        .max(self.estimate(otherwise, in_layer, false)?)),
+                };
+            }
+            StmtKind::For {
+                var,
+                start,
+                end,
+                step,
+                body,
+            } => {
+                let key = st as *const Stmt as usize;
+                if let Some(&t) = self.loop_counts.get(&key) {
+                    return Ok(t);
+                }
+                let (walk, vars) = self.loop_vars.entry(key).or_insert_with(|| {
+                    let mut free = Vec::new();
+                    count_vars(std::slice::from_ref(st), &mut Vec::new(), &mut free);
+                    (counts_depend_on(body, &var.name), free)
+                });
+                let walk = *walk;
+                let closed = !vars.iter().any(|n| self.vars.iter().any(|(v, _)| v == n));
+                let t =
+                    self.estimate_loop(st, var, (start, end, step.as_ref()), body, walk, in_layer)?;
+                if closed {
+                    self.loop_counts.insert(key, t);
+                }
+                return Ok(t);
+            }
+            StmtKind::Gate { groups, .. } => groups.iter().fold(lone, |acc, g| {
+                let targets = g.iter().fold(0u64, |t, r| t.saturating_add(n(self, r)));
+                acc.saturating_add(cost::OP)
+                    .saturating_add(cost::TARGET.saturating_mul(targets))
+            }),
+            StmtKind::Reset { targets, .. } => targets.iter().fold(lone, |acc, r| {
+                acc.saturating_add(cost::OP)
+                    .saturating_add(cost::TARGET.saturating_mul(n(self, r)))
+            }),
+            StmtKind::Measure { outcomes, .. } => outcomes.iter().fold(lone, |acc, o| {
+                let per_result = cost::OP + cost::RECORD + cost::TARGET * o.product.len() as u64;
+                acc.saturating_add(n(self, &o.result).saturating_mul(per_result))
+            }),
+            StmtKind::Noise { targets, .. } => {
+                let count = match targets {
+                    NoiseTargets::Groups(groups) => groups
+                        .iter()
+                        .flatten()
+                        .fold(0u64, |t, r| t.saturating_add(n(self, r))),
+                    NoiseTargets::Product(product) => product.len() as u64,
+                };
+                lone.saturating_add(cost::OP)
+                    .saturating_add(cost::TARGET.saturating_mul(count))
+            }
+            StmtKind::Detector { coords, parity, .. } => (cost::DETECTOR
+                + cost::COORD * coords.as_ref().map_or(0, Vec::len) as u64)
+                .saturating_add(cost::TERM.saturating_mul(self.term_count(parity))),
+            StmtKind::Observable { extend, parity, .. } => {
+                let own = if *extend { 0 } else { cost::DETECTOR };
+                own.saturating_add(cost::TERM.saturating_mul(self.term_count(parity)))
+            }
+        };
+        Ok(Tally::items(items))
+    }
+
+    /// Counts a `for` loop: once, times the trip count, when the loop variable cannot change
+    /// what the body counts; otherwise (`walk`) iteration by iteration, stopping at the limit.
+    fn estimate_loop(
+        &mut self,
+        st: &Stmt,
+        var: &crate::lang::ast::Ident,
+        (start, end, step): (&Expr, &Expr, Option<&Expr>),
+        body: &[Stmt],
+        walk: bool,
+        in_layer: bool,
+    ) -> R<Tally> {
+        // Bounds that do not evaluate are reported by the expansion, which then stops.
+        let (Some(a), Some(b)) = (self.int_value(start), self.int_value(end)) else {
+            return Ok(Tally::default());
+        };
+        let s = match step.map(|e| self.int_value(e)) {
+            None => 1,
+            Some(Some(s)) if s > 0 => s,
+            Some(_) => return Ok(Tally::default()),
+        };
+        if b <= a {
+            return Ok(Tally::default());
+        }
+        let trips = ((i128::from(b) - i128::from(a) + i128::from(s) - 1) / i128::from(s)) as u64;
+        self.vars.push((var.name.clone(), a));
+        let result = if walk {
+            let mut total = Tally::default();
+            let mut v = a;
+            loop {
+                if let Some(slot) = self.vars.last_mut() {
+                    slot.1 = v;
+                }
+                match self.estimate(body, in_layer, false) {
+                    Ok(t) => total = total.plus(t).plus(Tally::STEP),
+                    Err(d) => break Err(d),
+                }
+                if let Some(d) = self.past_limit(total, st.span, "this loop", true) {
+                    break Err(d);
+                }
+                match v.checked_add(s) {
+                    Some(next) if next < b => v = next,
+                    _ => break Ok(total),
+                }
+            }
+        } else {
+            self.estimate(body, in_layer, false)
+                .map(|t| t.plus(Tally::STEP).times(trips))
+        };
+        self.vars.pop();
+        let total = result?;
+        match self.past_limit(total, st.span, "this loop", false) {
+            Some(d) => Err(d),
+            None => Ok(total),
+        }
     }
 
     // ---- the end ----------------------------------------------------------------------------
@@ -1172,6 +1559,9 @@ impl Expander {
         if !self.errors.is_empty() {
             return Err(self.errors);
         }
+        for o in &mut self.observables {
+            o.records = cancel_pairs(std::mem::take(&mut o.records));
+        }
         Ok(Circuit {
             source: self.src,
             params: self.params,
@@ -1185,13 +1575,394 @@ impl Expander {
     }
 }
 
+/// The steps one execution of a statement costs: one, plus one per [`NODES_PER_STEP`] nodes
+/// (numbers, names and operators) of the expressions written in it, not in the blocks it
+/// contains. So a long expression evaluated in a hot loop counts for the time it takes.
+fn stmt_steps(st: &Stmt) -> Tally {
+    let mut nodes: u64 = 0;
+    let mut e = |x: &Expr| nodes += expr_nodes(x);
+    let r = |x: &Ref, e: &mut dyn FnMut(&Expr)| {
+        for ix in &x.index {
+            match ix {
+                Index::Single(a) => e(a),
+                Index::Range(a, b) => {
+                    e(a);
+                    e(b);
+                }
+            }
+        }
+    };
+    match &st.kind {
+        StmtKind::Blank | StmtKind::Comment(_) | StmtKind::Layer(_) | StmtKind::Round(_) => {}
+        StmtKind::Param { value, .. } => e(value),
+        StmtKind::For {
+            start, end, step, ..
+        } => {
+            e(start);
+            e(end);
+            if let Some(s) = step {
+                e(s);
+            }
+        }
+        StmtKind::If { cond, .. } => e(cond),
+        StmtKind::Qubit { target, coords, .. } => {
+            r(target, &mut e);
+            coords.iter().flatten().for_each(&mut e);
+        }
+        StmtKind::Gate { groups, .. } => groups.iter().flatten().for_each(|x| r(x, &mut e)),
+        StmtKind::Reset { targets, .. } => targets.iter().for_each(|x| r(x, &mut e)),
+        StmtKind::Measure { outcomes, flip } => {
+            for o in outcomes {
+                r(&o.result, &mut e);
+                o.product.iter().for_each(|(_, x)| r(x, &mut e));
+            }
+            if let Some(f) = flip {
+                e(f);
+            }
+        }
+        StmtKind::Noise { args, targets, .. } => {
+            args.iter().for_each(|(_, a)| e(a));
+            match targets {
+                NoiseTargets::Groups(groups) => groups.iter().flatten().for_each(|x| r(x, &mut e)),
+                NoiseTargets::Product(product) => product.iter().for_each(|(_, x)| r(x, &mut e)),
+            }
+        }
+        StmtKind::Detector {
+            name,
+            coords,
+            parity,
+        } => {
+            if let Some(n) = name {
+                r(n, &mut e);
+            }
+            coords.iter().flatten().for_each(&mut e);
+            parity.iter().for_each(|x| r(x, &mut e));
+        }
+        StmtKind::Observable { name, parity, .. } => {
+            r(name, &mut e);
+            parity.iter().for_each(|x| r(x, &mut e));
+        }
+    }
+    Tally {
+        items: 0,
+        steps: 1 + nodes / NODES_PER_STEP,
+    }
+}
+
+/// Expression nodes that cost as much time as a step: evaluating one takes a fraction of the
+/// time a statement or loop iteration does, and typical statements (a condition on the loop
+/// variables, a couple of indices) have a few of them.
+const NODES_PER_STEP: u64 = 4;
+
+/// Number of nodes of an expression.
+fn expr_nodes(e: &Expr) -> u64 {
+    let mut n = 0;
+    let mut stack = vec![e];
+    while let Some(e) = stack.pop() {
+        n += 1;
+        match &e.kind {
+            ExprKind::Var(_) | ExprKind::Int(_) | ExprKind::Float(_) => {}
+            ExprKind::Neg(a) | ExprKind::Not(a) => stack.push(a),
+            ExprKind::Binary(_, a, b) => {
+                stack.push(a);
+                stack.push(b);
+            }
+        }
+    }
+    n
+}
+
+/// Whether what `stmts` count (see `Expander::estimate`) can depend on the variable `name`.
+fn counts_depend_on(stmts: &[Stmt], name: &str) -> bool {
+    let mut free = Vec::new();
+    count_vars(stmts, &mut Vec::new(), &mut free);
+    free.iter().any(|n| n == name)
+}
+
+/// Collects into `free` the names that what `stmts` count can depend on: those in loop bounds
+/// and steps, conditions and ranges of references, less those bound by loops inside (`bound`
+/// holds the loop variables in scope). Index values, coordinates and probabilities change what
+/// is built, not how much.
+fn count_vars(stmts: &[Stmt], bound: &mut Vec<String>, free: &mut Vec<String>) {
+    fn expr(e: &Expr, bound: &[String], free: &mut Vec<String>) {
+        // An explicit stack: expressions may be a thousand operators long.
+        let mut stack = vec![e];
+        while let Some(e) = stack.pop() {
+            match &e.kind {
+                ExprKind::Var(v) => {
+                    if !bound.contains(v) && !free.contains(v) {
+                        free.push(v.clone());
+                    }
+                }
+                ExprKind::Int(_) | ExprKind::Float(_) => {}
+                ExprKind::Neg(a) | ExprKind::Not(a) => stack.push(a),
+                ExprKind::Binary(_, a, b) => {
+                    stack.push(a);
+                    stack.push(b);
+                }
+            }
+        }
+    }
+    fn range(r: &Ref, bound: &[String], free: &mut Vec<String>) {
+        for ix in &r.index {
+            if let Index::Range(a, b) = ix {
+                expr(a, bound, free);
+                expr(b, bound, free);
+            }
+        }
+    }
+    for st in stmts {
+        match &st.kind {
+            StmtKind::Blank | StmtKind::Comment(_) | StmtKind::Param { .. } => {}
+            StmtKind::For {
+                var,
+                start,
+                end,
+                step,
+                body,
+            } => {
+                expr(start, bound, free);
+                expr(end, bound, free);
+                if let Some(s) = step {
+                    expr(s, bound, free);
+                }
+                bound.push(var.name.clone());
+                count_vars(body, bound, free);
+                bound.pop();
+            }
+            StmtKind::If {
+                cond,
+                then,
+                otherwise,
+            } => {
+                expr(cond, bound, free);
+                count_vars(then, bound, free);
+                count_vars(otherwise, bound, free);
+            }
+            StmtKind::Layer(body) | StmtKind::Round(body) => count_vars(body, bound, free),
+            StmtKind::Qubit { target, .. } => range(target, bound, free),
+            StmtKind::Gate { groups, .. } => {
+                groups.iter().flatten().for_each(|r| range(r, bound, free))
+            }
+            StmtKind::Reset { targets, .. } => targets.iter().for_each(|r| range(r, bound, free)),
+            StmtKind::Measure { outcomes, .. } => {
+                for o in outcomes {
+                    range(&o.result, bound, free);
+                    o.product.iter().for_each(|(_, r)| range(r, bound, free));
+                }
+            }
+            StmtKind::Noise { targets, .. } => match targets {
+                NoiseTargets::Groups(groups) => {
+                    groups.iter().flatten().for_each(|r| range(r, bound, free))
+                }
+                NoiseTargets::Product(product) => {
+                    product.iter().for_each(|(_, r)| range(r, bound, free))
+                }
+            },
+            StmtKind::Detector { parity, .. } | StmtKind::Observable { parity, .. } => {
+                parity.iter().for_each(|r| range(r, bound, free))
+            }
+        }
+    }
+}
+
+/// A binary operation other than `and` / `or` on values; `None` on overflow, division by zero
+/// or `%` of non-integers (integer `/` and `%` are Euclidean).
+fn arith(op: BinOp, l: Value, r: Value) -> Option<Value> {
+    if let (Value::Int(a), Value::Int(b)) = (l, r) {
+        let v = match op {
+            BinOp::Add => a.checked_add(b)?,
+            BinOp::Sub => a.checked_sub(b)?,
+            BinOp::Mul => a.checked_mul(b)?,
+            BinOp::Div => a.checked_div_euclid(b)?,
+            BinOp::Rem => a.checked_rem_euclid(b)?,
+            BinOp::Eq => i64::from(a == b),
+            BinOp::Ne => i64::from(a != b),
+            BinOp::Lt => i64::from(a < b),
+            BinOp::Le => i64::from(a <= b),
+            BinOp::Gt => i64::from(a > b),
+            BinOp::Ge => i64::from(a >= b),
+            BinOp::And | BinOp::Or => unreachable_logic(),
+        };
+        return Some(Value::Int(v));
+    }
+    let (a, b) = (l.as_f64(), r.as_f64());
+    Some(match op {
+        BinOp::Add => Value::Float(a + b),
+        BinOp::Sub => Value::Float(a - b),
+        BinOp::Mul => Value::Float(a * b),
+        BinOp::Div if b == 0.0 => return None,
+        BinOp::Div => Value::Float(a / b),
+        BinOp::Rem => return None,
+        BinOp::Eq => Value::Int(i64::from(a == b)),
+        BinOp::Ne => Value::Int(i64::from(a != b)),
+        BinOp::Lt => Value::Int(i64::from(a < b)),
+        BinOp::Le => Value::Int(i64::from(a <= b)),
+        BinOp::Gt => Value::Int(i64::from(a > b)),
+        BinOp::Ge => Value::Int(i64::from(a >= b)),
+        BinOp::And | BinOp::Or => Value::Int(unreachable_logic()),
+    })
+}
+
 fn unreachable_logic() -> i64 {
     // `and` / `or` are evaluated before `binary` is called; reaching this is a bug, and the
     // conservative answer (false) keeps the program running.
     0
 }
 
-/// XOR of two sorted record lists.
-fn xor_sorted(a: &[u32], b: &[u32]) -> Vec<u32> {
-    crate::ir::sensitivity::xor_sets(a, b)
+/// Sorts record indices and drops those named an even number of times (a parity is their XOR).
+fn cancel_pairs(mut ids: Vec<u32>) -> Vec<u32> {
+    ids.sort_unstable();
+    let mut out: Vec<u32> = Vec::with_capacity(ids.len());
+    for id in ids {
+        if out.last() == Some(&id) {
+            out.pop();
+        } else {
+            out.push(id);
+        }
+    }
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// (up-front count, count spent while expanding) of a circuit under a large limit.
+    fn counts(text: &str) -> (Tally, Tally) {
+        let src = Source::new("t.slant", text);
+        let ast = crate::lang::parse(&src).unwrap_or_else(|d| panic!("{}", d[0].render()));
+        let mut x = Expander::new(src.clone(), &[], u64::MAX / 2);
+        let estimate = x.check_estimate(&ast.stmts).unwrap();
+        x.block(&ast.stmts);
+        let spent = x.used;
+        if let Err(d) = x.finish(&ast.stmts) {
+            panic!("{}\n{text}", d[0].render());
+        }
+        (estimate, spent)
+    }
+
+    #[test]
+    fn up_front_count_is_exact() {
+        // The up-front count promises to be what expansion spends, on every construct: the
+        // generated families exercise loops that depend on their variables and loops that do
+        // not, conditions, layers, products, detectors and observables.
+        let mut texts: Vec<String> = Vec::new();
+        for entry in std::fs::read_dir(concat!(env!("CARGO_MANIFEST_DIR"), "/circuits")).unwrap() {
+            let path = entry.unwrap().path();
+            if path.extension().is_some_and(|e| e == "slant") {
+                texts.push(std::fs::read_to_string(path).unwrap());
+            }
+        }
+        texts.push(
+            "param n = 6\nqubit q[0..n, 0..2] role data, extra\nqubit z at (1, 2, 3)\n\
+             for i in 0..n {\n  for j in 0..i by 2 { layer { h q[j, 0]; cx q[i, 0] q[i, 1] } }\n\
+             }\nfor i in 0..n {\n  if i % 3 == 0 { measure z q[i, 0] -> m[i] } else { \
+             measure x q[i, 1] * x q[i, 0] -> m[i] flip 0.1 }\n}\n\
+             layer { reset z q[0..n, 0]; noise depolarizing p=0.1 q[0..n, 1] }\n\
+             noise correlated p=0.1 x z * z q[0, 0]\n\
+             detector at (1, 2) = m[0..n] ^ m[0..n]\nobservable o = m[1]\nobservable o ^= m[2..4]\n"
+                .into(),
+        );
+        assert!(texts.len() > 10);
+        for text in &texts {
+            let (estimate, spent) = counts(text);
+            assert_eq!(estimate, spent, "{text}");
+            assert!(spent.items > 0 && spent.steps > 0);
+        }
+    }
+
+    #[test]
+    fn fast_evaluation_agrees_with_the_diagnosing_one() {
+        let exprs = [
+            "1 + 2 * 3",
+            "-7 / 2",
+            "-7 % 2",
+            "7 % -2",
+            "n - i * 2",
+            "(i + 1) % 2 == 0 and i > 0 or not n",
+            "0 and 1 / 0",
+            "1 or 1 / 0",
+            "1 / 0",
+            "1 % 0",
+            "1.5 % 2",
+            "1.5 / 0",
+            "2 / 0.0",
+            "9223372036854775807 + 1",
+            "-(-9223372036854775807 - 1)",
+            "(-9223372036854775807 - 1) / -1",
+            "(-9223372036854775807 - 1) % -1",
+            "not 0.5",
+            "1.5 and 1",
+            "0.5 < 1",
+            "unknown + 1",
+            "2.5 * 2 == 5",
+        ];
+        let src = Source::new("t", "");
+        let mut x = Expander::new(src, &[], 100);
+        x.params.push(("n".into(), 5));
+        x.vars.push(("i".into(), 3));
+        for text in exprs {
+            let ast = crate::lang::parse(&Source::new("t", format!("param p = {text}\n")))
+                .unwrap_or_else(|d| panic!("{text}: {}", d[0].render()));
+            let StmtKind::Param { value, .. } = &ast.stmts[0].kind else {
+                panic!("{text}");
+            };
+            assert_eq!(x.value(value), x.eval_diagnosed(value).ok(), "{text}");
+        }
+    }
+
+    #[test]
+    fn running_count_backs_up_the_estimate_and_halts() {
+        // Expanded without the up-front count, as if it had missed: the running count refuses
+        // once, at the statement that passes the limit, and nothing after it is expanded.
+        let text = "qubit a\nfor i in 0..1000 { h a }\nqubit b\n";
+        let src = Source::new("t.slant", text);
+        let ast = crate::lang::parse(&src).unwrap();
+        let mut x = Expander::new(src.clone(), &[], 100);
+        x.block(&ast.stmts);
+        assert_eq!(x.errors.len(), 1);
+        let d = &x.errors[0];
+        assert_eq!(
+            d.message,
+            "the circuit expands past the size limit of 100 items"
+        );
+        assert_eq!(d.location().map(|l| (l.1, l.2)), Some((2, 20)));
+        assert!(x.used.items <= 100 + cost::LAYER + cost::OP + cost::TARGET);
+        assert!(!x.qubit_ids.contains_key("b"));
+        // Steps are counted the same way.
+        let src = Source::new("t.slant", "qubit a\nfor i in 0..1000 { }\n");
+        let ast = crate::lang::parse(&src).unwrap();
+        let mut x = Expander::new(src.clone(), &[], 100);
+        x.block(&ast.stmts);
+        assert!(x.errors[0]
+            .message
+            .contains("runs past the limit of 100 steps"));
+    }
+
+    #[test]
+    fn dependent_loops_are_walked_and_others_multiplied() {
+        let dependent = "qubit a\nfor i in 0..100 {\n  for j in 0..i { h a }\n}\n";
+        // 4950 lone `h a`: a layer, an op and its target each, and a step for the statement and
+        // one for its loop iteration.
+        let (estimate, spent) = counts(dependent);
+        let per = cost::LAYER + cost::OP + cost::TARGET;
+        assert_eq!(estimate.items, cost::QUBIT + 4950 * per);
+        assert_eq!(estimate, spent);
+        assert!(!counts_depend_on(
+            &crate::lang::parse(&Source::new("t", "for j in 0..n { h q[i] }\n"))
+                .unwrap()
+                .stmts,
+            "i"
+        ));
+        for body in [
+            "for j in 0..i { }",
+            "if i > 2 { h a }",
+            "h q[0..i]",
+            "detector = m[i..3]",
+        ] {
+            let ast = crate::lang::parse(&Source::new("t", format!("{body}\n"))).unwrap();
+            assert!(counts_depend_on(&ast.stmts, "i"), "{body}");
+        }
+    }
 }
