@@ -21,6 +21,16 @@ fn model(text: &str) -> Result<NoiseModel, slant::lang::Diagnostic> {
     NoiseModel::parse(&Source::new("m.toml", text))
 }
 
+/// Each model text must be refused with a message containing the given words at line:col.
+fn assert_refused(cases: &[(&str, &str, usize, usize)]) {
+    for &(text, msg, line, col) in cases {
+        let d = model(text).expect_err(text);
+        assert!(d.message.contains(msg), "{text}: {}", d.message);
+        let (_, l, c) = d.location().unwrap();
+        assert_eq!((l, c), (line, col), "{text}: {}", d.message);
+    }
+}
+
 fn idx(name: &str) -> usize {
     Pauli::pair_index(name).unwrap()
 }
@@ -370,12 +380,7 @@ fn bad_models_are_located() {
         ("[gates.h]\nduration = 1\n", "no error rate", 1, 1),
         ("p = = 3\n", "invalid TOML", 1, 5),
     ];
-    for &(text, msg, line, col) in cases {
-        let d = model(text).expect_err(text);
-        assert!(d.message.contains(msg), "{text}: {}", d.message);
-        let (_, l, c) = d.location().unwrap();
-        assert_eq!((l, c), (line, col), "{text}: {}", d.message);
-    }
+    assert_refused(cases);
     let d = model("p = 0.1\n[gates.cx]\nduraton = 3\n").unwrap_err();
     assert_eq!(d.hint.as_deref(), Some("did you mean `duration`?"));
     // Missing gate: reported at the circuit's gate when compiling.
@@ -636,12 +641,7 @@ fn time_unit_is_checked_and_shown() {
         ("time_unit = \"µs\"\n", "unknown time unit `µs`", 1, 13),
         ("time_unit = 5\n", "`time_unit` must be a string", 1, 13),
     ];
-    for &(text, msg, line, col) in cases {
-        let d = model(text).expect_err(text);
-        assert!(d.message.contains(msg), "{text}: {}", d.message);
-        let (_, l, c) = d.location().unwrap();
-        assert_eq!((l, c), (line, col), "{text}");
-    }
+    assert_refused(cases);
     // The unit appears next to the layer duration in the idle comments.
     let m = model(
         "time_unit = \"ns\"\np = 0.001\n[gates.default]\nduration = 20\n[measure]\nduration = 300\n\
@@ -1039,12 +1039,7 @@ fn bad_generators_are_located() {
             55,
         ),
     ];
-    for &(text, msg, line, col) in others {
-        let d = model(text).expect_err(text);
-        assert!(d.message.contains(msg), "{text}: {}", d.message);
-        let (_, l, c) = d.location().unwrap();
-        assert_eq!((l, c), (line, col), "{text}: {}", d.message);
-    }
+    assert_refused(others);
     // Eight digits of 1/√2 are close enough.
     model("[gates.h]\np = 0.01\nimplementation = \"rotation\"\ngenerator = \"0.70710678 X + 0.70710678 Z\"\nangle = \"pi/2\"\n")
         .unwrap_or_else(|d| panic!("{}", d.render()));

@@ -49,12 +49,7 @@ impl NoiseArgs {
         let Some(text) = &self.noise else {
             return Ok(circuit);
         };
-        let spec = crate::noise::NoiseSpec::parse(text).map_err(|d| vec![d])?;
-        let compiled = crate::noise::apply_noted(&circuit, &spec)?;
-        for w in &compiled.warnings {
-            eprint!("{}", w.render());
-        }
-        Ok(compiled.circuit)
+        crate::cli::compile::compile_spec(&circuit, text).map(|(noisy, _)| noisy)
     }
 }
 
