@@ -21,10 +21,10 @@ use std::time::Instant;
 
 use rand::{Rng, SeedableRng};
 use rand_xoshiro::Xoshiro256PlusPlus;
+use slant::base::Source;
 use slant::decode::{Decoder, MatchingEdge, MatchingGraph, Mwpm, UnionFind};
 use slant::faults::ExtractOptions;
 use slant::gen::{generate, Family, GenSpec};
-use slant::lang::Source;
 use slant::noise::NoiseSpec;
 
 /// Plaquettes of one type of the rotated surface code: each is a list of data qubits `(x, y)`.
@@ -127,7 +127,7 @@ fn circuit_graph(d: u32, rounds: u32, p: f64) -> MatchingGraph {
     let mut spec = GenSpec::new(Family::Surface, d);
     spec.rounds = rounds;
     let text = generate(&spec).expect("generator accepts the spec");
-    let circuit = slant::load_source(&Source::new("bench.slant", &text), &[]).expect("valid");
+    let circuit = slant::ir::load_source(&Source::new("bench.slant", &text), &[]).expect("valid");
     let noise = NoiseSpec::parse(&format!("circuit p={p}")).expect("valid preset");
     let noisy = slant::noise::apply(&circuit, &noise).expect("noise applies");
     let faults = slant::faults::extract(&noisy, &ExtractOptions::default());

@@ -14,10 +14,10 @@
 
 use std::time::{Duration, Instant};
 
+use slant::base::{xor_into, Pauli, Source};
 use slant::gen::{generate, Family, GenSpec};
-use slant::ir::sensitivity::{self, xor_into, Point};
-use slant::ir::{Circuit, OpKind, Pauli};
-use slant::lang::Source;
+use slant::ir::sensitivity::{self, Point};
+use slant::ir::{Circuit, OpKind};
 use slant::noise::NoiseSpec;
 
 /// Folds one symptom (sorted ids) into a checksum that depends on order and content.
@@ -210,7 +210,8 @@ fn main() {
         let mut spec = GenSpec::new(Family::Surface, d);
         spec.rounds = d;
         let text = generate(&spec).expect("generator accepts the spec");
-        let circuit = slant::load_source(&Source::new("bench.slant", &text), &[]).expect("valid");
+        let circuit =
+            slant::ir::load_source(&Source::new("bench.slant", &text), &[]).expect("valid");
         let noisy = slant::noise::apply(&circuit, &noise).expect("noise applies");
         let ((sum_v, count), t_v) = best_of(reps, || sorted_vectors(&noisy));
         let ((sum_b, count_b), t_b) = best_of(reps, || bitsets(&noisy));

@@ -22,20 +22,15 @@
 //!
 //! Imports go one way: `lang ← ir ← noise ← sim ← faults ← {analysis, decode} ← cli`. Nothing
 //! imports `cli`; `gen` only produces text, which tests parse back. nom types stay inside `lang`;
-//! the rest of the crate sees [`lang::Ast`] and [`lang::Diagnostic`]. Library modules never print
+//! the rest of the crate sees [`lang::Ast`] and [`base::Diagnostic`]. Library modules never print
 //! or exit: they return values or diagnostics, and `cli` renders them and picks the exit code.
 //!
 //! Results of the simulators and the fault graph are estimates under the stated noise model:
 //! Pauli channels (twirled where the hardware is not Pauli), independent between locations.
 //!
-//! ```
-//! let src = slant::lang::Source::new("bell.slant", "qubit a\nqubit b\nh a\ncx a b\n\
-//!     measure z a -> ma\nmeasure z b -> mb\ndetector = ma ^ mb\n");
-//! let circuit = slant::load_source(&src, &[]).unwrap();
-//! assert_eq!(circuit.detectors.len(), 1);
-//! ```
 
 pub mod analysis;
+pub mod base;
 pub mod cli;
 pub mod decode;
 pub mod faults;
@@ -44,28 +39,3 @@ pub mod ir;
 pub mod lang;
 pub mod noise;
 pub mod sim;
-
-use std::sync::Arc;
-
-use crate::lang::{Diagnostic, Source};
-
-/// Parses, expands and checks a source with parameter overrides: the front half of every
-/// subcommand.
-pub fn load_source(
-    source: &Arc<Source>,
-    overrides: &[(String, i64)],
-) -> Result<ir::Circuit, Vec<Diagnostic>> {
-    load_source_with(source, overrides, &ir::expand::Limits::default())
-}
-
-/// [`load_source`] with explicit expansion limits.
-pub fn load_source_with(
-    source: &Arc<Source>,
-    overrides: &[(String, i64)],
-    limits: &ir::expand::Limits,
-) -> Result<ir::Circuit, Vec<Diagnostic>> {
-    let ast = lang::parse(source)?;
-    let circuit = ir::expand::expand(&ast, overrides, limits)?;
-    ir::check::check(&circuit)?;
-    Ok(circuit)
-}

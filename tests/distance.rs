@@ -5,13 +5,13 @@ use crate::support::slant;
 use slant::analysis::distance::{
     distances, symptom, DistanceOptions, DistanceReport, Unproven, Unresolved,
 };
+use slant::base::Source;
 use slant::faults::{ExtractOptions, FaultGraph};
 use slant::gen::{generate, Entangler, Family, GenSpec, LogicalBasis, Order, Style};
-use slant::lang::Source;
 
 fn graph_of(spec: &GenSpec, noise: &str) -> FaultGraph {
     let text = generate(spec).expect("generate");
-    let circuit = slant::load_source(&Source::new("gen.slant", text), &[]).expect("load");
+    let circuit = slant::ir::load_source(&Source::new("gen.slant", text), &[]).expect("load");
     let spec = slant::noise::NoiseSpec::parse(noise).expect("noise");
     let noisy = slant::noise::apply(&circuit, &spec).expect("apply");
     slant::faults::extract(&noisy, &ExtractOptions::default())
@@ -259,7 +259,8 @@ fn rectangular_xzzx_high_rate_distance_equals_brute_force_z_logical() {
             s.style = Some(Style::Product);
             s.basis = Some(basis);
             let text = generate(&s).expect("generate");
-            let circuit = slant::load_source(&Source::new("rect.slant", text), &[]).expect("load");
+            let circuit =
+                slant::ir::load_source(&Source::new("rect.slant", text), &[]).expect("load");
             let brute = min_pure_z_logical(&circuit);
             let r = report(&graph_of(&s, "capacity p=0.01 bias=inf"));
             assert_eq!(
@@ -353,7 +354,7 @@ fn distance_matches_brute_force_on_small_graphs() {
 
 /// The fault graph of [`HYPER`].
 fn hyperedge_graph() -> FaultGraph {
-    let circuit = slant::load_source(&Source::new("hyper.slant", HYPER), &[]).expect("load");
+    let circuit = slant::ir::load_source(&Source::new("hyper.slant", HYPER), &[]).expect("load");
     slant::faults::extract(&circuit, &ExtractOptions::default())
 }
 
@@ -406,7 +407,7 @@ fn unfinished_searches_are_reported_as_unproven() {
     // A graph without hyperedges has an exact search: an absence there is proven.
     let text = "qubit q[0..2]\nreset x q[0..2]\nnoise dephasing p=0.01 q[0..2]\n\
         measure x q[0..2] -> m[0..2]\ndetector = m[0] ^ m[1]\n";
-    let circuit = slant::load_source(&Source::new("plain.slant", text), &[]).expect("load");
+    let circuit = slant::ir::load_source(&Source::new("plain.slant", text), &[]).expect("load");
     let plain = slant::faults::extract(&circuit, &ExtractOptions::default());
     let r = distances(&plain, &DistanceOptions::default()).unwrap();
     assert!(r.distance.is_none());

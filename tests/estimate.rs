@@ -5,15 +5,15 @@
 //! threshold; full-size threshold runs live in `bench/thresholds.sh`.
 
 use crate::support::slant;
+use slant::base::Source;
 use slant::decode::run::{Counts, Experiment, RunOptions};
 use slant::decode::DecoderKind;
 use slant::gen::{Family, Flip, GenSpec, LogicalBasis, Style};
 use slant::ir::Circuit;
-use slant::lang::Source;
 use slant::noise::{self, NoiseSpec};
 
 fn load(text: &str) -> Circuit {
-    match slant::load_source(&Source::new("t.slant", text), &[]) {
+    match slant::ir::load_source(&Source::new("t.slant", text), &[]) {
         Ok(c) => c,
         Err(d) => panic!("{}", d.iter().map(|d| d.render()).collect::<String>()),
     }

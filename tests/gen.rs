@@ -3,9 +3,9 @@
 
 use std::process::Command;
 
+use slant::base::{Pauli, Source};
 use slant::gen::{generate, Entangler, Family, GenSpec, LogicalBasis, Order, Style};
-use slant::ir::{Circuit, OpKind, Pauli};
-use slant::lang::Source;
+use slant::ir::{Circuit, OpKind};
 
 fn slant() -> Command {
     Command::new(env!("CARGO_BIN_EXE_slant"))
@@ -13,7 +13,7 @@ fn slant() -> Command {
 
 fn load(text: &str) -> Circuit {
     let src = Source::new("gen.slant", text.to_string());
-    match slant::load_source(&src, &[]) {
+    match slant::ir::load_source(&src, &[]) {
         Ok(c) => c,
         Err(d) => panic!(
             "generated circuit rejected:\n{}\n{text}",

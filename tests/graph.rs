@@ -3,14 +3,14 @@
 use std::collections::BTreeSet;
 use std::process::Command;
 
+use slant::base::{Gate, Pauli, Source};
 use slant::faults::export::{self, Format, View};
 use slant::faults::{self, ExtractOptions, FaultGraph};
-use slant::ir::{Circuit, Gate, OpKind, Pauli};
-use slant::lang::Source;
+use slant::ir::{Circuit, OpKind};
 
 fn load(text: &str, set: &[(&str, i64)]) -> Circuit {
     let set: Vec<(String, i64)> = set.iter().map(|(k, v)| (k.to_string(), *v)).collect();
-    match slant::load_source(&Source::new("t.slant", text), &set) {
+    match slant::ir::load_source(&Source::new("t.slant", text), &set) {
         Ok(c) => c,
         Err(d) => panic!("{}", d.iter().map(|d| d.render()).collect::<String>()),
     }
@@ -152,8 +152,8 @@ fn css_y_faults_decompose_into_x_and_z_parts() {
                 .mechanisms
                 .iter()
                 .any(|x| x.detectors == d && x.observables == o));
-            dets = slant::ir::sensitivity::xor_sets(&dets, d);
-            obs = slant::ir::sensitivity::xor_sets(&obs, o);
+            dets = slant::base::xor_sets(&dets, d);
+            obs = slant::base::xor_sets(&obs, o);
         }
         assert_eq!(dets, m.detectors);
         assert_eq!(obs, m.observables);

@@ -5,7 +5,7 @@ use std::io::Write;
 use std::process::{Command, Stdio};
 
 use proptest::prelude::*;
-use slant::lang::{Diagnostic, Source};
+use slant::base::{Diagnostic, Source};
 
 /// Runs the real binary with optional standard input; returns (exit code, stdout, stderr).
 fn slant(args: &[&str], stdin: Option<&str>) -> (i32, String, String) {
@@ -36,7 +36,7 @@ fn slant(args: &[&str], stdin: Option<&str>) -> (i32, String, String) {
 }
 
 fn load(text: &str) -> Result<slant::ir::Circuit, Vec<Diagnostic>> {
-    slant::load_source(&Source::new("t.slant", text), &[])
+    slant::ir::load_source(&Source::new("t.slant", text), &[])
 }
 
 /// Asserts that `text` is rejected with a first diagnostic whose message contains `message` and
@@ -46,7 +46,7 @@ fn rejects(text: &str, message: &str, line: usize, col: usize) {
 }
 
 fn rejects_with(text: &str, sets: &[(String, i64)], message: &str, line: usize, col: usize) {
-    let errs = match slant::load_source(&Source::new("t.slant", text), sets) {
+    let errs = match slant::ir::load_source(&Source::new("t.slant", text), sets) {
         Ok(_) => panic!("accepted but should reject with `{message}`:\n{text}"),
         Err(e) => e,
     };
@@ -371,8 +371,8 @@ fn default_limit_refuses_memory_bombs_at_once() {
 #[test]
 fn override_of_unknown_parameter() {
     let sets = vec![("distanse".to_string(), 5)];
-    let errs =
-        slant::load_source(&Source::new("t", "param distance = 3\nqubit a\n"), &sets).unwrap_err();
+    let errs = slant::ir::load_source(&Source::new("t", "param distance = 3\nqubit a\n"), &sets)
+        .unwrap_err();
     assert_eq!(
         errs[0].message,
         "`--set distanse=...` names no parameter of this circuit"
@@ -386,7 +386,7 @@ fn override_of_a_generator_option_names_the_parameters() {
     let text = "param dx = 3\nparam dz = 3\nparam rounds = 3\nqubit a\n";
     for name in ["distanse", "distance", "Distance"] {
         let sets = vec![(name.to_string(), 5)];
-        let errs = slant::load_source(&Source::new("t", text), &sets).unwrap_err();
+        let errs = slant::ir::load_source(&Source::new("t", text), &sets).unwrap_err();
         assert_eq!(
             errs[0].message,
             format!("`--set {name}=...` names no parameter of this circuit")
@@ -402,7 +402,7 @@ fn override_of_a_generator_option_names_the_parameters() {
     }
     // A close name still gets the plain suggestion, whatever its case.
     let sets = vec![("ROUNDS".to_string(), 2)];
-    let errs = slant::load_source(&Source::new("t", text), &sets).unwrap_err();
+    let errs = slant::ir::load_source(&Source::new("t", text), &sets).unwrap_err();
     assert_eq!(errs[0].hint.as_deref(), Some("did you mean `rounds`?"));
     // Through the binary: a circuit that does not take the name is rejected input (exit 1).
     let (code, _, err) = slant(&["check", "-", "--set", "distanse=5"], Some(text));
@@ -480,7 +480,7 @@ fn empty_file_is_rejected() {
 
 #[test]
 fn non_utf8_bytes() {
-    let err = slant::lang::source_from_bytes("t.slant".into(), b"qubit a\n\xffh a\n".to_vec())
+    let err = slant::base::source_from_bytes("t.slant".into(), b"qubit a\n\xffh a\n".to_vec())
         .unwrap_err();
     assert_eq!(err.message, "the file is not valid UTF-8");
     assert_eq!(err.location().map(|l| (l.1, l.2)), Some((2, 1)));
@@ -498,7 +498,7 @@ fn byte_order_mark_is_skipped() {
     assert_eq!(code, 1);
     assert!(err.contains("--> -:1:1\n"), "{err}");
     // Bytes that are not UTF-8 are still located in the text after the mark.
-    let err = slant::lang::source_from_bytes(
+    let err = slant::base::source_from_bytes(
         "t.slant".into(),
         b"\xef\xbb\xbfqubit a\n\xffh a\n".to_vec(),
     )
@@ -723,8 +723,8 @@ proptest! {
     /// Random bytes never panic the front end.
     #[test]
     fn random_bytes_never_panic(bytes in proptest::collection::vec(any::<u8>(), 0..400)) {
-        if let Ok(src) = slant::lang::source_from_bytes("r".into(), bytes) {
-            let _ = slant::load_source(&src, &[]);
+        if let Ok(src) = slant::base::source_from_bytes("r".into(), bytes) {
+            let _ = slant::ir::load_source(&src, &[]);
         }
     }
 
@@ -897,7 +897,7 @@ fn reference_examples_parse() {
         let ast =
             slant::lang::parse(&source).unwrap_or_else(|e| panic!("{}\n{code}", e[0].render()));
         if code.contains("qubit") {
-            slant::load_source(&source, &[])
+            slant::ir::load_source(&source, &[])
                 .unwrap_or_else(|e| panic!("{}\n{code}", e[0].render()));
         }
         round_trip(code);

@@ -3,21 +3,21 @@
 use std::sync::Arc;
 
 use slant::analysis::bias::analyze;
+use slant::base::{Gate, Pauli, Source};
 use slant::faults::{ExtractOptions, FaultGraph};
 use slant::gen::{generate, Entangler, Family, GenSpec};
-use slant::ir::{Channel, Circuit, Gate, Pauli};
-use slant::lang::Source;
+use slant::ir::{Channel, Circuit};
 use slant::noise::compile::{compile, to_text};
 use slant::noise::implement::{effective_channel, mid_gate_fault, Generator, Implementation};
 use slant::noise::model::{cat_idle, twirled_decoherence, NoiseModel};
 use slant::noise::{apply, NoiseSpec};
 
 fn load(name: &str, text: &str) -> Circuit {
-    slant::load_source(&Source::new(name, text), &[])
+    slant::ir::load_source(&Source::new(name, text), &[])
         .unwrap_or_else(|d| panic!("{}", d[0].render()))
 }
 
-fn model(text: &str) -> Result<NoiseModel, slant::lang::Diagnostic> {
+fn model(text: &str) -> Result<NoiseModel, slant::base::Diagnostic> {
     NoiseModel::parse(&Source::new("m.toml", text))
 }
 
@@ -1084,7 +1084,7 @@ fn shipped_models_compile_onto_every_bundled_circuit() {
                 c.display()
             );
             let text = to_text(&compiled.circuit, &compiled.notes, &[]);
-            slant::load_source(&Source::new("compiled.slant", text), &[]).unwrap_or_else(|e| {
+            slant::ir::load_source(&Source::new("compiled.slant", text), &[]).unwrap_or_else(|e| {
                 panic!("{} on {}: {}", m.display(), c.display(), e[0].render())
             });
         }

@@ -7,15 +7,15 @@ use std::path::Path;
 use std::process::Command;
 
 use rand::{Rng, SeedableRng};
-use slant::ir::{Basis, Circuit, Gate, Layer, Op, OpKind, Pauli, Qubit, Record};
-use slant::lang::{Source, Span};
+use slant::base::{Basis, Gate, Pauli, Source, Span};
+use slant::ir::{Circuit, Layer, Op, OpKind, Qubit, Record};
 use slant::noise::{self, NoiseSpec};
 use slant::sim::{reference_run, Outputs, Sampler};
 
 use crate::support::statevector;
 
 fn load(text: &str) -> Circuit {
-    match slant::load_source(&Source::new("t.slant", text), &[]) {
+    match slant::ir::load_source(&Source::new("t.slant", text), &[]) {
         Ok(c) => c,
         Err(d) => panic!("{}", d.iter().map(|d| d.render()).collect::<String>()),
     }
@@ -275,7 +275,7 @@ fn noiseless_circuits_have_no_detection_events() {
             // Loading checks every detector and observable is deterministic (common practice
             // for memory experiments): every bundled circuit must pass.
             let text = std::fs::read_to_string(&path).unwrap();
-            let c = slant::load_source(&Source::new(path.display().to_string(), text), &[])
+            let c = slant::ir::load_source(&Source::new(path.display().to_string(), text), &[])
                 .unwrap_or_else(|e| panic!("{}: {}", path.display(), e[0].render()));
             circuits.push(c);
         }

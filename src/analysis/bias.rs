@@ -32,8 +32,9 @@ use std::collections::{BTreeMap, HashMap};
 
 use serde::Serialize;
 
+use crate::base::{Gate, Pauli};
 use crate::faults::{ClassSet, ExtractOptions};
-use crate::ir::{Circuit, Gate, OpKind, Pauli};
+use crate::ir::{Circuit, OpKind};
 use crate::noise::compile::Note;
 use crate::noise::implement::{mid_gate_fault_with, Implementation};
 
@@ -169,7 +170,7 @@ pub fn analyze(noisy: &Circuit, notes: &[Note]) -> BiasReport {
     let mut rounds: BTreeMap<u32, RoundBias> = BTreeMap::new();
     let mut converters: HashMap<(u32, String), Converter> = HashMap::new();
     let (mut high_faults, mut high_p, mut converted_p) = (0usize, 0.0, 0.0);
-    let loc = |span: crate::lang::Span| {
+    let loc = |span: crate::base::Span| {
         let (l, c) = noisy.source.line_col(span.start);
         format!("{}:{}:{}", noisy.source.name, l, c)
     };
@@ -299,7 +300,7 @@ pub fn analyze(noisy: &Circuit, notes: &[Note]) -> BiasReport {
                                 let c =
                                     converters.entry((start, what.clone())).or_insert_with(|| {
                                         Converter {
-                                            location: loc(crate::lang::Span { start, end: start }),
+                                            location: loc(crate::base::Span { start, end: start }),
                                             what,
                                             probability: 0.0,
                                             faults: 0,

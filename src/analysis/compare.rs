@@ -13,9 +13,9 @@
 
 use crate::analysis::bias;
 use crate::analysis::distance::{self, Count, DistanceOptions, DistanceReport, Unproven};
+use crate::base::Diagnostic;
 use crate::faults::{ExtractOptions, FaultGraph};
 use crate::ir::Circuit;
-use crate::lang::Diagnostic;
 use crate::noise::compile::Note;
 use crate::noise::NoiseSpec;
 

@@ -46,8 +46,8 @@ use std::cmp::{Ordering, Reverse};
 use std::collections::{BinaryHeap, HashMap};
 use std::ops::Add;
 
+use crate::base::{odd_parity, xor_sets};
 use crate::faults::graph::{weight_of, ClassSet, FaultGraph};
-use crate::ir::sensitivity::xor_sets;
 
 /// Default depth of the exhaustive search when the graphlike mechanisms make no logical error
 /// at all.
@@ -290,16 +290,8 @@ pub fn symptom(graph: &FaultGraph, mechanisms: &[u32]) -> (Vec<u32>, Vec<u32>) {
 }
 
 /// Cancels repeated mechanisms, then checks the symptom is empty and an observable flips.
-fn verified(graph: &FaultGraph, mut mechs: Vec<u32>) -> Result<LogicalError, String> {
-    mechs.sort_unstable();
-    let mut set: Vec<u32> = Vec::with_capacity(mechs.len());
-    for m in mechs {
-        if set.last() == Some(&m) {
-            set.pop();
-        } else {
-            set.push(m);
-        }
-    }
+fn verified(graph: &FaultGraph, mechs: Vec<u32>) -> Result<LogicalError, String> {
+    let set = odd_parity(mechs);
     let (dets, obs) = symptom(graph, &set);
     if !dets.is_empty() || obs.is_empty() {
         return Err(format!(

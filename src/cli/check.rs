@@ -4,11 +4,10 @@ use std::collections::BTreeMap;
 
 use serde::Serialize;
 
+use crate::base::{Diagnostic, Severity};
 use crate::cli::common::CircuitArgs;
 use crate::cli::CliError;
 use crate::ir::{Circuit, OpKind};
-use crate::lang::diagnostic::Severity;
-use crate::lang::Diagnostic;
 
 /// Arguments of `slant check`.
 #[derive(Debug, clap::Args)]

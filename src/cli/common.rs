@@ -3,8 +3,8 @@
 use std::path::PathBuf;
 use std::sync::Arc;
 
+use crate::base::{Diagnostic, Source};
 use crate::ir::Circuit;
-use crate::lang::{Diagnostic, Source};
 
 /// A circuit file and its parameter overrides.
 #[derive(Debug, clap::Args)]
@@ -28,7 +28,7 @@ impl CircuitArgs {
         let limits = crate::ir::expand::Limits {
             max_items: self.max_items,
         };
-        crate::load_source_with(&source, &self.set, &limits)
+        crate::ir::load_source_with(&source, &self.set, &limits)
     }
 }
 
@@ -95,5 +95,5 @@ pub fn read_source(path: &std::path::Path) -> Result<Arc<Source>, Diagnostic> {
     } else {
         std::fs::read(path).map_err(|e| Diagnostic::bare(format!("cannot read `{name}`: {e}")))?
     };
-    crate::lang::source_from_bytes(name, bytes)
+    crate::base::source_from_bytes(name, bytes)
 }

@@ -20,15 +20,14 @@ use serde_json::json;
 
 use crate::analysis::compare::{self, Column, RatePoint, Row};
 use crate::analysis::distance::{Count, DistanceOptions, Unproven};
+use crate::base::{write_atomic, Diagnostic, Source};
 use crate::cli::common::{parse_setting, read_source, NoiseArgs};
-use crate::cli::output::write_atomic;
 use crate::cli::{distance::count_text, new, CliError};
 use crate::decode::plot::{Curve, Panel};
 use crate::decode::run::{Experiment, RunOptions};
 use crate::decode::stats::{Estimate, Z95};
 use crate::decode::DecoderKind;
 use crate::faults::ExtractOptions;
-use crate::lang::{Diagnostic, Source};
 use crate::noise::NoiseSpec;
 
 /// Arguments of `slant compare`.
@@ -146,7 +145,7 @@ fn sources(args: &Args) -> Result<Vec<(String, crate::ir::Circuit)>, CliError> {
             let text = crate::gen::generate(&spec)
                 .map_err(|e| Diagnostic::bare(format!("variant `{key}={v}`: {e}")))?;
             let name = format!("{key}={v}");
-            let circuit = crate::load_source(&Source::new(name.clone(), text), &[])?;
+            let circuit = crate::ir::load_source(&Source::new(name.clone(), text), &[])?;
             out.push((name, circuit));
         }
     } else {
@@ -157,7 +156,7 @@ fn sources(args: &Args) -> Result<Vec<(String, crate::ir::Circuit)>, CliError> {
         }
         for f in &args.files {
             let source = read_source(f)?;
-            let circuit = crate::load_source(&source, &args.set)?;
+            let circuit = crate::ir::load_source(&source, &args.set)?;
             out.push((f.display().to_string(), circuit));
         }
     }

@@ -2,10 +2,10 @@
 
 use std::path::PathBuf;
 
+use crate::base::{write_atomic, Diagnostic};
 use crate::cli::common::CircuitArgs;
-use crate::cli::{output, CliError};
+use crate::cli::CliError;
 use crate::ir::Circuit;
-use crate::lang::Diagnostic;
 use crate::noise::compile::Note;
 use crate::noise::NoiseSpec;
 
@@ -52,7 +52,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
     ];
     let text = crate::noise::compile::to_text(&noisy, &notes, &header);
     match args.output.as_deref() {
-        Some(p) if p.as_os_str() != "-" => output::write_atomic(p, text.as_bytes())?,
+        Some(p) if p.as_os_str() != "-" => write_atomic(p, text.as_bytes())?,
         _ => print!("{text}"),
     }
     Ok(())

@@ -8,12 +8,12 @@
 
 use std::io::IsTerminal;
 
+use crate::base::Diagnostic;
 use crate::cli::common::{CircuitArgs, NoiseArgs};
 use crate::cli::CliError;
 use crate::decode::run::{Counts, Experiment, RunOptions};
 use crate::decode::stats::{Estimate, Z95};
 use crate::decode::DecoderKind;
-use crate::lang::Diagnostic;
 
 const AFTER_HELP: &str = "\
 A shot fails when the decoder's predicted observable flips differ from the sampled ones (or it

@@ -2,8 +2,8 @@
 
 use std::path::PathBuf;
 
+use crate::base::write_atomic;
 use crate::cli::common::read_source;
-use crate::cli::output::write_atomic;
 use crate::cli::CliError;
 
 /// Arguments of `slant fmt`.

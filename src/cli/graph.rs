@@ -4,12 +4,12 @@ use std::io::Write;
 use std::path::{Path, PathBuf};
 use std::time::{Duration, Instant};
 
+use crate::base::{write_atomic, write_atomic_with, Diagnostic};
 use crate::cli::common::{CircuitArgs, NoiseArgs};
-use crate::cli::{output, CliError};
+use crate::cli::CliError;
 use crate::faults::export::{self, Format, View};
 use crate::faults::{ExtractOptions, FaultGraph};
 use crate::ir::Circuit;
-use crate::lang::Diagnostic;
 
 /// Arguments of `slant graph`.
 #[derive(Debug, clap::Args)]
@@ -117,7 +117,7 @@ fn write(
         // is never held in memory as one string. Render and write are then one phase.
         match out {
             Some(path) if !to_stdout => {
-                output::write_atomic_with(path, |w| export::write_one(&view, format, w).map(drop))?
+                write_atomic_with(path, |w| export::write_one(&view, format, w).map(drop))?
             }
             _ => {
                 let mut stdout = std::io::BufWriter::new(std::io::stdout().lock());
@@ -135,7 +135,7 @@ fn write(
     std::fs::create_dir_all(dir)
         .map_err(|e| Diagnostic::bare(format!("cannot create `{}`: {e}", dir.display())))?;
     for (name, bytes) in &files {
-        output::write_atomic(&dir.join(name), bytes)?;
+        write_atomic(&dir.join(name), bytes)?;
     }
     Ok((rendered, clock.elapsed() - rendered))
 }

@@ -6,10 +6,9 @@
 
 use std::path::PathBuf;
 
-use crate::cli::output::write_atomic;
+use crate::base::{write_atomic, Diagnostic};
 use crate::cli::CliError;
 use crate::decode::sweep::{merge_rows, read_store};
-use crate::lang::Diagnostic;
 
 /// Arguments of `slant merge`.
 #[derive(Debug, clap::Args)]

@@ -24,7 +24,6 @@ pub mod fmt;
 pub mod graph;
 pub mod merge;
 pub mod new;
-pub mod output;
 pub mod plot;
 pub mod shots;
 pub mod sweep;
@@ -34,7 +33,7 @@ use std::io::IsTerminal;
 
 use clap::{Parser, Subcommand};
 
-use crate::lang::Diagnostic;
+use crate::base::Diagnostic;
 
 /// Exit code: success.
 pub const EXIT_OK: i32 = 0;

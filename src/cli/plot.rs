@@ -10,13 +10,12 @@
 use std::collections::BTreeMap;
 use std::path::PathBuf;
 
-use crate::cli::output::write_atomic;
+use crate::base::{write_atomic, Diagnostic};
 use crate::cli::CliError;
 use crate::decode::plot::{Curve, Marker, Panel};
 use crate::decode::stats::{Estimate, Z95};
 use crate::decode::sweep::{aggregate, read_store, Point};
 use crate::decode::threshold::{crossings, scaling_fit, threshold};
-use crate::lang::Diagnostic;
 
 /// Arguments of `slant plot`.
 #[derive(Debug, clap::Args)]

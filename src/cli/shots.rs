@@ -8,15 +8,14 @@
 
 use std::fs;
 use std::io::{BufWriter, IsTerminal, Write};
-use std::path::{Path, PathBuf};
+use std::path::PathBuf;
 use std::time::{Duration, Instant};
 
+use crate::base::{npy_header, AtomicFile, Diagnostic};
 use crate::cli::common::{CircuitArgs, NoiseArgs};
 use crate::cli::CliError;
-use crate::lang::Diagnostic;
 use crate::sim::bits::{append_shot_rows, row_bytes};
 use crate::sim::frame::{xor_baseline, Batch, BitTable, Outputs, Sampler, BATCH_SHOTS};
-use crate::sim::npy;
 
 const AFTER_HELP: &str = "\
 Output (`--format npy`, the default): DIR/detectors.npy and DIR/observables.npy, NumPy .npy
@@ -153,9 +152,9 @@ pub fn run(args: Args) -> Result<(), CliError> {
             let mut files = Vec::new();
             for (name, &count) in names.iter().zip(&counts) {
                 let path = args.out.join(name);
-                let mut f = TempFile::create(&path)?;
+                let mut f = AtomicFile::create(&path)?;
                 let cols = row_bytes(count, args.packed) as u64;
-                f.write(&npy::header(args.shots, cols))?;
+                f.write(&npy_header("|u1", &[args.shots, cols]))?;
                 files.push(f);
             }
             let mut failure: Option<Diagnostic> = None;
@@ -196,61 +195,6 @@ pub fn run(args: Args) -> Result<(), CliError> {
 
 fn push_bits(b: &Batch, table: &BitTable, count: usize, shot: usize, line: &mut Vec<u8>) {
     line.extend((0..count).map(|k| if b.get(table, k, shot) { b'1' } else { b'0' }));
-}
-
-/// An output file written through a temporary sibling; removed unless committed.
-struct TempFile {
-    tmp: PathBuf,
-    dest: PathBuf,
-    writer: Option<BufWriter<fs::File>>,
-}
-
-impl TempFile {
-    fn create(dest: &Path) -> Result<TempFile, Diagnostic> {
-        let name = dest
-            .file_name()
-            .map_or_else(|| "out".into(), |n| n.to_string_lossy().into_owned());
-        let tmp = dest.with_file_name(format!(".{name}.tmp{}", std::process::id()));
-        let file = fs::File::create(&tmp)
-            .map_err(|e| Diagnostic::bare(format!("cannot write `{}`: {e}", dest.display())))?;
-        Ok(TempFile {
-            tmp,
-            dest: dest.to_path_buf(),
-            writer: Some(BufWriter::with_capacity(1 << 20, file)),
-        })
-    }
-
-    fn error(&self, e: std::io::Error) -> Diagnostic {
-        Diagnostic::bare(format!("cannot write `{}`: {e}", self.dest.display()))
-    }
-
-    fn write(&mut self, bytes: &[u8]) -> Result<(), Diagnostic> {
-        let result = match self.writer.as_mut() {
-            Some(w) => w.write_all(bytes),
-            None => Ok(()),
-        };
-        result.map_err(|e| self.error(e))
-    }
-
-    fn commit(mut self) -> Result<(), Diagnostic> {
-        let Some(w) = self.writer.take() else {
-            return Ok(());
-        };
-        let result = w
-            .into_inner()
-            .map_err(|e| e.into_error())
-            .and_then(|f| f.sync_all())
-            .and_then(|()| fs::rename(&self.tmp, &self.dest));
-        result.map_err(|e| self.error(e))
-    }
-}
-
-impl Drop for TempFile {
-    fn drop(&mut self) {
-        if self.writer.take().is_some() {
-            let _ = fs::remove_file(&self.tmp);
-        }
-    }
 }
 
 /// A progress bar on stderr, shown only on a terminal and only once the run has taken a second.

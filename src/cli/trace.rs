@@ -2,10 +2,10 @@
 
 use std::fmt::Write;
 
+use crate::base::Diagnostic;
 use crate::cli::common::{CircuitArgs, NoiseArgs};
 use crate::cli::CliError;
 use crate::faults::{ExtractOptions, FaultGraph};
-use crate::lang::Diagnostic;
 
 /// Arguments of `slant trace`.
 #[derive(Debug, clap::Args)]

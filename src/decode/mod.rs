@@ -32,6 +32,9 @@ use std::collections::HashMap;
 use std::fmt;
 use std::sync::Mutex;
 
+// The decoders (`matching`, `unionfind`, and new ones beside them) take these as `super::…`.
+use crate::base::{odd_parity, odd_parity_in_place};
+
 pub use crate::faults::{MatchingEdge, MatchingGraph};
 
 pub use matching::Mwpm;
@@ -316,31 +319,6 @@ impl Prepared {
     }
 }
 
-/// The values occurring an odd number of times, sorted.
-pub(crate) fn odd_parity(mut v: Vec<u32>) -> Vec<u32> {
-    odd_parity_in_place(&mut v);
-    v
-}
-
-/// Keeps the values occurring an odd number of times, sorted.
-pub(crate) fn odd_parity_in_place(v: &mut Vec<u32>) {
-    v.sort_unstable();
-    let mut kept = 0;
-    let mut i = 0;
-    while i < v.len() {
-        let mut j = i;
-        while j < v.len() && v[j] == v[i] {
-            j += 1;
-        }
-        if (j - i) % 2 == 1 {
-            v[kept] = v[i];
-            kept += 1;
-        }
-        i = j;
-    }
-    v.truncate(kept);
-}
-
 /// A pool of reusable scratch values so that `&self` decoders can run on many threads without
 /// allocating per shot. Each call takes a value out (or makes one) and puts it back afterwards.
 #[derive(Debug, Default)]
@@ -379,12 +357,6 @@ mod tests {
             p,
             observables: obs.to_vec(),
         }
-    }
-
-    #[test]
-    fn odd_parity_keeps_odd_counts() {
-        assert_eq!(odd_parity(vec![3, 1, 3, 2, 3, 1]), vec![2, 3]);
-        assert_eq!(odd_parity(vec![]), Vec::<u32>::new());
     }
 
     #[test]

@@ -51,10 +51,10 @@ use std::sync::{Arc, Mutex};
 
 use rayon::prelude::*;
 
+use crate::base::{Diagnostic, Source, Span};
 use crate::decode::run::{Experiment, RunOptions};
 use crate::decode::DecoderKind;
 use crate::gen::{Entangler, Family, Flip, GenSpec, LogicalBasis, Order, Style};
-use crate::lang::{Diagnostic, Source, Span};
 
 /// Default shots per chunk.
 pub const DEFAULT_CHUNK: u64 = 16_384;
@@ -434,7 +434,7 @@ pub fn parse_rows(source: &Arc<Source>) -> Result<(Vec<Row>, usize), Diagnostic>
 pub fn read_store(path: &Path) -> Result<Vec<Row>, Diagnostic> {
     match std::fs::read(path) {
         Ok(bytes) => {
-            let source = crate::lang::source_from_bytes(path.display().to_string(), bytes)?;
+            let source = crate::base::source_from_bytes(path.display().to_string(), bytes)?;
             Ok(parse_rows(&source)?.0)
         }
         Err(e) if e.kind() == std::io::ErrorKind::NotFound => Ok(Vec::new()),
@@ -465,7 +465,7 @@ impl Store {
             .map_err(io)?;
         let mut bytes = Vec::new();
         std::io::Read::read_to_end(&mut file, &mut bytes).map_err(io)?;
-        let source = crate::lang::source_from_bytes(name.clone(), bytes)?;
+        let source = crate::base::source_from_bytes(name.clone(), bytes)?;
         let (rows, complete) = parse_rows(&source)?;
         if complete < source.text.as_str().len() {
             file.set_len(complete as u64).map_err(io)?;
@@ -600,7 +600,7 @@ fn build(task: &Task) -> Result<Experiment, Diagnostic> {
             .next()
             .unwrap_or_else(|| Diagnostic::bare("unknown error"))
     };
-    let circuit = crate::load_source(&source, &[]).map_err(first)?;
+    let circuit = crate::ir::load_source(&source, &[]).map_err(first)?;
     let spec = crate::noise::NoiseSpec::parse(&task.noise)?;
     let circuit = crate::noise::apply(&circuit, &spec).map_err(first)?;
     Experiment::new(&circuit, task.decoder)

@@ -97,7 +97,7 @@ pub(crate) fn decompose(ex: &mut Extracted) {
 }
 
 fn xor(a: &[u32], b: &[u32]) -> Vec<u32> {
-    crate::ir::sensitivity::xor_sets(a, b)
+    crate::base::xor_sets(a, b)
 }
 
 /// Finest grouping of the atoms whose blocks are all graphlike mechanisms (as found by

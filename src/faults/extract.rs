@@ -18,12 +18,13 @@
 use std::collections::HashMap;
 use std::hash::{BuildHasherDefault, Hasher};
 
+use crate::base::{xor_into, xor_prob, Pauli};
 use crate::faults::graph::{
     ClassSet, Contributor, DetectorInfo, FaultClass, FaultGraph, HyperedgeStats, Mechanism, Silent,
     Small,
 };
-use crate::ir::sensitivity::{self, xor_into, Point, Sensitivity};
-use crate::ir::{Channel, Circuit, OpKind, Pauli};
+use crate::ir::sensitivity::{self, Point, Sensitivity};
+use crate::ir::{Channel, Circuit, OpKind};
 
 /// Options of [`crate::faults::extract()`].
 #[derive(Clone, Debug, Default)]
@@ -447,7 +448,7 @@ impl Builder<'_> {
     ) {
         if symptom.is_empty() {
             self.silent.count += 1;
-            self.silent.probability = super::graph::xor_prob(self.silent.probability, probability);
+            self.silent.probability = xor_prob(self.silent.probability, probability);
             return;
         }
         let (k, new) = self.symptoms.intern(symptom);
@@ -459,7 +460,7 @@ impl Builder<'_> {
             self.last_candidate.push(u32::MAX);
         } else {
             let p = &mut self.probability[k as usize];
-            *p = super::graph::xor_prob(*p, probability);
+            *p = xor_prob(*p, probability);
             let c = &mut self.classes[k as usize];
             *c = c.with(class);
         }

@@ -19,14 +19,7 @@ use std::collections::HashMap;
 use std::ops::Range;
 use std::sync::Arc;
 
-use crate::ir::Pauli;
-use crate::lang::{Source, Span};
-
-/// `p ⊕ q`: the probability that exactly one of two independent events happens, which is the
-/// probability that their common symptom is flipped.
-pub fn xor_prob(p: f64, q: f64) -> f64 {
-    p * (1.0 - q) + q * (1.0 - p)
-}
+use crate::base::{xor_prob, Pauli, Source, Span};
 
 /// The matching weight `ln((1−p)/p)` of an event of probability `p`.
 pub fn weight_of(p: f64) -> f64 {
@@ -474,10 +467,7 @@ mod tests {
     use super::*;
 
     #[test]
-    fn xor_prob_is_odd_parity() {
-        // Two independent events: P(exactly one) = p(1-q) + q(1-p).
-        assert!((xor_prob(0.1, 0.2) - (0.1 * 0.8 + 0.2 * 0.9)).abs() < 1e-15);
-        assert_eq!(xor_prob(0.0, 0.3), 0.3);
+    fn even_odds_weigh_nothing() {
         assert!((weight_of(0.5)).abs() < 1e-15);
     }
 

@@ -10,12 +10,12 @@
 //! it, and when one does, that gauge location names the measurement or reset that randomises it.
 //! The stabilizer tableau in `sim` computes the reference values. A property test checks this
 //! verdict on random Clifford circuits against two independent ones: noiseless Pauli-frame
-//! sampling, and the tableau run down random branches of the outcome tree
-//! ([`crate::sim::tableau::branch_run`]).
+//! sampling, and the tableau run down random branches of the outcome tree (`branch_run` in
+//! `sim`, a later stage, which is why this is not a link).
 
+use crate::base::{Diagnostic, Span};
 use crate::ir::sensitivity::{sweep, Point};
 use crate::ir::{Circuit, OpKind};
-use crate::lang::{Diagnostic, Span};
 
 /// What made a parity random.
 #[derive(Clone, Copy, Debug)]

@@ -30,12 +30,10 @@ use std::collections::HashMap;
 use std::fmt::Write as _;
 use std::sync::Arc;
 
-use crate::ir::{
-    Channel, Circuit, Detector, Gate, Layer, Observable, Op, OpKind, Pauli, Qubit, Record,
-};
+use crate::base::{did_you_mean, odd_parity, ChannelKind, Diagnostic, Gate, Pauli, Source, Span};
+use crate::ir::{Channel, Circuit, Detector, Layer, Observable, Op, OpKind, Qubit, Record};
 use crate::lang::ast::{BinOp, Expr, ExprKind, Index, NoiseTargets, Ref, Stmt, StmtKind};
-use crate::lang::diagnostic::did_you_mean;
-use crate::lang::{Ast, Diagnostic, Source, Span};
+use crate::lang::Ast;
 
 /// Size limits for expansion.
 #[derive(Clone, Debug)]
@@ -1130,17 +1128,20 @@ impl Expander {
         };
         let optional =
             |key: &str| -> R<f64> { arg(key).map_or(Ok(0.0), |(_, e)| self.probability(e)) };
-        let ch = match channel {
-            "bitflip" => Channel::BitFlip(required("p")?),
-            "dephasing" => Channel::Dephasing(required("p")?),
-            "depolarizing" => Channel::Depolarizing1(required("p")?),
-            "depolarizing2" => Channel::Depolarizing2(required("p")?),
-            "pauli" => Channel::Pauli1 {
+        let Some(kind) = ChannelKind::from_name(channel) else {
+            return Err(self.err(st.span, format!("unknown noise channel `{channel}`")));
+        };
+        let ch = match kind {
+            ChannelKind::BitFlip => Channel::BitFlip(required("p")?),
+            ChannelKind::Dephasing => Channel::Dephasing(required("p")?),
+            ChannelKind::Depolarizing1 => Channel::Depolarizing1(required("p")?),
+            ChannelKind::Depolarizing2 => Channel::Depolarizing2(required("p")?),
+            ChannelKind::Pauli1 => Channel::Pauli1 {
                 px: optional("x")?,
                 py: optional("y")?,
                 pz: optional("z")?,
             },
-            "pauli2" => {
+            ChannelKind::Pauli2 => {
                 let mut probs = [0.0; 15];
                 for (k, e) in args {
                     if let Some(ix) = Pauli::pair_index(&k.name) {
@@ -1149,7 +1150,7 @@ impl Expander {
                 }
                 Channel::Pauli2(Box::new(probs))
             }
-            "correlated" => {
+            ChannelKind::Correlated => {
                 let NoiseTargets::Product(product) = targets else {
                     return Err(self.err(
                         st.span,
@@ -1161,7 +1162,6 @@ impl Expander {
                     paulis: product.iter().map(|(p, _)| *p).collect(),
                 }
             }
-            other => return Err(self.err(st.span, format!("unknown noise channel `{other}`"))),
         };
         let total = ch.total();
         if total > 1.0 + 1e-12 {
@@ -1237,7 +1237,7 @@ impl Expander {
     /// Resolves a parity to sorted record indices (repeats cancel). `None` if some result is not
     /// measured yet (reported at the end, once it is known whether it is measured later).
     fn parity(&mut self, refs: &[Ref]) -> R<Option<Vec<u32>>> {
-        Ok(self.parity_terms(refs)?.map(cancel_pairs))
+        Ok(self.parity_terms(refs)?.map(odd_parity))
     }
 
     /// The record indices a parity names, in the order written, repeats kept. `None` as for
@@ -1560,7 +1560,7 @@ impl Expander {
             return Err(self.errors);
         }
         for o in &mut self.observables {
-            o.records = cancel_pairs(std::mem::take(&mut o.records));
+            o.records = odd_parity(std::mem::take(&mut o.records));
         }
         Ok(Circuit {
             source: self.src,
@@ -1808,20 +1808,6 @@ fn unreachable_logic() -> i64 {
     // `and` / `or` are evaluated before `binary` is called; reaching this is a bug, and the
     // conservative answer (false) keeps the program running.
     0
-}
-
-/// Sorts record indices and drops those named an even number of times (a parity is their XOR).
-fn cancel_pairs(mut ids: Vec<u32>) -> Vec<u32> {
-    ids.sort_unstable();
-    let mut out: Vec<u32> = Vec::with_capacity(ids.len());
-    for id in ids {
-        if out.last() == Some(&id) {
-            out.pop();
-        } else {
-            out.push(id);
-        }
-    }
-    out
 }
 
 #[cfg(test)]

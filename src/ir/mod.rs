@@ -16,16 +16,15 @@
 //! later stages can report `file:line:column`.
 
 pub mod check;
-pub mod clifford;
 pub mod expand;
-pub mod pauli;
+mod load;
 pub mod sensitivity;
+
+pub use load::{load_source, load_source_with};
 
 use std::sync::Arc;
 
-use crate::lang::span::{Source, Span};
-
-pub use pauli::Pauli;
+use crate::base::{Basis, ChannelKind, Gate, Pauli, Source, Span};
 
 /// A qubit with its name, optional coordinates and roles.
 #[derive(Clone, Debug, PartialEq)]
@@ -44,119 +43,6 @@ impl Qubit {
     /// Whether the qubit carries a role or tag.
     pub fn has_role(&self, role: &str) -> bool {
         self.roles.iter().any(|r| r == role)
-    }
-}
-
-/// Single-qubit and two-qubit Clifford gates.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, PartialOrd, Ord)]
-pub enum Gate {
-    /// Controlled-X (first target controls).
-    Cx,
-    /// Controlled-Y.
-    Cy,
-    /// Controlled-Z.
-    Cz,
-    /// Hadamard.
-    H,
-    /// Identity (an explicit idle slot).
-    I,
-    /// Phase gate, `diag(1, i)`.
-    S,
-    /// Inverse phase gate.
-    Sdg,
-    /// Swap.
-    Swap,
-    /// Square root of X.
-    Sx,
-    /// Inverse square root of X.
-    Sxdg,
-    /// Pauli X.
-    X,
-    /// Pauli Y.
-    Y,
-    /// Pauli Z.
-    Z,
-}
-
-impl Gate {
-    /// Every gate, for name lookup and suggestions.
-    pub const ALL: [Gate; 13] = [
-        Gate::I,
-        Gate::X,
-        Gate::Y,
-        Gate::Z,
-        Gate::H,
-        Gate::S,
-        Gate::Sdg,
-        Gate::Sx,
-        Gate::Sxdg,
-        Gate::Cx,
-        Gate::Cy,
-        Gate::Cz,
-        Gate::Swap,
-    ];
-
-    /// The name used in the language.
-    pub fn name(self) -> &'static str {
-        match self {
-            Gate::Cx => "cx",
-            Gate::Cy => "cy",
-            Gate::Cz => "cz",
-            Gate::H => "h",
-            Gate::I => "i",
-            Gate::S => "s",
-            Gate::Sdg => "sdg",
-            Gate::Swap => "swap",
-            Gate::Sx => "sx",
-            Gate::Sxdg => "sxdg",
-            Gate::X => "x",
-            Gate::Y => "y",
-            Gate::Z => "z",
-        }
-    }
-
-    /// Looks a gate up by its language name.
-    pub fn from_name(name: &str) -> Option<Gate> {
-        Gate::ALL.into_iter().find(|g| g.name() == name)
-    }
-
-    /// Number of qubits the gate acts on.
-    pub fn arity(self) -> usize {
-        match self {
-            Gate::Cx | Gate::Cy | Gate::Cz | Gate::Swap => 2,
-            _ => 1,
-        }
-    }
-}
-
-/// A single-qubit measurement or reset basis.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
-pub enum Basis {
-    /// Eigenbasis of X.
-    X,
-    /// Eigenbasis of Y.
-    Y,
-    /// Eigenbasis of Z (computational).
-    Z,
-}
-
-impl Basis {
-    /// The Pauli whose eigenbasis this is.
-    pub fn pauli(self) -> Pauli {
-        match self {
-            Basis::X => Pauli::X,
-            Basis::Y => Pauli::Y,
-            Basis::Z => Pauli::Z,
-        }
-    }
-
-    /// Lower-case name as written in the language.
-    pub fn name(self) -> &'static str {
-        match self {
-            Basis::X => "x",
-            Basis::Y => "y",
-            Basis::Z => "z",
-        }
     }
 }
 
@@ -245,17 +131,22 @@ impl Channel {
         self.terms().iter().map(|t| t.0).sum()
     }
 
+    /// The kind of the channel.
+    pub fn kind(&self) -> ChannelKind {
+        match self {
+            Channel::BitFlip(_) => ChannelKind::BitFlip,
+            Channel::Correlated { .. } => ChannelKind::Correlated,
+            Channel::Dephasing(_) => ChannelKind::Dephasing,
+            Channel::Depolarizing1(_) => ChannelKind::Depolarizing1,
+            Channel::Depolarizing2(_) => ChannelKind::Depolarizing2,
+            Channel::Pauli1 { .. } => ChannelKind::Pauli1,
+            Channel::Pauli2(_) => ChannelKind::Pauli2,
+        }
+    }
+
     /// The language keyword of the channel.
     pub fn keyword(&self) -> &'static str {
-        match self {
-            Channel::BitFlip(_) => "bitflip",
-            Channel::Correlated { .. } => "correlated",
-            Channel::Dephasing(_) => "dephasing",
-            Channel::Depolarizing1(_) => "depolarizing",
-            Channel::Depolarizing2(_) => "depolarizing2",
-            Channel::Pauli1 { .. } => "pauli",
-            Channel::Pauli2(_) => "pauli2",
-        }
+        self.kind().name()
     }
 }
 

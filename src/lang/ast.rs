@@ -2,8 +2,7 @@
 
 use std::sync::Arc;
 
-use crate::ir::{Basis, Pauli};
-use crate::lang::span::{Source, Span};
+use crate::base::{Basis, Pauli, Source, Span};
 
 /// A parsed file.
 #[derive(Clone, Debug)]

@@ -23,12 +23,10 @@ use nom::sequence::pair;
 use nom::{IResult, Input, Parser as _};
 use nom_locate::LocatedSpan;
 
-use crate::ir::{Basis, Gate, Pauli};
+use crate::base::{did_you_mean, Basis, ChannelKind, Diagnostic, Gate, Pauli, Source, Span};
 use crate::lang::ast::{
     Ast, BinOp, Expr, ExprKind, Ident, Index, NoiseTargets, Outcome, Ref, Stmt, StmtKind,
 };
-use crate::lang::diagnostic::did_you_mean;
-use crate::lang::{Diagnostic, Source, Span};
 
 type In<'a> = LocatedSpan<&'a str>;
 type PResult<'a, T> = IResult<In<'a>, T, PError>;
@@ -62,17 +60,6 @@ const KEYWORDS: [&str; 11] = [
     "noise",
     "detector",
     "observable",
-];
-
-/// Channel keywords of `noise` statements with their parameter names.
-pub(crate) const CHANNELS: [(&str, &[&str]); 7] = [
-    ("bitflip", &["p"]),
-    ("correlated", &["p"]),
-    ("dephasing", &["p"]),
-    ("depolarizing", &["p"]),
-    ("depolarizing2", &["p"]),
-    ("pauli", &["x", "y", "z"]),
-    ("pauli2", &[]),
 ];
 
 /// A parse error: a byte range, a message and an optional hint.
@@ -712,16 +699,17 @@ impl Parser {
                 format!("expected a channel name, found {}", describe(&j)),
             );
         };
-        let Some((_, keys)) = CHANNELS.iter().find(|(n, _)| *n == channel.name) else {
+        let Some(kind) = ChannelKind::from_name(&channel.name) else {
             let mut e = PError::at(
                 &j,
                 channel.name.len(),
                 format!("unknown noise channel `{}`", channel.name),
             );
-            if let Some(s) = did_you_mean(&channel.name, CHANNELS.iter().map(|c| c.0)) {
+            if let Some(s) = did_you_mean(&channel.name, ChannelKind::ALL.map(ChannelKind::name)) {
                 e = e.hint(format!("did you mean `{s}`?"));
             } else {
-                e = e.hint("channels are pauli, pauli2, depolarizing, depolarizing2, dephasing, bitflip, correlated");
+                let names = ChannelKind::ALL.map(ChannelKind::name).join(", ");
+                e = e.hint(format!("channels are {names}"));
             }
             return fail_err(e);
         };
@@ -735,25 +723,21 @@ impl Parser {
             let Ok((after, _)) = self.punct(after, "=") else {
                 break;
             };
-            let known = if channel.name == "pauli2" {
-                key.name.len() == 2 && Pauli::pair_index(&key.name).is_some_and(|k| k > 0)
-            } else {
-                keys.contains(&key.name.as_str())
-            };
-            if !known {
+            if !kind.takes(&key.name) {
                 let mut e = PError::at(
                     &j,
                     key.name.len(),
                     format!("`{}` takes no parameter `{}`", channel.name, key.name),
                 );
-                e = e.hint(if channel.name == "pauli2" {
+                e = e.hint(if kind == ChannelKind::Pauli2 {
                     "pauli2 terms are two-letter Pauli names such as `zz=0.01` or `ix=0.001`"
                         .to_string()
                 } else {
                     format!(
                         "`{}` takes {}",
                         channel.name,
-                        keys.iter()
+                        kind.keys()
+                            .iter()
                             .map(|k| format!("`{k}=`"))
                             .collect::<Vec<_>>()
                             .join(", ")
@@ -773,7 +757,7 @@ impl Parser {
             args.push((key, value));
             i = after;
         }
-        let (i, targets) = if channel.name == "correlated" {
+        let (i, targets) = if kind.takes_product() {
             let (i, p) = self.product(i, "noise correlated p=0.01 x a * z b")?;
             (i, NoiseTargets::Product(p))
         } else {

@@ -37,7 +37,8 @@
 //! Convention: the Pauli on the gate's first target is the left factor, `ZY` = Z on the control
 //! and Y on the target of a `cx`.
 
-use crate::ir::{Channel, Gate, Pauli};
+use crate::base::{Gate, Pauli};
+use crate::ir::Channel;
 
 /// Number of Simpson panels used to integrate over the fault time (even), per π of winding
 /// (see [`Generator::winding`]).

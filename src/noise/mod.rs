@@ -34,8 +34,8 @@ pub mod preset;
 
 use std::sync::Arc;
 
+use crate::base::{Diagnostic, Source};
 use crate::ir::Circuit;
-use crate::lang::{Diagnostic, Source};
 
 pub use preset::{Preset, PresetKind};
 

@@ -86,9 +86,8 @@ use std::sync::Arc;
 
 use toml_edit::{ImDocument, Item, TableLike, Value};
 
-use crate::ir::{Channel, Gate, Pauli};
-use crate::lang::diagnostic::did_you_mean;
-use crate::lang::{Diagnostic, Source, Span};
+use crate::base::{did_you_mean, Diagnostic, Gate, Pauli, Source, Span};
+use crate::ir::Channel;
 use crate::noise::implement::{
     angle_text, parse_angle, parse_polynomial, Generator, Implementation, GATE_TOLERANCE,
     MAX_WINDING,
@@ -463,7 +462,7 @@ impl NoiseModel {
             );
             let suggestion = did_you_mean(name, candidates.iter().copied());
             if what == "role" && suggestion.is_none() {
-                d.severity = crate::lang::diagnostic::Severity::Warning;
+                d.severity = crate::base::Severity::Warning;
                 d.message.push_str("; the override is skipped");
             }
             d = match suggestion {

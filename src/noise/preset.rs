@@ -20,9 +20,8 @@
 
 use std::sync::Arc;
 
-use crate::ir::{Basis, Channel, Circuit, Gate, Layer, Op, OpKind, Pauli};
-use crate::lang::diagnostic::did_you_mean;
-use crate::lang::{Diagnostic, Source, Span};
+use crate::base::{did_you_mean, xor_prob, Basis, Diagnostic, Gate, Pauli, Source, Span};
+use crate::ir::{Channel, Circuit, Layer, Op, OpKind};
 use crate::noise::compile::Note;
 use crate::noise::implement::Implementation;
 
@@ -354,7 +353,7 @@ impl Preset {
             if layer.round.is_some() && flip > 0.0 {
                 for op in &mut layer.ops {
                     if let OpKind::Measure { flip: f, .. } = &mut op.kind {
-                        *f = combine(*f, flip);
+                        *f = xor_prob(*f, flip);
                     }
                 }
             }
@@ -390,7 +389,7 @@ impl Preset {
                     OpKind::Reset(Basis::X) => Some(Channel::Dephasing(p)),
                     OpKind::Reset(_) => Some(Channel::BitFlip(p)),
                     OpKind::Measure { flip, .. } => {
-                        *flip = combine(*flip, p);
+                        *flip = xor_prob(*flip, p);
                         None
                     }
                 };
@@ -434,11 +433,6 @@ impl Preset {
         }
         (out, notes)
     }
-}
-
-/// Probability that exactly one of two independent flips happens.
-fn combine(a: f64, b: f64) -> f64 {
-    a + b - 2.0 * a * b
 }
 
 fn key_list(kind: PresetKind) -> String {

@@ -7,11 +7,10 @@
 //!
 //! Conventions shared by both simulators: every qubit starts in |0>; a measurement result `0`
 //! means eigenvalue +1 of the measured Pauli product; a reset prepares the +1 eigenstate of its
-//! basis; gate semantics are those of [`crate::ir::clifford`] (tests compare against it).
+//! basis; gate semantics are those of [`crate::base::Gate::heisenberg`] (tests compare against it).
 
 pub mod bits;
 pub mod frame;
-pub mod npy;
 pub mod tableau;
 
 pub use frame::{sample, Batch, Outputs, Sampler};

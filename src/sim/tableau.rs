@@ -28,7 +28,8 @@
 //!
 //! Resets are a measurement of the basis Pauli followed by a Pauli that flips a `1` result.
 
-use crate::ir::{Basis, Circuit, Gate, OpKind, Pauli};
+use crate::base::{Basis, Gate, Pauli};
+use crate::ir::{Circuit, OpKind};
 
 /// The noiseless values of a circuit's records, detectors and observables.
 #[derive(Clone, Debug, PartialEq, Eq)]

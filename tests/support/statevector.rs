@@ -14,7 +14,8 @@
 
 #![allow(dead_code)]
 
-use slant::ir::{Basis, Circuit, Gate, OpKind, Pauli};
+use slant::base::{Basis, Gate, Pauli};
+use slant::ir::{Circuit, OpKind};
 
 #[derive(Clone, Copy, Debug, PartialEq)]
 struct C {

@@ -13,7 +13,6 @@
 pub mod dot;
 pub mod json;
 pub mod mtx;
-pub mod npy;
 pub mod text;
 
 use crate::faults::graph::{FaultGraph, GraphlikeStats, MatchingGraph};

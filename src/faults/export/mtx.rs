@@ -8,7 +8,8 @@
 
 use std::fmt::Write;
 
-use crate::faults::export::{npy, Files, View};
+use crate::base::npy_f64_vector;
+use crate::faults::export::{Files, View};
 
 /// A column: detectors, observables, probability.
 type Column<'a> = (Vec<u32>, &'a [u32], f64);
@@ -61,6 +62,6 @@ pub fn render(view: &View<'_>) -> Files {
     vec![
         ("H.mtx".into(), h),
         ("L.mtx".into(), l),
-        ("priors.npy".into(), npy::f64_vector(&priors)),
+        ("priors.npy".into(), npy_f64_vector(&priors)),
     ]
 }

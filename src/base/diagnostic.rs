@@ -7,7 +7,7 @@
 use std::fmt::Write;
 use std::sync::Arc;
 
-use crate::lang::span::{Source, Span};
+use crate::base::{Source, Span};
 
 /// How bad a diagnostic is.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]

@@ -1,10 +1,124 @@
-//! Heisenberg images of the gates: how each gate conjugates X and Z on each of its qubits.
+//! Gates and bases: the Clifford gates of the language, their names, and their semantics as
+//! Heisenberg images (how each gate conjugates X and Z on each of its qubits).
 //!
-//! This table is the single definition of gate semantics. The tableau, the Pauli-frame sampler
-//! and the backward sensitivity sweep specialise it for speed, and their tests compare against
-//! it. Signs are dropped: frames and sensitivities only need Paulis up to phase.
+//! [`Gate::heisenberg`] is the single definition of gate semantics. The tableau, the Pauli-frame
+//! sampler and the backward sensitivity sweep specialise it for speed, and their tests compare
+//! against it. Signs are dropped: frames and sensitivities only need Paulis up to phase.
 
-use crate::ir::{Gate, Pauli};
+use crate::base::Pauli;
+
+/// Single-qubit and two-qubit Clifford gates.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, PartialOrd, Ord)]
+pub enum Gate {
+    /// Controlled-X (first target controls).
+    Cx,
+    /// Controlled-Y.
+    Cy,
+    /// Controlled-Z.
+    Cz,
+    /// Hadamard.
+    H,
+    /// Identity (an explicit idle slot).
+    I,
+    /// Phase gate, `diag(1, i)`.
+    S,
+    /// Inverse phase gate.
+    Sdg,
+    /// Swap.
+    Swap,
+    /// Square root of X.
+    Sx,
+    /// Inverse square root of X.
+    Sxdg,
+    /// Pauli X.
+    X,
+    /// Pauli Y.
+    Y,
+    /// Pauli Z.
+    Z,
+}
+
+impl Gate {
+    /// Every gate, for name lookup and suggestions.
+    pub const ALL: [Gate; 13] = [
+        Gate::I,
+        Gate::X,
+        Gate::Y,
+        Gate::Z,
+        Gate::H,
+        Gate::S,
+        Gate::Sdg,
+        Gate::Sx,
+        Gate::Sxdg,
+        Gate::Cx,
+        Gate::Cy,
+        Gate::Cz,
+        Gate::Swap,
+    ];
+
+    /// The name used in the language.
+    pub fn name(self) -> &'static str {
+        match self {
+            Gate::Cx => "cx",
+            Gate::Cy => "cy",
+            Gate::Cz => "cz",
+            Gate::H => "h",
+            Gate::I => "i",
+            Gate::S => "s",
+            Gate::Sdg => "sdg",
+            Gate::Swap => "swap",
+            Gate::Sx => "sx",
+            Gate::Sxdg => "sxdg",
+            Gate::X => "x",
+            Gate::Y => "y",
+            Gate::Z => "z",
+        }
+    }
+
+    /// Looks a gate up by its language name.
+    pub fn from_name(name: &str) -> Option<Gate> {
+        Gate::ALL.into_iter().find(|g| g.name() == name)
+    }
+
+    /// Number of qubits the gate acts on.
+    pub fn arity(self) -> usize {
+        match self {
+            Gate::Cx | Gate::Cy | Gate::Cz | Gate::Swap => 2,
+            _ => 1,
+        }
+    }
+}
+
+/// A single-qubit measurement or reset basis.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+pub enum Basis {
+    /// Eigenbasis of X.
+    X,
+    /// Eigenbasis of Y.
+    Y,
+    /// Eigenbasis of Z (computational).
+    Z,
+}
+
+impl Basis {
+    /// The Pauli whose eigenbasis this is.
+    pub fn pauli(self) -> Pauli {
+        match self {
+            Basis::X => Pauli::X,
+            Basis::Y => Pauli::Y,
+            Basis::Z => Pauli::Z,
+        }
+    }
+
+    /// Lower-case name as written in the language.
+    pub fn name(self) -> &'static str {
+        match self {
+            Basis::X => "x",
+            Basis::Y => "y",
+            Basis::Z => "z",
+        }
+    }
+}
 
 impl Gate {
     /// Images `G P G†` of `[X on target 0, Z on target 0, X on target 1, Z on target 1]`, each as
