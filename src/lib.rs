@@ -39,3 +39,4 @@ pub mod ir;
 pub mod lang;
 pub mod noise;
 pub mod sim;
+pub mod study;

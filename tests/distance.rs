@@ -2,9 +2,7 @@
 //! against published code distances, derivations and brute force; `slant compare` end to end.
 
 use crate::support::slant;
-use slant::analysis::distance::{
-    distances, symptom, DistanceOptions, DistanceReport, Unproven, Unresolved,
-};
+use slant::analysis::{distances, symptom, DistanceOptions, DistanceReport, Unproven, Unresolved};
 use slant::base::Source;
 use slant::faults::{ExtractOptions, FaultGraph};
 use slant::gen::{generate, Entangler, Family, GenSpec, LogicalBasis, Order, Style};
@@ -375,7 +373,7 @@ fn exhaustive_search_matches_brute_force_on_hyperedges() {
     assert!(g.mechanisms.iter().all(|m| m.detectors.len() > 2));
     let r = report(&g);
     let c = r.distance.as_ref().expect("logical error");
-    assert_eq!(c.method, slant::analysis::distance::Method::Exhaustive);
+    assert_eq!(c.method, slant::analysis::Method::Exhaustive);
     assert_eq!(Some(c.value), brute_force(&g, |_| true));
     assert_eq!(c.value, 4);
     // The class and weighted searches see no graphlike mechanism here: their absence is

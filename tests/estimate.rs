@@ -6,11 +6,11 @@
 
 use crate::support::slant;
 use slant::base::Source;
-use slant::decode::run::{Counts, Experiment, RunOptions};
 use slant::decode::DecoderKind;
 use slant::gen::{Family, Flip, GenSpec, LogicalBasis, Style};
 use slant::ir::Circuit;
 use slant::noise::{self, NoiseSpec};
+use slant::study::{Counts, Pipeline, RunOptions};
 
 fn load(text: &str) -> Circuit {
     match slant::ir::load_source(&Source::new("t.slant", text), &[]) {
@@ -29,7 +29,9 @@ fn generated(spec: &GenSpec) -> Circuit {
 }
 
 fn estimate(c: &Circuit, kind: DecoderKind, shots: u64, seed: u64) -> Counts {
-    let exp = Experiment::new(c, kind).expect("decodable graph");
+    let exp = Pipeline::from_circuit(c.clone())
+        .experiment(kind)
+        .expect("decodable graph");
     exp.run(
         &RunOptions {
             shots,
@@ -251,7 +253,9 @@ fn max_errors_stops_early_at_a_batch_boundary() {
         &generated(&GenSpec::new(Family::Repetition, 3)),
         "phenomenological p=0.1",
     );
-    let exp = Experiment::new(&c, DecoderKind::Mwpm).unwrap();
+    let exp = Pipeline::from_circuit(c)
+        .experiment(DecoderKind::Mwpm)
+        .unwrap();
     let opts = RunOptions {
         shots: 1_000_000,
         max_errors: Some(50),
@@ -369,7 +373,7 @@ bias = [inf]
 /// `(task, chunk, shots, errors)` of every row, sorted: equal for runs that recorded the same
 /// chunks with the same counts, in whatever order.
 fn chunk_table(path: &std::path::Path) -> Vec<(String, u64, u64, u64)> {
-    let mut t: Vec<_> = slant::decode::sweep::read_store(path)
+    let mut t: Vec<_> = slant::study::read_store(path)
         .unwrap()
         .into_iter()
         .map(|r| (r.task, r.chunk, r.shots, r.errors))
@@ -466,8 +470,8 @@ fn shard_and_merge_round_trip_equals_the_unsharded_sweep() {
     assert!(out.status.success());
     assert!(String::from_utf8_lossy(&out.stderr).contains("duplicates dropped"));
     assert_eq!(chunk_table(&merged), chunk_table(&whole));
-    let rows = slant::decode::sweep::read_store(&merged).unwrap();
-    let points = slant::decode::sweep::aggregate(&rows);
+    let rows = slant::study::read_store(&merged).unwrap();
+    let points = slant::study::aggregate(&rows);
     assert_eq!(points.len(), 4);
     assert!(points.iter().all(|p| p.shots == 49152));
 }
@@ -482,7 +486,7 @@ fn plot_marks_the_crossing_of_synthetic_power_laws() {
         for p in [0.005, 0.01, 0.015, 0.025, 0.03] {
             let rate = 0.1 * (p / 0.02f64).powf((d as f64 + 1.0) / 2.0);
             let shots = 100_000_000u64;
-            let row = slant::decode::sweep::Row {
+            let row = slant::study::ChunkRow {
                 task: format!("t d={d} p={p}"),
                 chunk: 0,
                 shots,

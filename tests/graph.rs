@@ -4,8 +4,8 @@ use std::collections::BTreeSet;
 use std::process::Command;
 
 use slant::base::{Gate, Pauli, Source};
-use slant::faults::export::{self, Format, View};
 use slant::faults::{self, ExtractOptions, FaultGraph};
+use slant::faults::{Format, View};
 use slant::ir::{Circuit, OpKind};
 
 fn load(text: &str, set: &[(&str, i64)]) -> Circuit {
@@ -431,7 +431,7 @@ fn ids(v: &serde_json::Value) -> Vec<u32> {
 fn exports_parse_back_to_the_same_graph() {
     let g = graph_of(SURFACE3, &[("rounds", 2)]);
     // JSON, full graph.
-    let json = &export::render(&View::Full(&g), Format::Json)[0].1;
+    let json = &slant::faults::render(&View::Full(&g), Format::Json)[0].1;
     let v: serde_json::Value = serde_json::from_slice(json).unwrap();
     assert_eq!(v["format"], "slant-fault-graph");
     assert_eq!(v["version"], 1);
@@ -462,7 +462,7 @@ fn exports_parse_back_to_the_same_graph() {
     let (mg, st) = g.graphlike();
     let gl = View::Graphlike(&g, &mg, &st);
     let v: serde_json::Value =
-        serde_json::from_slice(&export::render(&gl, Format::Json)[0].1).unwrap();
+        serde_json::from_slice(&slant::faults::render(&gl, Format::Json)[0].1).unwrap();
     assert_eq!(v["format"], "slant-matching-graph");
     let edges = v["edges"].as_array().unwrap();
     assert_eq!(edges.len(), mg.edges.len());
@@ -493,7 +493,7 @@ fn exports_parse_back_to_the_same_graph() {
                 .collect(),
         ),
     ] {
-        let files = export::render(&view, Format::Mtx);
+        let files = slant::faults::render(&view, Format::Mtx);
         let get = |n: &str| &files.iter().find(|f| f.0 == n).unwrap().1;
         let (hr, hc, h) = read_mtx(std::str::from_utf8(get("H.mtx")).unwrap());
         let (lr, lc, l) = read_mtx(std::str::from_utf8(get("L.mtx")).unwrap());
@@ -507,8 +507,12 @@ fn exports_parse_back_to_the_same_graph() {
         }
     }
     // Text: one line per mechanism after the header, with its detectors.
-    let text =
-        String::from_utf8(export::render(&View::Full(&g), Format::Text)[0].1.clone()).unwrap();
+    let text = String::from_utf8(
+        slant::faults::render(&View::Full(&g), Format::Text)[0]
+            .1
+            .clone(),
+    )
+    .unwrap();
     let lines: Vec<&str> = text.lines().collect();
     assert_eq!(lines.len(), 1 + g.mechanisms.len());
     for (m, l) in g.mechanisms.iter().zip(&lines[1..]) {
@@ -521,7 +525,7 @@ fn exports_parse_back_to_the_same_graph() {
         assert_eq!(parsed, m.detectors);
     }
     // Dot: one node per detector plus the boundary; one edge line per matching edge.
-    let dot = String::from_utf8(export::render(&gl, Format::Dot)[0].1.clone()).unwrap();
+    let dot = String::from_utf8(slant::faults::render(&gl, Format::Dot)[0].1.clone()).unwrap();
     assert_eq!(dot.matches("pos=\"").count(), g.detectors.len() + 1);
     assert_eq!(dot.matches(" -- ").count(), mg.edges.len());
 }
@@ -743,7 +747,7 @@ fn sampled_statistics_agree_with_the_graph() {
         let pairs: Vec<(u32, u32)> = pairs.into_iter().collect();
         let mut ones = vec![0u64; n];
         let mut both = vec![0u64; pairs.len()];
-        slant::sim::frame::sample(&c, shots, 7, slant::sim::frame::Outputs::syndromes(), |b| {
+        slant::sim::sample(&c, shots, 7, slant::sim::Outputs::syndromes(), |b| {
             for s in 0..b.shots {
                 for (k, o) in ones.iter_mut().enumerate() {
                     *o += u64::from(b.get(&b.detectors, k, s));

@@ -247,7 +247,7 @@ fn loop_past_the_size_limit() {
 
 #[test]
 fn size_limit_is_configurable_on_the_command_line() {
-    use slant::ir::expand::cost;
+    use slant::ir::cost;
     let text = "param n = 50\nqubit q[0..n]\nfor k in 0..n {\n    h q[k]\n}\n";
     // The count is exact: 50 qubits and 50 lone single-target gates.
     let items = 50 * cost::QUBIT + 50 * (cost::LAYER + cost::OP + cost::TARGET);
@@ -738,7 +738,7 @@ proptest! {
             let text = format!("{}{}{}", &base[..pos], insert, &base[end..]);
             let _ = load(&text);
             if let Ok(ast) = slant::lang::parse(&Source::new("m", text)) {
-                let _ = slant::lang::print::print(&ast);
+                let _ = slant::lang::print(&ast);
             }
         }
     }
@@ -766,7 +766,7 @@ fn shape(text: &str) -> String {
 }
 
 fn fmt(text: &str) -> String {
-    slant::lang::print::print(&slant::lang::parse(&Source::new("s", text)).unwrap())
+    slant::lang::print(&slant::lang::parse(&Source::new("s", text)).unwrap())
 }
 
 fn round_trip(text: &str) {
@@ -1052,15 +1052,15 @@ proptest! {
     fn determinism_check_agrees_with_noiseless_sampling(text in arb_random_circuit()) {
         let source = Source::new("r.slant", text.clone());
         let ast = slant::lang::parse(&source).unwrap();
-        let circuit = slant::ir::expand::expand(&ast, &[], &Default::default()).unwrap();
-        let flagged: Vec<bool> = match slant::ir::check::check(&circuit) {
+        let circuit = slant::ir::expand(&ast, &[], &Default::default()).unwrap();
+        let flagged: Vec<bool> = match slant::ir::check(&circuit) {
             Ok(()) => vec![false; circuit.detectors.len()],
             Err(errs) => (0..circuit.detectors.len())
                 .map(|k| errs.iter().any(|e| e.message.contains(&format!("detector `d{k}`"))))
                 .collect(),
         };
         let mut fired = vec![false; circuit.detectors.len()];
-        slant::sim::frame::sample(&circuit, 512, 7, slant::sim::frame::Outputs::syndromes(), |batch| {
+        slant::sim::sample(&circuit, 512, 7, slant::sim::Outputs::syndromes(), |batch| {
             for (k, f) in fired.iter_mut().enumerate() {
                 *f |= (0..batch.shots).any(|s| batch.get(&batch.detectors, k, s));
             }
@@ -1071,10 +1071,10 @@ proptest! {
         // in all of them with probability 2^-63.
         use rand::{Rng, SeedableRng};
         let mut rng = rand_xoshiro::Xoshiro256PlusPlus::seed_from_u64(5);
-        let base = slant::sim::tableau::reference_run(&circuit).detectors;
+        let base = slant::sim::reference_run(&circuit).detectors;
         let mut varies = vec![false; circuit.detectors.len()];
         for _ in 0..64 {
-            let run = slant::sim::tableau::branch_run(&circuit, || rng.gen::<bool>());
+            let run = slant::sim::branch_run(&circuit, || rng.gen::<bool>());
             for (v, (a, b)) in varies.iter_mut().zip(run.detectors.iter().zip(&base)) {
                 *v |= a != b;
             }

@@ -2,15 +2,15 @@
 
 use std::sync::Arc;
 
-use slant::analysis::bias::analyze;
+use slant::analysis::analyze_bias as analyze;
 use slant::base::{Gate, Pauli, Source};
 use slant::faults::{ExtractOptions, FaultGraph};
 use slant::gen::{generate, Entangler, Family, GenSpec};
 use slant::ir::{Channel, Circuit};
-use slant::noise::compile::{compile, to_text};
-use slant::noise::implement::{effective_channel, mid_gate_fault, Generator, Implementation};
-use slant::noise::model::{cat_idle, twirled_decoherence, NoiseModel};
 use slant::noise::{apply, NoiseSpec};
+use slant::noise::{cat_idle, twirled_decoherence, NoiseModel};
+use slant::noise::{compile, to_text};
+use slant::noise::{effective_channel, mid_gate_fault, Generator, Implementation};
 
 fn load(name: &str, text: &str) -> Circuit {
     slant::ir::load_source(&Source::new(name, text), &[])
@@ -917,7 +917,7 @@ fn model_generator_overrides_default() {
     ))
     .unwrap_or_else(|d| panic!("{}", d.render()));
     let g = other.gates[0].1.generator.as_ref().unwrap();
-    let d = slant::noise::implement::mid_gate_fault_with(
+    let d = slant::noise::mid_gate_fault_with(
         Gate::Cx,
         Implementation::Rotation,
         Some(g),

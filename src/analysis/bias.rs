@@ -35,8 +35,8 @@ use serde::Serialize;
 use crate::base::{Gate, Pauli};
 use crate::faults::{ClassSet, ExtractOptions};
 use crate::ir::{Circuit, OpKind};
-use crate::noise::compile::Note;
-use crate::noise::implement::{mid_gate_fault_with, Implementation};
+use crate::noise::Note;
+use crate::noise::{mid_gate_fault_with, Implementation};
 
 /// Bias of one operation class.
 #[derive(Clone, Debug, PartialEq, Serialize)]

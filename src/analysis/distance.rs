@@ -47,7 +47,7 @@ use std::collections::{BinaryHeap, HashMap};
 use std::ops::Add;
 
 use crate::base::{odd_parity, xor_sets};
-use crate::faults::graph::{weight_of, ClassSet, FaultGraph};
+use crate::faults::{weight_of, ClassSet, FaultGraph};
 
 /// Default depth of the exhaustive search when the graphlike mechanisms make no logical error
 /// at all.

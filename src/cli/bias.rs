@@ -2,7 +2,7 @@
 //!
 //! Always exits 0 when the inputs are valid: the verdict is a report, not a yes/no answer.
 
-use crate::analysis::bias::{analyze, BiasReport};
+use crate::analysis::{analyze_bias, BiasReport};
 use crate::cli::common::CircuitArgs;
 use crate::cli::CliError;
 
@@ -26,9 +26,8 @@ pub struct Args {
 
 /// Runs `slant bias`.
 pub fn run(args: Args) -> Result<(), CliError> {
-    let circuit = args.circuit.load()?;
-    let (noisy, notes) = crate::cli::compile::compile_spec(&circuit, &args.noise)?;
-    let report = analyze(&noisy, &notes);
+    let pipeline = args.circuit.load_noisy(Some(&args.noise))?;
+    let report = analyze_bias(pipeline.noisy(), pipeline.notes());
     if args.json {
         #[derive(serde::Serialize)]
         struct Out<'a> {

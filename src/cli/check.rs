@@ -145,8 +145,8 @@ impl Summary {
 
 /// Runs `slant check`.
 pub fn run(args: Args) -> Result<(), CliError> {
-    let circuit = match args.circuit.load() {
-        Ok(c) => c,
+    let pipeline = match args.circuit.load() {
+        Ok(p) => p,
         Err(diags) => {
             if args.json {
                 // Machines get the refusal on stdout too; people still read stderr.
@@ -163,7 +163,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
             return Err(CliError::Rejected(diags));
         }
     };
-    let summary = Summary::of(&circuit);
+    let summary = Summary::of(pipeline.circuit());
     if args.json {
         let mut v =
             serde_json::to_value(&summary).map_err(|e| CliError::Internal(e.to_string()))?;

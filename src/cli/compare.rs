@@ -5,12 +5,12 @@
 //! fixed `--with` options, so every `slant new` option can be varied and is validated the same
 //! way.
 //!
-//! With `--p LIST` every variant is also sampled and decoded ([`crate::decode::run`]) at each
+//! With `--p LIST` every variant is also sampled and decoded ([`crate::study::rates`]) at each
 //! physical error rate: the `p=` of the `--noise` preset text is replaced by each value (other
 //! keys, including an explicit `q=`, stay as written). A model file has many rates of its own and
 //! no single `p` to replace, so `--p` with a `.toml` model is refused. The distances and the bias
 //! columns always use `--noise` as written. `--plot FILE.svg|FILE.png` draws the per-round rates against
-//! `p`, one curve per variant ([`crate::decode::plot`]).
+//! `p`, one curve per variant ([`crate::study::render_for`]).
 
 use std::fmt::Write as _;
 use std::path::PathBuf;
@@ -18,17 +18,15 @@ use std::path::PathBuf;
 use clap::Parser;
 use serde_json::json;
 
-use crate::analysis::compare::{self, Column, RatePoint, Row};
-use crate::analysis::distance::{Count, DistanceOptions, Unproven};
+use crate::analysis::{Count, DistanceOptions, Unproven};
 use crate::base::{write_atomic, Diagnostic, Source};
-use crate::cli::common::{parse_setting, read_source, NoiseArgs};
+use crate::cli::common::{parse_setting, print_warnings, read_source, NoiseArgs};
 use crate::cli::{distance::count_text, new, CliError};
-use crate::decode::plot::{Curve, Panel};
-use crate::decode::run::{Experiment, RunOptions};
-use crate::decode::stats::{Estimate, Z95};
 use crate::decode::DecoderKind;
 use crate::faults::ExtractOptions;
+use crate::ir::Limits;
 use crate::noise::NoiseSpec;
+use crate::study::{self, at_p, Column, Curve, Estimate, Panel, Pipeline, Row, RunOptions};
 
 /// Arguments of `slant compare`.
 #[derive(Debug, clap::Args)]
@@ -112,8 +110,8 @@ fn option_args(kv: &str) -> Vec<String> {
     }
 }
 
-/// The named circuits to compare, loaded and checked.
-fn sources(args: &Args) -> Result<Vec<(String, crate::ir::Circuit)>, CliError> {
+/// The named circuits to compare, loaded and checked (without `--noise` yet).
+fn sources(args: &Args) -> Result<Vec<(String, Pipeline)>, CliError> {
     let mut out = Vec::new();
     if let Some(family) = &args.family {
         let vary = args.vary.as_deref().unwrap_or_default();
@@ -145,8 +143,8 @@ fn sources(args: &Args) -> Result<Vec<(String, crate::ir::Circuit)>, CliError> {
             let text = crate::gen::generate(&spec)
                 .map_err(|e| Diagnostic::bare(format!("variant `{key}={v}`: {e}")))?;
             let name = format!("{key}={v}");
-            let circuit = crate::ir::load_source(&Source::new(name.clone(), text), &[])?;
-            out.push((name, circuit));
+            let source = Source::new(name.clone(), text);
+            out.push((name, Pipeline::load(&source, &[], &Limits::default())?));
         }
     } else {
         if args.files.is_empty() {
@@ -156,80 +154,9 @@ fn sources(args: &Args) -> Result<Vec<(String, crate::ir::Circuit)>, CliError> {
         }
         for f in &args.files {
             let source = read_source(f)?;
-            let circuit = crate::ir::load_source(&source, &args.set)?;
-            out.push((f.display().to_string(), circuit));
+            let pipeline = Pipeline::load(&source, &args.set, &Limits::default())?;
+            out.push((f.display().to_string(), pipeline));
         }
-    }
-    Ok(out)
-}
-
-/// The `--noise` text with its `p=` replaced by `p`. Refused for model files, which have no single
-/// `p`, and for texts without a `p=` key.
-fn at_p(text: &str, p: f64) -> Result<String, Diagnostic> {
-    if text.trim().ends_with(".toml") {
-        return Err(Diagnostic::bare(format!(
-            "`--p` re-runs a preset at each physical error rate, but `{}` is a model file with \
-             rates of its own",
-            text.trim()
-        ))
-        .with_hint(
-            "compare under the model without `--p`, or write one model file per rate and run \
-             `slant estimate` on each",
-        ));
-    }
-    let mut found = false;
-    let out: Vec<String> = text
-        .split_whitespace()
-        .map(|t| {
-            if t.starts_with("p=") {
-                found = true;
-                format!("p={p}")
-            } else {
-                t.to_string()
-            }
-        })
-        .collect();
-    if !found {
-        return Err(Diagnostic::bare(format!(
-            "`--p` replaces the `p=` of the noise preset, but `{text}` has none"
-        )));
-    }
-    Ok(out.join(" "))
-}
-
-/// Samples and decodes `circuit` under the `--noise` text at every `--p`.
-fn rates(
-    args: &Args,
-    text: &str,
-    circuit: &crate::ir::Circuit,
-) -> Result<Vec<RatePoint>, CliError> {
-    let mut out = Vec::new();
-    for &p in &args.p {
-        let spec = NoiseSpec::parse(&at_p(text, p)?)?;
-        let noisy = crate::noise::apply(circuit, &spec)?;
-        let exp = Experiment::new(&noisy, args.decoder).map_err(|e| {
-            CliError::Internal(format!(
-                "the extracted matching graph is not decodable: {e}"
-            ))
-        })?;
-        let counts = exp.run(
-            &RunOptions {
-                shots: args.shots,
-                max_errors: args.max_errors,
-                seed: args.seed,
-            },
-            |_| {},
-        );
-        let e = Estimate::wilson(counts.errors, counts.shots, Z95).per_round(exp.rounds);
-        out.push(RatePoint {
-            p,
-            shots: counts.shots,
-            errors: counts.errors,
-            rounds: exp.rounds,
-            rate: e.rate,
-            low: e.low,
-            high: e.high,
-        });
     }
     Ok(out)
 }
@@ -266,19 +193,28 @@ pub fn run(args: Args) -> Result<(), CliError> {
         }
         None => None,
     };
+    let run = RunOptions {
+        shots: args.shots,
+        max_errors: args.max_errors,
+        seed: args.seed,
+    };
     let mut rows = Vec::new();
     for (name, circuit) in sources(&args)? {
-        if !args.p.is_empty() && circuit.observables.is_empty() {
+        if !args.p.is_empty() && circuit.circuit().observables.is_empty() {
             return Err(Diagnostic::bare(format!(
                 "`{name}` declares no observable, so there is no logical error rate to estimate"
             ))
             .into());
         }
-        let noisy = compare::with_noise(circuit.clone(), spec.as_ref())?;
-        let mut row = compare::evaluate(name, &noisy, &extract, &DistanceOptions::default())
+        let noisy = match &spec {
+            Some(spec) => circuit.noised_spec(spec)?,
+            None => circuit.clone(),
+        };
+        print_warnings(noisy.warnings());
+        let mut row = study::evaluate(name, &noisy, &extract, &DistanceOptions::default())
             .map_err(CliError::Internal)?;
         if let Some(text) = &args.noise.noise {
-            row.rates = rates(&args, text, &circuit)?;
+            row.rates = study::rates(&circuit, text, &args.p, args.decoder, &run)?;
         }
         rows.push(row);
     }
@@ -311,7 +247,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
                 .collect(),
             marker: None,
         };
-        let bytes = crate::decode::plot::render_for(path, &[panel]).map_err(CliError::Internal)?;
+        let bytes = study::render_for(path, &[panel]).map_err(CliError::Internal)?;
         write_atomic(path, &bytes)?;
     }
     let text = if args.json {
@@ -349,7 +285,7 @@ fn eta_text(x: Option<f64>) -> String {
     match x {
         None => "-".into(),
         Some(x) if x.is_infinite() => "inf".into(),
-        Some(x) => format!("{}", compare::significant(x, 2)),
+        Some(x) => format!("{}", study::significant(x, 2)),
     }
 }
 
@@ -372,7 +308,7 @@ fn cells(r: &Row) -> Vec<String> {
         r.layers.to_string(),
         // Sums of decimal durations leave binary rounding residue; six figures is plenty.
         r.duration
-            .map_or("-".into(), |d| format!("{}", compare::significant(d, 6))),
+            .map_or("-".into(), |d| format!("{}", study::significant(d, 6))),
         r.detectors.to_string(),
         r.mechanisms.to_string(),
         format!("{:.1}%", 100.0 * r.hyperedge_share),
@@ -445,7 +381,7 @@ fn table_text(rows: &[Row]) -> String {
     let header: Vec<String> = HEADERS.iter().map(|s| s.to_string()).collect();
     let mut grid: Vec<Vec<String>> = rows.iter().map(cells).collect();
     for c in Column::FIXED {
-        let marks = compare::best(rows, c);
+        let marks = study::best(rows, c);
         let Some(k) = cell_index(c) else { continue };
         for (row, m) in grid.iter_mut().zip(marks) {
             if m {
@@ -488,7 +424,7 @@ fn table_text(rows: &[Row]) -> String {
             })
             .collect();
         for i in 0..n {
-            for (row, m) in grid.iter_mut().zip(compare::best(rows, Column::Rate(i))) {
+            for (row, m) in grid.iter_mut().zip(study::best(rows, Column::Rate(i))) {
                 if m {
                     row[i + 1].push('*');
                 }
@@ -571,7 +507,7 @@ fn csv_text(rows: &[Row]) -> String {
         // The columns where this row holds the best value, as the table's `*` marks them.
         let best: Vec<String> = columns
             .iter()
-            .filter(|&&c| compare::best(rows, c)[i])
+            .filter(|&&c| study::best(rows, c)[i])
             .map(|&c| column_name(rows, c))
             .collect();
         let _ = writeln!(s, ",{}", best.join(";"));
@@ -592,7 +528,7 @@ fn json_text(rows: &[Row]) -> Result<String, CliError> {
         .map(|(i, r)| {
             let best: Vec<String> = columns
                 .iter()
-                .filter(|&&c| compare::best(rows, c)[i])
+                .filter(|&&c| study::best(rows, c)[i])
                 .map(|&c| column_name(rows, c))
                 .collect();
             // JSON has no infinity: an infinite data bias is written as the string "inf".

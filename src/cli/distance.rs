@@ -5,9 +5,7 @@ use std::fmt::Write as _;
 
 use serde_json::{json, Value};
 
-use crate::analysis::distance::{
-    self, Count, DistanceOptions, DistanceReport, LogicalError, Unproven,
-};
+use crate::analysis::{distances, Count, DistanceOptions, DistanceReport, LogicalError, Unproven};
 use crate::cli::common::{CircuitArgs, NoiseArgs};
 use crate::cli::CliError;
 use crate::faults::{ExtractOptions, FaultGraph};
@@ -39,21 +37,20 @@ pub struct Args {
 
 /// Runs `slant distance`.
 pub fn run(args: Args) -> Result<(), CliError> {
-    let circuit = args.circuit.load()?;
-    let circuit = args.noise.apply(circuit)?;
+    let pipeline = args.circuit.load_noisy(args.noise.noise.as_deref())?;
+    let circuit = pipeline.noisy();
     let opts = ExtractOptions {
         high_rate_flips: args.high_rate_flips,
     };
-    let graph = crate::faults::extract(&circuit, &opts);
-    let report =
-        distance::distances(&graph, &DistanceOptions::default()).map_err(CliError::Internal)?;
+    let graph = pipeline.graph(&opts);
+    let report = distances(&graph, &DistanceOptions::default()).map_err(CliError::Internal)?;
     let text = if args.json {
-        let mut s = serde_json::to_string_pretty(&to_json(&report, &graph, &circuit))
+        let mut s = serde_json::to_string_pretty(&to_json(&report, &graph, circuit))
             .map_err(|e| CliError::Internal(e.to_string()))?;
         s.push('\n');
         s
     } else {
-        render(&report, &graph, &circuit)
+        render(&report, &graph, circuit)
     };
     print!("{text}");
     Ok(())

@@ -1,19 +1,17 @@
 //! `slant estimate`: logical error rate of a noisy circuit by sampling and decoding.
 //!
 //! Loads the circuit, writes `--noise` into it, extracts its fault graph, builds the decoder and
-//! runs [`crate::decode::run`]: shots in batches on the rayon pool, stopping early after
-//! `--max-errors` failures. Reports the rate per shot and per round with 95% Wilson intervals
-//! ([`crate::decode::stats`]), as text or as one JSON object (`--json`). A progress bar appears on
-//! stderr only when stderr is a terminal.
-
-use std::io::IsTerminal;
+//! runs the Monte Carlo loop ([`crate::study::run`]): shots in batches on the rayon pool,
+//! stopping early after `--max-errors` failures. Reports the rate per shot and per round with 95%
+//! Wilson intervals ([`crate::study::Estimate`]), as text or as one JSON object (`--json`). A
+//! progress bar appears on stderr only when stderr is a terminal.
 
 use crate::base::Diagnostic;
 use crate::cli::common::{CircuitArgs, NoiseArgs};
+use crate::cli::progress::Progress;
 use crate::cli::CliError;
-use crate::decode::run::{Counts, Experiment, RunOptions};
-use crate::decode::stats::{Estimate, Z95};
 use crate::decode::DecoderKind;
+use crate::study::{Counts, Estimate, RunOptions, StudyError, Z95};
 
 const AFTER_HELP: &str = "\
 A shot fails when the decoder's predicted observable flips differ from the sampled ones (or it
@@ -76,35 +74,28 @@ const MODEL_NOTE: &str =
 
 /// Runs `slant estimate`.
 pub fn run(args: Args) -> Result<(), CliError> {
-    let circuit = args.circuit.load()?;
-    let circuit = args.noise.apply(circuit)?;
-    if circuit.observables.is_empty() {
+    let pipeline = args.circuit.load_noisy(args.noise.noise.as_deref())?;
+    if pipeline.noisy().observables.is_empty() {
         return Err(Diagnostic::bare(format!(
             "`{}` declares no observable, so there is no logical error to estimate",
             args.circuit.file.display()
         ))
         .into());
     }
-    let exp = Experiment::new(&circuit, args.decoder).map_err(|e| {
-        CliError::Internal(format!(
-            "the extracted matching graph is not decodable: {e}"
-        ))
-    })?;
+    let exp = pipeline
+        .experiment(args.decoder)
+        .map_err(|e| CliError::from(StudyError::Undecodable(e)))?;
     let opts = RunOptions {
         shots: args.shots,
         max_errors: args.max_errors,
         seed: args.seed,
     };
-    let bar = progress_bar(args.shots);
+    let mut progress = Progress::new(args.shots, "shots");
     let counts = exp.run(&opts, |c: Counts| {
-        if let Some(b) = &bar {
-            b.set_position(c.shots);
-            b.set_message(format!("{} errors", c.errors));
-        }
+        progress.set_message(format!("{} errors", c.errors));
+        progress.set_position(c.shots);
     });
-    if let Some(b) = bar {
-        b.finish_and_clear();
-    }
+    progress.finish();
     let per_shot = Estimate::wilson(counts.errors, counts.shots, Z95);
     let per_round = per_shot.per_round(exp.rounds);
     let noise = args
@@ -191,18 +182,4 @@ fn show(e: Estimate) -> String {
         "{:.4e}  (95% Wilson interval {:.4e} .. {:.4e})",
         e.rate, e.low, e.high
     )
-}
-
-/// A progress bar on stderr, or `None` when stderr is not a terminal.
-fn progress_bar(total: u64) -> Option<indicatif::ProgressBar> {
-    if !std::io::stderr().is_terminal() {
-        return None;
-    }
-    let bar = indicatif::ProgressBar::new(total);
-    if let Ok(style) = indicatif::ProgressStyle::with_template(
-        "{elapsed_precise} [{bar:40}] {pos}/{len} shots, {msg} (eta {eta})",
-    ) {
-        bar.set_style(style.progress_chars("=> "));
-    }
-    Some(bar)
 }

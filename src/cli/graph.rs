@@ -7,9 +7,7 @@ use std::time::{Duration, Instant};
 use crate::base::{write_atomic, write_atomic_with, Diagnostic};
 use crate::cli::common::{CircuitArgs, NoiseArgs};
 use crate::cli::CliError;
-use crate::faults::export::{self, Format, View};
-use crate::faults::{ExtractOptions, FaultGraph};
-use crate::ir::Circuit;
+use crate::faults::{render, write_one, ExtractOptions, FaultGraph, Format, View};
 
 /// Arguments of `slant graph`.
 #[derive(Debug, clap::Args)]
@@ -39,21 +37,16 @@ pub struct Args {
     pub output: Option<PathBuf>,
 }
 
-/// Loads the circuit named by `circuit` and writes in the noise of `--noise`, if given.
-pub fn load_noisy(circuit: &CircuitArgs, noise: &NoiseArgs) -> Result<Circuit, CliError> {
-    Ok(noise.apply(circuit.load()?)?)
-}
-
 /// Runs `slant graph`.
 pub fn run(args: Args) -> Result<(), CliError> {
     let clock = Instant::now();
-    let circuit = load_noisy(&args.circuit, &args.noise)?;
+    let pipeline = args.circuit.load_noisy(args.noise.noise.as_deref())?;
     let loaded = clock.elapsed();
     let opts = ExtractOptions {
         high_rate_flips: args.high_rate_flips,
     };
     let cpu_before = thread_cpu();
-    let graph = crate::faults::extract(&circuit, &opts);
+    let graph = pipeline.graph(&opts);
     let extracted = clock.elapsed();
     let extract_cpu = thread_cpu()
         .zip(cpu_before)
@@ -117,17 +110,17 @@ fn write(
         // is never held in memory as one string. Render and write are then one phase.
         match out {
             Some(path) if !to_stdout => {
-                write_atomic_with(path, |w| export::write_one(&view, format, w).map(drop))?
+                write_atomic_with(path, |w| write_one(&view, format, w).map(drop))?
             }
             _ => {
                 let mut stdout = std::io::BufWriter::new(std::io::stdout().lock());
                 // A closed pipe (e.g. `| head`) is not an error worth reporting.
-                let _ = export::write_one(&view, format, &mut stdout).and_then(|_| stdout.flush());
+                let _ = write_one(&view, format, &mut stdout).and_then(|_| stdout.flush());
             }
         }
         return Ok((Duration::ZERO, clock.elapsed()));
     }
-    let files = export::render(&view, format);
+    let files = render(&view, format);
     let rendered = clock.elapsed();
     let dir = out.filter(|_| !to_stdout).ok_or_else(|| {
         Diagnostic::bare("`--format mtx` writes a directory: give it with `-o DIR`")

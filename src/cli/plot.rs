@@ -1,10 +1,10 @@
 //! `slant plot`: logical against physical error rate from a results store, with the threshold.
 //!
 //! Reads a store written by `slant sweep` (or `slant merge`), sums its chunks per task
-//! ([`crate::decode::sweep::aggregate`]) and draws one log-log panel per curve group (label,
+//! ([`crate::study::aggregate`]) and draws one log-log panel per curve group (label,
 //! decoder, bias): one line per distance, 95% Wilson error bars, and a dashed vertical line at
-//! the threshold estimate ([`crate::decode::threshold`]). The estimates and the scaling fit are
-//! printed on stdout. Output is SVG (drawn by [`crate::decode::plot`]), written
+//! the threshold estimate ([`crate::study::threshold`]). The estimates and the scaling fit are
+//! printed on stdout. Output is SVG (drawn by [`crate::study::render_for`]), written
 //! atomically.
 
 use std::collections::BTreeMap;
@@ -12,10 +12,10 @@ use std::path::PathBuf;
 
 use crate::base::{write_atomic, Diagnostic};
 use crate::cli::CliError;
-use crate::decode::plot::{Curve, Marker, Panel};
-use crate::decode::stats::{Estimate, Z95};
-use crate::decode::sweep::{aggregate, read_store, Point};
-use crate::decode::threshold::{crossings, scaling_fit, threshold};
+use crate::study::{
+    aggregate, crossings, read_store, render_for, scaling_fit, threshold, Curve, Estimate, Marker,
+    Panel, Point, Z95,
+};
 
 /// Arguments of `slant plot`.
 #[derive(Debug, clap::Args)]
@@ -109,7 +109,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
     Ok(())
 }
 
-/// Draws all groups, one panel each ([`crate::decode::plot`]): one curve per distance and the
+/// Draws all groups, one panel each ([`crate::study::render_for`]): one curve per distance and the
 /// threshold estimate as a dashed marker.
 fn draw(
     groups: &BTreeMap<String, Vec<Point>>,
@@ -142,5 +142,5 @@ fn draw(
             }
         })
         .collect();
-    crate::decode::plot::render_for(output, &panels).map_err(CliError::Internal)
+    render_for(output, &panels).map_err(CliError::Internal)
 }

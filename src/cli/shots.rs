@@ -1,21 +1,25 @@
 //! `slant shots`: sample detection events, observable flips and measurement results.
 //!
 //! Loads the circuit, writes `--noise` into it, runs the noiseless reference and streams batches
-//! from the Pauli-frame sampler ([`crate::sim::frame`]) to `.npy` files (or to stdout with
+//! from the Pauli-frame sampler ([`crate::sim::Sampler`]) to `.npy` files (or to stdout with
 //! `--format 01`). Files are filled through temporary siblings and renamed into place only when
 //! every batch is written, so a killed run leaves no partial `.npy` behind. Memory stays bounded:
 //! a few batches per thread are held at once, whatever `--shots` is.
 
 use std::fs;
-use std::io::{BufWriter, IsTerminal, Write};
+use std::io::{BufWriter, Write};
 use std::path::PathBuf;
-use std::time::{Duration, Instant};
+use std::time::Instant;
 
 use crate::base::{npy_header, AtomicFile, Diagnostic};
 use crate::cli::common::{CircuitArgs, NoiseArgs};
+use crate::cli::progress::Progress;
 use crate::cli::CliError;
-use crate::sim::bits::{append_shot_rows, row_bytes};
-use crate::sim::frame::{xor_baseline, Batch, BitTable, Outputs, Sampler, BATCH_SHOTS};
+use crate::ir::Circuit;
+use crate::sim::reference_run;
+use crate::sim::{
+    append_shot_rows, row_bytes, xor_baseline, Batch, BitTable, Outputs, Sampler, BATCH_SHOTS,
+};
 
 const AFTER_HELP: &str = "\
 Output (`--format npy`, the default): DIR/detectors.npy and DIR/observables.npy, NumPy .npy
@@ -83,13 +87,13 @@ pub fn run(args: Args) -> Result<(), CliError> {
         )
         .into());
     }
-    let circuit = args.circuit.load()?;
-    let circuit = args.noise.apply(circuit)?;
+    let pipeline = args.circuit.load_noisy(args.noise.noise.as_deref())?;
+    let circuit = pipeline.noisy();
     if args.bench {
-        bench(&circuit, args.shots, args.seed);
+        bench(circuit, args.shots, args.seed);
         return Ok(());
     }
-    let sampler = Sampler::new(&circuit);
+    let sampler = pipeline.sampler();
     let what = Outputs {
         detectors: true,
         observables: true,
@@ -100,7 +104,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
         circuit.observables.len(),
         circuit.records.len(),
     ];
-    let mut progress = Progress::new(args.shots);
+    let mut progress = Progress::new(args.shots, "shots");
     match args.format {
         Format::ZeroOne => {
             let stdout = std::io::stdout();
@@ -197,52 +201,6 @@ fn push_bits(b: &Batch, table: &BitTable, count: usize, shot: usize, line: &mut 
     line.extend((0..count).map(|k| if b.get(table, k, shot) { b'1' } else { b'0' }));
 }
 
-/// A progress bar on stderr, shown only on a terminal and only once the run has taken a second.
-struct Progress {
-    total: u64,
-    done: u64,
-    start: Instant,
-    bar: Option<indicatif::ProgressBar>,
-    enabled: bool,
-}
-
-impl Progress {
-    fn new(total: u64) -> Progress {
-        Progress {
-            total,
-            done: 0,
-            start: Instant::now(),
-            bar: None,
-            enabled: std::io::stderr().is_terminal(),
-        }
-    }
-
-    fn advance(&mut self, shots: u64) {
-        self.done += shots;
-        if !self.enabled {
-            return;
-        }
-        if self.bar.is_none() && self.start.elapsed() > Duration::from_secs(1) {
-            let bar = indicatif::ProgressBar::new(self.total);
-            if let Ok(style) = indicatif::ProgressStyle::with_template(
-                "{elapsed_precise} [{bar:40}] {pos}/{len} shots ({per_sec}, eta {eta})",
-            ) {
-                bar.set_style(style.progress_chars("=> "));
-            }
-            self.bar = Some(bar);
-        }
-        if let Some(bar) = &self.bar {
-            bar.set_position(self.done);
-        }
-    }
-
-    fn finish(&mut self) {
-        if let Some(bar) = self.bar.take() {
-            bar.finish_and_clear();
-        }
-    }
-}
-
 /// Single-thread benchmark: reference run time, sampling throughput (detection events and
 /// observable flips kept bit-packed, nothing written), and the sampler's word operations per
 /// second against a plain XOR loop over the same amount of memory.
@@ -255,9 +213,9 @@ impl Progress {
 /// words as one batch's frame, records and outputs (so both work sets live in the same cache
 /// level), repeated until it has done as many word operations as the sampler. The sampler's time
 /// includes everything (allocation, fault sampling, random fills, output assembly).
-fn bench(circuit: &crate::ir::Circuit, shots: u64, seed: u64) {
+fn bench(circuit: &Circuit, shots: u64, seed: u64) {
     let t0 = Instant::now();
-    let reference = crate::sim::reference_run(circuit);
+    let reference = reference_run(circuit);
     let reference_s = t0.elapsed().as_secs_f64();
     std::hint::black_box(&reference);
     let sampler = Sampler::new(circuit);

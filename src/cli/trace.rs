@@ -69,8 +69,9 @@ pub fn describe(graph: &FaultGraph, k: usize, names: &[&str]) -> String {
 
 /// Runs `slant trace`.
 pub fn run(args: Args) -> Result<(), CliError> {
-    let circuit = crate::cli::graph::load_noisy(&args.circuit, &args.noise)?;
-    let graph = crate::faults::extract(&circuit, &ExtractOptions::default());
+    let pipeline = args.circuit.load_noisy(args.noise.noise.as_deref())?;
+    let graph = pipeline.graph(&ExtractOptions::default());
+    let circuit = pipeline.noisy();
     let names: Vec<&str> = circuit.qubits.iter().map(|q| q.name.as_str()).collect();
     let ks: Vec<usize> = match (args.mechanism, &args.detectors) {
         (Some(k), _) => {

@@ -20,13 +20,8 @@
 //! - decoders are `Send + Sync` and keep per-call scratch space in a small pool, so one decoder
 //!   can be shared by rayon threads.
 
-pub mod matching;
-pub mod plot;
-pub mod run;
-pub mod stats;
-pub mod sweep;
-pub mod threshold;
-pub mod unionfind;
+mod matching;
+mod unionfind;
 
 use std::collections::HashMap;
 use std::fmt;

@@ -3,7 +3,7 @@
 //!
 //! In: a [`Circuit`] and [`ExtractOptions`]. Out: a [`FaultGraph`] (before decomposition, which
 //! [`crate::faults::decompose`] adds). The symptom of a Pauli fault is the XOR of the
-//! sensitivities ([`crate::ir::sensitivity`]) of its X and Z parts on each qubit at the point of
+//! sensitivities ([`crate::ir::sensitivity_sweep`]) of its X and Z parts on each qubit at the point of
 //! injection; the symptom of a measurement flip is the set of detectors and observables that
 //! contain the record. Nothing is simulated per fault: the cost is one sweep plus a few short
 //! sorted-set XORs and one table lookup per fault.
@@ -23,7 +23,7 @@ use crate::faults::graph::{
     ClassSet, Contributor, DetectorInfo, FaultClass, FaultGraph, HyperedgeStats, Mechanism, Silent,
     Small,
 };
-use crate::ir::sensitivity::{self, Point, Sensitivity};
+use crate::ir::{sensitivity_sweep, Sensitivity, SweepPoint};
 use crate::ir::{Channel, Circuit, OpKind};
 
 /// Options of [`crate::faults::extract()`].
@@ -620,8 +620,8 @@ pub(crate) fn extract_mechanisms(circuit: &Circuit, opts: &ExtractOptions) -> Ex
     } else {
         FaultClass::Low
     };
-    sensitivity::sweep(circuit, |point, s| {
-        let Point::After { layer, index, op } = point else {
+    sensitivity_sweep(circuit, |point, s| {
+        let SweepPoint::After { layer, index, op } = point else {
             return;
         };
         match &op.kind {

@@ -6,12 +6,12 @@
 //!
 //! # Pipeline
 //! 1. `extract::extract_mechanisms`: one backward sensitivity sweep
-//!    ([`crate::ir::sensitivity`]). Each Pauli term of each channel application and each
+//!    ([`crate::ir::sensitivity_sweep`]). Each Pauli term of each channel application and each
 //!    measurement flip becomes an *elementary fault* whose symptom (detectors + observables)
 //!    is read off the sensitivities at its point of injection. Faults with the same symptom merge
 //!    into one *mechanism* with `p ⊕ q = p(1−q) + q(1−p)`; faults with an empty symptom are
-//!    counted in [`graph::Silent`] and dropped (they flip nothing, so they are harmless).
-//! 2. [`decompose`]: hyperedges (more than two detectors) are split into existing graphlike
+//!    counted in [`Silent`] and dropped (they flip nothing, so they are harmless).
+//! 2. `decompose`: hyperedges (more than two detectors) are split into existing graphlike
 //!    mechanisms for matching.
 //!
 //! # Independence approximation
@@ -37,14 +37,17 @@
 //! qubits, written and independent probabilities, class) so `slant trace` can say which lines
 //! of the circuit produce it.
 
-pub mod decompose;
-pub mod export;
-pub mod extract;
-pub mod graph;
+mod decompose;
+mod export;
+mod extract;
+mod graph;
 
-pub use extract::ExtractOptions;
+pub use decompose::{MAX_ATOMS, MAX_SEARCH};
+pub use export::{render, write_one, Files, Format, View};
+pub use extract::{independent_terms, ExtractOptions, IndependentTerm};
 pub use graph::{
-    ClassSet, Contributor, FaultClass, FaultGraph, MatchingEdge, MatchingGraph, Mechanism,
+    weight_of, ClassSet, Contributor, Decomposition, DetectorInfo, FaultClass, FaultGraph,
+    GraphlikeStats, HyperedgeStats, MatchingEdge, MatchingGraph, Mechanism, Silent, Small,
 };
 
 use crate::ir::Circuit;

@@ -542,7 +542,7 @@ fn canonical(text: String) -> Result<String, GenError> {
             "internal error: the generator wrote text the parser rejects (please report):\n{first}"
         ))
     })?;
-    Ok(crate::lang::print::print(&ast))
+    Ok(crate::lang::print(&ast))
 }
 
 fn gcd(a: u32, b: u32) -> u32 {

@@ -1,7 +1,7 @@
 //! Verification of an expanded circuit: every detector and observable must be deterministic
 //! without noise.
 //!
-//! Method: the backward sensitivity sweep ([`crate::ir::sensitivity`]). In a noiseless stabilizer
+//! Method: the backward sensitivity sweep ([`crate::ir::sensitivity_sweep`]). In a noiseless stabilizer
 //! circuit, all randomness of measurement outcomes can be attributed to *gauge* Paulis that leave
 //! the state unchanged: the measured Pauli right after a measurement, the reset basis right after
 //! a reset, and Z on every qubit at the start (all qubits start in |0>). Inserting such a Pauli
@@ -14,7 +14,7 @@
 //! `sim`, a later stage, which is why this is not a link).
 
 use crate::base::{Diagnostic, Span};
-use crate::ir::sensitivity::{sweep, Point};
+use crate::ir::sensitivity::{sensitivity_sweep, SweepPoint};
 use crate::ir::{Circuit, OpKind};
 
 /// What made a parity random.
@@ -37,8 +37,8 @@ pub fn check(c: &Circuit) -> Result<(), Vec<Diagnostic>> {
             culprit[id as usize].get_or_insert(who);
         }
     };
-    sweep(c, |point, s| match point {
-        Point::After { op, .. } => match &op.kind {
+    sensitivity_sweep(c, |point, s| match point {
+        SweepPoint::After { op, .. } => match &op.kind {
             OpKind::Measure { .. } => {
                 let ids = s.of_product(op.paulis.iter().copied().zip(op.targets.iter().copied()));
                 mark(
@@ -62,7 +62,7 @@ pub fn check(c: &Circuit) -> Result<(), Vec<Diagnostic>> {
             }
             _ => {}
         },
-        Point::Start => {
+        SweepPoint::Start => {
             for q in 0..c.qubits.len() {
                 mark(&s.z[q], Culprit::Start { qubit: q as u32 });
             }

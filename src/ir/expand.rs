@@ -32,8 +32,8 @@ use std::sync::Arc;
 
 use crate::base::{did_you_mean, odd_parity, ChannelKind, Diagnostic, Gate, Pauli, Source, Span};
 use crate::ir::{Channel, Circuit, Detector, Layer, Observable, Op, OpKind, Qubit, Record};
-use crate::lang::ast::{BinOp, Expr, ExprKind, Index, NoiseTargets, Ref, Stmt, StmtKind};
 use crate::lang::Ast;
+use crate::lang::{BinOp, Expr, ExprKind, Index, NoiseTargets, Ref, Stmt, StmtKind};
 
 /// Size limits for expansion.
 #[derive(Clone, Debug)]
@@ -941,7 +941,7 @@ impl Expander {
         Ok(())
     }
 
-    fn param(&mut self, st: &Stmt, name: &crate::lang::ast::Ident, value: &Expr) -> R<()> {
+    fn param(&mut self, st: &Stmt, name: &crate::lang::Ident, value: &Expr) -> R<()> {
         if self.depth_loop > 0 || self.open.is_some() || self.round.is_some() {
             return Err(self.err(st.span, "parameters are declared at the top level only"));
         }
@@ -960,7 +960,7 @@ impl Expander {
         Ok(())
     }
 
-    fn gate(&mut self, st: &Stmt, gate: &crate::lang::ast::Ident, groups: &[Vec<Ref>]) -> R<()> {
+    fn gate(&mut self, st: &Stmt, gate: &crate::lang::Ident, groups: &[Vec<Ref>]) -> R<()> {
         let Some(g) = Gate::from_name(&gate.name) else {
             return Err(self.err(gate.span, format!("unknown gate `{}`", gate.name)));
         };
@@ -1028,7 +1028,7 @@ impl Expander {
         Ok(())
     }
 
-    fn measure(&mut self, st: &Stmt, o: &crate::lang::ast::Outcome, flip: f64) -> R<()> {
+    fn measure(&mut self, st: &Stmt, o: &crate::lang::Outcome, flip: f64) -> R<()> {
         let lists = o
             .product
             .iter()
@@ -1114,7 +1114,7 @@ impl Expander {
         &mut self,
         st: &Stmt,
         channel: &str,
-        args: &[(crate::lang::ast::Ident, Expr)],
+        args: &[(crate::lang::Ident, Expr)],
         targets: &NoiseTargets,
     ) -> R<()> {
         let arg = |key: &str| args.iter().find(|(k, _)| k.name == key);
@@ -1435,7 +1435,7 @@ impl Expander {
     fn estimate_loop(
         &mut self,
         st: &Stmt,
-        var: &crate::lang::ast::Ident,
+        var: &crate::lang::Ident,
         (start, end, step): (&Expr, &Expr, Option<&Expr>),
         body: &[Stmt],
         walk: bool,

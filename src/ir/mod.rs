@@ -2,7 +2,7 @@
 //!
 //! In: an [`crate::lang::Ast`] plus parameter overrides (see [`expand`]). Out: a [`Circuit`] with
 //! loops unrolled and parameters substituted. Invariants a back end may rely on once
-//! [`check::check`] has passed:
+//! [`check()`] has passed:
 //!
 //! - qubits are numbered `0..qubits.len()`; every target index is in range;
 //! - within one [`Layer`], gates, resets and measurements touch disjoint qubits; noise
@@ -15,12 +15,15 @@
 //! Every qubit, operation, record, detector and observable keeps the [`Span`] it came from, so
 //! later stages can report `file:line:column`.
 
-pub mod check;
-pub mod expand;
+mod check;
+mod expand;
 mod load;
-pub mod sensitivity;
+mod sensitivity;
 
+pub use check::check;
+pub use expand::{cost, expand, Limits};
 pub use load::{load_source, load_source_with};
+pub use sensitivity::{record_symptoms, sensitivity_sweep, Sensitivity, SweepPoint, SymSet};
 
 use std::sync::Arc;
 

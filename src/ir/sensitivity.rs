@@ -35,7 +35,7 @@ fn xor_assign(acc: &mut Vec<u32>, b: &[u32], tmp: &mut Vec<u32>) {
 
 /// Where the sweep is when it calls the visitor.
 #[derive(Clone, Copy, Debug)]
-pub enum Point<'c> {
+pub enum SweepPoint<'c> {
     /// Just after `op` (layer `layer`, position `index` in it), before the sweep undoes it.
     After {
         /// Layer index.
@@ -168,7 +168,10 @@ pub fn record_symptoms(circuit: &Circuit) -> Vec<SymSet> {
 
 /// Runs the backward sweep over `circuit`, calling `visit` at every operation (with the
 /// sensitivities just after it) and finally at the start.
-pub fn sweep<'c>(circuit: &'c Circuit, mut visit: impl FnMut(Point<'c>, &Sensitivity)) {
+pub fn sensitivity_sweep<'c>(
+    circuit: &'c Circuit,
+    mut visit: impl FnMut(SweepPoint<'c>, &Sensitivity),
+) {
     let n = circuit.qubits.len();
     let d = circuit.detectors.len() as u32;
     let mut s = Sensitivity {
@@ -182,7 +185,7 @@ pub fn sweep<'c>(circuit: &'c Circuit, mut visit: impl FnMut(Point<'c>, &Sensiti
     for (li, layer) in circuit.layers.iter().enumerate().rev() {
         for (oi, op) in layer.ops.iter().enumerate().rev() {
             visit(
-                Point::After {
+                SweepPoint::After {
                     layer: li,
                     index: oi,
                     op,
@@ -192,5 +195,5 @@ pub fn sweep<'c>(circuit: &'c Circuit, mut visit: impl FnMut(Point<'c>, &Sensiti
             s.undo(op);
         }
     }
-    visit(Point::Start, &s);
+    visit(SweepPoint::Start, &s);
 }

@@ -2,15 +2,18 @@
 //!
 //! The grammar is in `grammar/slant.ebnf`; the guided tour in `grammar/reference.md`.
 
-pub mod ast;
+mod ast;
 mod parser;
-pub mod print;
+mod print;
 
 use std::sync::Arc;
 
 use crate::base::{Diagnostic, Source};
 
-pub use ast::Ast;
+pub use ast::{
+    Ast, BinOp, Expr, ExprKind, Ident, Index, NoiseTargets, Outcome, Ref, Stmt, StmtKind,
+};
+pub use print::print;
 
 /// Parses a whole file. On failure returns every independent error found (at most a few dozen).
 pub fn parse(source: &Arc<Source>) -> Result<Ast, Vec<Diagnostic>> {

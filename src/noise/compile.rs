@@ -20,30 +20,9 @@ use std::fmt::Write as _;
 
 use crate::base::{xor_prob, Basis, ChannelKind, Diagnostic, Gate, Pauli};
 use crate::ir::{Channel, Circuit, Op, OpKind};
-use crate::noise::implement::{effective_channel_with, Generator, Implementation};
+use crate::noise::implement::{effective_channel_with, Implementation};
 use crate::noise::model::NoiseModel;
-
-/// What produced one inserted channel.
-#[derive(Clone, Debug, PartialEq)]
-pub struct Note {
-    /// Layer of the inserted operation in the compiled circuit.
-    pub layer: usize,
-    /// Position of the inserted operation in its layer.
-    pub op: usize,
-    /// Operation class: a gate name, `reset` or `idle` (and `round-start` for the data channel
-    /// of the `capacity` and `phenomenological` presets).
-    pub class: String,
-    /// The gate it follows, if any.
-    pub gate: Option<Gate>,
-    /// How that gate is implemented.
-    pub implementation: Implementation,
-    /// The model's own rotation generator for that gate, if it gives one.
-    pub generator: Option<Generator>,
-    /// The channel as the model writes it, before mid-gate faults are transformed.
-    pub input: Channel,
-    /// Human-readable origin, used as the comment in [`to_text`].
-    pub text: String,
-}
+use crate::noise::note::Note;
 
 /// A circuit with the model's noise written in.
 #[derive(Clone, Debug)]

@@ -22,8 +22,8 @@ use std::sync::Arc;
 
 use crate::base::{did_you_mean, xor_prob, Basis, Diagnostic, Gate, Pauli, Source, Span};
 use crate::ir::{Channel, Circuit, Layer, Op, OpKind};
-use crate::noise::compile::Note;
 use crate::noise::implement::Implementation;
+use crate::noise::note::Note;
 
 /// Which preset.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]

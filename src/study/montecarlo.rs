@@ -16,12 +16,12 @@
 
 use rayon::prelude::*;
 
-use crate::decode::{BuildError, Decoder, DecoderKind};
-use crate::faults::graph::GraphlikeStats;
-use crate::ir::Circuit;
-use crate::sim::frame::{Batch, Outputs, Sampler, BATCH_SHOTS};
+use crate::decode::Decoder;
+use crate::faults::GraphlikeStats;
+use crate::sim::{Batch, Outputs, Sampler, BATCH_SHOTS};
 
-/// A noisy circuit made ready for estimation: its sampler and a decoder for its fault graph.
+/// A noisy circuit made ready for estimation: its sampler and a decoder for its fault graph
+/// (built by [`crate::study::Pipeline::experiment`]).
 pub struct Experiment {
     /// The frame sampler of the circuit.
     pub sampler: Sampler,
@@ -40,23 +40,6 @@ pub struct Experiment {
 }
 
 impl Experiment {
-    /// Extracts the fault graph of `circuit` (noise explicit), builds a decoder of `kind` for it
-    /// and compiles the sampler.
-    pub fn new(circuit: &Circuit, kind: DecoderKind) -> Result<Experiment, BuildError> {
-        let graph = crate::faults::extract(circuit, &crate::faults::ExtractOptions::default());
-        let (matching, graph_stats) = graph.graphlike();
-        let decoder = kind.build(&matching)?;
-        Ok(Experiment {
-            sampler: Sampler::new(circuit),
-            decoder,
-            rounds: circuit.rounds.max(1),
-            detectors: circuit.detectors.len(),
-            observables: circuit.observables.len(),
-            edges: matching.edges.len(),
-            graph_stats,
-        })
-    }
-
     /// Runs [`run`] on this experiment.
     pub fn run(&self, opts: &RunOptions, progress: impl FnMut(Counts)) -> Counts {
         run(&self.sampler, self.decoder.as_ref(), opts, progress)
@@ -173,7 +156,7 @@ pub fn decode_batch(batch: &Batch, decoder: &dyn Decoder) -> Counts {
 mod tests {
     use super::*;
     use crate::decode::{Decoded, MatchingGraph};
-    use crate::sim::frame::BitTable;
+    use crate::sim::BitTable;
 
     /// A decoder that predicts no flip: every shot with an observable flip fails.
     struct Nothing;

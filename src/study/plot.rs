@@ -12,7 +12,7 @@
 use image::ImageEncoder;
 use plotters::prelude::*;
 
-use crate::decode::stats::Estimate;
+use crate::study::stats::Estimate;
 
 /// One line of a panel.
 #[derive(Clone, Debug)]

@@ -20,7 +20,7 @@
 
 use std::collections::BTreeMap;
 
-use crate::decode::sweep::Point;
+use crate::study::sweep::Point;
 
 /// Where the curves of two distances cross.
 #[derive(Clone, Copy, Debug, PartialEq)]

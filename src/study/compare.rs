@@ -1,63 +1,32 @@
 //! Side-by-side comparison of circuits under one noise model.
 //!
-//! In: named circuits (files, or variants of a generated family) and a noise specification,
-//! written in by [`with_noise`]. Out: one [`Row`] per circuit — size, duration under the model,
-//! fault-graph shape, distances by class ([`crate::analysis::distance`]) and the bias verdict
-//! with the effective bias at the data ([`crate::analysis::bias`]) — and, per [`Column`], which
-//! rows are best ([`best`]).
+//! In: named [`Pipeline`]s (files, or variants of a generated family) with their noise written
+//! in. Out: one [`Row`] per circuit — size, duration under the model, fault-graph shape,
+//! distances by class ([`crate::analysis::distances`]) and the bias verdict with the effective
+//! bias at the data ([`crate::analysis::analyze_bias`]) — and, per [`Column`], which rows are best
+//! ([`best`]).
 //!
-//! Logical error rates ([`RatePoint`]) are filled in by the caller, which runs the decoder
-//! (`decode` is a sibling stage, so this module only holds and ranks the numbers). A rate is
-//! marked best only when its interval lies wholly below every other row's interval: with Monte
-//! Carlo estimates a lower point estimate alone is not evidence of a better circuit.
+//! Logical error rates ([`RatePoint`], from [`rates`]) re-run a preset at several physical error
+//! rates: the `p=` of the noise text is replaced by each value ([`at_p`]). A rate is marked best
+//! only when its interval lies wholly below every other row's interval: with Monte Carlo
+//! estimates a lower point estimate alone is not evidence of a better circuit.
 
-use crate::analysis::bias;
-use crate::analysis::distance::{self, Count, DistanceOptions, DistanceReport, Unproven};
+use crate::analysis::{
+    analyze_bias, distances, BiasReport, Count, DistanceOptions, DistanceReport, Unproven,
+};
 use crate::base::Diagnostic;
+use crate::decode::DecoderKind;
 use crate::faults::{ExtractOptions, FaultGraph};
-use crate::ir::Circuit;
-use crate::noise::compile::Note;
-use crate::noise::NoiseSpec;
-
-/// A circuit with its noise written in, and what the compiler said about it.
-#[derive(Clone, Debug)]
-pub struct Noisy {
-    /// The circuit with explicit channels.
-    pub circuit: Circuit,
-    /// What produced each inserted channel (see [`crate::noise::apply_noted`]).
-    pub notes: Vec<Note>,
-    /// Total duration from a hardware model; `None` when the model gives no durations (the
-    /// presets never do).
-    pub duration: Option<f64>,
-}
-
-/// Writes `spec` into `circuit` (`None`: the noise written in the file only).
-pub fn with_noise(circuit: Circuit, spec: Option<&NoiseSpec>) -> Result<Noisy, Vec<Diagnostic>> {
-    match spec {
-        None => Ok(Noisy {
-            circuit,
-            notes: Vec::new(),
-            duration: None,
-        }),
-        Some(spec) => {
-            let c = crate::noise::apply_noted(&circuit, spec)?;
-            Ok(Noisy {
-                circuit: c.circuit,
-                notes: c.notes,
-                // Zero means no operation had a duration: the model (or preset) says nothing
-                // about time.
-                duration: (c.duration > 0.0).then_some(c.duration),
-            })
-        }
-    }
-}
+use crate::study::montecarlo::RunOptions;
+use crate::study::pipeline::{Pipeline, StudyError};
+use crate::study::stats::{Estimate, Z95};
 
 /// The bias columns of a row.
 #[derive(Clone, Debug, PartialEq)]
 pub struct BiasSummary {
     /// Whether no operation turns a high-rate fault into X or Y at the data.
     pub kept: bool,
-    /// [`bias::BiasReport::verdict`]: `bias kept` or `bias lost at LOCATION (GATE)`.
+    /// [`BiasReport::verdict`]: `bias kept` or `bias lost at LOCATION (GATE)`.
     pub verdict: String,
     /// Effective bias at the data over all rounds, `Σ pZ / Σ pX,Y` (infinite when nothing
     /// reaches the data with X or Y; `None` when nothing reaches it at all).
@@ -66,7 +35,7 @@ pub struct BiasSummary {
 
 impl BiasSummary {
     /// Summarises a bias report.
-    pub fn of(r: &bias::BiasReport) -> BiasSummary {
+    pub fn of(r: &BiasReport) -> BiasSummary {
         let z: f64 = r.rounds.iter().map(|b| b.z).sum();
         let xy: f64 = r.rounds.iter().map(|b| b.xy).sum();
         BiasSummary {
@@ -126,13 +95,13 @@ pub struct Row {
 /// Extracts the fault graph of the noisy circuit and measures it; `rates` is left empty.
 pub fn evaluate(
     name: impl Into<String>,
-    noisy: &Noisy,
+    noisy: &Pipeline,
     extract: &ExtractOptions,
     opts: &DistanceOptions,
 ) -> Result<Row, String> {
-    let circuit = &noisy.circuit;
-    let graph: FaultGraph = crate::faults::extract(circuit, extract);
-    let report = distance::distances(&graph, opts)?;
+    let circuit = noisy.noisy();
+    let graph: FaultGraph = noisy.graph(extract);
+    let report = distances(&graph, opts)?;
     let n = graph.mechanisms.len().max(1) as f64;
     Ok(Row {
         name: name.into(),
@@ -143,8 +112,8 @@ pub fn evaluate(
         hyperedge_share: graph.hyperedges.hyperedges as f64 / n,
         undecomposed_share: graph.hyperedges.undecomposed.len() as f64 / n,
         report,
-        duration: noisy.duration,
-        bias: BiasSummary::of(&bias::analyze(circuit, &noisy.notes)),
+        duration: noisy.duration(),
+        bias: BiasSummary::of(&analyze_bias(circuit, noisy.notes())),
         rates: Vec::new(),
     })
 }
@@ -280,4 +249,66 @@ pub fn best(rows: &[Row], column: Column) -> Vec<bool> {
     } else {
         marks
     }
+}
+
+/// The noise text with its `p=` replaced by `p`. Refused for model files, which have no single
+/// `p`, and for texts without a `p=` key.
+pub fn at_p(text: &str, p: f64) -> Result<String, Diagnostic> {
+    if text.trim().ends_with(".toml") {
+        return Err(Diagnostic::bare(format!(
+            "`--p` re-runs a preset at each physical error rate, but `{}` is a model file with \
+             rates of its own",
+            text.trim()
+        ))
+        .with_hint(
+            "compare under the model without `--p`, or write one model file per rate and run \
+             `slant estimate` on each",
+        ));
+    }
+    let mut found = false;
+    let out: Vec<String> = text
+        .split_whitespace()
+        .map(|t| {
+            if t.starts_with("p=") {
+                found = true;
+                format!("p={p}")
+            } else {
+                t.to_string()
+            }
+        })
+        .collect();
+    if !found {
+        return Err(Diagnostic::bare(format!(
+            "`--p` replaces the `p=` of the noise preset, but `{text}` has none"
+        )));
+    }
+    Ok(out.join(" "))
+}
+
+/// Samples and decodes `circuit` under the noise `text` re-run at every `p` of `ps` (see
+/// [`at_p`]), with the same decoder, shots, failure budget and seed at each.
+pub fn rates(
+    circuit: &Pipeline,
+    text: &str,
+    ps: &[f64],
+    decoder: DecoderKind,
+    opts: &RunOptions,
+) -> Result<Vec<RatePoint>, StudyError> {
+    let mut out = Vec::new();
+    for &p in ps {
+        let noisy = circuit.noised(Some(&at_p(text, p)?))?;
+        let exp = noisy.experiment(decoder)?;
+        let counts = exp.run(opts, |_| {});
+        let e = Estimate::wilson(counts.errors, counts.shots, Z95).per_round(exp.rounds);
+        out.push(RatePoint {
+            p,
+            shots: counts.shots,
+            errors: counts.errors,
+            rounds: exp.rounds,
+            rate: e.rate,
+            low: e.low,
+            high: e.high,
+        });
+    }
+    Ok(out)
 }
