@@ -1,4 +1,5 @@
 //! The one integration-test binary: runs the real `slant` executable, one module per subcommand.
+mod architecture;
 mod codes;
 mod decode;
 mod distance;

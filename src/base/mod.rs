@@ -13,6 +13,7 @@ mod output;
 mod parity;
 mod pauli;
 mod prob;
+mod read;
 mod source;
 
 pub use channel::ChannelKind;
@@ -23,4 +24,5 @@ pub use output::{write_atomic, write_atomic_with, AtomicFile};
 pub use parity::{odd_parity, odd_parity_in_place, xor_into, xor_sets};
 pub use pauli::Pauli;
 pub use prob::xor_prob;
-pub use source::{source_from_bytes, Source, Span, BOM};
+pub use read::source_from_bytes;
+pub use source::{Source, Span, BOM};

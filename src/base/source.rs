@@ -6,8 +6,6 @@
 
 use std::sync::Arc;
 
-use crate::base::Diagnostic;
-
 /// A byte range `[start, end)` in a source file.
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq, Hash, PartialOrd, Ord)]
 pub struct Span {
@@ -110,28 +108,6 @@ impl Source {
         self.text
             .get(span.start as usize..span.end as usize)
             .unwrap_or("")
-    }
-}
-
-/// Builds a [`Source`] from raw bytes, rejecting bytes that are not UTF-8 with the location of the
-/// first bad byte.
-pub fn source_from_bytes(name: String, bytes: Vec<u8>) -> Result<Arc<Source>, Diagnostic> {
-    match String::from_utf8(bytes) {
-        Ok(text) => Ok(Source::new(name, text)),
-        Err(e) => {
-            // `Source::new` drops a byte-order mark, which moves every offset back by its length.
-            let bom = e.as_bytes().starts_with(BOM.to_string().as_bytes());
-            let at = e.utf8_error().valid_up_to() - if bom { BOM.len_utf8() } else { 0 };
-            let lossy = String::from_utf8_lossy(e.as_bytes()).into_owned();
-            // Offsets shift in the lossy text only after the bad byte, so `at` is still right.
-            let src = Source::new(name, lossy);
-            Err(
-                Diagnostic::error(&src, Span::new(at, at + 1), "the file is not valid UTF-8")
-                    .with_hint(
-                        "slant reads UTF-8 text; convert the file, e.g. with `iconv -t UTF-8`",
-                    ),
-            )
-        }
     }
 }
 

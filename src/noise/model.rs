@@ -316,11 +316,6 @@ impl NoiseModel {
         }
     }
 
-    /// Parses a model file (the reader is in `reader.rs`).
-    pub fn parse(source: &Arc<Source>) -> Result<NoiseModel, Diagnostic> {
-        crate::noise::reader::parse_model(source)
-    }
-
     /// The gate section for `gate` (the override for `qubits` if one matches), if any.
     pub fn gate<'a>(&'a self, gate: Gate, qubits: &[&Qubit]) -> Option<&'a GateNoise> {
         let find = |list: &'a [(Option<Gate>, GateNoise)]| {

@@ -446,14 +446,10 @@ fn key_list(kind: PresetKind) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::noise::NoiseSpec;
 
+    /// Parses as `--noise` does for a plain preset (the same source name).
     fn parse(text: &str) -> Result<Preset, Diagnostic> {
-        NoiseSpec::parse(text).map(|s| match s {
-            NoiseSpec::Preset(p) => p,
-            #[allow(unreachable_patterns)]
-            other => panic!("expected a preset, got {other:?}"),
-        })
+        Preset::parse(&Source::new("--noise", text))
     }
 
     #[test]

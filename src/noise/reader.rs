@@ -17,8 +17,14 @@ use crate::noise::model::{
     ResetNoise, Selector, TIME_UNITS,
 };
 
-/// Parses a model file.
-pub(crate) fn parse_model(source: &Arc<Source>) -> Result<NoiseModel, Diagnostic> {
+impl NoiseModel {
+    /// Parses a model file.
+    pub fn parse(source: &Arc<Source>) -> Result<NoiseModel, Diagnostic> {
+        parse_model(source)
+    }
+}
+
+fn parse_model(source: &Arc<Source>) -> Result<NoiseModel, Diagnostic> {
     let doc = ImDocument::parse(source.text.clone()).map_err(|e| {
         let span = e.span().unwrap_or(0..0);
         let msg = e.message().lines().next().unwrap_or("invalid TOML").trim();
