@@ -19,8 +19,9 @@
 //!
 //! Hyperedges neither strategy splits are listed in [`HyperedgeStats::undecomposed`].
 
-use crate::faults::extract::{Extracted, FxMap};
+use crate::faults::extract::Extracted;
 use crate::faults::graph::{Decomposition, HyperedgeStats};
+use crate::faults::intern::FxMap;
 
 /// Largest number of atoms whose groupings are enumerated (Bell number 203 at 6).
 pub const MAX_ATOMS: usize = 6;

@@ -41,6 +41,7 @@ mod decompose;
 mod export;
 mod extract;
 mod graph;
+mod intern;
 
 pub use decompose::{MAX_ATOMS, MAX_SEARCH};
 pub use export::{render, write_one, Files, Format, View};

@@ -30,8 +30,8 @@ use std::io::{self, Write};
 use serde::Serialize;
 
 use crate::faults::export::View;
-use crate::faults::extract::FxMap;
 use crate::faults::graph::{Contributor, FaultGraph};
+use crate::faults::intern::FxMap;
 
 /// Schema version written in every file.
 pub const VERSION: u32 = 1;

@@ -1,0 +1,410 @@
+//! Circuit-level distances of a fault graph, overall and by fault class.
+//!
+//! In: a [`FaultGraph`]. Out: a [`DistanceReport`] holding, each with the logical error that
+//! attains it (mechanism ids; provenance through [`FaultGraph::contributors`]):
+//!
+//! - **distance**: the least number of mechanisms whose detectors cancel and whose observables do
+//!   not (an undetected logical error);
+//! - **high-rate distance**: the same using only mechanisms that a high-rate fault alone can cause
+//!   (`None`: no logical error is made of high-rate faults alone);
+//! - **lexicographic**: the least number of low-rate mechanisms any logical error must contain,
+//!   and among those errors the least total count. Under bias `eta` each low-rate fault costs a
+//!   factor of about `1/eta` ("The XZZX surface code", Nat. Commun. 12, 2172 (2021));
+//! - **weighted**: the least total weight `Σ ln((1−p)/p)`, i.e. the most likely logical error
+//!   relative to no error ("Topological quantum memory", J. Math. Phys. 43, 4452 (2002)).
+//!
+//! # Method
+//! Mechanisms with one or two detectors are edges of the detector graph (one detector: an edge to
+//! a boundary node; no detectors: a loop at the boundary). An undetected logical error flipping
+//! observable `o` is an edge set with even degree at every detector and odd `o`-parity; a least
+//! one is a cycle, so it is the least over the `o`-flipping edges `e = (u, w)` of `cost(e)` plus
+//! a shortest path `w → u` of even `o`-parity, found by Dijkstra on the doubled graph whose states
+//! are `(node, parity)`. Cycles through the boundary take one search; the others start at the
+//! few edges left odd after re-gauging the parities along a spanning forest (see
+//! `shortest_odd_cycle`), and each search stops at the best cost so far. Costs: `1` per
+//! mechanism; `(low, 1)` pairs compared lexicographically; weights.
+//! This is exact when every mechanism has at most two detectors.
+//!
+//! **Hyperedges** (three or more detectors) do not fit a path. The graph search over the
+//! graphlike mechanisms then gives an upper bound (its error is real). For the count distance the
+//! report adds, in order (the first that closes the gap wins):
+//! 1. when every hyperedge was decomposed into graphlike parts, a lower bound from projecting
+//!    logical errors onto classes of detectors (see `projected_bound` and `lower_bound`);
+//! 2. an exhaustive meet-in-the-middle search over symptoms reached with up to `⌈(ub−1)/2⌉`
+//!    mechanisms (all mechanisms, hyperedges included), capped at
+//!    [`DistanceOptions::max_states`] states: when it finishes, the result is exact;
+//! 3. otherwise the report gives both bounds ([`Method::Bounds`]).
+//!
+//! Class convention: a mechanism counts as high-rate when *some* contributor is high-rate
+//! ([`ClassSet::has_high`]): each contributor alone produces the mechanism's symptom, so a
+//! high-rate fault alone suffices.
+//!
+//! Every logical error returned is checked here by XOR of its mechanisms' symptoms: empty
+//! detectors, some observable flipped. A failed check is an internal error.
+//!
+//! Files: this one holds the report and the strategy; `search.rs` the graph search (costs,
+//! shortest odd cycles), `bounds.rs` the two lower bounds and `exhaustive.rs` the
+//! meet-in-the-middle search.
+
+mod bounds;
+mod exhaustive;
+mod search;
+
+use crate::base::{odd_parity, xor_sets};
+use crate::faults::{weight_of, ClassSet, FaultGraph};
+use bounds::{best_lower_bound, projected_bound};
+use exhaustive::{exhaustive, Exhaustive};
+use search::{search, Lex, Weight};
+
+/// Default depth of the exhaustive search when the graphlike mechanisms make no logical error
+/// at all.
+pub const EXHAUSTIVE_DEPTH: u32 = 12;
+
+/// Options of [`distances`].
+#[derive(Clone, Debug)]
+pub struct DistanceOptions {
+    /// Largest number of distinct symptoms the exhaustive hyperedge search may store.
+    pub max_states: usize,
+    /// Largest logical error (in mechanisms) the exhaustive search looks for when the graphlike
+    /// mechanisms make none.
+    pub exhaustive_depth: u32,
+}
+
+impl Default for DistanceOptions {
+    fn default() -> DistanceOptions {
+        DistanceOptions {
+            max_states: 2_000_000,
+            exhaustive_depth: EXHAUSTIVE_DEPTH,
+        }
+    }
+}
+
+/// An undetected logical error: a set of mechanisms whose detectors cancel.
+#[derive(Clone, Debug, PartialEq)]
+pub struct LogicalError {
+    /// Mechanism ids, sorted.
+    pub mechanisms: Vec<u32>,
+    /// Observables flipped (never empty).
+    pub observables: Vec<u32>,
+}
+
+/// How far a count can be trusted.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Method {
+    /// Shortest cycle on a graph without hyperedges: exact.
+    Graph,
+    /// Graph search over the graphlike mechanisms, matched by the lower bound from the
+    /// hyperedges' decompositions: exact.
+    Decomposition,
+    /// Exhaustive search over symptoms including hyperedges: exact.
+    Exhaustive,
+    /// Graph search over the graphlike mechanisms only; the true value lies in
+    /// `[lower, value]`.
+    Bounds,
+}
+
+impl Method {
+    /// Lower-case label for reports.
+    pub fn name(self) -> &'static str {
+        match self {
+            Method::Graph => "exact (graph)",
+            Method::Decomposition => "exact (graph, decomposition bound)",
+            Method::Exhaustive => "exact (exhaustive)",
+            Method::Bounds => "bounds (hyperedges)",
+        }
+    }
+}
+
+/// A least mechanism count and the error attaining it.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Count {
+    /// Number of mechanisms of [`Count::error`]: an upper bound, exact when `lower == value`.
+    pub value: u32,
+    /// Proven lower bound.
+    pub lower: u32,
+    /// How it was found.
+    pub method: Method,
+    /// The logical error found.
+    pub error: LogicalError,
+}
+
+impl Count {
+    /// Whether the value is proven exact.
+    pub fn exact(&self) -> bool {
+        self.lower == self.value
+    }
+}
+
+/// The lexicographic result: fewest low-rate mechanisms, then fewest mechanisms.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Lexicographic {
+    /// Low-rate mechanisms in the error.
+    pub low: u32,
+    /// All mechanisms in the error.
+    pub total: u32,
+    /// The logical error found.
+    pub error: LogicalError,
+}
+
+/// The most likely logical error.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Weighted {
+    /// `Σ ln((1−p)/p)` over the error's mechanisms.
+    pub weight: f64,
+    /// `Π p` over the error's mechanisms.
+    pub probability: f64,
+    /// The logical error found.
+    pub error: LogicalError,
+}
+
+/// Why an absent result is not a proof that no such logical error exists.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Unproven {
+    /// The exhaustive search (hyperedges included) finished and found no logical error of at
+    /// most this many mechanisms: any logical error is larger.
+    AboveDepth(u32),
+    /// The exhaustive search stopped at its state cap ([`DistanceOptions::max_states`]).
+    Capped,
+    /// Only graphlike mechanisms were searched and the graph has hyperedges.
+    GraphlikeOnly,
+}
+
+impl Unproven {
+    /// Short text for a table cell: `> k` or `?`.
+    pub fn cell(self) -> String {
+        match self {
+            Unproven::AboveDepth(k) => format!("> {k}"),
+            Unproven::Capped | Unproven::GraphlikeOnly => "?".into(),
+        }
+    }
+
+    /// What was and was not searched, for reports.
+    pub fn describe(self) -> String {
+        match self {
+            Unproven::AboveDepth(k) => format!(
+                "no logical error of at most {k} mechanisms exists; larger ones were not searched"
+            ),
+            Unproven::Capped => {
+                "unknown: the exhaustive hyperedge search stopped at its state cap".into()
+            }
+            Unproven::GraphlikeOnly => {
+                "unknown: none among graphlike mechanisms; hyperedges were not searched".into()
+            }
+        }
+    }
+}
+
+/// For each result of a [`DistanceReport`] that is `None`, why that is not a proof that no
+/// such logical error exists (`None` here: the absence is proven).
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub struct Unresolved {
+    /// For [`DistanceReport::distance`].
+    pub distance: Option<Unproven>,
+    /// For [`DistanceReport::high_rate`].
+    pub high_rate: Option<Unproven>,
+    /// For [`DistanceReport::lexicographic`].
+    pub lexicographic: Option<Unproven>,
+    /// For [`DistanceReport::weighted`].
+    pub weighted: Option<Unproven>,
+}
+
+/// All distances of one fault graph. `None` means no such logical error exists, unless
+/// [`DistanceReport::unresolved`] says why the search could not prove that.
+#[derive(Clone, Debug, PartialEq)]
+pub struct DistanceReport {
+    /// Least number of mechanisms in an undetected logical error.
+    pub distance: Option<Count>,
+    /// The same, high-rate mechanisms only.
+    pub high_rate: Option<Count>,
+    /// Fewest low-rate mechanisms, then fewest in total (over graphlike mechanisms).
+    pub lexicographic: Option<Lexicographic>,
+    /// Most likely logical error (over graphlike mechanisms).
+    pub weighted: Option<Weighted>,
+    /// Mechanisms with three or more detectors (left out of the class and weighted searches).
+    pub hyperedges: usize,
+    /// Which absent results are unproven, and why.
+    pub unresolved: Unresolved,
+}
+
+/// Computes every distance of `graph`. `Err` carries an internal error (a found error that does
+/// not verify), which is a bug.
+pub fn distances(graph: &FaultGraph, opts: &DistanceOptions) -> Result<DistanceReport, String> {
+    let all = |_: ClassSet| true;
+    let high = |c: ClassSet| c.has_high();
+    let (distance, distance_unproven) = count_distance(graph, &all, opts)?;
+    let (high_rate, high_rate_unproven) = count_distance(graph, &high, opts)?;
+    let hyperedges = graph
+        .mechanisms
+        .iter()
+        .filter(|m| m.detectors.len() > 2)
+        .count();
+    // The class and weighted searches see graphlike mechanisms only.
+    let graphlike_only = (hyperedges > 0).then_some(Unproven::GraphlikeOnly);
+    let lexicographic = match search(graph, &all, |m| {
+        Lex(u32::from(!graph.mechanisms[m].classes.has_high()), 1)
+    }) {
+        Some((Lex(low, total), error)) => Some(Lexicographic {
+            low,
+            total,
+            error: verified(graph, error)?,
+        }),
+        None => None,
+    };
+    let weighted = match search(graph, &all, |m| {
+        Weight(weight_of(graph.mechanisms[m].probability).max(0.0))
+    }) {
+        Some((Weight(weight), error)) => {
+            let error = verified(graph, error)?;
+            let probability = error
+                .mechanisms
+                .iter()
+                .map(|&m| graph.mechanisms[m as usize].probability)
+                .product();
+            Some(Weighted {
+                weight,
+                probability,
+                error,
+            })
+        }
+        None => None,
+    };
+    let unresolved = Unresolved {
+        distance: distance_unproven,
+        high_rate: high_rate_unproven,
+        lexicographic: graphlike_only.filter(|_| lexicographic.is_none()),
+        weighted: graphlike_only.filter(|_| weighted.is_none()),
+    };
+    Ok(DistanceReport {
+        distance,
+        high_rate,
+        lexicographic,
+        weighted,
+        hyperedges,
+        unresolved,
+    })
+}
+
+/// The XOR of the symptoms of `mechanisms` as `(detectors, observables)`.
+pub fn symptom(graph: &FaultGraph, mechanisms: &[u32]) -> (Vec<u32>, Vec<u32>) {
+    let mut dets = Vec::new();
+    let mut obs = Vec::new();
+    for &m in mechanisms {
+        let m = &graph.mechanisms[m as usize];
+        dets = xor_sets(&dets, &m.detectors);
+        obs = xor_sets(&obs, &m.observables);
+    }
+    (dets, obs)
+}
+
+/// Cancels repeated mechanisms, then checks the symptom is empty and an observable flips.
+fn verified(graph: &FaultGraph, mechs: Vec<u32>) -> Result<LogicalError, String> {
+    let set = odd_parity(mechs);
+    let (dets, obs) = symptom(graph, &set);
+    if !dets.is_empty() || obs.is_empty() {
+        return Err(format!(
+            "distance search returned mechanisms {set:?} with detectors {dets:?} and \
+             observables {obs:?}, which is not an undetected logical error"
+        ));
+    }
+    Ok(LogicalError {
+        mechanisms: set,
+        observables: obs,
+    })
+}
+
+/// The count distance over the mechanisms whose classes pass `allow`, with hyperedge handling;
+/// when none is found, why that is unproven (if it is).
+fn count_distance(
+    graph: &FaultGraph,
+    allow: &dyn Fn(ClassSet) -> bool,
+    opts: &DistanceOptions,
+) -> Result<(Option<Count>, Option<Unproven>), String> {
+    let has_hyper = graph
+        .mechanisms
+        .iter()
+        .any(|m| m.detectors.len() > 2 && allow(m.classes));
+    let found = search(graph, allow, |_| 1u32);
+    if !has_hyper {
+        return match found {
+            Some((c, e)) => {
+                let error = verified(graph, e)?;
+                debug_assert_eq!(error.mechanisms.len() as u32, c);
+                Ok((
+                    Some(Count {
+                        value: c,
+                        lower: c,
+                        method: Method::Graph,
+                        error,
+                    }),
+                    None,
+                ))
+            }
+            None => Ok((None, None)),
+        };
+    }
+    let upper = match found {
+        Some((_, e)) => Some(verified(graph, e)?),
+        None => None,
+    };
+    if upper.is_none() && projected_bound(graph, allow) == Some(None) {
+        // Not even the relaxation has a logical error: none exists.
+        return Ok((None, None));
+    }
+    // The decomposition bound is one more graph search: try it before the exhaustive search.
+    if let Some(error) = &upper {
+        let value = error.mechanisms.len() as u32;
+        let lower = best_lower_bound(graph, allow, value);
+        if lower == value {
+            return Ok((
+                Some(Count {
+                    value,
+                    lower,
+                    method: Method::Decomposition,
+                    error: error.clone(),
+                }),
+                None,
+            ));
+        }
+    }
+    // Exhaustive search below the graphlike value (or up to a fixed depth when the graphlike
+    // mechanisms alone make no logical error).
+    let limit = upper
+        .as_ref()
+        .map_or(opts.exhaustive_depth, |e| e.mechanisms.len() as u32 - 1);
+    // A logical error the exhaustive search proved least.
+    let exact = |error: LogicalError| {
+        let n = error.mechanisms.len() as u32;
+        Ok((
+            Some(Count {
+                value: n,
+                lower: n,
+                method: Method::Exhaustive,
+                error,
+            }),
+            None,
+        ))
+    };
+    match exhaustive(graph, allow, limit, opts.max_states) {
+        Exhaustive::Found(e) => return exact(verified(graph, e)?),
+        Exhaustive::NoneUpTo => match upper {
+            Some(error) => return exact(error),
+            None => return Ok((None, Some(Unproven::AboveDepth(limit)))),
+        },
+        Exhaustive::Capped => {}
+    }
+    let Some(error) = upper else {
+        // Neither the graph search nor the capped exhaustive search found a logical error.
+        return Ok((None, Some(Unproven::Capped)));
+    };
+    let value = error.mechanisms.len() as u32;
+    let lower = best_lower_bound(graph, allow, value);
+    Ok((
+        Some(Count {
+            value,
+            lower,
+            method: Method::Bounds,
+            error,
+        }),
+        None,
+    ))
+}
