@@ -143,91 +143,10 @@ impl ClassSet {
     }
 }
 
-/// A short list that reads as a slice: up to [`Small::INLINE`] entries are stored in place, longer
-/// ones on the heap. A graph holds one contributor per elementary fault (a million at distance
-/// 25), nearly all with one or two qubits, so per-fault heap lists would dominate extraction.
-#[derive(Clone)]
-pub struct Small<T: Copy>(Store<T>);
-
-const INLINE: usize = 4;
-
-#[derive(Clone)]
-enum Store<T: Copy> {
-    Inline(u8, [T; INLINE]),
-    Heap(Vec<T>),
-}
-
-impl<T: Copy> Small<T> {
-    /// Longest list kept in place.
-    pub const INLINE: usize = INLINE;
-}
-
-impl<T: Copy> Default for Small<T> {
-    fn default() -> Self {
-        Small(Store::Heap(Vec::new()))
-    }
-}
-
-impl<T: Copy> From<&[T]> for Small<T> {
-    fn from(s: &[T]) -> Self {
-        match s.first() {
-            Some(&first) if s.len() <= Self::INLINE => {
-                let mut buf = [first; INLINE];
-                buf[..s.len()].copy_from_slice(s);
-                Small(Store::Inline(s.len() as u8, buf))
-            }
-            _ => Small(Store::Heap(s.to_vec())),
-        }
-    }
-}
-
-impl<T: Copy> From<Vec<T>> for Small<T> {
-    fn from(v: Vec<T>) -> Self {
-        Small::from(v.as_slice())
-    }
-}
-
-impl<T: Copy> std::ops::Deref for Small<T> {
-    type Target = [T];
-    fn deref(&self) -> &[T] {
-        match &self.0 {
-            Store::Inline(n, buf) => &buf[..*n as usize],
-            Store::Heap(v) => v,
-        }
-    }
-}
-
-impl<'a, T: Copy> IntoIterator for &'a Small<T> {
-    type Item = &'a T;
-    type IntoIter = std::slice::Iter<'a, T>;
-    fn into_iter(self) -> Self::IntoIter {
-        self.iter()
-    }
-}
-
-impl<T: Copy + std::fmt::Debug> std::fmt::Debug for Small<T> {
-    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        f.debug_list().entries(self.iter()).finish()
-    }
-}
-
-impl<T: Copy + PartialEq> PartialEq for Small<T> {
-    fn eq(&self, other: &Self) -> bool {
-        **self == **other
-    }
-}
-
-impl<T: Copy + PartialEq> PartialEq<[T]> for Small<T> {
-    fn eq(&self, other: &[T]) -> bool {
-        **self == *other
-    }
-}
-
-impl<T: Copy + PartialEq> PartialEq<Vec<T>> for Small<T> {
-    fn eq(&self, other: &Vec<T>) -> bool {
-        **self == **other
-    }
-}
+/// A short list that reads as a slice: up to four entries are stored in place, longer ones on
+/// the heap. A graph holds one contributor per elementary fault (a million at distance 25),
+/// nearly all with one or two qubits, so per-fault heap lists would dominate extraction.
+pub type Small<T> = smallvec::SmallVec<[T; 4]>;
 
 /// Where an elementary fault comes from.
 #[derive(Clone, Debug, PartialEq)]
@@ -465,6 +384,21 @@ impl FaultGraph {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn short_lists_cost_no_more_than_a_vec() {
+        // One contributor per elementary fault: the inline lists must not grow it.
+        assert_eq!(
+            std::mem::size_of::<Small<u32>>(),
+            std::mem::size_of::<Vec<u32>>()
+        );
+        assert_eq!(
+            std::mem::size_of::<Small<Pauli>>(),
+            std::mem::size_of::<Vec<u32>>()
+        );
+        let long = Small::from_slice(&[1u32, 2, 3, 4, 5]);
+        assert!(long.spilled() && long[..] == [1, 2, 3, 4, 5]);
+    }
 
     #[test]
     fn even_odds_weigh_nothing() {
