@@ -237,7 +237,7 @@ fn product_code(
     s.basis = basis;
     s.periodic = periodic;
     let text = generate(&s).unwrap();
-    let c = slant::ir::load_source(&Source::new("code.slant", text), &[]).unwrap();
+    let c = crate::support::load("code.slant", &text);
     Code::from_circuit(&c)
 }
 

@@ -1,15 +1,14 @@
 //! `slant distance` / `analysis::distance`: circuit-level distances by fault class, checked
 //! against published code distances, derivations and brute force; `slant compare` end to end.
 
-use crate::support::slant;
+use crate::support::{slant, Runner};
 use slant::analysis::{distances, symptom, DistanceOptions, DistanceReport, Unproven, Unresolved};
-use slant::base::Source;
 use slant::faults::{ExtractOptions, FaultGraph};
 use slant::gen::{generate, Entangler, Family, GenSpec, LogicalBasis, Order, Style};
 
 fn graph_of(spec: &GenSpec, noise: &str) -> FaultGraph {
     let text = generate(spec).expect("generate");
-    let circuit = slant::ir::load_source(&Source::new("gen.slant", text), &[]).expect("load");
+    let circuit = crate::support::load("gen.slant", &text);
     let spec = slant::noise::NoiseSpec::parse(noise).expect("noise");
     let noisy = slant::noise::apply(&circuit, &spec).expect("apply");
     slant::faults::extract(&noisy, &ExtractOptions::default())
@@ -257,8 +256,7 @@ fn rectangular_xzzx_high_rate_distance_equals_brute_force_z_logical() {
             s.style = Some(Style::Product);
             s.basis = Some(basis);
             let text = generate(&s).expect("generate");
-            let circuit =
-                slant::ir::load_source(&Source::new("rect.slant", text), &[]).expect("load");
+            let circuit = crate::support::load("rect.slant", &text);
             let brute = min_pure_z_logical(&circuit);
             let r = report(&graph_of(&s, "capacity p=0.01 bias=inf"));
             assert_eq!(
@@ -352,7 +350,7 @@ fn distance_matches_brute_force_on_small_graphs() {
 
 /// The fault graph of [`HYPER`].
 fn hyperedge_graph() -> FaultGraph {
-    let circuit = slant::ir::load_source(&Source::new("hyper.slant", HYPER), &[]).expect("load");
+    let circuit = crate::support::load("hyper.slant", HYPER);
     slant::faults::extract(&circuit, &ExtractOptions::default())
 }
 
@@ -405,7 +403,7 @@ fn unfinished_searches_are_reported_as_unproven() {
     // A graph without hyperedges has an exact search: an absence there is proven.
     let text = "qubit q[0..2]\nreset x q[0..2]\nnoise dephasing p=0.01 q[0..2]\n\
         measure x q[0..2] -> m[0..2]\ndetector = m[0] ^ m[1]\n";
-    let circuit = slant::ir::load_source(&Source::new("plain.slant", text), &[]).expect("load");
+    let circuit = crate::support::load("plain.slant", text);
     let plain = slant::faults::extract(&circuit, &ExtractOptions::default());
     let r = distances(&plain, &DistanceOptions::default()).unwrap();
     assert!(r.distance.is_none());
@@ -436,8 +434,7 @@ fn cli_distance_prints_error_with_source_lines() {
             "circuit p=0.001",
             "--json",
         ])
-        .output()
-        .unwrap();
+        .run();
     let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
     assert_eq!(v["distance"]["value"], 2);
     assert_eq!(v["distance"]["exact"], true);
@@ -505,8 +502,7 @@ fn cli_compare_orders_marks_best() {
             "--noise",
             "circuit p=0.001",
         ])
-        .output()
-        .unwrap();
+        .run();
     let text = String::from_utf8(out.stdout).unwrap();
     let safe = text
         .lines()
@@ -695,8 +691,7 @@ fn cli_compare_refuses_p_for_model_files() {
             "--p",
             "0.01",
         ])
-        .output()
-        .unwrap();
+        .run();
     assert_eq!(out.status.code(), Some(1));
     let err = String::from_utf8_lossy(&out.stderr);
     assert!(err.contains("model file"), "{err}");

@@ -4,20 +4,12 @@
 //! binomial standard deviations) or with the ordering of distances below and above a published
 //! threshold; full-size threshold runs live in `bench/thresholds.sh`.
 
-use crate::support::slant;
-use slant::base::Source;
+use crate::support::{load, slant, Runner};
 use slant::decode::DecoderKind;
 use slant::gen::{Family, Flip, GenSpec, LogicalBasis, Style};
 use slant::ir::Circuit;
 use slant::noise::{self, NoiseSpec};
 use slant::study::{Counts, Pipeline, RunOptions};
-
-fn load(text: &str) -> Circuit {
-    match slant::ir::load_source(&Source::new("t.slant", text), &[]) {
-        Ok(c) => c,
-        Err(d) => panic!("{}", d.iter().map(|d| d.render()).collect::<String>()),
-    }
-}
 
 fn with_noise(c: &Circuit, spec: &str) -> Circuit {
     let spec = NoiseSpec::parse(spec).unwrap_or_else(|d| panic!("{}", d.render()));
@@ -25,7 +17,10 @@ fn with_noise(c: &Circuit, spec: &str) -> Circuit {
 }
 
 fn generated(spec: &GenSpec) -> Circuit {
-    load(&slant::gen::generate(spec).expect("generator accepts the spec"))
+    load(
+        "t.slant",
+        &slant::gen::generate(spec).expect("generator accepts the spec"),
+    )
 }
 
 fn estimate(c: &Circuit, kind: DecoderKind, shots: u64, seed: u64) -> Counts {
@@ -97,7 +92,7 @@ fn repetition_d3_code_capacity_matches_3p2_minus_2p3() {
     // probability 3p²(1−p) + p³ = 3p² − 2p³ (majority vote; MWPM on this graph is majority vote).
     let p: f64 = 0.1;
     let exact = 3.0 * p * p - 2.0 * p * p * p;
-    let c = load(REP3_BITFLIP);
+    let c = load("t.slant", REP3_BITFLIP);
     for kind in [DecoderKind::Mwpm, DecoderKind::UnionFind] {
         assert_within_5_sigma(estimate(&c, kind, 100_000, 7), exact, kind.name());
     }
@@ -317,8 +312,7 @@ fn estimate_cli_reports_rates_intervals_and_the_model() {
     let out = slant()
         .args(["estimate", "--shots", "8192", "--decoder", "uf"])
         .arg(&f)
-        .output()
-        .unwrap();
+        .run();
     assert!(out.status.success());
     let text = String::from_utf8(out.stdout).unwrap();
     assert!(
@@ -348,11 +342,7 @@ fn estimate_cli_reports_rates_intervals_and_the_model() {
         "none.slant",
         "qubit q\nmeasure z q -> m\ndetector = m\n",
     );
-    let out = slant()
-        .args(["estimate", "--shots", "10"])
-        .arg(&g)
-        .output()
-        .unwrap();
+    let out = slant().args(["estimate", "--shots", "10"]).arg(&g).run();
     assert_eq!(out.status.code(), Some(1));
     assert!(String::from_utf8_lossy(&out.stderr).contains("declares no observable"));
 }
@@ -465,8 +455,7 @@ fn shard_and_merge_round_trip_equals_the_unsharded_sweep() {
         .args([&a, &b, &c, &a])
         .arg("-o")
         .arg(&merged)
-        .output()
-        .unwrap();
+        .run();
     assert!(out.status.success());
     assert!(String::from_utf8_lossy(&out.stderr).contains("duplicates dropped"));
     assert_eq!(chunk_table(&merged), chunk_table(&whole));
@@ -533,7 +522,6 @@ fn plot_marks_the_crossing_of_synthetic_power_laws() {
         .arg(&store)
         .arg("-o")
         .arg(dir.path().join("t.jpg"))
-        .output()
-        .unwrap();
+        .run();
     assert_eq!(bad.status.code(), Some(1));
 }

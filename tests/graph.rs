@@ -1,23 +1,15 @@
 //! Fault-graph extraction (`slant graph`, `slant trace`): structure, exact statistics, exports.
 
 use std::collections::BTreeSet;
-use std::process::Command;
 
-use slant::base::{Gate, Pauli, Source};
+use crate::support::{load_with, slant, Runner};
+use slant::base::{Gate, Pauli};
 use slant::faults::{self, ExtractOptions, FaultGraph};
 use slant::faults::{Format, View};
 use slant::ir::{Circuit, OpKind};
 
-fn load(text: &str, set: &[(&str, i64)]) -> Circuit {
-    let set: Vec<(String, i64)> = set.iter().map(|(k, v)| (k.to_string(), *v)).collect();
-    match slant::ir::load_source(&Source::new("t.slant", text), &set) {
-        Ok(c) => c,
-        Err(d) => panic!("{}", d.iter().map(|d| d.render()).collect::<String>()),
-    }
-}
-
 fn graph_of(text: &str, set: &[(&str, i64)]) -> FaultGraph {
-    faults::extract(&load(text, set), &ExtractOptions::default())
+    faults::extract(&load_with("t.slant", text, set), &ExtractOptions::default())
 }
 
 /// Bit-flip repetition code, ancilla-based extraction with perfect measurements and a bit flip
@@ -333,7 +325,7 @@ fn detector_statistics_match_exhaustive_enumeration() {
     // (mutually exclusive) channel terms with forward Pauli propagation. Every channel here has
     // an exact independent form (see `slant::faults` docs), so they agree to round-off.
     for text in [MIXED, REPETITION] {
-        let c = load(text, &[]);
+        let c = load_with("t.slant", text, &[]);
         let g = faults::extract(&c, &ExtractOptions::default());
         assert_eq!(g.inexact_channels, 0);
         let (marg, pair) = exact_by_enumeration(&c);
@@ -365,7 +357,7 @@ fn classes_follow_the_injected_pauli() {
     let flips = ExtractOptions {
         high_rate_flips: true,
     };
-    let g2 = faults::extract(&load(MIXED, &[]), &flips);
+    let g2 = faults::extract(&load_with("t.slant", MIXED, &[]), &flips);
     assert!(g2
         .provenance
         .iter()
@@ -530,17 +522,13 @@ fn exports_parse_back_to_the_same_graph() {
     assert_eq!(dot.matches(" -- ").count(), mg.edges.len());
 }
 
-fn slant_cmd() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_slant"))
-}
-
 #[test]
 fn cli_graph_and_trace() {
     let dir = tempfile::tempdir().unwrap();
     let file = dir.path().join("rep.slant");
     std::fs::write(&file, REPETITION).unwrap();
     let out = dir.path().join("g.json");
-    let st = slant_cmd()
+    let st = slant()
         .args([
             "graph",
             file.to_str().unwrap(),
@@ -551,13 +539,12 @@ fn cli_graph_and_trace() {
             "-o",
         ])
         .arg(&out)
-        .status()
-        .unwrap();
-    assert!(st.success());
+        .run();
+    assert!(st.status.success());
     let v: serde_json::Value = serde_json::from_slice(&std::fs::read(&out).unwrap()).unwrap();
     assert_eq!(v["detectors"].as_array().unwrap().len(), 8);
     let mtx = dir.path().join("mtx");
-    let st = slant_cmd()
+    let st = slant()
         .args([
             "graph",
             file.to_str().unwrap(),
@@ -567,31 +554,28 @@ fn cli_graph_and_trace() {
             "-o",
         ])
         .arg(&mtx)
-        .status()
-        .unwrap();
-    assert!(st.success());
+        .run();
+    assert!(st.status.success());
     assert!(mtx.join("H.mtx").exists() && mtx.join("priors.npy").exists());
     // The edge between detectors 0 and 1 is the bit flip of q[1], written on line 9.
-    let o = slant_cmd()
+    let o = slant()
         .args(["trace", file.to_str().unwrap(), "--detectors", "0,1"])
-        .output()
-        .unwrap();
+        .run();
     assert!(o.status.success());
     let s = String::from_utf8(o.stdout).unwrap();
     assert!(s.contains("rep.slant:9:5"), "{s}");
     assert!(s.contains("X on q[1]"), "{s}");
     assert!(s.contains("noise bitflip p=0.01 q[0..d]"), "{s}");
-    let o = slant_cmd()
+    let o = slant()
         .args(["trace", file.to_str().unwrap(), "--mechanism", "999"])
-        .output()
-        .unwrap();
+        .run();
     assert_eq!(o.status.code(), Some(1));
 }
 
 /// A generated circuit with `noise` (a `--noise` preset) written in.
 fn generated(spec: &slant::gen::GenSpec, noise: &str) -> Circuit {
     let text = slant::gen::generate(spec).unwrap_or_else(|e| panic!("{}", e.0));
-    let clean = load(&text, &[]);
+    let clean = load_with("t.slant", &text, &[]);
     let spec = slant::noise::NoiseSpec::parse(noise).unwrap();
     match slant::noise::apply(&clean, &spec) {
         Ok(c) => c,

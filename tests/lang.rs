@@ -1,43 +1,9 @@
 //! The language front end: bad-input catalogue, canonical printer round trips, grammar samples,
 //! and the `check` and `fmt` subcommands end to end.
 
-use std::io::Write;
-use std::process::{Command, Stdio};
-
+use crate::support::{run_cli, try_load};
 use proptest::prelude::*;
-use slant::base::{Diagnostic, Source};
-
-/// Runs the real binary with optional standard input; returns (exit code, stdout, stderr).
-fn slant(args: &[&str], stdin: Option<&str>) -> (i32, String, String) {
-    let mut child = Command::new(env!("CARGO_BIN_EXE_slant"))
-        .args(args)
-        .env("NO_COLOR", "1")
-        .stdin(Stdio::piped())
-        .stdout(Stdio::piped())
-        .stderr(Stdio::piped())
-        .spawn()
-        .expect("binary runs");
-    if let Some(text) = stdin {
-        child
-            .stdin
-            .take()
-            .unwrap()
-            .write_all(text.as_bytes())
-            .unwrap();
-    } else {
-        drop(child.stdin.take());
-    }
-    let out = child.wait_with_output().unwrap();
-    (
-        out.status.code().unwrap_or(-1),
-        String::from_utf8_lossy(&out.stdout).into_owned(),
-        String::from_utf8_lossy(&out.stderr).into_owned(),
-    )
-}
-
-fn load(text: &str) -> Result<slant::ir::Circuit, Vec<Diagnostic>> {
-    slant::ir::load_source(&Source::new("t.slant", text), &[])
-}
+use slant::base::Source;
 
 /// Asserts that `text` is rejected with a first diagnostic whose message contains `message` and
 /// whose primary location is `line:col`.
@@ -71,7 +37,7 @@ fn rejects_with(text: &str, sets: &[(String, i64)], message: &str, line: usize, 
 
 #[test]
 fn unknown_gate_with_suggestion() {
-    let errs = load("qubit a\nqubit b\nczz a b\n").unwrap_err();
+    let errs = try_load("t.slant", "qubit a\nqubit b\nczz a b\n").unwrap_err();
     assert_eq!(errs[0].message, "unknown statement or gate `czz`");
     assert_eq!(errs[0].hint.as_deref(), Some("did you mean `cz`?"));
     rejects(
@@ -84,7 +50,7 @@ fn unknown_gate_with_suggestion() {
 
 #[test]
 fn upper_case_gate_gets_a_hint() {
-    let errs = load("qubit a\nH a\n").unwrap_err();
+    let errs = try_load("t.slant", "qubit a\nH a\n").unwrap_err();
     assert_eq!(
         errs[0].hint.as_deref(),
         Some("gate names are lower-case: `h`")
@@ -134,7 +100,7 @@ fn qubit_twice_in_one_gate() {
 #[test]
 fn undefined_qubit() {
     rejects("qubit alpha\nh alpah\n", "undefined qubit `alpah`", 2, 3);
-    let errs = load("qubit alpha\nh alpah\n").unwrap_err();
+    let errs = try_load("t.slant", "qubit alpha\nh alpah\n").unwrap_err();
     assert_eq!(errs[0].hint.as_deref(), Some("did you mean `alpha`?"));
 }
 
@@ -167,7 +133,7 @@ fn index_out_of_range() {
 
 #[test]
 fn duplicate_qubit() {
-    let errs = load("qubit a\nqubit a\n").unwrap_err();
+    let errs = try_load("t.slant", "qubit a\nqubit a\n").unwrap_err();
     assert_eq!(errs[0].secondary[0].text, "first declared here");
     rejects("qubit a\nqubit a\n", "qubit `a` is declared twice", 2, 7);
 }
@@ -251,18 +217,18 @@ fn size_limit_is_configurable_on_the_command_line() {
     let text = "param n = 50\nqubit q[0..n]\nfor k in 0..n {\n    h q[k]\n}\n";
     // The count is exact: 50 qubits and 50 lone single-target gates.
     let items = 50 * cost::QUBIT + 50 * (cost::LAYER + cost::OP + cost::TARGET);
-    let (code, _, err) = slant(&["check", "-", "--max-items", "60"], Some(text));
+    let (code, _, err) = run_cli(&["check", "-", "--max-items", "60"], Some(text));
     assert_eq!(code, 1);
     assert!(err.contains("past the limit of 60"), "{err}");
     assert!(err.contains("--max-items"), "{err}");
     let below = (items - 1).to_string();
-    let (code, _, err) = slant(&["check", "-", "--max-items", &below], Some(text));
+    let (code, _, err) = run_cli(&["check", "-", "--max-items", &below], Some(text));
     assert_eq!(code, 1);
     assert!(
         err.contains(&format!("the circuit would expand to about {items} items")),
         "{err}"
     );
-    let (code, _, err) = slant(
+    let (code, _, err) = run_cli(
         &["check", "-", "--max-items", &items.to_string()],
         Some(text),
     );
@@ -272,7 +238,7 @@ fn size_limit_is_configurable_on_the_command_line() {
 /// Refused by the up-front count (a "would" message at `line:col`) under `--max-items max`,
 /// with the hint, through the binary.
 fn refused_up_front(text: &str, max: u64, message: &str, location: &str) {
-    let (code, _, err) = slant(&["check", "-", "--max-items", &max.to_string()], Some(text));
+    let (code, _, err) = run_cli(&["check", "-", "--max-items", &max.to_string()], Some(text));
     assert_eq!(code, 1, "{err}");
     assert!(err.contains(message), "{err}");
     assert!(err.contains(&format!("--> -:{location}\n")), "{err}");
@@ -331,7 +297,7 @@ fn size_limit_sees_loops_whose_bounds_depend_on_outer_variables() {
         "2:1",
     );
     // Within the limit, the walk counts exactly and the circuit loads.
-    let (code, _, err) = slant(
+    let (code, _, err) = run_cli(
         &["check", "-", "--max-items", "20000"],
         Some("qubit a\nfor i in 0..100 {\n    for j in 0..i { h a }\n}\n"),
     );
@@ -359,7 +325,7 @@ fn default_limit_refuses_memory_bombs_at_once() {
         ),
     ] {
         let start = std::time::Instant::now();
-        let (code, _, err) = slant(&["check", "-"], Some(text));
+        let (code, _, err) = run_cli(&["check", "-"], Some(text));
         assert_eq!(code, 1, "{err}");
         assert!(err.contains("past the limit of 20000000"), "{err}");
         assert!(err.contains(&format!("--> -:{location}\n")), "{err}");
@@ -405,7 +371,7 @@ fn override_of_a_generator_option_names_the_parameters() {
     let errs = slant::ir::load_source(&Source::new("t", text), &sets).unwrap_err();
     assert_eq!(errs[0].hint.as_deref(), Some("did you mean `rounds`?"));
     // Through the binary: a circuit that does not take the name is rejected input (exit 1).
-    let (code, _, err) = slant(&["check", "-", "--set", "distanse=5"], Some(text));
+    let (code, _, err) = run_cli(&["check", "-", "--set", "distanse=5"], Some(text));
     assert_eq!(code, 1);
     assert!(err.contains("did you mean `dx` and `dz`?"), "{err}");
 }
@@ -421,11 +387,11 @@ fn malformed_set_is_a_usage_error() {
         ("rounds", "expected NAME=INT"),
         ("rounds=x", "`x` is not an integer"),
     ] {
-        let (code, _, err) = slant(&["check", "-", "--set", set], Some("qubit a\n"));
+        let (code, _, err) = run_cli(&["check", "-", "--set", set], Some("qubit a\n"));
         assert_eq!(code, 2, "--set {set:?}: {err}");
         assert!(err.contains(message), "--set {set:?}: {err}");
     }
-    let (code, _, err) = slant(
+    let (code, _, err) = run_cli(
         &["check", "-", "--set", "_n2=1"],
         Some("param _n2 = 0\nqubit a\n"),
     );
@@ -436,7 +402,7 @@ fn malformed_set_is_a_usage_error() {
 fn non_deterministic_detector_names_the_culprit() {
     let text =
         "qubit a\nqubit b\nh b\nmeasure z a -> ma\nmeasure z b -> mb\ndetector both = ma ^ mb\n";
-    let errs = load(text).unwrap_err();
+    let errs = try_load("t.slant", text).unwrap_err();
     assert!(errs[0]
         .message
         .contains("detector `both` is not deterministic"));
@@ -452,7 +418,7 @@ fn non_deterministic_detector_from_a_measurement() {
     // The X measurement in between randomises the second Z result.
     let text =
         "qubit a\nmeasure z a -> m1\nmeasure x a -> m2\nmeasure z a -> m3\ndetector = m1 ^ m3\n";
-    let errs = load(text).unwrap_err();
+    let errs = try_load("t.slant", text).unwrap_err();
     let label = &errs[0].secondary[0];
     assert!(
         label.text.contains("randomised by this measurement"),
@@ -490,11 +456,11 @@ fn non_utf8_bytes() {
 fn byte_order_mark_is_skipped() {
     // Some Windows editors start UTF-8 files with U+FEFF; it is not part of the circuit.
     let text = "\u{feff}qubit a\nh a\n";
-    let (code, out, err) = slant(&["check", "-"], Some(text));
+    let (code, out, err) = run_cli(&["check", "-"], Some(text));
     assert_eq!(code, 0, "{err}");
     assert!(out.contains("qubits        1"), "{out}");
     // Locations count from the character after the mark.
-    let (code, _, err) = slant(&["check", "-"], Some("\u{feff}czz a\n"));
+    let (code, _, err) = run_cli(&["check", "-"], Some("\u{feff}czz a\n"));
     assert_eq!(code, 1);
     assert!(err.contains("--> -:1:1\n"), "{err}");
     // Bytes that are not UTF-8 are still located in the text after the mark.
@@ -505,12 +471,12 @@ fn byte_order_mark_is_skipped() {
     .unwrap_err();
     assert_eq!(err.location().map(|l| (l.1, l.2)), Some((2, 1)));
     // The canonical form has no mark: `fmt` drops it and `fmt --check` flags it.
-    let (code, out, _) = slant(&["fmt", "-"], Some(text));
+    let (code, out, _) = run_cli(&["fmt", "-"], Some(text));
     assert_eq!((code, out.as_str()), (0, "qubit a\nh a\n"));
-    let (code, _, _) = slant(&["fmt", "--check", "-"], Some(text));
+    let (code, _, _) = run_cli(&["fmt", "--check", "-"], Some(text));
     assert_eq!(code, 3);
     // Anywhere but the start it is an ordinary character, refused with a location.
-    let (code, _, err) = slant(&["check", "-"], Some("qubit a\n\u{feff}h a\n"));
+    let (code, _, err) = run_cli(&["check", "-"], Some("qubit a\n\u{feff}h a\n"));
     assert_eq!(code, 1);
     assert!(err.contains("-:2:1"), "{err}");
     assert!(err.contains("the invisible character U+FEFF"), "{err}");
@@ -523,7 +489,7 @@ fn very_long_line_is_windowed() {
         text.push_str("h a; ");
     }
     text.push_str("hh a\n");
-    let errs = load(&text).unwrap_err();
+    let errs = try_load("t.slant", &text).unwrap_err();
     let (_, l, c) = errs[0].location().unwrap();
     assert_eq!((l, c), (2, 10001));
     let rendered = errs[0].render();
@@ -551,7 +517,7 @@ fn binary_rejects(text: &str, message: &str, location: &str) {
     let path = dir.path().join("deep.slant");
     std::fs::write(&path, text).unwrap();
     for cmd in ["check", "fmt"] {
-        let (code, _, err) = slant(&[cmd, path.to_str().unwrap()], None);
+        let (code, _, err) = run_cli(&[cmd, path.to_str().unwrap()], None);
         assert_eq!(code, 1, "`slant {cmd}` exit code; stderr:\n{err}");
         assert!(err.contains(message), "`slant {cmd}`: {err}");
         assert!(err.contains(&format!("deep.slant:{location}")), "{err}");
@@ -580,7 +546,7 @@ fn chains_that_recurse_are_bounded() {
         let path = dir.path().join(format!("{name}.slant"));
         std::fs::write(&path, text).unwrap();
         for cmd in ["check", "fmt"] {
-            let (code, _, err) = slant(&[cmd, path.to_str().unwrap()], None);
+            let (code, _, err) = run_cli(&[cmd, path.to_str().unwrap()], None);
             assert_eq!(code, 0, "`slant {cmd}` on {name}: {err}");
         }
     }
@@ -712,7 +678,7 @@ fn chained_comparison() {
 
 #[test]
 fn several_independent_errors_are_reported() {
-    let errs = load("qubit a\nczz a\nh a\nmesure z a -> m\n").unwrap_err();
+    let errs = try_load("t.slant", "qubit a\nczz a\nh a\nmesure z a -> m\n").unwrap_err();
     assert_eq!(errs.len(), 2, "{errs:?}");
     assert_eq!(errs[1].location().map(|l| l.1), Some(4));
 }
@@ -736,7 +702,7 @@ proptest! {
         let end = (pos + len).min(base.len());
         if base.is_char_boundary(pos) && base.is_char_boundary(end) {
             let text = format!("{}{}{}", &base[..pos], insert, &base[end..]);
-            let _ = load(&text);
+            let _ = try_load("t.slant", &text);
             if let Ok(ast) = slant::lang::parse(&Source::new("m", text)) {
                 let _ = slant::lang::print(&ast);
             }
@@ -811,7 +777,7 @@ fn else_may_start_a_new_line() {
         fmt(text),
         "qubit a\nif 0 {\n    x a\n} else {\n    z a\n}\n"
     );
-    assert!(load(text).is_ok());
+    assert!(try_load("t.slant", text).is_ok());
 }
 
 #[test]
@@ -911,7 +877,7 @@ fn reference_examples_parse() {
 
 #[test]
 fn check_prints_a_summary() {
-    let (code, out, err) = slant(
+    let (code, out, err) = run_cli(
         &["check", "circuits/repetition_d3.slant", "--set", "rounds=2"],
         None,
     );
@@ -924,7 +890,7 @@ fn check_prints_a_summary() {
 
 #[test]
 fn check_json_and_stdin() {
-    let (code, out, _) = slant(
+    let (code, out, _) = run_cli(
         &["check", "-", "--json"],
         Some("qubit a\nnoise depolarizing p=0.03 a\nmeasure z a -> m flip 0.01\ndetector = m\n"),
     );
@@ -935,7 +901,7 @@ fn check_json_and_stdin() {
     assert_eq!(v["noise_channels"]["depolarizing"], 1);
     assert!((v["noise_total_probability"].as_f64().unwrap() - 0.04).abs() < 1e-12);
     // A refusal is machine-readable too (and still rendered for people on stderr).
-    let (code, out, err) = slant(&["check", "-", "--json"], Some("qubit a\nczz a\n"));
+    let (code, out, err) = run_cli(&["check", "-", "--json"], Some("qubit a\nczz a\n"));
     assert_eq!(code, 1);
     assert!(err.contains("did you mean `cz`?"), "{err}");
     let v: serde_json::Value = serde_json::from_str(&out).unwrap();
@@ -954,7 +920,8 @@ fn check_json_and_stdin() {
 
 #[test]
 fn record_table_maps_result_names_to_indices() {
-    let c = load(
+    let c = try_load(
+        "t.slant",
         "qubit q[0..2]\nfor r in 0..2 {\n  measure z q[0..2] -> m[r, 0..2]\n}\n\
          detector = m[1, 0] ^ m[0, 0]\n",
     )
@@ -972,25 +939,25 @@ fn record_table_maps_result_names_to_indices() {
 
 #[test]
 fn check_exit_codes_and_rendered_error() {
-    let (code, out, err) = slant(&["check", "-"], Some("qubit a\nczz a\n"));
+    let (code, out, err) = run_cli(&["check", "-"], Some("qubit a\nczz a\n"));
     assert_eq!(code, 1);
     assert_eq!(out, "");
     assert_eq!(err, "error: unknown statement or gate `czz`\n  --> -:2:1\n  |\n2 | czz a\n  | ^^^\n  = hint: did you mean `cz`?\n");
-    let (code, _, _) = slant(&["check"], None);
+    let (code, _, _) = run_cli(&["check"], None);
     assert_eq!(code, 2);
-    let (code, _, err) = slant(&["check", "no/such/file.slant"], None);
+    let (code, _, err) = run_cli(&["check", "no/such/file.slant"], None);
     assert_eq!(code, 1);
     assert!(err.contains("cannot read `no/such/file.slant`"), "{err}");
 }
 
 #[test]
 fn fmt_check_answers_no_with_code_3() {
-    let (code, out, _) = slant(&["fmt", "--check", "-"], Some("qubit   a\n"));
+    let (code, out, _) = run_cli(&["fmt", "--check", "-"], Some("qubit   a\n"));
     assert_eq!(code, 3);
     assert!(out.contains("not in canonical form"));
-    let (code, out, _) = slant(&["fmt", "-"], Some("qubit   a\n"));
+    let (code, out, _) = run_cli(&["fmt", "-"], Some("qubit   a\n"));
     assert_eq!((code, out.as_str()), (0, "qubit a\n"));
-    let (code, _, _) = slant(&["fmt", "--check", "circuits/bell.slant"], None);
+    let (code, _, _) = run_cli(&["fmt", "--check", "circuits/bell.slant"], None);
     assert_eq!(code, 0);
 }
 

@@ -5,6 +5,7 @@ mod decode;
 mod distance;
 mod estimate;
 mod gen;
+mod golden;
 mod graph;
 mod lang;
 mod noise;

@@ -2,6 +2,7 @@
 
 use std::sync::Arc;
 
+use crate::support::{load, slant, Runner};
 use slant::analysis::analyze_bias as analyze;
 use slant::base::{Gate, Pauli, Source};
 use slant::faults::{ExtractOptions, FaultGraph};
@@ -11,11 +12,6 @@ use slant::noise::{apply, NoiseSpec};
 use slant::noise::{cat_idle, twirled_decoherence, NoiseModel};
 use slant::noise::{compile, to_text};
 use slant::noise::{effective_channel, mid_gate_fault, Generator, Implementation};
-
-fn load(name: &str, text: &str) -> Circuit {
-    slant::ir::load_source(&Source::new(name, text), &[])
-        .unwrap_or_else(|d| panic!("{}", d[0].render()))
-}
 
 fn model(text: &str) -> Result<NoiseModel, slant::base::Diagnostic> {
     NoiseModel::parse(&Source::new("m.toml", text))
@@ -459,8 +455,7 @@ fn cli_compile_and_bias() {
     let src = dir.path().join("one.slant");
     std::fs::write(&src, ONE_CX).unwrap();
     let out = dir.path().join("out.slant");
-    let bin = env!("CARGO_BIN_EXE_slant");
-    let st = std::process::Command::new(bin)
+    let st = slant()
         .args([
             "compile",
             src.to_str().unwrap(),
@@ -469,8 +464,7 @@ fn cli_compile_and_bias() {
             "-o",
             out.to_str().unwrap(),
         ])
-        .output()
-        .unwrap();
+        .run();
     assert!(
         st.status.success(),
         "{}",
@@ -481,24 +475,20 @@ fn cli_compile_and_bias() {
         text.contains("noise pauli2") && text.contains("# --noise after `cx` (rotation)"),
         "{text}"
     );
-    let st = std::process::Command::new(bin)
-        .args(["check", out.to_str().unwrap()])
-        .output()
-        .unwrap();
+    let st = slant().args(["check", out.to_str().unwrap()]).run();
     assert!(
         st.status.success(),
         "{}",
         String::from_utf8_lossy(&st.stderr)
     );
-    let st = std::process::Command::new(bin)
+    let st = slant()
         .args([
             "bias",
             src.to_str().unwrap(),
             "--noise",
             "circuit p=0.01 bias=100 cx=rotation",
         ])
-        .output()
-        .unwrap();
+        .run();
     assert!(st.status.success());
     let stdout = String::from_utf8_lossy(&st.stdout);
     assert!(stdout.contains("verdict: bias lost at"), "{stdout}");
@@ -558,15 +548,14 @@ fn unmatched_overrides_are_located() {
     std::fs::write(&src, ONE_CX).unwrap();
     let m = dir.path().join("m.toml");
     let bias = || {
-        std::process::Command::new(env!("CARGO_BIN_EXE_slant"))
+        slant()
             .args([
                 "bias",
                 src.to_str().unwrap(),
                 "--noise",
                 m.to_str().unwrap(),
             ])
-            .output()
-            .unwrap()
+            .run()
     };
     std::fs::write(&m, cases[1].0).unwrap();
     let st = bias();
@@ -689,10 +678,9 @@ fn missing_model_file_is_named() {
     // Through the binary: exit 1 with the message.
     let src = dir.path().join("one.slant");
     std::fs::write(&src, ONE_CX).unwrap();
-    let st = std::process::Command::new(env!("CARGO_BIN_EXE_slant"))
+    let st = slant()
         .args(["bias", src.to_str().unwrap(), "--noise", "models/cat"])
-        .output()
-        .unwrap();
+        .run();
     assert_eq!(st.status.code(), Some(1));
     let stderr = String::from_utf8_lossy(&st.stderr);
     assert!(
@@ -772,15 +760,14 @@ fn bias_report_explains_missing_rounds_and_data() {
     let run = |name: &str, text: &str| -> String {
         let src = dir.path().join(name);
         std::fs::write(&src, text).unwrap();
-        let st = std::process::Command::new(env!("CARGO_BIN_EXE_slant"))
+        let st = slant()
             .args([
                 "bias",
                 src.to_str().unwrap(),
                 "--noise",
                 "circuit p=0.01 bias=10",
             ])
-            .output()
-            .unwrap();
+            .run();
         assert!(
             st.status.success(),
             "{}",
@@ -1088,5 +1075,50 @@ fn shipped_models_compile_onto_every_bundled_circuit() {
                 panic!("{} on {}: {}", m.display(), c.display(), e[0].render())
             });
         }
+    }
+}
+
+/// Every subcommand that writes a model file into a circuit shows the model's warnings, and the
+/// same way: `compare` (which once printed none) says exactly what `distance` says.
+#[test]
+fn model_warnings_are_shown_by_every_study() {
+    let dir = tempfile::tempdir().unwrap();
+    let m = dir.path().join("m.toml");
+    std::fs::write(
+        &m,
+        "p = 0.001\n[gates.default]\n[[override]]\nrole = \"nosuchrole\"\nmeasure = { flip = 0.1 }\n",
+    )
+    .unwrap();
+    let m = m.to_str().unwrap();
+    let circuit = concat!(env!("CARGO_MANIFEST_DIR"), "/circuits/repetition_d3.slant");
+    let stderr = |args: &[&str]| -> String {
+        let out = slant().args(args).run();
+        assert!(
+            out.status.success(),
+            "{args:?}: {}",
+            String::from_utf8_lossy(&out.stderr)
+        );
+        String::from_utf8(out.stderr).unwrap()
+    };
+    let distance = stderr(&["distance", circuit, "--noise", m]);
+    assert!(
+        distance.starts_with("warning: this override matches no qubit"),
+        "{distance}"
+    );
+    assert!(distance.contains(&format!("{m}:4:8")), "{distance}");
+    assert_eq!(distance.matches("warning:").count(), 1, "{distance}");
+    let others: [&[&str]; 7] = [
+        &["compare", circuit, "--noise", m],
+        &["bias", circuit, "--noise", m],
+        &["compile", circuit, "--noise", m],
+        &["graph", circuit, "--noise", m, "--format", "text"],
+        &["trace", circuit, "--noise", m, "--mechanism", "0"],
+        &["estimate", circuit, "--noise", m, "--shots", "64"],
+        &[
+            "shots", circuit, "--noise", m, "--shots", "4", "--format", "01",
+        ],
+    ];
+    for args in others {
+        assert_eq!(stderr(args), distance, "{args:?}");
     }
 }

@@ -757,3 +757,109 @@ impl Parser<'_> {
         Ok(())
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn read(text: &str) -> Result<NoiseModel, Diagnostic> {
+        NoiseModel::parse(&Source::new("m.toml", text))
+    }
+
+    /// `(message, line, column)` of a refusal.
+    fn refusal(text: &str) -> (String, usize, usize) {
+        let d = read(text).expect_err(text);
+        let (_, l, c) = d.location().unwrap();
+        (d.message, l, c)
+    }
+
+    #[test]
+    fn sections_inherit_the_base_rate() {
+        let m = read("p = 0.002\nbias = 10\n[gates.cx]\n[gates.h]\np = 0.001\n").unwrap();
+        let cx = &m.gates.iter().find(|g| g.0 == Some(Gate::Cx)).unwrap().1;
+        assert_eq!(
+            cx.rate,
+            Rate::Total {
+                p: 0.002,
+                bias: Some(10.0)
+            }
+        );
+        let h = &m.gates.iter().find(|g| g.0 == Some(Gate::H)).unwrap().1;
+        assert_eq!(
+            h.rate,
+            Rate::Total {
+                p: 0.001,
+                bias: Some(10.0)
+            }
+        );
+        // Measurement flips and reset errors default to the base `p`; no idle table, no idle
+        // noise.
+        assert_eq!((m.measure.flip, m.reset.p), (0.002, 0.002));
+        assert_eq!(m.idle, IdleNoise::None);
+    }
+
+    #[test]
+    fn explicit_terms_and_times_are_read() {
+        let m = read(
+            "[gates.cz]\nzz = 0.01\niz = 0.002\nduration = 2\n[gates.h]\nz = 0.003\nduration = 1\n[measure]\nflip = 0.02\n\
+             duration = 5\n[reset]\np = 0\nduration = 1\n[gates.default]\np = 0.001\nduration = 1\n\
+             [idle]\nt1 = 100\nt2 = 150\n",
+        )
+        .unwrap();
+        let cz = &m.gates.iter().find(|g| g.0 == Some(Gate::Cz)).unwrap().1;
+        let Rate::Two(t) = &cz.rate else {
+            panic!("{:?}", cz.rate)
+        };
+        assert_eq!(t[Pauli::pair_index("zz").unwrap() - 1], 0.01);
+        assert!((t.iter().sum::<f64>() - 0.012).abs() < 1e-15);
+        assert_eq!(cz.duration, Some(2.0));
+        let h = &m.gates.iter().find(|g| g.0 == Some(Gate::H)).unwrap().1;
+        assert_eq!(h.rate, Rate::One(0.0, 0.0, 0.003));
+        assert_eq!(
+            m.idle,
+            IdleNoise::Decoherence {
+                t1: 100.0,
+                t2: 150.0
+            }
+        );
+        assert_eq!(m.measure.duration, Some(5.0));
+    }
+
+    #[test]
+    fn mistakes_are_located_with_a_suggestion() {
+        let (msg, l, c) = refusal("p = 0.001\n[mesure]\nflip = 0.1\n");
+        assert_eq!(
+            (msg.as_str(), l, c),
+            ("unknown key `mesure` in the top level", 2, 2)
+        );
+        let d = read("p = 0.001\n[mesure]\n").unwrap_err();
+        assert_eq!(d.hint.as_deref(), Some("did you mean `measure`?"));
+        assert_eq!(
+            refusal("[gates.cx]\np = 1.5\n"),
+            ("`p` = 1.5 is outside [0, 1]".into(), 2, 5)
+        );
+        let (msg, l, _) = refusal("p = 0.1\n[idle]\nt1 = 10\nt2 = 30\n");
+        assert!(msg.contains("is more than 2·`t1`"), "{msg}");
+        assert_eq!(l, 4);
+        let (msg, ..) = refusal("[gates.cnot]\np = 0.1\n");
+        assert_eq!(msg, "unknown gate `cnot` in `gates`");
+        let (msg, ..) = refusal("[gates.h]\n");
+        assert_eq!(msg, "`gates.h` has no error rate");
+    }
+
+    #[test]
+    fn override_selectors_are_read() {
+        let m = read(
+            "p = 0.001\n[[override]]\nqubit = \"d[1, 2]\"\nmeasure = { flip = 0.5 }\n\
+             [[override]]\nrole = \"ancilla\"\nreset = { p = 0.25 }\n",
+        )
+        .unwrap();
+        assert_eq!(m.overrides.len(), 2);
+        assert_eq!(m.overrides[0].selector, Selector::Qubit("d[1,2]".into()));
+        assert_eq!(m.overrides[0].measure.as_ref().unwrap().flip, 0.5);
+        assert_eq!(m.overrides[1].selector, Selector::Role("ancilla".into()));
+        assert_eq!(m.overrides[1].reset.as_ref().unwrap().p, 0.25);
+        let (msg, ..) = refusal("[[override]]\nqubit = \"a\"\nrole = \"b\"\n");
+        assert_eq!(msg, "an override selects by `qubit` or by `role`, not both");
+    }
+}

@@ -341,3 +341,112 @@ pub(crate) fn parse(source: &Arc<Source>) -> Result<Ast, Vec<Diagnostic>> {
             .collect())
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::lang::{BinOp, ExprKind, NoiseTargets, StmtKind};
+
+    fn ok(text: &str) -> Ast {
+        parse(&Source::new("t.slant", text)).unwrap_or_else(|d| panic!("{}", d[0].render()))
+    }
+
+    /// `(message, line, column)` of every error.
+    fn errors(text: &str) -> Vec<(String, usize, usize)> {
+        parse(&Source::new("t.slant", text))
+            .expect_err(text)
+            .iter()
+            .map(|d| {
+                let (_, l, c) = d.location().unwrap();
+                (d.message.clone(), l, c)
+            })
+            .collect()
+    }
+
+    /// The value expression of a `param p = …` statement.
+    fn param(expr: &str) -> ExprKind {
+        let ast = ok(&format!("param p = {expr}\n"));
+        match &ast.stmts[0].kind {
+            StmtKind::Param { value, .. } => value.kind.clone(),
+            other => panic!("{other:?}"),
+        }
+    }
+
+    #[test]
+    fn precedence_climbing_binds_tighter_operators_first() {
+        let ExprKind::Binary(BinOp::Add, a, b) = param("1 + 2 * 3") else {
+            panic!("`+` at the top");
+        };
+        assert_eq!(a.kind, ExprKind::Int(1));
+        assert!(matches!(b.kind, ExprKind::Binary(BinOp::Mul, _, _)));
+        // Left associative: (8 - 2) - 1.
+        let ExprKind::Binary(BinOp::Sub, a, _) = param("8 - 2 - 1") else {
+            panic!("`-` at the top");
+        };
+        assert!(matches!(a.kind, ExprKind::Binary(BinOp::Sub, _, _)));
+        // `not` binds looser than comparison, tighter than `and`.
+        let ExprKind::Binary(BinOp::And, a, _) = param("not 1 < 2 and 1") else {
+            panic!("`and` at the top");
+        };
+        assert!(matches!(a.kind, ExprKind::Not(_)));
+        assert_eq!(param("(1)"), ExprKind::Int(1));
+        assert_eq!(param("2.5e-1"), ExprKind::Float(0.25));
+    }
+
+    #[test]
+    fn statements_keep_their_parts_and_comments() {
+        let ast = ok(
+            "qubit q[0..3] at (1, 2) role data, edge  # note\n\n# own line\n\
+                      noise correlated p=0.1 x q[0] * z q[1]\nmeasure z q[0] -> m flip 0.01\n",
+        );
+        let kinds: Vec<&StmtKind> = ast.stmts.iter().map(|s| &s.kind).collect();
+        assert!(
+            matches!(kinds[0], StmtKind::Qubit { roles, coords: Some(c), .. }
+            if roles.len() == 2 && c.len() == 2)
+        );
+        assert_eq!(ast.stmts[0].comment.as_deref(), Some(" note"));
+        assert_eq!(kinds[1], &StmtKind::Blank);
+        assert_eq!(kinds[2], &StmtKind::Comment(" own line".into()));
+        assert!(
+            matches!(kinds[3], StmtKind::Noise { targets: NoiseTargets::Product(p), .. }
+            if p.len() == 2)
+        );
+        assert!(
+            matches!(kinds[4], StmtKind::Measure { flip: Some(_), outcomes } if outcomes.len() == 1)
+        );
+    }
+
+    #[test]
+    fn the_measurement_arrow_is_not_a_minus() {
+        let ast = ok("qubit q[0..2]\nmeasure z q[1] -> m[1]\n");
+        assert_eq!(ast.stmts.len(), 2);
+    }
+
+    #[test]
+    fn errors_recover_at_the_next_line() {
+        // Two independent mistakes, each reported at its token; the block of the first does not
+        // cascade.
+        let e = errors("qubit a\nfor i in 0..2 { hh a }\nmeasure q a -> m\n");
+        assert_eq!(e.len(), 2, "{e:?}");
+        assert_eq!((e[0].1, e[0].2), (2, 17));
+        assert!(e[0].0.contains("unknown statement or gate `hh`"), "{e:?}");
+        assert_eq!((e[1].1, e[1].2), (3, 9));
+        assert!(e[1].0.contains("expected a basis"), "{e:?}");
+    }
+
+    #[test]
+    fn limits_are_refused_before_recursion() {
+        let deep = format!("param p = {}1{}\n", "(".repeat(70), ")".repeat(70));
+        let e = errors(&deep);
+        assert!(e[0].0.contains("nests deeper than 64 levels"), "{e:?}");
+        assert!(errors("param p = 1 < 2 < 3\n")[0]
+            .0
+            .contains("cannot be chained"));
+    }
+
+    #[test]
+    fn invisible_characters_are_named_by_code_point() {
+        let e = errors("qubit a\n\u{200b}h a\n");
+        assert!(e[0].0.contains("U+200B"), "{e:?}");
+    }
+}
