@@ -505,3 +505,43 @@ fn graph_structure(noisy: &Circuit) -> (f64, Vec<Component>, usize) {
         hyperedges,
     )
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::base::Source;
+
+    fn report(text: &str) -> BiasReport {
+        let c = crate::ir::load_source(&Source::new("t.slant", text), &[])
+            .unwrap_or_else(|d| panic!("{}", d[0].render()));
+        analyze(&c, &[])
+    }
+
+    #[test]
+    fn a_hadamard_on_the_data_turns_dephasing_into_bit_flips() {
+        // Z H = H X: a phase flip before a Hadamard reaches the data as a bit flip.
+        let lost = report("qubit q role data\nround {\n    noise dephasing p=0.01 q\n    h q\n}\n");
+        assert_eq!(lost.converters.len(), 1);
+        assert_eq!(lost.converters[0].location, "t.slant:4:5");
+        assert_eq!(lost.verdict(), "bias lost at t.slant:4:5 (h)");
+        assert_eq!(lost.high_faults, 1);
+        assert!((lost.converted_probability - 0.01).abs() < 1e-15);
+        // A CZ commutes with Z on both qubits: the bias is kept.
+        let kept = report(
+            "qubit q role data\nqubit r role data\nround {\n    noise dephasing p=0.01 q\n    \
+             cz q r\n}\n",
+        );
+        assert!(kept.converters.is_empty());
+        assert_eq!(kept.verdict(), "bias kept");
+        assert_eq!(kept.converted_probability, 0.0);
+    }
+
+    #[test]
+    fn channel_classes_and_bias_are_summed() {
+        let r = report("qubit q role data\nround {\n    noise pauli x=0.001 y=0.001 z=0.02 q\n}\n");
+        let c = r.classes.iter().find(|c| c.class == "noise").unwrap();
+        assert!((c.input_high - 0.02).abs() < 1e-15);
+        assert!((c.input_low - 0.002).abs() < 1e-15);
+        assert!((c.input_eta() - 10.0).abs() < 1e-9);
+    }
+}

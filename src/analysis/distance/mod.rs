@@ -408,3 +408,66 @@ fn count_distance(
         None,
     ))
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::base::Source;
+    use crate::faults::ExtractOptions;
+
+    /// A distance-3 bit-flip repetition code: bit flips of probability `p` on the three data
+    /// qubits, one perfect round of parity checks, a final readout. Its fault graph is the chain
+    /// boundary – q0 – q1 – q2 – boundary, and only all three flips together are undetected
+    /// while flipping the logical (the textbook distance-3 repetition code).
+    const REPETITION: &str = "qubit q[0..3] role data\nqubit a[0..2] role ancilla\n\
+        noise bitflip p=0.01 q[0..3]\nlayer { cx q[0] a[0]; cx q[1] a[1] }\n\
+        layer { cx q[1] a[0]; cx q[2] a[1] }\nmeasure z a[0] -> s[0], z a[1] -> s[1]\n\
+        measure z q[0] -> m[0], z q[1] -> m[1], z q[2] -> m[2]\ndetector = s[0]\n\
+        detector = s[1]\ndetector = s[0] ^ m[0] ^ m[1]\ndetector = s[1] ^ m[1] ^ m[2]\n\
+        observable z = m[0]\n";
+
+    fn graph(text: &str) -> FaultGraph {
+        let c = crate::ir::load_source(&Source::new("t.slant", text), &[])
+            .unwrap_or_else(|d| panic!("{}", d[0].render()));
+        crate::faults::extract(&c, &ExtractOptions::default())
+    }
+
+    #[test]
+    fn repetition_code_has_distance_three_in_every_measure() {
+        let g = graph(REPETITION);
+        assert_eq!(g.mechanisms.len(), 3);
+        let r = distances(&g, &DistanceOptions::default()).unwrap();
+        let d = r.distance.as_ref().unwrap();
+        assert_eq!((d.value, d.lower, d.method), (3, 3, Method::Graph));
+        assert_eq!(d.error.mechanisms, vec![0, 1, 2]);
+        assert_eq!(d.error.observables, vec![0]);
+        // Bit flips are low-rate: no logical error is made of high-rate faults, and that absence
+        // is proven (no unresolved reason).
+        assert!(r.high_rate.is_none() && r.unresolved.high_rate.is_none());
+        let l = r.lexicographic.as_ref().unwrap();
+        assert_eq!((l.low, l.total), (3, 3));
+        // Three independent flips of probability 0.01 each: weight 3 ln(0.99/0.01).
+        let w = r.weighted.as_ref().unwrap();
+        assert!((w.weight - 3.0 * 99f64.ln()).abs() < 1e-9, "{}", w.weight);
+        assert!((w.probability - 1e-6).abs() < 1e-15);
+    }
+
+    #[test]
+    fn logical_errors_are_verified() {
+        let g = graph(REPETITION);
+        // Repeats cancel before the check: {0, 1, 1, 2} is {0, 2}, which leaves detectors lit.
+        assert!(verified(&g, vec![0, 1, 1, 2]).is_err());
+        let e = verified(&g, vec![2, 0, 1, 1, 1]).unwrap();
+        assert_eq!(e.mechanisms, vec![0, 1, 2]);
+        let (dets, obs) = symptom(&g, &[0, 1]);
+        assert!(!dets.is_empty() && obs == vec![0]);
+    }
+
+    #[test]
+    fn without_observables_nothing_is_a_logical_error() {
+        let text = REPETITION.replace("observable z = m[0]\n", "");
+        let r = distances(&graph(&text), &DistanceOptions::default()).unwrap();
+        assert!(r.distance.is_none() && r.unresolved.distance.is_none());
+        assert!(r.weighted.is_none());
+    }
+}
