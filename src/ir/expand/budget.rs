@@ -6,7 +6,7 @@ use crate::base::{Diagnostic, Span};
 use crate::ir::expand::{Expander, Tally, R};
 use crate::lang::{Expr, ExprKind, Index, NoiseTargets, Ref, Stmt, StmtKind};
 
-/// How much each expanded thing counts against [`Limits::max_items`].
+/// How much each expanded thing counts against [`crate::ir::Limits::max_items`].
 ///
 /// The weights follow memory. Loading and checking circuits made of nothing but one kind of
 /// thing (qubits; lone operations; operations in layers; measurements, alone or in layers;
