@@ -10,10 +10,10 @@
 //! - [`dot`]: Graphviz `graph`, detectors pinned at their first two coordinates;
 //! - [`text`]: one line per mechanism or edge.
 
-pub mod dot;
-pub mod json;
-pub mod mtx;
-pub mod text;
+mod dot;
+mod json;
+mod mtx;
+mod text;
 
 use crate::faults::graph::{FaultGraph, GraphlikeStats, MatchingGraph};
 
