@@ -1,4 +1,6 @@
-//! The one integration-test binary: runs the real `slant` executable, one module per subcommand.
+//! The one integration-test binary: one module per area (front end, noise, graphs, shots,
+//! estimates, distances, decoders, codes, generators), golden outputs of every subcommand, and
+//! the import rules of the sources.
 mod architecture;
 mod codes;
 mod decode;
@@ -7,7 +9,9 @@ mod estimate;
 mod gen;
 mod golden;
 mod graph;
+mod implement;
 mod lang;
 mod noise;
+mod printer;
 mod shots;
 mod support;
