@@ -73,8 +73,10 @@ pub fn branch_run(circuit: &Circuit, mut choose: impl FnMut() -> bool) -> Refere
                 random[*record as usize] = m.random;
             }
             OpKind::Reset(basis) => {
+                // A reset of an entangled qubit measures it first: a branch point too, or the
+                // qubits entangled with it would never vary between branches.
                 for &q in &op.targets {
-                    t.reset(q, *basis);
+                    t.reset_resolving(q, *basis, &mut choose);
                 }
             }
             OpKind::Noise(_) => {}
@@ -450,7 +452,13 @@ impl Tableau {
 
     /// Resets a qubit to the +1 eigenstate of `basis`.
     pub fn reset(&mut self, q: u32, basis: Basis) {
-        let m = self.measure(&[(q, basis.pauli())]);
+        self.reset_resolving(q, basis, || false);
+    }
+
+    /// Resets a qubit; when it is entangled, the outcome of the measurement the reset performs
+    /// (which decides what happens to the qubits entangled with it) is `resolve()`.
+    pub fn reset_resolving(&mut self, q: u32, basis: Basis, resolve: impl FnOnce() -> bool) {
+        let m = self.measure_resolving(&[(q, basis.pauli())], resolve);
         if m.outcome {
             // A Pauli anticommuting with the basis Pauli maps the −1 eigenstate to the +1 one.
             let fix = if basis == Basis::X { Gate::Z } else { Gate::X };
@@ -470,6 +478,18 @@ mod tests {
             .filter(|(_, &p)| p != I)
             .map(|(q, &p)| (q as u32, p))
             .collect()
+    }
+
+    /// A reset of an entangled qubit measures it: after H, CX and a reset of the target, the
+    /// control is |0> or |1> with equal chance, so branches must be able to disagree on it.
+    #[test]
+    fn branches_split_at_the_reset_of_an_entangled_qubit() {
+        let text = "qubit a\nqubit b\nh a\ncx a b\nreset z b\nmeasure z a -> m\n";
+        let c = crate::ir::load_source(&crate::base::Source::new("t", text), &[]).unwrap();
+        assert!(!reference_run(&c).measurements[0]);
+        // The only random choice is the reset's; the measurement then follows it.
+        let taken = branch_run(&c, || true);
+        assert!(taken.measurements[0] && !taken.random[0]);
     }
 
     /// Bell state (|00> + |11>)/√2 from H and CX: stabilizers +XX, +ZZ, hence YY = −XX·ZZ has
