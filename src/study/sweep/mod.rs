@@ -42,6 +42,9 @@
 //!
 //! # Shards
 //! `--shard k/n` (1 ≤ k ≤ n) runs the tasks whose index in the expanded grid is `k − 1` mod `n`.
+//!
+//! Files: `spec.rs` (spec and tasks), `store.rs` (rows, reading, merging, totals), `run.rs`
+//! (shards and the run).
 
 mod run;
 mod spec;

@@ -1,5 +1,5 @@
-//! Sweep specs: the TOML text of a sweep, and the [`Task`]s its grids expand to (see the
-//! module docs of [`crate::study`]'s sweep section for the format).
+//! Sweep specs: the TOML text of a sweep, and the [`Task`]s its grids expand to (the format is
+//! in the docs of `sweep/mod.rs`).
 
 use std::collections::HashSet;
 use std::sync::Arc;
