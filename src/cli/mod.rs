@@ -19,6 +19,7 @@ mod common;
 mod compare;
 mod compile;
 mod distance;
+mod draw;
 mod estimate;
 mod fmt;
 mod graph;
@@ -73,6 +74,8 @@ enum Command {
     Compile(compile::Args),
     /// Circuit-level distances by fault class, with the logical error found.
     Distance(distance::Args),
+    /// Draw the patch: layout and gate order, the layers of a round, or faults on the chip.
+    Draw(draw::Args),
     /// Estimate the logical error rate by sampling and decoding.
     Estimate(estimate::Args),
     /// Print a circuit in canonical form.
@@ -142,6 +145,7 @@ pub fn main() -> i32 {
         Command::Compare(a) => compare::run(a),
         Command::Compile(a) => compile::run(a),
         Command::Distance(a) => distance::run(a),
+        Command::Draw(a) => draw::run(a),
         Command::Estimate(a) => estimate::run(a),
         Command::Fmt(a) => fmt::run(a),
         Command::Graph(a) => graph::run(a),

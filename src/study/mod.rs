@@ -1,6 +1,7 @@
 //! Studies: the one pipeline "circuit + noise → fault graph / samples → decoder → estimates",
 //! and what is built on it — Monte Carlo runs with Wilson intervals, comparisons of circuits,
-//! threshold sweeps with their resumable store, threshold fits and plots.
+//! threshold sweeps with their resumable store, threshold fits and plots, and pictures of the
+//! patch ([`draw`]).
 //!
 //! In: circuit sources, noise texts (presets or model files), sweep specs, results stores. Out:
 //! report values, rows, points, fits and plot bytes; rendering text and writing files belongs to
@@ -13,6 +14,7 @@
 //! events.
 
 mod compare;
+pub mod draw;
 mod montecarlo;
 mod pipeline;
 mod plot;
