@@ -211,6 +211,31 @@ impl Placer {
     }
 }
 
+/// What painting one panel needs: its frame, its mark sizes, its number (for ids) and the
+/// placer of its labels.
+pub struct Pen {
+    /// Circuit coordinates to pixels.
+    pub f: Frame,
+    /// Mark sizes.
+    pub s: Sizes,
+    /// Panel number.
+    pub panel: usize,
+    /// Label placement.
+    pub placer: Placer,
+}
+
+impl Pen {
+    /// A pen for panel `panel`.
+    pub fn new(f: Frame, s: Sizes, panel: usize) -> Pen {
+        Pen {
+            f,
+            s,
+            panel,
+            placer: Placer::default(),
+        }
+    }
+}
+
 /// A text shape.
 pub fn text(
     at: Px,

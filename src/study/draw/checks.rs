@@ -17,7 +17,7 @@
 use std::collections::HashMap;
 use std::ops::Range;
 
-use crate::base::Pauli;
+use crate::base::{Gate, Pauli};
 use crate::ir::{Circuit, OpKind};
 
 use super::model::Timeline;
@@ -256,15 +256,17 @@ fn make(
     }
 }
 
-/// What must agree for two rounds to share a structure.
-fn key(
-    checks: &[Check],
-) -> Vec<(
+/// What must agree for two rounds to share a structure, per check: ancilla, support, gates
+/// (qubit, gate, step, ancilla first) and product step.
+type Key = (
     Option<u32>,
     Vec<(u32, Pauli)>,
-    Vec<(u32, u32, bool)>,
+    Vec<(u32, Gate, u32, bool)>,
     Option<u32>,
-)> {
+);
+
+/// The [`Key`] of each check of a round.
+fn key(checks: &[Check]) -> Vec<Key> {
     checks
         .iter()
         .map(|k| {
@@ -273,7 +275,7 @@ fn key(
                 k.support.iter().map(|s| (s.qubit, s.pauli)).collect(),
                 k.couplings
                     .iter()
-                    .map(|g| (g.qubit, g.step, g.ancilla_first))
+                    .map(|g| (g.qubit, g.gate, g.step, g.ancilla_first))
                     .collect(),
                 k.step,
             )

@@ -59,11 +59,14 @@ pub(super) fn role_key(r: Role) -> Key {
     }
 }
 
-/// A legend swatch box is 36 × 22 pixels.
+/// Draws a swatch in the 36 × 22 box at a top-left corner.
+type Swatch = Box<dyn Fn(Px) -> Vec<Shape>>;
+
+/// The legend entry of a kind of mark.
 pub(super) fn entry(key: Key) -> Entry {
     let s = Sizes::for_spacing(100.0);
     let mid = |o: Px| (o.0 + 18.0, o.1 + 11.0);
-    let (class, text_, swatch): (&str, String, Box<dyn Fn(Px) -> Vec<Shape>>) = match key {
+    let (class, text_, swatch): (&str, String, Swatch) = match key {
         Key::Data => (
             "legend-data",
             "data qubit".into(),

@@ -7,7 +7,7 @@ use crate::faults::FaultClass;
 
 use super::canvas::bounds;
 use super::canvas::{
-    tag, tag_size, text, Frame, Placer, Sizes, BLACK, BLUE, GREEN, VERMILLION, WHITE,
+    tag, tag_size, text, Frame, Pen, Placer, Sizes, BLACK, BLUE, GREEN, VERMILLION, WHITE,
 };
 use super::legend::Key;
 use super::marks::{band, detector, event, fault_colour, fault_ring, gate_line, op_badge, toward};
@@ -22,21 +22,20 @@ impl Painter<'_> {
     /// The faults of an overlay on their qubits, numbered, with their spread.
     pub(super) fn faults(
         &mut self,
-        f: &Frame,
-        s: &Sizes,
-        panel: usize,
+        pen: &mut Pen,
         o: &FaultOverlay,
         which: usize,
-        placer: &mut Placer,
         out: &mut Vec<Group>,
     ) {
+        let (f, s, panel) = (pen.f, pen.s, pen.panel);
+        let (f, s) = (&f, &s);
         for (k, m) in o
             .marks
             .iter()
             .enumerate()
             .filter(|(_, m)| m.structure == which)
         {
-            out.push(self.fault(f, s, panel, k, m, placer));
+            out.push(self.fault(pen, k, m));
         }
         for d in &o.detectors {
             self.keys.insert(Key::Detector);
@@ -50,21 +49,15 @@ impl Painter<'_> {
             g.shapes.extend(detector(c, 0.9 * s.rq));
             let label = format!("t={}", d.time);
             let (w, h) = tag_size(&label, s.small);
-            let at = placer.place(c, s.rq, w, h, f.out(c));
+            let at = pen.placer.place(c, s.rq, w, h, f.out(c));
             tag(&mut g, at, &label, s.small, BLACK, false);
             out.push(g);
         }
     }
 
-    fn fault(
-        &mut self,
-        f: &Frame,
-        s: &Sizes,
-        panel: usize,
-        k: usize,
-        m: &FaultMark,
-        placer: &mut Placer,
-    ) -> Group {
+    fn fault(&mut self, pen: &mut Pen, k: usize, m: &FaultMark) -> Group {
+        let (f, s, panel) = (pen.f, pen.s, pen.panel);
+        let (f, s) = (&f, &s);
         let high = m.class == FaultClass::High;
         self.keys.insert(if high { Key::High } else { Key::Low });
         let ink = fault_colour(high);
@@ -151,7 +144,7 @@ impl Painter<'_> {
                     WHITE,
                     true,
                 ));
-                placer.block_circle(lc, s.small * 0.8);
+                pen.placer.block_circle(lc, s.small * 0.8);
             }
             let label = if m.number > 0 {
                 format!("{}: {} {}", m.number, m.term, m.when)
@@ -159,23 +152,16 @@ impl Painter<'_> {
                 format!("{} {}", m.term, m.when)
             };
             let (w, h) = tag_size(&label, s.small);
-            let at = placer.place(from, r + 2.0, w, h, f.out(from));
+            let at = pen.placer.place(from, r + 2.0, w, h, f.out(from));
             tag(&mut g, at, &label, s.small, ink, !high);
         }
         g
     }
 
     /// A shot panel's events, matches and boundary matches for one time slice.
-    pub(super) fn shot(
-        &mut self,
-        f: &Frame,
-        s: &Sizes,
-        panel: usize,
-        o: &ShotOverlay,
-        t: f64,
-        placer: &mut Placer,
-        out: &mut Vec<Group>,
-    ) {
+    pub(super) fn shot(&mut self, pen: &mut Pen, o: &ShotOverlay, t: f64, out: &mut Vec<Group>) {
+        let (f, s, panel) = (pen.f, pen.s, pen.panel);
+        let (f, s) = (&f, &s);
         let by = |d: u32| o.events.iter().find(|e| e.index == d);
         let here = |e: &DetectorMark| (e.time - t).abs() < 1e-9;
         let r = 0.85 * s.rq + 2.0;
@@ -237,7 +223,7 @@ impl Painter<'_> {
                     } else {
                         c
                     };
-                    let at = placer.place(anchor, r + 1.0, w, h, f.out(anchor));
+                    let at = pen.placer.place(anchor, r + 1.0, w, h, f.out(anchor));
                     tag(&mut g, at, &label, s.small, BLUE, true);
                 }
                 None => {
@@ -264,7 +250,7 @@ impl Painter<'_> {
         for e in o.events.iter().filter(|e| here(e)) {
             self.keys.insert(Key::Event);
             let c = f.p(e.at);
-            placer.block_circle(c, r);
+            pen.placer.block_circle(c, r);
             let mut g = Group::new("event")
                 .id(format!("p{panel}-event-{}", e.index))
                 .title(format!(
@@ -307,14 +293,13 @@ impl Painter<'_> {
     /// A time-view panel: what acts in one layer.
     pub(super) fn layer(
         &mut self,
-        f: &Frame,
-        s: &Sizes,
-        panel: usize,
+        pen: &mut Pen,
         lp: &LayerPanel,
         st: Option<&Structure>,
-        placer: &mut Placer,
         out: &mut Vec<Group>,
     ) {
+        let (f, s, panel) = (pen.f, pen.s, pen.panel);
+        let (f, s) = (&f, &s);
         for (k, op) in lp.ops.iter().enumerate() {
             let mut g = Group::new("op")
                 .id(format!("p{panel}-op-{k}"))
@@ -347,8 +332,14 @@ impl Painter<'_> {
                     g = g
                         .title(format!("{} {}", gate.name(), self.name(*qubit)))
                         .data("qubits", self.name(*qubit).to_string());
-                    g.shapes
-                        .extend(self.op_mark(f, s, *qubit, gate.name(), GREEN, placer));
+                    g.shapes.extend(self.op_mark(
+                        f,
+                        s,
+                        *qubit,
+                        gate.name(),
+                        GREEN,
+                        &mut pen.placer,
+                    ));
                 }
                 LayerOp::Reset { basis, qubit } => {
                     self.keys.insert(Key::Reset);
@@ -362,7 +353,7 @@ impl Painter<'_> {
                         *qubit,
                         &format!("R{}", basis.name()),
                         BLUE,
-                        placer,
+                        &mut pen.placer,
                     ));
                 }
                 LayerOp::Measure { factors } => {
@@ -384,8 +375,14 @@ impl Painter<'_> {
                     );
                     if let [(q, p)] = factors.as_slice() {
                         let label = format!("M{}", p.letter().to_ascii_lowercase());
-                        g.shapes
-                            .extend(self.op_mark(f, s, *q, &label, VERMILLION, placer));
+                        g.shapes.extend(self.op_mark(
+                            f,
+                            s,
+                            *q,
+                            &label,
+                            VERMILLION,
+                            &mut pen.placer,
+                        ));
                     } else {
                         g.shapes.extend(self.product(f, s, factors, st));
                     }

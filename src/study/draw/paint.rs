@@ -11,7 +11,7 @@
 use std::collections::BTreeSet;
 
 use super::canvas::{
-    bounds, compose, text, Frame, Grid, PanelOut, Placer, Sizes, BLACK, DARK, PALE, WHITE,
+    bounds, compose, text, Frame, Grid, PanelOut, Pen, Sizes, BLACK, DARK, PALE, WHITE,
 };
 use super::legend::{check_key, entry, role_key, Key};
 use super::marks::{badge, band, check_fill, check_stroke, gate_line, image, lerp, qubit, toward};
@@ -89,15 +89,9 @@ impl Painter<'_> {
 
     /// One check's region: the hull of its support (with its own place when the support alone
     /// has no area), or a band along a support on one line.
-    fn check_region(
-        &mut self,
-        f: &Frame,
-        s: &Sizes,
-        panel: usize,
-        k: usize,
-        c: &Check,
-        faint: bool,
-    ) -> Group {
+    fn check_region(&mut self, pen: &mut Pen, k: usize, c: &Check, faint: bool) -> Group {
+        let (f, s, panel) = (pen.f, pen.s, pen.panel);
+        let (f, s) = (&f, &s);
         let kind = c.kind;
         self.keys.insert(check_key(kind));
         let pts: Vec<Point> = c.support.iter().map(|q| q.at).collect();
@@ -199,15 +193,9 @@ impl Painter<'_> {
     }
 
     /// The ancilla's gates: lines to each qubit with their steps.
-    fn couplings(
-        &mut self,
-        f: &Frame,
-        s: &Sizes,
-        panel: usize,
-        c: &Check,
-        placer: &mut Placer,
-        out: &mut Vec<Group>,
-    ) {
+    fn couplings(&mut self, pen: &mut Pen, c: &Check, out: &mut Vec<Group>) {
+        let (f, s, panel) = (pen.f, pen.s, pen.panel);
+        let (f, s) = (&f, &s);
         let Some(a) = c.ancilla else {
             if let (Some(step), true) = (c.step, s.detail) {
                 self.keys.insert(Key::ProductStep);
@@ -223,8 +211,8 @@ impl Painter<'_> {
                     .data("check", c.name.clone())
                     .data("step", step.to_string());
                 g.shapes.extend(badge(at, &step.to_string(), s));
-                placer.block_circle(at, s.badge + 1.0);
-                placer.block_circle(centre, s.badge + 1.0);
+                pen.placer.block_circle(at, s.badge + 1.0);
+                pen.placer.block_circle(centre, s.badge + 1.0);
                 out.push(g);
             }
             return;
@@ -271,23 +259,16 @@ impl Painter<'_> {
                 self.keys.insert(Key::Step);
                 g.shapes
                     .extend(badge(lerp(ca, cq, 0.42), &k.step.to_string(), s));
-                placer.block_circle(lerp(ca, cq, 0.42), s.badge + 1.0);
+                pen.placer.block_circle(lerp(ca, cq, 0.42), s.badge + 1.0);
             }
             out.push(g);
         }
     }
 
     /// Every qubit (and the images of wrapped checks), with names beside them if asked.
-    fn qubits(
-        &mut self,
-        f: &Frame,
-        s: &Sizes,
-        panel: usize,
-        checks: &[Check],
-        faint: bool,
-        placer: &mut Placer,
-        out: &mut Vec<Group>,
-    ) {
+    fn qubits(&mut self, pen: &mut Pen, checks: &[Check], faint: bool, out: &mut Vec<Group>) {
+        let (f, s, panel) = (pen.f, pen.s, pen.panel);
+        let (f, s) = (&f, &s);
         let mut images: Vec<(u32, Point)> = Vec::new();
         for c in checks {
             for q in &c.support {
@@ -330,7 +311,7 @@ impl Painter<'_> {
                 role_key(q.role)
             });
             let c = f.p(q.at);
-            placer.block_circle(c, s.rq + 2.0);
+            pen.placer.block_circle(c, s.rq + 2.0);
             let mut g = Group::new(format!("qubit {}", q.role.name()))
                 .id(format!("p{panel}-qubit-{}", q.index))
                 .title(format!(
@@ -359,7 +340,7 @@ impl Painter<'_> {
             for q in &self.layout.qubits {
                 let c = f.p(q.at);
                 let w = text_width(&q.name, size, false);
-                let at = placer.place(c, s.rq + 1.0, w, size + 2.0, f.out(c));
+                let at = pen.placer.place(c, s.rq + 1.0, w, size + 2.0, f.out(c));
                 let mut g = Group::new("label").data("qubit", q.name.clone());
                 g.push(text(
                     (at.0, at.1 + (size + 2.0) / 2.0),
@@ -375,51 +356,39 @@ impl Painter<'_> {
     }
 
     /// A patch panel: outline, checks, gate steps, qubits.
-    fn patch(
-        &mut self,
-        f: &Frame,
-        s: &Sizes,
-        panel: usize,
-        st: &Structure,
-        placer: &mut Placer,
-    ) -> Vec<Group> {
+    fn patch(&mut self, pen: &mut Pen, st: &Structure) -> Vec<Group> {
+        let (f, s) = (pen.f, pen.s);
+        let (f, s) = (&f, &s);
         let mut out = Vec::new();
         self.outline(f, &mut out);
         let mut regions = Vec::new();
         for (k, c) in st.checks.iter().enumerate() {
-            let mut g = self.check_region(f, s, panel, k, c, false);
+            let mut g = self.check_region(pen, k, c, false);
             self.check_letters(f, s, c, &mut g);
             regions.push(g);
         }
         out.extend(regions);
         for c in &st.checks {
-            self.couplings(f, s, panel, c, placer, &mut out);
+            self.couplings(pen, c, &mut out);
         }
-        self.qubits(f, s, panel, &st.checks, false, placer, &mut out);
+        self.qubits(pen, &st.checks, false, &mut out);
         for c in &st.checks {
             if c.ancilla.is_none() {
-                placer.block_circle(f.p(c.at), s.badge * 2.5);
+                pen.placer.block_circle(f.p(c.at), s.badge * 2.5);
             }
         }
         out
     }
 
     /// A faint patch behind time-view and shot panels.
-    pub fn faint_patch(
-        &mut self,
-        f: &Frame,
-        s: &Sizes,
-        panel: usize,
-        st: Option<&Structure>,
-        placer: &mut Placer,
-    ) -> Vec<Group> {
+    pub fn faint_patch(&mut self, pen: &mut Pen, st: Option<&Structure>) -> Vec<Group> {
         let mut out = Vec::new();
-        self.outline(f, &mut out);
+        self.outline(&pen.f, &mut out);
         let checks: &[Check] = st.map_or(&[], |st| &st.checks);
         for (k, c) in checks.iter().enumerate() {
-            out.push(self.check_region(f, s, panel, k, c, true));
+            out.push(self.check_region(pen, k, c, true));
         }
-        self.qubits(f, s, panel, checks, true, placer, &mut out);
+        self.qubits(pen, checks, true, &mut out);
         out
     }
 }
@@ -485,10 +454,10 @@ pub fn scene(d: &Drawing, style: Style) -> Scene {
                     oy: o.1,
                     ..f0
                 };
-                let mut placer = Placer::default();
-                let mut groups = p.patch(&f, &s, k, st, &mut placer);
+                let mut pen = Pen::new(f, s, k);
+                let mut groups = p.patch(&mut pen, st);
                 if let Some(ov) = overlay {
-                    p.faults(&f, &s, k, ov, k, &mut placer, &mut groups);
+                    p.faults(&mut pen, ov, k, &mut groups);
                 }
                 let caption = if st.checks.is_empty() {
                     format!("{} (no checks found)", st.title())
@@ -528,9 +497,9 @@ pub fn scene(d: &Drawing, style: Style) -> Scene {
                     oy: o.1,
                     ..f0
                 };
-                let mut placer = Placer::default();
-                let mut groups = p.faint_patch(&f, &s, k, st, &mut placer);
-                p.layer(&f, &s, k, lp, st, &mut placer, &mut groups);
+                let mut pen = Pen::new(f, s, k);
+                let mut groups = p.faint_patch(&mut pen, st);
+                p.layer(&mut pen, lp, st, &mut groups);
                 panels.push(PanelOut {
                     caption: lp.label.clone(),
                     groups,
@@ -577,9 +546,9 @@ pub fn scene(d: &Drawing, style: Style) -> Scene {
                     oy: org.1,
                     ..f0
                 };
-                let mut placer = Placer::default();
-                let mut groups = p.faint_patch(&f, &s, k, st, &mut placer);
-                p.shot(&f, &s, k, o, t, &mut placer, &mut groups);
+                let mut pen = Pen::new(f, s, k);
+                let mut groups = p.faint_patch(&mut pen, st);
+                p.shot(&mut pen, o, t, &mut groups);
                 panels.push(PanelOut {
                     caption: format!("time {t}"),
                     groups,

@@ -559,10 +559,7 @@ fn svg_has_one_element_per_qubit_check_and_step_at_its_coordinates() {
         .collect();
     let a = qs[0];
     let ca = coords(data(a, "at"));
-    let b = *qs
-        .iter()
-        .find(|q| coords(data(q, "at")).0 != ca.0)
-        .unwrap();
+    let b = *qs.iter().find(|q| coords(data(q, "at")).0 != ca.0).unwrap();
     let cb = coords(data(b, "at"));
     let unit = (b.centre.unwrap().0 - a.centre.unwrap().0) / (cb.0 - ca.0);
     for q in &qs {

@@ -60,11 +60,11 @@ pub(super) fn timeline(c: &Circuit) -> Timeline {
     let mut kinds: Vec<LayerKind> = c.layers.iter().map(kind).collect();
     // Number the steps within each block of layers sharing a round value.
     let mut step = 0;
-    for i in 0..kinds.len() {
+    for (i, k) in kinds.iter_mut().enumerate() {
         if i > 0 && c.layers[i].round != c.layers[i - 1].round {
             step = 0;
         }
-        if let LayerKind::Step(s) = &mut kinds[i] {
+        if let LayerKind::Step(s) = k {
             step += 1;
             *s = step;
         }
