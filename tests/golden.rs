@@ -96,6 +96,25 @@ fn golden_distance() {
     );
 }
 
+/// The picture of the repetition code with its shortest logical error: the SVG is the output.
+#[test]
+fn golden_draw() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("r.svg");
+    let printed = stdout(&[
+        "draw",
+        REPETITION,
+        "--noise",
+        "circuit p=0.001",
+        "--show",
+        "shortest",
+        "-o",
+        out.to_str().unwrap(),
+    ]);
+    assert!(printed.starts_with("picture written to"));
+    check("draw.svg", &std::fs::read_to_string(&out).unwrap());
+}
+
 #[test]
 fn golden_estimate() {
     check(

@@ -1,10 +1,11 @@
 //! The one integration-test binary: one module per area (front end, noise, graphs, shots,
-//! estimates, distances, decoders, codes, generators), golden outputs of every subcommand, and
+//! estimates, distances, pictures, decoders, codes, generators), golden outputs of every subcommand, and
 //! the import rules of the sources.
 mod architecture;
 mod codes;
 mod decode;
 mod distance;
+mod draw;
 mod estimate;
 mod gen;
 mod golden;

@@ -175,6 +175,11 @@ impl Placer {
             };
             dirs.sort_by(|a, b| score(a).total_cmp(&score(b)));
         }
+        self.place_along(at, reach, w, h, &dirs)
+    }
+
+    /// Like [`Placer::place`], trying the directions in the order given.
+    pub fn place_along(&mut self, at: Px, reach: f64, w: f64, h: f64, dirs: &[(f64, f64)]) -> Px {
         let corner = |k: f64, d: (f64, f64)| {
             let l = (d.0 * d.0 + d.1 * d.1).sqrt();
             let cx = at.0 + d.0 / l * reach * k;
@@ -196,7 +201,7 @@ impl Placer {
             (x, y)
         };
         for k in [1.0, 1.8, 2.6] {
-            for d in dirs {
+            for &d in dirs {
                 let (x, y) = corner(k, d);
                 let r = (x, y, x + w, y + h);
                 if !self.taken.iter().any(|&t| overlaps(t, r)) {
@@ -426,9 +431,85 @@ pub fn compose(
     }
     let width = (lx + lw + MARGIN).max(right + MARGIN);
     let height = (grid.top + gh).max(ly) + MARGIN;
-    Scene {
+    fit(Scene {
         width: width.ceil(),
         height: height.ceil(),
         groups,
+    })
+}
+
+/// The box `(x0, y0, x1, y1)` a shape covers (texts measured in the bundled face).
+fn extent(s: &Shape) -> Rect {
+    let over = |pts: &[Px], pad: f64| {
+        pts.iter().fold(
+            (
+                f64::INFINITY,
+                f64::INFINITY,
+                f64::NEG_INFINITY,
+                f64::NEG_INFINITY,
+            ),
+            |b, p| {
+                (
+                    b.0.min(p.0 - pad),
+                    b.1.min(p.1 - pad),
+                    b.2.max(p.0 + pad),
+                    b.3.max(p.1 + pad),
+                )
+            },
+        )
+    };
+    match s {
+        Shape::Circle { c, r, paint } => over(&[*c], r + paint.width / 2.0),
+        Shape::Polygon { pts, paint } | Shape::Path { pts, paint } => over(pts, paint.width / 2.0),
+        Shape::Text {
+            at,
+            text,
+            size,
+            anchor,
+            bold,
+            ..
+        } => {
+            let w = text_width(text, *size, *bold);
+            let x0 = match anchor {
+                Anchor::Start => at.0,
+                Anchor::Middle => at.0 - w / 2.0,
+                Anchor::End => at.0 - w,
+            };
+            (x0, at.1 - size / 2.0, x0 + w, at.1 + size / 2.0)
+        }
     }
+}
+
+/// Moves and grows the page so that every shape (a label pushed past a panel's edge, say) lies
+/// at least half a margin inside it.
+fn fit(mut scene: Scene) -> Scene {
+    let all = scene
+        .groups
+        .iter()
+        .flat_map(|g| g.shapes.iter())
+        .map(extent)
+        .fold(
+            (f64::INFINITY, f64::INFINITY, scene.width, scene.height),
+            |b, e| (b.0.min(e.0), b.1.min(e.1), b.2.max(e.2), b.3.max(e.3)),
+        );
+    let (dx, dy) = (
+        (MARGIN / 2.0 - all.0).max(0.0),
+        (MARGIN / 2.0 - all.1).max(0.0),
+    );
+    if dx > 0.0 || dy > 0.0 {
+        let mv = |p: &mut Px| {
+            p.0 += dx;
+            p.1 += dy;
+        };
+        for s in scene.groups.iter_mut().flat_map(|g| g.shapes.iter_mut()) {
+            match s {
+                Shape::Circle { c, .. } => mv(c),
+                Shape::Polygon { pts, .. } | Shape::Path { pts, .. } => pts.iter_mut().for_each(mv),
+                Shape::Text { at, .. } => mv(at),
+            }
+        }
+    }
+    scene.width = scene.width.max(all.2 + dx + MARGIN / 2.0).ceil();
+    scene.height = scene.height.max(all.3 + dy + MARGIN / 2.0).ceil();
+    scene
 }

@@ -197,7 +197,7 @@ pub(super) fn entry(key: Key) -> Entry {
         ),
         Key::Spread => (
             "legend-spread",
-            "where gates spread it by the end of its round".into(),
+            "the Pauli it has become on a data qubit by the end of its round".into(),
             Box::new(move |o| {
                 let c = mid(o);
                 vec![

@@ -325,11 +325,17 @@ pub fn drawing(p: &Pipeline, o: &DrawOptions) -> Result<Drawing, DrawError> {
                 };
                 notes.push(match show {
                     Show::Edge(_) => "every circuit fault giving this edge is marked; tag: Pauli \
-                                      term and time (rR sS: round R, step S)"
+                                      term and time (rR sS: round R, step S; start, end: \
+                                      before, after the rounds)"
                         .to_string(),
-                    _ => "one circuit fault per edge (the most likely of those giving it); tag: \
-                          number, Pauli term, time (rR sS: round R, step S)"
-                        .to_string(),
+                    _ => {
+                        format!(
+                        "one circuit fault per edge (the most likely {}of those giving it); tag: \
+                         number, Pauli term, time (rR sS: round R, step S; start, end: before, \
+                         after the rounds)",
+                        if show == Show::HighRate { "high-rate one " } else { "" }
+                    )
+                    }
                 });
                 View::Patch(Some(overlay))
             }
@@ -412,7 +418,7 @@ fn logical_overlay(
         ),
     };
     match found {
-        Some((title, e)) => Ok(ctx.logical(title, e)),
+        Some((title, e)) => Ok(ctx.logical(title, e, show == Show::HighRate)),
         None => Err(Diagnostic::bare(match unproven {
             None => format!("no {what} exists (proven), so there is nothing to draw"),
             Some(u) => format!("no {what} was found: {}", u.describe()),

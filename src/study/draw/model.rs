@@ -375,6 +375,10 @@ pub struct ShotOverlay {
     pub events: Vec<DetectorMark>,
     /// Matched pairs of events (detector indices); `None`: matched to the boundary.
     pub pairs: Vec<(u32, Option<u32>)>,
+    /// For each event matched to the boundary, where the boundary is drawn: past the data
+    /// qubits of the last edge of its lightest path to the boundary (`None`: not found; the
+    /// picture then points to the nearest side of the patch).
+    pub boundary: Vec<(u32, Option<Point>)>,
     /// Observables the decoder predicts flipped.
     pub predicted: Vec<String>,
     /// Observables the shot really flipped.

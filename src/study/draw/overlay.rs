@@ -2,8 +2,9 @@
 //! placed on their qubits at their step, with where gates spread them by the end of the round.
 //!
 //! An edge is produced by every circuit fault with its symptom, often a dozen. For a logical
-//! error one is shown per edge, the *representative*: the most likely, then the one on fewest
-//! qubits, then the earliest (so a hook shows on the ancilla where it starts); the hover text
+//! error one is shown per edge, the *representative*: the most likely (of the high-rate ones,
+//! for a logical error of high-rate faults), then the one on fewest qubits, then the earliest
+//! (so a hook shows on the ancilla where it starts); the hover text
 //! counts the others, which `slant trace` lists. For a single edge (`edge:K`) every circuit fault
 //! is shown, those on the same qubits at the same time merged into one mark.
 //!
@@ -16,7 +17,7 @@ use std::collections::HashMap;
 
 use crate::analysis::LogicalError;
 use crate::base::Pauli;
-use crate::faults::{Contributor, FaultGraph};
+use crate::faults::{Contributor, FaultClass, FaultGraph};
 use crate::ir::{Circuit, OpKind};
 
 use super::model::{DetectorMark, FaultMark, FaultOverlay, Layout, Point, Timeline};
@@ -29,12 +30,18 @@ pub(super) struct Context<'a> {
     pub graph: &'a FaultGraph,
 }
 
-/// The representative circuit fault of edge `k` (see the module docs).
-fn representative(g: &FaultGraph, k: usize) -> &Contributor {
+/// The representative circuit fault of edge `k` (see the module docs); with `high`, among its
+/// high-rate faults when it has any.
+fn representative(g: &FaultGraph, k: usize, high: bool) -> &Contributor {
     let weight = |c: &Contributor| c.term.iter().filter(|&&p| p != Pauli::I).count();
     let all = g.contributors(k);
-    let mut best = &all[0];
-    for c in &all[1..] {
+    let pool: Vec<&Contributor> = if high && all.iter().any(|c| c.class == FaultClass::High) {
+        all.iter().filter(|c| c.class == FaultClass::High).collect()
+    } else {
+        all.iter().collect()
+    };
+    let mut best = pool[0];
+    for &c in &pool[1..] {
         let better = c.probability > best.probability
             || (c.probability == best.probability
                 && (weight(c), c.layer) < (weight(best), best.layer));
@@ -216,13 +223,17 @@ impl Context<'_> {
         }
     }
 
-    /// A logical error's faults, one per edge, numbered in edge order.
-    pub fn logical(&self, title: String, e: &LogicalError) -> FaultOverlay {
+    /// A logical error's faults, one per edge, numbered in edge order; with `high`, each edge
+    /// shown by a high-rate fault (a high-rate logical error's edges all have one).
+    pub fn logical(&self, title: String, e: &LogicalError, high: bool) -> FaultOverlay {
         let marks = e
             .mechanisms
             .iter()
             .enumerate()
-            .map(|(n, &m)| self.mark(m as usize, representative(self.graph, m as usize), n + 1))
+            .map(|(n, &m)| {
+                let k = representative(self.graph, m as usize, high);
+                self.mark(m as usize, k, n + 1)
+            })
             .collect();
         FaultOverlay {
             title,
@@ -333,4 +344,10 @@ pub(super) fn detector_mark(c: &Circuit, tl: &Timeline, layout: &Layout, d: u32)
         at,
         time,
     }
+}
+
+/// A detector's place from its coordinates in the fault graph, if it has two.
+pub(super) fn detector_place(g: &FaultGraph, d: u32) -> Option<Point> {
+    let c = &g.detectors.get(d as usize)?.coords;
+    (c.len() >= 2).then(|| (c[0], c[1]))
 }

@@ -153,6 +153,15 @@ impl Painter<'_> {
             };
             let (w, h) = tag_size(&label, s.small);
             let at = pen.placer.place(from, r + 2.0, w, h, f.out(from));
+            // A tag pushed away from its fault gets a leader line back to the ring.
+            let near = (from.0.clamp(at.0, at.0 + w), from.1.clamp(at.1, at.1 + h));
+            let gap = ((near.0 - from.0).powi(2) + (near.1 - from.1).powi(2)).sqrt();
+            if gap > r + 10.0 {
+                g.push(Shape::Path {
+                    pts: vec![toward(from, near, r + 2.0), near],
+                    paint: Paint::stroke(ink, 1.5),
+                });
+            }
             tag(&mut g, at, &label, s.small, ink, !high);
         }
         g
@@ -228,7 +237,13 @@ impl Painter<'_> {
                 }
                 None => {
                     self.keys.insert(Key::Boundary);
-                    let p = f.p(self.boundary_point(mine.at));
+                    let place = o
+                        .boundary
+                        .iter()
+                        .find(|b| b.0 == mine.index)
+                        .and_then(|b| b.1)
+                        .unwrap_or_else(|| self.boundary_point(mine.at));
+                    let p = f.p(place);
                     g = g.title(format!("`{}` is matched to the boundary", mine.name));
                     let end = toward(p, c, -4.0);
                     g.push(Shape::Path {
@@ -403,7 +418,8 @@ impl Painter<'_> {
         placer: &mut Placer,
     ) -> Vec<Shape> {
         let c = f.p(self.at(q));
-        let size = s.small;
+        // Readable on a slide even in the small panels of the time view.
+        let size = s.small.max(13.0);
         let (w, h) = (text_width(label, size, true) + 8.0, size + 6.0);
         let at = placer.place(c, s.rq * 0.7, w, h, f.out(c));
         op_badge((at.0 + w / 2.0, at.1 + h / 2.0), label, size, ink)
@@ -453,7 +469,7 @@ impl Painter<'_> {
                 paint: Paint::stroke(VERMILLION, 3.0),
             });
         }
-        out.extend(op_badge(f.p(centre), "M", s.small, VERMILLION));
+        out.extend(op_badge(f.p(centre), "M", s.small.max(13.0), VERMILLION));
         out
     }
 }

@@ -105,23 +105,33 @@ impl Painter<'_> {
         let alpha = if faint { alpha * 0.45 } else { alpha };
         let paint =
             Paint::both(fill, check_stroke(kind), if faint { 0.8 } else { 1.5 }).opacity(alpha);
-        let support: Vec<String> = c
+        // As the language writes a product: `x d[0,0] * z d[0,1]`.
+        let product: Vec<String> = c
             .support
             .iter()
-            .map(|q| format!("{}{}", q.pauli.letter(), self.name(q.qubit)))
+            .map(|q| {
+                format!(
+                    "{} {}",
+                    q.pauli.letter().to_ascii_lowercase(),
+                    self.name(q.qubit)
+                )
+            })
             .collect();
+        let names: Vec<&str> = c.support.iter().map(|q| self.name(q.qubit)).collect();
+        let paulis: String = c.support.iter().map(|q| q.pauli.letter()).collect();
         let mut g = Group::new(format!("check check-{}", kind.class()))
             .id(format!("p{panel}-check-{k}"))
             .title(format!(
                 "{} `{}`: measures {}",
                 kind.name(),
                 c.name,
-                support.join(" ")
+                product.join(" * ")
             ))
             .data("check", c.name.clone())
             .data("kind", kind.class())
             .data("at", fmt_coord(c.at))
-            .data("support", support.join(" "));
+            .data("support", names.join(" "))
+            .data("paulis", paulis);
         if h.is_empty() {
             // All on one line: a band from end to end.
             let mut ends = pts.clone();
@@ -147,7 +157,9 @@ impl Painter<'_> {
 
     /// The letters of a mixed check beside the line to each qubit, and the kind letter of a
     /// product check at its centre.
-    fn check_letters(&mut self, f: &Frame, s: &Sizes, c: &Check, g: &mut Group) {
+    fn check_letters(&mut self, pen: &mut Pen, c: &Check, g: &mut Group) {
+        let (f, s) = (pen.f, pen.s);
+        let (f, s) = (&f, &s);
         let centre = f.p(label_point(c));
         if c.kind == CheckKind::Mixed && s.detail {
             self.keys.insert(Key::Corner);
@@ -167,6 +179,7 @@ impl Painter<'_> {
                         m.1 + (p.0 - centre.0) / len * off,
                     )
                 };
+                pen.placer.block_circle(at, 0.5 * s.small + 2.0);
                 g.push(text(
                     at,
                     q.pauli.letter().to_string(),
@@ -336,11 +349,23 @@ impl Painter<'_> {
             out.push(g);
         }
         if self.style.labels {
-            let size = (s.small - 1.0).max(10.0);
+            let size = s.small;
+            // Below a qubit first, then above, then on the diagonals: beside it a label would
+            // sit on the gate lines of a chain.
+            let dirs = [
+                (0.0, 1.0),
+                (0.0, -1.0),
+                (1.0, 1.0),
+                (-1.0, 1.0),
+                (1.0, -1.0),
+                (-1.0, -1.0),
+                (1.0, 0.0),
+                (-1.0, 0.0),
+            ];
             for q in &self.layout.qubits {
                 let c = f.p(q.at);
                 let w = text_width(&q.name, size, false);
-                let at = pen.placer.place(c, s.rq + 1.0, w, size + 2.0, f.out(c));
+                let at = pen.placer.place_along(c, s.rq + 1.0, w, size + 2.0, &dirs);
                 let mut g = Group::new("label").data("qubit", q.name.clone());
                 g.push(text(
                     (at.0, at.1 + (size + 2.0) / 2.0),
@@ -364,7 +389,7 @@ impl Painter<'_> {
         let mut regions = Vec::new();
         for (k, c) in st.checks.iter().enumerate() {
             let mut g = self.check_region(pen, k, c, false);
-            self.check_letters(f, s, c, &mut g);
+            self.check_letters(pen, c, &mut g);
             regions.push(g);
         }
         out.extend(regions);
@@ -488,7 +513,7 @@ pub fn scene(d: &Drawing, style: Style) -> Scene {
                 Some(r) => st.rounds.contains(r),
                 None => st.rounds.is_empty(),
             });
-            let grid = Grid::new(lps.len(), f0.w, f0.h, 4, lines.len());
+            let grid = Grid::new(lps.len(), f0.w, f0.h, 3, lines.len());
             let mut panels = Vec::new();
             for (k, lp) in lps.iter().enumerate() {
                 let o = grid.origin(k);
@@ -529,13 +554,27 @@ pub fn scene(d: &Drawing, style: Style) -> Scene {
             } else {
                 "the decoder is wrong: a logical error"
             };
-            lines.insert(0, format!(
-                "{} detection events, {} matched pairs; the decoder predicts {} flipped, the shot flipped {}: {verdict}",
-                o.events.len(),
-                o.pairs.len(),
-                flips(&o.predicted),
-                flips(&o.flipped)
-            ));
+            let to_boundary = o.pairs.iter().filter(|p| p.1.is_none()).count();
+            let plural = |n: usize, one: &str, many: &str| {
+                format!("{n} {}", if n == 1 { one } else { many })
+            };
+            lines.insert(
+                0,
+                format!(
+                    "{}: the matching pairs {} and matches {} to the boundary",
+                    plural(o.events.len(), "detection event", "detection events"),
+                    o.pairs.len() - to_boundary,
+                    to_boundary
+                ),
+            );
+            lines.insert(
+                1,
+                format!(
+                    "the decoder predicts {} flipped, the shot flipped {}: {verdict}",
+                    flips(&o.predicted),
+                    flips(&o.flipped)
+                ),
+            );
             let grid = Grid::new(o.slices.len(), f0.w, f0.h, 4, lines.len());
             let mut panels = Vec::new();
             let st = layout.structures.first();

@@ -4,12 +4,16 @@
 //! always simulated whole, so the shot does not depend on how many are asked for). Its events are
 //! matched by [`match_events`], the one place that names the decoder.
 
-use crate::base::Diagnostic;
+use std::cmp::Reverse;
+use std::collections::BinaryHeap;
+
+use crate::base::{Diagnostic, Pauli};
 use crate::decode::{MatchingGraph, Mwpm};
+use crate::faults::{ExtractOptions, FaultGraph};
 use crate::sim::Outputs;
 use crate::study::Pipeline;
 
-use super::model::{Layout, ShotOverlay, Timeline};
+use super::model::{Layout, Point, ShotOverlay, Timeline};
 use super::overlay::detector_mark;
 use super::DrawError;
 
@@ -81,6 +85,13 @@ pub(super) fn shot(
         .into());
     }
     let m = match_events(&graph, &events)?;
+    let faults = p.graph(&ExtractOptions::default());
+    let boundary = m
+        .pairs
+        .iter()
+        .filter(|(_, b)| b.is_none())
+        .map(|&(a, _)| (a, boundary_place(&graph, &faults, layout, a)))
+        .collect();
     let c = p.noisy();
     let events: Vec<_> = events
         .iter()
@@ -98,10 +109,87 @@ pub(super) fn shot(
         seed,
         events,
         pairs: m.pairs,
+        boundary,
         predicted: names(&m.observables),
         flipped: names(&flipped),
         slices,
     })
+}
+
+/// Where the boundary is for an event matched to it: past the data qubits of the boundary edge
+/// that ends the lightest path from the event to the boundary (the path a matching decoder
+/// takes), by half a spacing from the event's side; `None` when no path reaches the boundary.
+fn boundary_place(g: &MatchingGraph, faults: &FaultGraph, l: &Layout, event: u32) -> Option<Point> {
+    let n = g.num_detectors;
+    let mut adj: Vec<Vec<(usize, f64)>> = vec![Vec::new(); n + 1];
+    for e in &g.edges {
+        let w = e.weight().max(0.0);
+        let b = e.b.map_or(n, |b| b as usize);
+        adj[e.a as usize].push((b, w));
+        adj[b].push((e.a as usize, w));
+    }
+    // Dijkstra from the event; the boundary is node `n` and is never passed through.
+    let mut dist = vec![f64::INFINITY; n + 1];
+    let mut prev = vec![usize::MAX; n + 1];
+    let mut heap = BinaryHeap::new();
+    dist[event as usize] = 0.0;
+    heap.push(Reverse((Ordered(0.0), event as usize)));
+    while let Some(Reverse((Ordered(d), v))) = heap.pop() {
+        if d > dist[v] || v == n {
+            continue;
+        }
+        for &(u, w) in &adj[v] {
+            if d + w < dist[u] {
+                dist[u] = d + w;
+                prev[u] = v;
+                heap.push(Reverse((Ordered(d + w), u)));
+            }
+        }
+    }
+    let last = prev[n];
+    if last == usize::MAX {
+        return None;
+    }
+    // The data qubits of the boundary edge's most likely circuit fault.
+    let k = *faults.find_by_detectors(&[last as u32]).first()?;
+    let best = faults
+        .contributors(k)
+        .iter()
+        .max_by(|a, b| a.probability.total_cmp(&b.probability))?;
+    let data: Vec<Point> = best
+        .qubits
+        .iter()
+        .zip(best.term.iter())
+        .filter(|&(&q, &p)| p != Pauli::I && l.qubits[q as usize].role == super::Role::Data)
+        .map(|(&q, _)| l.qubits[q as usize].at)
+        .collect();
+    if data.is_empty() {
+        return None;
+    }
+    let m = data.len() as f64;
+    let at = data
+        .iter()
+        .fold((0.0, 0.0), |a, p| (a.0 + p.0 / m, a.1 + p.1 / m));
+    let from = super::overlay::detector_place(faults, last as u32)?;
+    let (dx, dy) = (at.0 - from.0, at.1 - from.1);
+    let len = (dx * dx + dy * dy).sqrt();
+    if len < 1e-9 {
+        return Some(at);
+    }
+    let step = 0.5 * l.spacing;
+    Some((at.0 + dx / len * step, at.1 + dy / len * step))
+}
+
+/// A total order on path lengths for the heap (they are never NaN).
+#[derive(Clone, Copy, PartialEq, PartialOrd)]
+struct Ordered(f64);
+
+impl Eq for Ordered {}
+
+impl Ord for Ordered {
+    fn cmp(&self, o: &Self) -> std::cmp::Ordering {
+        self.0.total_cmp(&o.0)
+    }
 }
 
 /// The error for an overlay that needs faults on a circuit without noise.
