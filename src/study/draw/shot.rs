@@ -181,10 +181,16 @@ fn boundary_place(g: &MatchingGraph, faults: &FaultGraph, l: &Layout, event: u32
 }
 
 /// A total order on path lengths for the heap (they are never NaN).
-#[derive(Clone, Copy, PartialEq, PartialOrd)]
+#[derive(Clone, Copy, PartialEq)]
 struct Ordered(f64);
 
 impl Eq for Ordered {}
+
+impl PartialOrd for Ordered {
+    fn partial_cmp(&self, o: &Self) -> Option<std::cmp::Ordering> {
+        Some(self.cmp(o))
+    }
+}
 
 impl Ord for Ordered {
     fn cmp(&self, o: &Self) -> std::cmp::Ordering {
