@@ -20,7 +20,7 @@
 //!             └─────────────────┴──────────────┬──────────────┘
 //!                                              ▼
 //!        study (the one pipeline circuit + noise → graph / samples → decoder → estimates;
-//!               Monte Carlo, comparison, sweeps, threshold fits, plots)
+//!               Monte Carlo, comparison, sweeps, threshold fits, plots, pictures of the patch)
 //!                                              ▼
 //!                                cli (one file per subcommand)
 //! ```

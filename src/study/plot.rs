@@ -59,17 +59,10 @@ const COLOURS: [RGBColor; 8] = [
 const WIDTH: u32 = 820;
 const PANEL_HEIGHT: u32 = 520;
 
-/// Registers the bundled DejaVu Sans as plotters' `sans-serif`, once. Text is measured (legends)
-/// and, in PNG output, drawn with it, so plots never depend on the fonts of the machine.
+/// The bundled font, so that plots never depend on the fonts of the machine (legends are
+/// measured and PNG text is drawn with it).
 fn ensure_font() {
-    static ONCE: std::sync::Once = std::sync::Once::new();
-    ONCE.call_once(|| {
-        let _ = plotters::style::register_font(
-            "sans-serif",
-            plotters::style::FontStyle::Normal,
-            dejavu::sans::regular(),
-        );
-    });
+    crate::study::draw::ensure_fonts();
 }
 
 fn size(panels: &[Panel]) -> (u32, u32) {

@@ -43,6 +43,7 @@ pub use model::{
     SupportQubit, Timeline, View,
 };
 pub use paint::Style;
+pub(crate) use scene::ensure_fonts;
 pub use scene::{Anchor, Group, Paint, Px, Rgb, Scene, Shape};
 
 use std::path::Path;

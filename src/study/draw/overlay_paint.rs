@@ -63,7 +63,7 @@ impl Painter<'_> {
         let ink = fault_colour(high);
         let names: Vec<&str> = m.qubits.iter().map(|&q| self.name(q)).collect();
         let mut title = format!(
-            "{}edge {} ({}-rate): {} on {} at {} — {} `{}`; p = {:.2e}",
+            "{}edge {} ({}-rate): {} on {} ({}) — {} `{}`; p = {:.2e}",
             if m.number > 0 {
                 format!("fault {}: ", m.number)
             } else {

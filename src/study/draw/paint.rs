@@ -463,6 +463,17 @@ pub fn scene(d: &Drawing, style: Style) -> Scene {
             if let Some(o) = overlay {
                 lines.insert(0, o.title.clone());
             }
+            let any_steps = layout
+                .structures
+                .iter()
+                .flat_map(|st| &st.checks)
+                .any(|c| !c.couplings.is_empty() || c.step.is_some());
+            if !s.detail && any_steps {
+                lines.push(
+                    "the patch is too dense for step numbers: `--layers` shows the steps one by one"
+                        .into(),
+                );
+            }
             let n = layout.structures.len().max(1);
             let grid = Grid::new(n, f0.w, f0.h, 3, lines.len());
             let mut panels = Vec::new();

@@ -193,9 +193,9 @@ pub struct Scene {
     pub groups: Vec<Group>,
 }
 
-/// Registers the bundled fonts (once) so that text is measured, and drawn in PNG output, the
-/// same on every machine.
-pub(super) fn ensure_fonts() {
+/// Registers the bundled DejaVu Sans, regular and bold, as plotters' `sans-serif` (once), so
+/// that text is measured, and drawn in PNG output, the same on every machine.
+pub(crate) fn ensure_fonts() {
     static ONCE: std::sync::Once = std::sync::Once::new();
     ONCE.call_once(|| {
         use plotters::style::{register_font, FontStyle};
