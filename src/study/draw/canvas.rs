@@ -28,8 +28,6 @@ pub const PURPLE: Rgb = Rgb(204, 121, 167);
 pub const BLACK: Rgb = Rgb(0, 0, 0);
 /// Dark grey of ancilla marks.
 pub const DARK: Rgb = Rgb(64, 64, 64);
-/// Light grey of the patch.
-pub const PALE: Rgb = Rgb(242, 242, 242);
 /// White.
 pub const WHITE: Rgb = Rgb(255, 255, 255);
 
@@ -52,8 +50,10 @@ pub struct Sizes {
     pub rq: f64,
     /// Radius of a step badge.
     pub badge: f64,
-    /// Font size of badges and tags.
+    /// Font size of badges and labels.
     pub small: f64,
+    /// Font size of tags (faults, times): readable on a slide at any scale.
+    pub tag: f64,
     /// Width of gate lines.
     pub line: f64,
     /// Whether step badges and corner letters fit.
@@ -68,6 +68,7 @@ impl Sizes {
             rq: (0.13 * nn).clamp(4.0, 15.0),
             badge: (0.095 * nn).clamp(6.0, 11.0),
             small: (0.12 * nn).clamp(11.0, 13.5),
+            tag: (0.13 * nn).clamp(13.0, 14.0),
             line: (0.022 * nn).clamp(1.2, 2.4),
             detail: nn >= 60.0,
         }

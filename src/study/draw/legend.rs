@@ -244,7 +244,7 @@ pub(super) fn entry(key: Key) -> Entry {
         ),
         Key::Across => (
             "legend-across",
-            "matched to an event at another time (t)".into(),
+            "matched to an event at another time t (ring: same place)".into(),
             Box::new(move |o| {
                 vec![Shape::Path {
                     pts: vec![(o.0, o.1 + 11.0), (o.0 + 36.0, o.1 + 11.0)],

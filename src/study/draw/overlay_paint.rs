@@ -48,9 +48,9 @@ impl Painter<'_> {
                 .data("time", d.time.to_string());
             g.shapes.extend(detector(c, 0.9 * s.rq));
             let label = format!("t={}", d.time);
-            let (w, h) = tag_size(&label, s.small);
+            let (w, h) = tag_size(&label, s.tag);
             let at = pen.placer.place(c, s.rq, w, h, f.out(c));
-            tag(&mut g, at, &label, s.small, BLACK, false);
+            tag(&mut g, at, &label, s.tag, BLACK, false);
             out.push(g);
         }
     }
@@ -151,7 +151,7 @@ impl Painter<'_> {
             } else {
                 format!("{} {}", m.term, m.when)
             };
-            let (w, h) = tag_size(&label, s.small);
+            let (w, h) = tag_size(&label, s.tag);
             let at = pen.placer.place(from, r + 2.0, w, h, f.out(from));
             // A tag pushed away from its fault gets a leader line back to the ring.
             let near = (from.0.clamp(at.0, at.0 + w), from.1.clamp(at.1, at.1 + h));
@@ -162,7 +162,7 @@ impl Painter<'_> {
                     paint: Paint::stroke(ink, 1.5),
                 });
             }
-            tag(&mut g, at, &label, s.small, ink, !high);
+            tag(&mut g, at, &label, s.tag, ink, !high);
         }
         g
     }
@@ -225,15 +225,23 @@ impl Painter<'_> {
                             paint: Paint::stroke(BLUE, 2.5).dashed(4.0, 3.0),
                         });
                     }
+                    if (d.0 - c.0).abs() + (d.1 - c.1).abs() <= 1.0 {
+                        // Same place, another time: a dashed ring says the partner is here.
+                        g.push(Shape::Circle {
+                            c,
+                            r: r + 5.0,
+                            paint: Paint::stroke(BLUE, 2.5).dashed(4.0, 3.0),
+                        });
+                    }
                     let label = format!("t={}", o2.time);
-                    let (w, h) = tag_size(&label, s.small);
+                    let (w, h) = tag_size(&label, s.tag);
                     let anchor = if (d.0 - c.0).abs() + (d.1 - c.1).abs() > 1.0 {
                         d
                     } else {
                         c
                     };
                     let at = pen.placer.place(anchor, r + 1.0, w, h, f.out(anchor));
-                    tag(&mut g, at, &label, s.small, BLUE, true);
+                    tag(&mut g, at, &label, s.tag, BLUE, true);
                 }
                 None => {
                     self.keys.insert(Key::Boundary);

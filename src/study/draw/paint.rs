@@ -10,9 +10,7 @@
 
 use std::collections::BTreeSet;
 
-use super::canvas::{
-    bounds, compose, text, Frame, Grid, PanelOut, Pen, Sizes, BLACK, DARK, PALE, WHITE,
-};
+use super::canvas::{bounds, compose, text, Frame, Grid, PanelOut, Pen, Sizes, BLACK, DARK, WHITE};
 use super::legend::{check_key, entry, role_key, Key};
 use super::marks::{badge, band, check_fill, check_stroke, gate_line, image, lerp, qubit, toward};
 use super::model::{Check, CheckKind, Drawing, Layout, Point, Structure, View};
@@ -74,7 +72,7 @@ impl Painter<'_> {
         self.layout.qubits[q as usize].at
     }
 
-    /// The data-qubit outline, pale.
+    /// The outline of the data qubits, a thin grey line under the checks.
     fn outline(&self, f: &Frame, out: &mut Vec<Group>) {
         if self.layout.outline.is_empty() {
             return;
@@ -82,7 +80,7 @@ impl Painter<'_> {
         let mut g = Group::new("outline");
         g.push(Shape::Polygon {
             pts: self.layout.outline.iter().map(|&p| f.p(p)).collect(),
-            paint: Paint::both(PALE, Rgb(200, 200, 200), 1.0),
+            paint: Paint::stroke(Rgb(170, 170, 170), 1.2),
         });
         out.push(g);
     }
@@ -572,10 +570,10 @@ pub fn scene(d: &Drawing, style: Style) -> Scene {
             lines.insert(
                 0,
                 format!(
-                    "{}: the matching pairs {} and matches {} to the boundary",
+                    "{}: {}, {} to the boundary",
                     plural(o.events.len(), "detection event", "detection events"),
-                    o.pairs.len() - to_boundary,
-                    to_boundary
+                    plural(o.pairs.len() - to_boundary, "matched pair", "matched pairs"),
+                    plural(to_boundary, "event matched", "events matched")
                 ),
             );
             lines.insert(
