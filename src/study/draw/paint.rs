@@ -496,11 +496,13 @@ pub fn scene(d: &Drawing, style: Style) -> Scene {
                 let caption = if st.checks.is_empty() {
                     format!("{} (no checks found)", st.title())
                 } else {
+                    let n =
+                        |k: usize, one: &str| format!("{k} {one}{}", if k == 1 { "" } else { "s" });
                     format!(
-                        "{}: {} checks, {} steps",
+                        "{}: {}, {}",
                         st.title(),
-                        st.checks.len(),
-                        st.steps
+                        n(st.checks.len(), "check"),
+                        n(st.steps as usize, "step")
                     )
                 };
                 panels.push(PanelOut { caption, groups });

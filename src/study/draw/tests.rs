@@ -635,3 +635,50 @@ fn png_is_a_png_of_the_scene_size() {
     assert_eq!((w, h), (s.width as u32, s.height as u32));
     assert!(s.groups.iter().any(|g| g.class == "label"));
 }
+
+#[test]
+fn rounds_with_different_gate_orders_get_a_panel_each() {
+    // Round 1 meets the two data qubits in the opposite order to rounds 0 and 2.
+    let text = "qubit q[0] at (0, 0) role data\nqubit q[1] at (2, 0) role data\n\
+        qubit a at (1, 0) role ancilla\n\
+        for r in 0..3 {\n    round {\n        layer { reset z a }\n        \
+        if r == 1 {\n            layer { cx q[1] a }\n            layer { cx q[0] a }\n        \
+        } else {\n            layer { cx q[0] a }\n            layer { cx q[1] a }\n        }\n        \
+        layer { measure z a -> m[r] }\n    }\n}\n\
+        measure z q[0] -> f[0], z q[1] -> f[1]\n\
+        detector = m[0]\ndetector = m[1] ^ m[0]\ndetector = m[2] ^ m[1]\n\
+        detector = m[2] ^ f[0] ^ f[1]\nobservable o = f[0]\n";
+    let l = patch(text);
+    let titles: Vec<String> = l.structures.iter().map(Structure::title).collect();
+    assert_eq!(titles, vec!["rounds 0, 2", "round 1"]);
+    let first = |st: &Structure| {
+        l.qubits[st.checks[0].couplings[0].qubit as usize]
+            .name
+            .clone()
+    };
+    assert_eq!(
+        (first(&l.structures[0]), first(&l.structures[1])),
+        ("q[0]".into(), "q[1]".into())
+    );
+    // Faults go to the panel of their round.
+    let d = draw(
+        text,
+        Some("circuit p=0.01"),
+        &DrawOptions {
+            show: Some(Show::Edge(0)),
+            ..DrawOptions::default()
+        },
+    );
+    let View::Patch(Some(o)) = d.view else {
+        panic!()
+    };
+    let tl = time::timeline(&pipeline(text, Some("circuit p=0.01")).noisy().clone());
+    for m in &o.marks {
+        let want = match tl.layers[m.layer as usize].round {
+            Some(1) => 1,
+            Some(_) => 0,
+            None => usize::from(m.when == "end"),
+        };
+        assert_eq!(m.structure, want, "{m:?}");
+    }
+}

@@ -41,7 +41,7 @@ fn word(k: LayerKind) -> String {
         LayerKind::Step(s) => format!("step {s}"),
         LayerKind::Measure => "measure".into(),
         LayerKind::Reset => "reset".into(),
-        LayerKind::Gates => "gates".into(),
+        LayerKind::Gates => "one-qubit gates".into(),
         LayerKind::Noise => "noise".into(),
     }
 }
@@ -49,6 +49,7 @@ fn word(k: LayerKind) -> String {
 fn short_word(k: LayerKind) -> String {
     match k {
         LayerKind::Step(s) => format!("s{s}"),
+        LayerKind::Gates => "gates".into(),
         other => word(other),
     }
 }
@@ -75,19 +76,35 @@ pub(super) fn timeline(c: &Circuit) -> Timeline {
         .enumerate()
         .map(|(i, l)| {
             let k = kinds[i];
-            // A noise-only layer is named after the next layer of its block that does something.
+            let block = |j: &usize| c.layers[*j].round == l.round;
+            let step_of = |j: usize| match kinds[j] {
+                LayerKind::Step(s) => Some(s),
+                _ => None,
+            };
+            // One-qubit gate and noise layers can be many in a round: they are named after the
+            // step before them (or the next layer that does something, before the first step).
+            let prev = (0..i).rev().take_while(block).find_map(step_of);
             let next = (i + 1..kinds.len())
-                .take_while(|&j| c.layers[j].round == l.round)
+                .take_while(block)
                 .map(|j| kinds[j])
                 .find(|k| *k != LayerKind::Noise);
-            let long_word = match (k, next) {
-                (LayerKind::Noise, Some(n)) => format!("noise before {}", word(n)),
-                (LayerKind::Noise, None) => "noise at the end".into(),
-                (k, _) => word(k),
+            let (long_word, short_word) = match (k, prev, next) {
+                (LayerKind::Gates | LayerKind::Noise, Some(p), _) => (
+                    format!("{} after step {p}", word(k)),
+                    format!("{} after s{p}", short_word(k)),
+                ),
+                (LayerKind::Gates | LayerKind::Noise, None, Some(n)) => (
+                    format!("{} before {}", word(k), word(n)),
+                    format!("{} before {}", short_word(k), short_word(n)),
+                ),
+                (LayerKind::Noise, None, None) => {
+                    ("noise at the end".to_string(), "noise".to_string())
+                }
+                (k, _, _) => (word(k), short_word(k)),
             };
             let (short, long) = match l.round {
                 Some(r) => (
-                    format!("r{r} {}", short_word(k)),
+                    format!("r{r} {short_word}"),
                     format!("round {r}, {long_word}"),
                 ),
                 None if has_rounds => {
@@ -103,7 +120,7 @@ pub(super) fn timeline(c: &Circuit) -> Timeline {
                     };
                     (short, format!("{w}, {long_word}"))
                 }
-                None => (short_word(k), format!("layer {i}, {long_word}")),
+                None => (short_word, format!("layer {i}, {long_word}")),
             };
             LayerTime {
                 round: l.round,
