@@ -28,6 +28,8 @@ pub const PURPLE: Rgb = Rgb(204, 121, 167);
 pub const BLACK: Rgb = Rgb(0, 0, 0);
 /// Dark grey of ancilla marks.
 pub const DARK: Rgb = Rgb(64, 64, 64);
+/// Grey of the outline of the data qubits.
+pub const OUTLINE: Rgb = Rgb(170, 170, 170);
 /// White.
 pub const WHITE: Rgb = Rgb(255, 255, 255);
 

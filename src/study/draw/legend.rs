@@ -3,7 +3,7 @@
 
 use crate::base::Gate;
 
-use super::canvas::{text, Entry, Sizes, BLACK, BLUE, DARK, GREEN, VERMILLION, WHITE};
+use super::canvas::{text, Entry, Sizes, BLACK, BLUE, DARK, GREEN, OUTLINE, VERMILLION, WHITE};
 use super::marks::{
     badge, check_fill, check_stroke, detector, event, fault_ring, gate_line, image, op_badge, qubit,
 };
@@ -20,6 +20,7 @@ pub(super) enum Key {
     Flag,
     Other,
     Image,
+    Outline,
     CheckX,
     CheckY,
     CheckZ,
@@ -84,6 +85,16 @@ pub(super) fn entry(key: Key) -> Entry {
                 let mut v = qubit(Role::Ancilla, mid(o), 9.0, false);
                 v.push(text(mid(o), "X", 10.5, Anchor::Middle, WHITE, true));
                 v
+            }),
+        ),
+        Key::Outline => (
+            "legend-outline",
+            "outline of the data qubits".into(),
+            Box::new(move |o: Px| {
+                vec![Shape::Path {
+                    pts: vec![(o.0, o.1 + 11.0), (o.0 + 36.0, o.1 + 11.0)],
+                    paint: Paint::stroke(OUTLINE, 1.2),
+                }]
             }),
         ),
         Key::Flag => (

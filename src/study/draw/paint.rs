@@ -10,12 +10,14 @@
 
 use std::collections::BTreeSet;
 
-use super::canvas::{bounds, compose, text, Frame, Grid, PanelOut, Pen, Sizes, BLACK, DARK, WHITE};
+use super::canvas::{
+    bounds, compose, text, Frame, Grid, PanelOut, Pen, Sizes, BLACK, DARK, OUTLINE, WHITE,
+};
 use super::legend::{check_key, entry, role_key, Key};
 use super::marks::{badge, band, check_fill, check_stroke, gate_line, image, lerp, qubit, toward};
 use super::model::{Check, CheckKind, Drawing, Layout, Point, Structure, View};
 use super::place::hull;
-use super::scene::{text_width, Anchor, Group, Paint, Rgb, Scene, Shape};
+use super::scene::{text_width, Anchor, Group, Paint, Scene, Shape};
 
 /// Choices that change the look but not the content.
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
@@ -73,14 +75,15 @@ impl Painter<'_> {
     }
 
     /// The outline of the data qubits, a thin grey line under the checks.
-    fn outline(&self, f: &Frame, out: &mut Vec<Group>) {
+    fn outline(&mut self, f: &Frame, out: &mut Vec<Group>) {
         if self.layout.outline.is_empty() {
             return;
         }
+        self.keys.insert(Key::Outline);
         let mut g = Group::new("outline");
         g.push(Shape::Polygon {
             pts: self.layout.outline.iter().map(|&p| f.p(p)).collect(),
-            paint: Paint::stroke(Rgb(170, 170, 170), 1.2),
+            paint: Paint::stroke(OUTLINE, 1.2),
         });
         out.push(g);
     }
