@@ -131,7 +131,7 @@ fn golden_graph() {
             "circuit p=0.001",
             "--format",
             "text",
-            "--graphlike",
+            "--matching",
         ]),
     );
 }

@@ -149,9 +149,9 @@ layer { sx c ; cz a b ; y e }
 layer { cx e a ; z b }
 noise pauli x=0.02 y=0.03 z=0.04 a
 noise dephasing p=0.05 b
-noise depolarizing2 p=0.06 c e
-noise pauli2 zz=0.03 xy=0.02 ix=0.02 a b
-noise correlated p=0.04 x a * y c * z e
+noise pair_depolarizing p=0.06 c e
+noise pauli zz=0.03 xy=0.02 ix=0.02 a b
+noise joint p=0.04 x a * y c * z e
 layer { cx e a ; z b }
 layer { sxdg c ; cz a b ; y e }
 layer { swap b e ; sdg a ; x c }
@@ -471,7 +471,7 @@ fn circuit_preset_placement() {
     assert!(at(idle).contains("h d"), "{}", at(idle));
     assert_eq!(
         idle.kind,
-        OpKind::Noise(slant::ir::Channel::Depolarizing1(0.01))
+        OpKind::Noise(slant::ir::Channel::Depolarizing(0.01))
     );
     for (_, op) in noisy.ops() {
         if let OpKind::Measure { flip, .. } = op.kind {

@@ -21,8 +21,8 @@
 //! following a gate or reset; classes come from the [`Note`]s, which presets and model files
 //! write alike), before and after the gate
 //! implementations; the effective bias at the data per round; the share of fault-graph
-//! probability in mechanisms made only of high-rate faults (classes as tagged by
-//! [`crate::faults`]); and the structure of the graph of mechanisms with a high-rate contributor:
+//! probability in edges made only of high-rate faults (classes as tagged by
+//! [`crate::faults`]); and the structure of the graph of edges with a high-rate contributor:
 //! connected components of detectors (each boundary edge ends at its own boundary node) and
 //! whether each is a chain (every detector of degree ≤ 2, no cycle, no hyperedge), the structure
 //! that makes the XZZX code decode as repetition codes under pure Z noise ("The XZZX surface
@@ -124,11 +124,11 @@ pub struct BiasReport {
     pub high_probability: f64,
     /// Summed probability of high-rate faults reaching the data with X or Y.
     pub converted_probability: f64,
-    /// Share of fault-graph probability in high-rate-only mechanisms.
+    /// Share of fault-graph probability in high-rate-only edges.
     pub high_only_share: f64,
-    /// Components of the graph of mechanisms with a high-rate contributor.
+    /// Components of the graph of edges with a high-rate contributor.
     pub components: Vec<Component>,
-    /// Hyperedges (more than two detectors) among those mechanisms.
+    /// Hyperedges (more than two detectors) among those edges.
     pub hyperedges: usize,
     /// Number of `round` blocks the circuit executes; without any, `rounds` is empty because
     /// there is nothing to report per round, not because no fault reached the data.
@@ -408,15 +408,15 @@ fn propagate(
     }
 }
 
-/// High-only share and component structure of the graph of high-rate mechanisms.
+/// High-only share and component structure of the graph of high-rate edges.
 fn graph_structure(noisy: &Circuit) -> (f64, Vec<Component>, usize) {
     let graph = crate::faults::extract(noisy, &ExtractOptions::default());
-    let total: f64 = graph.mechanisms.iter().map(|m| m.probability).sum();
+    let total: f64 = graph.edges.iter().map(|m| m.probability).sum();
     let high: f64 = graph
-        .mechanisms
+        .edges
         .iter()
         .filter(|m| m.classes == ClassSet::High)
-        // A fold from +0.0: `Sum` for floats starts at −0.0, so with no high-only mechanism the
+        // A fold from +0.0: `Sum` for floats starts at −0.0, so with no high-only edge the
         // share would be −0.0 and print as `-0.0000`.
         .fold(0.0, |a, m| a + m.probability);
     let nd = graph.detectors.len();
@@ -433,7 +433,7 @@ fn graph_structure(noisy: &Circuit) -> (f64, Vec<Component>, usize) {
     let mut hyper_nodes: Vec<u32> = Vec::new();
     let mut hyperedges = 0;
     let mut used = vec![false; nd];
-    for m in graph.mechanisms.iter().filter(|m| m.classes.has_high()) {
+    for m in graph.edges.iter().filter(|m| m.classes.has_high()) {
         for &d in &m.detectors {
             used[d as usize] = true;
         }

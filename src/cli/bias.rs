@@ -137,7 +137,7 @@ pub fn render(r: &BiasReport, top: usize) -> String {
     }
     let _ = writeln!(
         s,
-        "fault-graph probability in high-rate-only mechanisms: {:.4}",
+        "fault-graph probability in high-rate-only edges: {:.4}",
         r.high_only_share
     );
     let chains = r.components.iter().filter(|c| c.chain).count();

@@ -81,9 +81,9 @@ pub struct Args {
     #[arg(long, value_name = "N", default_value_t = 10_000,
           value_parser = clap::value_parser!(u64).range(1..))]
     pub shots: u64,
-    /// Stop a point once this many logical errors have been seen.
+    /// Stop a point once this many shots have failed.
     #[arg(long, value_name = "K", value_parser = clap::value_parser!(u64).range(1..))]
-    pub max_errors: Option<u64>,
+    pub until_failures: Option<u64>,
     /// Decoder: `mwpm` or `uf`.
     #[arg(long, value_name = "D", default_value = "mwpm", value_parser = |s: &str| s.parse::<DecoderKind>())]
     pub decoder: DecoderKind,
@@ -195,7 +195,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
     };
     let run = RunOptions {
         shots: args.shots,
-        max_errors: args.max_errors,
+        until_failures: args.until_failures,
         seed: args.seed,
     };
     let mut rows = Vec::new();
@@ -270,7 +270,7 @@ const HEADERS: [&str; 14] = [
     "layers",
     "duration",
     "detectors",
-    "mechanisms",
+    "edges",
     "hyper",
     "hyper-after",
     "distance",
@@ -310,9 +310,9 @@ fn cells(r: &Row) -> Vec<String> {
         r.duration
             .map_or("-".into(), |d| format!("{}", study::significant(d, 6))),
         r.detectors.to_string(),
-        r.mechanisms.to_string(),
+        r.edges.to_string(),
         format!("{:.1}%", 100.0 * r.hyperedge_share),
-        format!("{:.1}%", 100.0 * r.undecomposed_share),
+        format!("{:.1}%", 100.0 * r.unsplit_share),
         count_text(r.report.distance.as_ref(), r.report.unresolved.distance),
         count_text(r.report.high_rate.as_ref(), r.report.unresolved.high_rate),
         low,
@@ -328,7 +328,7 @@ fn cell_index(c: Column) -> Option<usize> {
         Column::Qubits => 1,
         Column::Layers => 2,
         Column::Duration => 3,
-        Column::Undecomposed => 7,
+        Column::Unsplit => 7,
         Column::Distance => 8,
         Column::HighRate => 9,
         Column::LowRate => 10,
@@ -391,7 +391,7 @@ fn table_text(rows: &[Row]) -> String {
     }
     let mut s = aligned(&header, &grid);
     s.push_str(
-        "low-rate = low-rate mechanisms / total in the logical error with the fewest low-rate \
+        "low-rate = low-rate edges / total in the logical error with the fewest low-rate \
          ones; data-eta = pZ / pX,Y reaching the data; * = best in column\n",
     );
     if rows
@@ -399,7 +399,7 @@ fn table_text(rows: &[Row]) -> String {
         .any(|r| r.report.unresolved != Default::default())
     {
         s.push_str(
-            "> k = no logical error of at most k mechanisms (larger ones not searched); \
+            "> k = no logical error of at most k edges (larger ones not searched); \
              ? = the search could not decide (see `slant distance`)\n",
         );
     }
@@ -417,7 +417,7 @@ fn table_text(rows: &[Row]) -> String {
                     .chain(r.rates.iter().map(|x| {
                         format!(
                             "{:.2e} [{:.2e}, {:.2e}] {}/{}",
-                            x.rate, x.low, x.high, x.errors, x.shots
+                            x.rate, x.low, x.high, x.failures, x.shots
                         )
                     }))
                     .collect()
@@ -430,7 +430,7 @@ fn table_text(rows: &[Row]) -> String {
                 }
             }
         }
-        s.push_str("\nlogical error rate per round [95% Wilson interval] errors/shots:\n");
+        s.push_str("\nlogical error rate per round [95% Wilson interval] failures/shots:\n");
         s.push_str(&aligned(&header, &grid));
     }
     s
@@ -438,14 +438,14 @@ fn table_text(rows: &[Row]) -> String {
 
 fn csv_text(rows: &[Row]) -> String {
     let mut s = String::from(
-        "circuit,qubits,layers,detectors,mechanisms,hyperedge_share,hyperedge_share_after,\
+        "circuit,qubits,layers,detectors,edges,hyperedge_share,hyperedge_share_after,\
          distance,distance_lower,high_rate_distance,low_rate_count,low_rate_total,weighted,\
          duration,bias_kept,bias_verdict,data_eta",
     );
     if let Some(r) = rows.first() {
         for x in &r.rates {
             let p = x.p;
-            let _ = write!(s, ",rate_p{p},low_p{p},high_p{p},errors_p{p},shots_p{p}");
+            let _ = write!(s, ",rate_p{p},low_p{p},high_p{p},failures_p{p},shots_p{p}");
         }
     }
     s.push_str(",best\n");
@@ -471,9 +471,9 @@ fn csv_text(rows: &[Row]) -> String {
             r.qubits,
             r.layers,
             r.detectors,
-            r.mechanisms,
+            r.edges,
             r.hyperedge_share,
-            r.undecomposed_share,
+            r.unsplit_share,
             opt(r.report.distance.as_ref(), r.report.unresolved.distance),
             r.report
                 .distance
@@ -501,7 +501,7 @@ fn csv_text(rows: &[Row]) -> String {
             let _ = write!(
                 s,
                 ",{},{},{},{},{}",
-                x.rate, x.low, x.high, x.errors, x.shots
+                x.rate, x.low, x.high, x.failures, x.shots
             );
         }
         // The columns where this row holds the best value, as the table's `*` marks them.
@@ -545,9 +545,9 @@ fn json_text(rows: &[Row]) -> Result<String, CliError> {
                 "layers": r.layers,
                 "duration": r.duration,
                 "detectors": r.detectors,
-                "mechanisms": r.mechanisms,
+                "edges": r.edges,
                 "hyperedge_share": r.hyperedge_share,
-                "hyperedge_share_after": r.undecomposed_share,
+                "hyperedge_share_after": r.unsplit_share,
                 "distance": count(r.report.distance.as_ref(), r.report.unresolved.distance),
                 "high_rate_distance": count(
                     r.report.high_rate.as_ref(),
@@ -561,7 +561,7 @@ fn json_text(rows: &[Row]) -> Result<String, CliError> {
                 "rates": r.rates.iter().map(|x| json!({
                     "p": x.p,
                     "shots": x.shots,
-                    "errors": x.errors,
+                    "failures": x.failures,
                     "rounds": x.rounds,
                     "per_round": {"rate": x.rate, "low": x.low, "high": x.high},
                     "confidence": 0.95,

@@ -14,10 +14,10 @@ use crate::ir::Circuit;
 /// Arguments of `slant distance`.
 #[derive(Debug, clap::Args)]
 #[command(
-    after_help = "A mechanism counts as high-rate when a high-rate fault (pure Z at \
+    after_help = "A edge counts as high-rate when a high-rate fault (pure Z at \
 injection, or a measurement flip with --high-rate-flips) alone produces it. `none` means no \
 undetected logical error of that kind exists (proven); `> k` means none with at most k \
-mechanisms exists and larger ones were not searched; `unknown` means the search could not \
+edges exists and larger ones were not searched; `unknown` means the search could not \
 decide (the report says why)."
 )]
 pub struct Args {
@@ -97,7 +97,7 @@ pub fn render(r: &DistanceReport, graph: &FaultGraph, circuit: &Circuit) -> Stri
         Some(l) => {
             let _ = writeln!(
                 s,
-                "low-rate count       {} (in a logical error of {} mechanisms)",
+                "low-rate count       {} (in a logical error of {} edges)",
                 l.low, l.total
             );
         }
@@ -113,10 +113,10 @@ pub fn render(r: &DistanceReport, graph: &FaultGraph, circuit: &Circuit) -> Stri
         Some(w) => {
             let _ = writeln!(
                 s,
-                "weighted distance    {:.3} (probability product {:.3e}, {} mechanisms)",
+                "weighted distance    {:.3} (probability product {:.3e}, {} edges)",
                 w.weight,
                 w.probability,
-                w.error.mechanisms.len()
+                w.error.edges.len()
             );
         }
         None => {
@@ -130,8 +130,8 @@ pub fn render(r: &DistanceReport, graph: &FaultGraph, circuit: &Circuit) -> Stri
     if r.hyperedges > 0 {
         let _ = writeln!(
             s,
-            "note: {} hyperedges; the low-rate count and weighted distance use graphlike \
-             mechanisms only",
+            "note: {} hyperedges; the low-rate count and weighted distance use matchable \
+             edges only",
             r.hyperedges
         );
     }
@@ -163,12 +163,12 @@ fn write_error(s: &mut String, name: &str, e: &LogicalError, g: &FaultGraph, c: 
         .collect();
     let _ = writeln!(
         s,
-        "{name} logical error: {} mechanisms, flips {}",
-        e.mechanisms.len(),
+        "{name} logical error: {} edges, flips {}",
+        e.edges.len(),
         obs.join(", ")
     );
-    for &m in &e.mechanisms {
-        let mech = &g.mechanisms[m as usize];
+    for &m in &e.edges {
+        let mech = &g.edges[m as usize];
         let dets: Vec<String> = mech
             .detectors
             .iter()
@@ -176,7 +176,7 @@ fn write_error(s: &mut String, name: &str, e: &LogicalError, g: &FaultGraph, c: 
             .collect();
         let _ = writeln!(
             s,
-            "  mechanism {m}  p={:.3e}  {}  detectors [{}]",
+            "  edge {m}  p={:.3e}  {}  detectors [{}]",
             mech.probability,
             mech.classes.name(),
             dets.join(" ")
@@ -235,10 +235,10 @@ fn count_json(c: Option<&Count>, g: &FaultGraph, circuit: &Circuit) -> Value {
 
 fn error_json(e: &LogicalError, g: &FaultGraph, c: &Circuit) -> Value {
     let mechs: Vec<Value> = e
-        .mechanisms
+        .edges
         .iter()
         .map(|&m| {
-            let mech = &g.mechanisms[m as usize];
+            let mech = &g.edges[m as usize];
             let contributors: Vec<Value> = g
                 .contributors(m as usize)
                 .iter()
@@ -266,7 +266,7 @@ fn error_json(e: &LogicalError, g: &FaultGraph, c: &Circuit) -> Value {
     json!({
         "observables": e.observables.iter().map(|&o| g.observables[o as usize].clone())
             .collect::<Vec<_>>(),
-        "mechanisms": mechs,
+        "edges": mechs,
     })
 }
 

@@ -89,7 +89,7 @@ enum Command {
     Shots(shots::Args),
     /// Run a threshold sweep from a TOML spec into a resumable results store.
     Sweep(sweep::Args),
-    /// Show which circuit faults make up a fault-graph mechanism.
+    /// Show which circuit faults make up a fault-graph edge.
     Trace(trace::Args),
 }
 

@@ -58,12 +58,12 @@ pub fn run(args: Args) -> Result<(), CliError> {
     let mut groups: BTreeMap<String, Vec<Point>> = BTreeMap::new();
     for mut pt in aggregate(&rows) {
         if args.per_round {
-            // Rescale the failure count so errors/shots is the per-round rate; the fits and
+            // Rescale the failure count so failures/shots is the per-round rate; the fits and
             // crossings then work on per-round rates unchanged.
-            let r = Estimate::wilson(pt.errors, pt.shots, Z95)
+            let r = Estimate::wilson(pt.failures, pt.shots, Z95)
                 .per_round(pt.rounds)
                 .rate;
-            pt.errors = (r * pt.shots as f64).round() as u64;
+            pt.failures = (r * pt.shots as f64).round() as u64;
         }
         groups.entry(pt.group()).or_default().push(pt);
     }
@@ -123,7 +123,7 @@ fn draw(
             for p in pts {
                 by_d.entry(p.distance)
                     .or_default()
-                    .push((p.p, Estimate::wilson(p.errors, p.shots, Z95)));
+                    .push((p.p, Estimate::wilson(p.failures, p.shots, Z95)));
             }
             Panel {
                 title: name.clone(),

@@ -236,7 +236,7 @@ fn bench(circuit: &Circuit, shots: u64, seed: u64) {
     let rate = word_ops as f64 / sample_s;
     println!("qubits: {}", circuit.qubits.len());
     println!("operations: {}", circuit.op_count());
-    println!("records: {}", circuit.records.len());
+    println!("results: {}", circuit.records.len());
     println!("detectors: {}", circuit.detectors.len());
     println!("reference_seconds: {reference_s:.6}");
     println!("shots: {sampled}");

@@ -490,36 +490,36 @@ impl Expander {
         };
         let optional =
             |key: &str| -> R<f64> { arg(key).map_or(Ok(0.0), |(_, e)| self.probability(e)) };
-        let Some(kind) = ChannelKind::from_name(channel) else {
+        let Some(kind) = ChannelKind::resolve(channel, args.iter().map(|(k, _)| k.name.as_str()))
+        else {
             return Err(self.err(st.span, format!("unknown noise channel `{channel}`")));
         };
         let ch = match kind {
             ChannelKind::BitFlip => Channel::BitFlip(required("p")?),
             ChannelKind::Dephasing => Channel::Dephasing(required("p")?),
-            ChannelKind::Depolarizing1 => Channel::Depolarizing1(required("p")?),
-            ChannelKind::Depolarizing2 => Channel::Depolarizing2(required("p")?),
-            ChannelKind::Pauli1 => Channel::Pauli1 {
+            ChannelKind::Depolarizing => Channel::Depolarizing(required("p")?),
+            ChannelKind::PairDepolarizing => Channel::PairDepolarizing(required("p")?),
+            ChannelKind::Pauli => Channel::Pauli {
                 px: optional("x")?,
                 py: optional("y")?,
                 pz: optional("z")?,
             },
-            ChannelKind::Pauli2 => {
+            ChannelKind::PairPauli => {
                 let mut probs = [0.0; 15];
                 for (k, e) in args {
                     if let Some(ix) = Pauli::pair_index(&k.name) {
                         probs[ix - 1] = self.probability(e)?;
                     }
                 }
-                Channel::Pauli2(Box::new(probs))
+                Channel::PairPauli(Box::new(probs))
             }
-            ChannelKind::Correlated => {
+            ChannelKind::Joint => {
                 let NoiseTargets::Product(product) = targets else {
-                    return Err(self.err(
-                        st.span,
-                        "`correlated` takes a Pauli product, e.g. `x a * z b`",
-                    ));
+                    return Err(
+                        self.err(st.span, "`joint` takes a Pauli product, e.g. `x a * z b`")
+                    );
                 };
-                Channel::Correlated {
+                Channel::Joint {
                     p: required("p")?,
                     paulis: product.iter().map(|(p, _)| *p).collect(),
                 }
@@ -539,7 +539,7 @@ impl Expander {
                     let q = self.qubits_of(r)?;
                     if q.len() != 1 {
                         return Err(
-                            self.err(r.span, "each factor of a correlated fault names one qubit")
+                            self.err(r.span, "each factor of a joint fault names one qubit")
                         );
                     }
                     qs.push(q[0]);

@@ -7,8 +7,8 @@
 //! # Spec
 //! ```toml
 //! seed = 1            # optional, default 0
-//! shots = 100000      # per task (grids may override shots, max_errors, chunk, decoders)
-//! max_errors = 500    # optional early stop per task
+//! shots = 100000      # per task (grids may override shots, until_failures, chunk, decoders)
+//! until_failures = 500    # optional early stop per task
 //! chunk = 20000       # shots per chunk (the unit of resumption), default 16384
 //! decoders = ["mwpm"] # default ["mwpm"]
 //!
@@ -30,7 +30,7 @@
 //! line, the noise text, decoder, chunk size and seed. Chunk `c` of a task samples
 //! `min(chunk, shots − c·chunk)` shots with seed `chunk_seed(key, c)`, so it gives the same counts
 //! on any machine, thread count or run. Chunks run in order; the task stops after the first
-//! chunk at which its failure total reaches `max_errors`.
+//! chunk at which its failure total reaches `until_failures`.
 //!
 //! # Store (JSON Lines)
 //! One [`ChunkRow`] per finished chunk, appended with a single `write` followed by `fsync`. A killed

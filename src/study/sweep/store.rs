@@ -19,7 +19,7 @@ pub struct ChunkRow {
     /// Shots sampled in this chunk.
     pub shots: u64,
     /// Logical failures among them.
-    pub errors: u64,
+    pub failures: u64,
     /// Sampler seed of the chunk.
     pub seed: u64,
     /// Curve label.
@@ -55,13 +55,13 @@ pub fn parse_rows(source: &Arc<Source>) -> Result<(Vec<ChunkRow>, usize), Diagno
             let span = Span::new(offset, offset + body.len());
             let row: ChunkRow = serde_json::from_str(body)
                 .map_err(|e| Diagnostic::error(source, span, format!("not a results row: {e}")))?;
-            if row.errors > row.shots {
+            if row.failures > row.shots {
                 return Err(Diagnostic::error(
                     source,
                     span,
                     format!(
-                        "damaged results row: {} errors in {} shots",
-                        row.errors, row.shots
+                        "damaged results row: {} failures in {} shots",
+                        row.failures, row.shots
                     ),
                 ));
             }
@@ -147,12 +147,12 @@ pub fn merge_rows(lists: impl IntoIterator<Item = Vec<ChunkRow>>) -> (Vec<ChunkR
         for r in list {
             match seen.get(&(r.task.clone(), r.chunk)) {
                 Some(&(s, e)) => {
-                    if (s, e) != (r.shots, r.errors) {
+                    if (s, e) != (r.shots, r.failures) {
                         conflicts += 1;
                     }
                 }
                 None => {
-                    seen.insert((r.task.clone(), r.chunk), (r.shots, r.errors));
+                    seen.insert((r.task.clone(), r.chunk), (r.shots, r.failures));
                     out.push(r);
                 }
             }
@@ -181,7 +181,7 @@ pub struct Point {
     /// Total shots.
     pub shots: u64,
     /// Total logical failures.
-    pub errors: u64,
+    pub failures: u64,
 }
 
 impl Point {
@@ -209,10 +209,10 @@ pub fn aggregate(rows: &[ChunkRow]) -> Vec<Point> {
             rounds: r.rounds,
             p: r.p,
             shots: 0,
-            errors: 0,
+            failures: 0,
         });
         p.shots += r.shots;
-        p.errors += r.errors;
+        p.failures += r.failures;
     }
     let mut points: Vec<Point> = by_task.into_values().collect();
     points.sort_by(|a, b| {
@@ -233,7 +233,7 @@ mod tests {
             task: "t".into(),
             chunk: c,
             shots: 10,
-            errors: e,
+            failures: e,
             seed: 1,
             label: "l".into(),
             family: "surface".into(),
@@ -258,9 +258,9 @@ mod tests {
         let text = parse_rows(&Source::new("r.jsonl", format!("{line}\n{bad}\n")))
             .unwrap_err()
             .render();
-        assert!(text.contains("11 errors in 10 shots"), "{text}");
+        assert!(text.contains("11 failures in 10 shots"), "{text}");
         assert!(text.contains("r.jsonl:2:1"), "{text}");
         let pts = aggregate(&merged);
-        assert_eq!((pts[0].shots, pts[0].errors), (20, 5));
+        assert_eq!((pts[0].shots, pts[0].failures), (20, 5));
     }
 }
