@@ -490,6 +490,7 @@ fn plot_marks_the_crossing_of_synthetic_power_laws() {
             let rate = 0.1 * (p / 0.02f64).powf((d as f64 + 1.0) / 2.0);
             let shots = 100_000_000u64;
             let row = slant::study::ChunkRow {
+                version: slant::study::STORE_VERSION,
                 task: format!("t d={d} p={p}"),
                 chunk: 0,
                 shots,

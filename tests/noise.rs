@@ -739,7 +739,7 @@ fn model_warnings_are_shown_by_every_study() {
         &["trace", circuit, "--noise", m, "--edge", "0"],
         &["estimate", circuit, "--noise", m, "--shots", "64"],
         &[
-            "shots", circuit, "--noise", m, "--shots", "4", "--format", "01",
+            "shots", circuit, "--noise", m, "--shots", "4", "--format", "bits",
         ],
     ];
     for args in others {

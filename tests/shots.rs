@@ -564,7 +564,7 @@ fn cli_same_seed_same_bytes_for_any_thread_count() {
 }
 
 /// The files parse as NumPy .npy, the packed variant unpacks to the unpacked one (little-endian
-/// bit order), and `--format 01` prints the same rows.
+/// bit order), and `--format bits` prints the same rows.
 #[test]
 fn cli_npy_packed_and_01_agree() {
     let dir = tempfile::tempdir().unwrap();
@@ -591,7 +591,7 @@ fn cli_npy_packed_and_01_agree() {
     };
     run(&["--out", plain.to_str().unwrap()]);
     run(&["--out", packed.to_str().unwrap(), "--packed"]);
-    let lines = String::from_utf8(run(&["--format", "01"]).stdout).unwrap();
+    let lines = String::from_utf8(run(&["--format", "bits"]).stdout).unwrap();
     let (descr, (rows, cols), data) = read_npy(&plain.join("detectors.npy"));
     assert_eq!(descr, "|u1");
     assert_eq!((rows, cols), (1500, 6));
@@ -640,7 +640,7 @@ fn cli_bad_noise_spec_points_into_the_option() {
             "--shots",
             "10",
             "--format",
-            "01",
+            "bits",
         ],
         "1",
     );

@@ -90,9 +90,15 @@ impl RoundBias {
 pub struct Converter {
     /// `file:line:col` of the operation.
     pub location: String,
+    /// File of the operation.
+    pub file: String,
+    /// Line of the operation (1-based).
+    pub line: usize,
+    /// Column of the operation (1-based).
+    pub column: usize,
     /// The gate (or `mid-gate cx (rotation)` for conversions inside a gate).
     pub what: String,
-    /// Summed probability of the high-rate faults it converted.
+    /// Expected number of high-rate faults it converts per shot (their summed probability).
     pub probability: f64,
     /// Number of elementary faults converted.
     pub faults: usize,
@@ -141,6 +147,11 @@ impl BiasReport {
     /// Whether every component of the high-rate graph is a chain.
     pub fn all_chains(&self) -> bool {
         self.components.iter().all(|c| c.chain) && self.hyperedges == 0
+    }
+
+    /// Whether no high-rate fault reaches the data as X or Y (no converter).
+    pub fn kept(&self) -> bool {
+        self.converters.is_empty()
     }
 
     /// One line: `bias kept`, or `bias lost at FILE:LINE:COL (GATE)` naming the top converter.
@@ -299,8 +310,12 @@ pub fn analyze(noisy: &Circuit, notes: &[Note]) -> BiasReport {
                             if let Some((start, what)) = converter {
                                 let c =
                                     converters.entry((start, what.clone())).or_insert_with(|| {
+                                        let (line, column) = noisy.source.line_col(start);
                                         Converter {
                                             location: loc(crate::base::Span { start, end: start }),
+                                            file: noisy.source.name.clone(),
+                                            line,
+                                            column,
                                             what,
                                             probability: 0.0,
                                             faults: 0,

@@ -6,7 +6,7 @@
 //! Wilson intervals ([`crate::study::Estimate`]), as text or as one JSON object (`--json`). A
 //! progress bar appears on stderr only when stderr is a terminal.
 
-use crate::base::Diagnostic;
+use crate::base::{count, Diagnostic};
 use crate::cli::common::{CircuitArgs, NoiseArgs};
 use crate::cli::progress::Progress;
 use crate::cli::CliError;
@@ -51,6 +51,8 @@ pub struct Args {
 /// The machine-readable report (`--json`).
 #[derive(Debug, serde::Serialize)]
 struct Report<'a> {
+    format: &'static str,
+    version: u32,
     circuit: String,
     noise: &'a str,
     decoder: &'static str,
@@ -106,6 +108,9 @@ pub fn run(args: Args) -> Result<(), CliError> {
     let stopped_early = counts.shots < args.shots;
     if args.json {
         let report = Report {
+            format: "slant-estimate",
+            // Version 1 had no `format` or `version` and named `failures` `errors`.
+            version: 2,
             circuit: args.circuit.file.display().to_string(),
             noise,
             decoder: args.decoder.name(),
@@ -130,17 +135,17 @@ pub fn run(args: Args) -> Result<(), CliError> {
     }
     let mut out = String::new();
     out += &format!(
-        "circuit: {} ({} detectors, {} observables, {} rounds)\n",
+        "circuit: {} ({}, {}, {})\n",
         args.circuit.file.display(),
-        exp.detectors,
-        exp.observables,
-        exp.rounds
+        count(exp.detectors, "detector"),
+        count(exp.observables, "observable"),
+        count(exp.rounds as usize, "round")
     );
     out += &format!("noise: {noise}\n");
     out += &format!(
-        "decoder: {} on {} matching-graph edges\n",
+        "decoder: {} on {}\n",
         args.decoder.name(),
-        exp.edges
+        count(exp.edges, "matching-graph edge")
     );
     let s = &exp.graph_stats;
     if !s.unsplit.is_empty() || !s.silent_logical.is_empty() {

@@ -24,7 +24,7 @@ pub struct Args {
     /// Export the matching graph (hyperedges split, parallel edges merged) instead of every
     /// edge.
     #[arg(long)]
-    pub matchable: bool,
+    pub matching: bool,
     /// Tag measurement flips as high-rate faults.
     #[arg(long)]
     pub high_rate_flips: bool,
@@ -51,7 +51,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
     let extract_cpu = thread_cpu()
         .zip(cpu_before)
         .map(|(b, a)| b.saturating_sub(a));
-    let (rendered, written) = write(&graph, args.format, args.matchable, args.output.as_deref())?;
+    let (rendered, written) = write(&graph, args.format, args.matching, args.output.as_deref())?;
     if args.timings {
         // On a shared machine wall time includes waiting for a core; the thread's own CPU
         // time is what the extractor costs.

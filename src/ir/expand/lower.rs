@@ -407,9 +407,12 @@ impl Expander {
                 .err(
                     o.result.span,
                     format!(
-                        "{} result name(s) for {} measurement(s)",
-                        len,
-                        lists.iter().map(Vec::len).max().unwrap_or(0)
+                        "{} for {}",
+                        crate::base::count(len, "result name"),
+                        crate::base::count(
+                            lists.iter().map(Vec::len).max().unwrap_or(0),
+                            "measurement"
+                        )
                     ),
                 )
                 .with_hint("ranges are zipped: `measure z q[0..3] -> m[0..3]`"));

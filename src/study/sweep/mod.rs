@@ -8,7 +8,7 @@
 //! ```toml
 //! seed = 1            # optional, default 0
 //! shots = 100000      # per task (grids may override shots, until_failures, chunk, decoders)
-//! until_failures = 500    # optional early stop per task
+//! until_failures = 500 # optional early stop per task
 //! chunk = 20000       # shots per chunk (the unit of resumption), default 16384
 //! decoders = ["mwpm"] # default ["mwpm"]
 //!
@@ -43,13 +43,19 @@
 //! # Shards
 //! `--shard k/n` (1 ≤ k ≤ n) runs the tasks whose index in the expanded grid is `k − 1` mod `n`.
 //!
-//! Files: `spec.rs` (spec and tasks), `store.rs` (rows, reading, merging, totals), `run.rs`
-//! (shards and the run).
+//! Every row carries `"version": 2`; rows of version 1 stores are upgraded as they are read
+//! (`legacy.rs`), so old stores still merge and plot. `docs/reference.md` documents the row.
+//!
+//! Files: `spec.rs` (spec and tasks), `store.rs` (rows, reading, merging, totals), `legacy.rs`
+//! (version 1 rows), `run.rs` (shards and the run).
 
+mod legacy;
 mod run;
 mod spec;
 mod store;
 
 pub use run::{run_sweep, Event, Shard};
 pub use spec::{chunk_seed, SweepSpec, Task, DEFAULT_CHUNK};
-pub use store::{aggregate, merge_rows, parse_rows, read_store, ChunkRow, Point, Store};
+pub use store::{
+    aggregate, merge_rows, parse_rows, read_store, ChunkRow, Point, Store, STORE_VERSION,
+};

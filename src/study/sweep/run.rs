@@ -10,7 +10,7 @@ use crate::ir::Limits;
 use crate::study::montecarlo::{Experiment, RunOptions};
 use crate::study::pipeline::Pipeline;
 use crate::study::sweep::spec::{SweepSpec, Task};
-use crate::study::sweep::store::{ChunkRow, Store};
+use crate::study::sweep::store::{ChunkRow, Store, STORE_VERSION};
 
 /// A `k/n` shard (1 ≤ k ≤ n).
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -118,6 +118,7 @@ fn run_task(
             |_| {},
         );
         let row = ChunkRow {
+            version: STORE_VERSION,
             task: task.key.clone(),
             chunk: c,
             shots: counts.shots,

@@ -9,9 +9,15 @@ use std::sync::{Arc, Mutex};
 
 use crate::base::{Diagnostic, Source, Span};
 
+/// Version of the store format written in every row. Version 1 rows (no `version` key, the
+/// failure count named differently) are still read: see `legacy.rs`.
+pub const STORE_VERSION: u32 = 2;
+
 /// One finished chunk of a task: a line of the store.
 #[derive(Clone, Debug, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct ChunkRow {
+    /// Store format version ([`STORE_VERSION`] for rows written now).
+    pub version: u32,
     /// Task key.
     pub task: String,
     /// Chunk index within the task.
@@ -53,8 +59,12 @@ pub fn parse_rows(source: &Arc<Source>) -> Result<(Vec<ChunkRow>, usize), Diagno
         let body = line.trim_end();
         if !body.is_empty() {
             let span = Span::new(offset, offset + body.len());
-            let row: ChunkRow = serde_json::from_str(body)
-                .map_err(|e| Diagnostic::error(source, span, format!("not a results row: {e}")))?;
+            let bad = |e: serde_json::Error| {
+                Diagnostic::error(source, span, format!("not a results row: {e}"))
+            };
+            let mut value: serde_json::Value = serde_json::from_str(body).map_err(bad)?;
+            super::legacy::upgrade(&mut value, STORE_VERSION);
+            let row: ChunkRow = serde_json::from_value(value).map_err(bad)?;
             if row.failures > row.shots {
                 return Err(Diagnostic::error(
                     source,
@@ -230,6 +240,7 @@ mod tests {
     #[test]
     fn torn_last_line_is_ignored_and_duplicates_merge() {
         let row = |c: u64, e: u64| ChunkRow {
+            version: STORE_VERSION,
             task: "t".into(),
             chunk: c,
             shots: 10,
