@@ -272,3 +272,42 @@ fn version_one_stores_still_merge_and_plot() {
         from_new.replace("new.jsonl", "X")
     );
 }
+
+/// `plot --only` takes a whole label: a part of one matches nothing, and the message lists the
+/// labels there are.
+#[test]
+fn plot_only_matches_whole_labels() {
+    let root = Path::new(env!("CARGO_MANIFEST_DIR"));
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::copy(
+        root.join("tests/fixtures/store-v1.jsonl"),
+        dir.path().join("s.jsonl"),
+    )
+    .unwrap();
+    let out = slant()
+        .current_dir(dir.path())
+        .args(["plot", "s.jsonl", "-o", "p.svg", "--only", "repetition"])
+        .run();
+    assert_eq!(out.status.code(), Some(1));
+    assert_eq!(
+        String::from_utf8_lossy(&out.stderr),
+        "error: `--only repetition`: no label matches\n  = hint: the labels in `s.jsonl`: \
+         `repetition phenomenological`\n"
+    );
+    assert!(!dir.path().join("p.svg").exists());
+    let plotted = stdout_in(
+        dir.path(),
+        &[
+            "plot",
+            "s.jsonl",
+            "-o",
+            "p.svg",
+            "--only",
+            "repetition phenomenological",
+        ],
+    );
+    assert!(
+        plotted.starts_with("repetition phenomenological (mwpm):"),
+        "{plotted}"
+    );
+}

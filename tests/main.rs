@@ -1,6 +1,6 @@
 //! The one integration-test binary: one module per area (front end, noise, graphs, shots,
 //! estimates, distances, decoders, codes, generators), golden outputs of every subcommand, and
-//! the import rules of the sources.
+//! the import rules of the sources, the README examples and the file-format reference.
 mod architecture;
 mod codes;
 mod decode;
@@ -13,5 +13,7 @@ mod implement;
 mod lang;
 mod noise;
 mod printer;
+mod readme;
+mod reference;
 mod shots;
 mod support;

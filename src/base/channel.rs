@@ -71,6 +71,9 @@ impl ChannelKind {
     /// Looks a kind up by its keyword; `pauli` gives [`ChannelKind::Pauli`] until its keys say
     /// otherwise (see [`ChannelKind::resolve`]).
     pub fn from_name(name: &str) -> Option<ChannelKind> {
+        if name == "pauli" {
+            return Some(ChannelKind::Pauli);
+        }
         ChannelKind::ALL.into_iter().find(|k| k.name() == name)
     }
 

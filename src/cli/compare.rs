@@ -564,7 +564,7 @@ fn csv_text(rows: &[Row]) -> String {
     s
 }
 
-/// Version of the `--json` document (version 1 was a bare array, with `mechanisms` and `errors`).
+/// Version of the `--json` document (version 1 was a bare array and used earlier key names).
 const JSON_VERSION: u32 = 2;
 
 fn json_text(rows: &[Row], unit: Option<&str>) -> Result<String, CliError> {

@@ -290,7 +290,7 @@ fn error_json(e: &LogicalError, g: &FaultGraph, c: &Circuit) -> Value {
 pub fn to_json(r: &DistanceReport, g: &FaultGraph, c: &Circuit) -> Value {
     json!({
         "format": "slant-distance",
-        // Version 1 had no `format` or `version` and listed an error's edges as `mechanisms`.
+        // Version 1 had no `format` or `version` and used an earlier name for an error.s edges.
         "version": 2,
         "distance": count_json(r.distance.as_ref(), g, c),
         "high_rate_distance": count_json(r.high_rate.as_ref(), g, c),

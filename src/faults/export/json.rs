@@ -1,7 +1,7 @@
 //! JSON export.
 //!
-//! Schema of the full graph (`format = "slant-fault-graph"`, `version = 2`; version 1 named the
-//! edges "mechanisms" and the splits "decompositions"):
+//! Schema of the full graph (`format = "slant-fault-graph"`, `version = 2`; version 1 used earlier
+//! names for the edges and the splits):
 //!
 //! ```text
 //! { "format", "version", "source": file name,

@@ -1,7 +1,7 @@
 //! Lowering: each statement of the syntax tree executed into the circuit being built — loops
 //! unrolled, conditions taken, declarations recorded, operations placed in layers.
 
-use crate::base::{odd_parity, ChannelKind, Gate, Pauli, Span};
+use crate::base::{odd_parity, ChannelKind, Diagnostic, Gate, Pauli, Span};
 use crate::ir::expand::budget::{cost, stmt_steps};
 use crate::ir::expand::eval::Value;
 use crate::ir::expand::{Expander, Tally, MAX_ERRORS, R};
@@ -21,6 +21,9 @@ impl Expander {
                 .and_then(|()| self.stmt(st));
             if let Err(d) = result {
                 self.report(d);
+                // What the refused statement would have measured is now undefined for reasons
+                // already reported: later uses of those results get no error of their own.
+                refused_results(st, &mut self.refused);
             }
         }
     }
@@ -225,6 +228,11 @@ impl Expander {
                     Some(r) => {
                         let n = self.single_name(r, "a detector name")?;
                         if let Some(&first) = self.detector_names.get(&n) {
+                            if first == r.span {
+                                // The same statement again: a loop runs it once per
+                                // iteration, so the name needs the loop variable.
+                                return Err(self.repeated_in_loop(r, &n));
+                            }
                             return Err(self
                                 .err(r.span, format!("detector `{n}` is declared twice"))
                                 .with_label(&self.src, first, "first declared here"));
@@ -475,6 +483,38 @@ impl Expander {
         Ok(())
     }
 
+    /// The error for a detector statement inside a loop whose name does not change between
+    /// iterations: its hint indexes the name by the loop variables it lacks (`flagged[r]`).
+    fn repeated_in_loop(&self, r: &Ref, name: &str) -> Diagnostic {
+        let text = self.src.slice(r.span).trim().to_string();
+        let is_word = |w: &str| {
+            text.split(|c: char| !(c.is_ascii_alphanumeric() || c == '_'))
+                .any(|t| t == w)
+        };
+        let missing: Vec<&str> = self
+            .vars
+            .iter()
+            .map(|(v, _)| v.as_str())
+            .filter(|v| !is_word(v))
+            .collect();
+        let suggestion = match text.split_once('[') {
+            _ if missing.is_empty() => None,
+            None => Some(format!("{text}[{}]", missing.join(", "))),
+            Some((base, rest)) => Some(format!("{base}[{}, {rest}", missing.join(", "))),
+        };
+        let d = self.err(
+            r.span,
+            format!("detector `{name}` is declared again on the next iteration of its loop"),
+        );
+        match suggestion {
+            Some(s) => d.with_hint(format!(
+                "each iteration declares a new detector; index its name by the loop variable: \
+                 `detector {s} ...`"
+            )),
+            None => d.with_hint("each iteration declares a new detector; give each its own name"),
+        }
+    }
+
     pub(super) fn noise(
         &mut self,
         st: &Stmt,
@@ -619,5 +659,29 @@ impl Expander {
             }
         }
         Ok(complete.then_some(out))
+    }
+}
+
+/// Adds the base names of the results that `st` (and the statements inside it) measure.
+fn refused_results(st: &Stmt, out: &mut std::collections::HashSet<String>) {
+    match &st.kind {
+        StmtKind::Measure { outcomes, .. } => {
+            for o in outcomes {
+                out.insert(o.result.name.name.clone());
+            }
+        }
+        StmtKind::Layer(body) | StmtKind::Round(body) | StmtKind::For { body, .. } => {
+            for s in body {
+                refused_results(s, out);
+            }
+        }
+        StmtKind::If {
+            then, otherwise, ..
+        } => {
+            for s in then.iter().chain(otherwise) {
+                refused_results(s, out);
+            }
+        }
+        _ => {}
     }
 }

@@ -141,8 +141,33 @@ impl Parser {
                     name.len(),
                     format!("unknown statement or gate `{name}`"),
                 );
-                if let Some(g) = Gate::from_name(&lower) {
-                    e = e.hint(format!("gate names are lower-case: `{}`", g.name()));
+                if name.chars().any(|c| c.is_ascii_uppercase()) {
+                    // A capitalised word is a habit from elsewhere, not a typo: name the
+                    // lower-case statement or gate it stands for instead of the nearest spelling.
+                    let names: Vec<&str> = candidates.collect();
+                    let exact = names.iter().find(|c| **c == lower);
+                    let starting: Vec<&str> = names
+                        .iter()
+                        .copied()
+                        .filter(|c| c.starts_with(&lower))
+                        .collect();
+                    let list = |v: &[&str]| {
+                        v.iter()
+                            .map(|c| format!("`{c}`"))
+                            .collect::<Vec<_>>()
+                            .join(" or ")
+                    };
+                    let target = match (exact, starting.as_slice()) {
+                        (Some(c), _) => Some(format!("`{c}`")),
+                        (None, [_, ..]) => Some(list(&starting)),
+                        (None, []) => {
+                            did_you_mean(&lower, names.iter().copied()).map(|c| format!("`{c}`"))
+                        }
+                    };
+                    e = e.hint(match target {
+                        Some(t) => format!("names are lower-case: `{name}` → {t}"),
+                        None => "names are lower-case".to_string(),
+                    });
                 } else if let Some(s) = did_you_mean(name, candidates) {
                     e = e.hint(format!("did you mean `{s}`?"));
                 }
