@@ -577,8 +577,12 @@ fn cli_compare_bias_rates_and_plot() {
         "--plot",
         svg_path.to_str().unwrap(),
     ]);
-    let rows: serde_json::Value = serde_json::from_str(&text).unwrap();
-    let rows = rows.as_array().unwrap();
+    let doc: serde_json::Value = serde_json::from_str(&text).unwrap();
+    assert_eq!(
+        (&doc["format"], &doc["version"]),
+        (&"slant-compare".into(), &2.into())
+    );
+    let rows = doc["rows"].as_array().unwrap();
     assert_eq!(rows.len(), 2);
     let (native, cx) = (&rows[0], &rows[1]);
     assert_eq!(native["circuit"], "entangler=native");

@@ -268,8 +268,8 @@ fn version_one_stores_still_merge_and_plot() {
     let from_new = stdout_in(dir.path(), &["plot", "new.jsonl", "-o", "b.svg"]);
     assert!(from_old.contains("crossing"), "{from_old}");
     assert_eq!(
-        from_old.replace("old.jsonl", "X"),
-        from_new.replace("new.jsonl", "X")
+        from_old.replace("a.svg", "X"),
+        from_new.replace("b.svg", "X")
     );
 }
 

@@ -426,7 +426,7 @@ fn exports_parse_back_to_the_same_graph() {
     let json = &slant::faults::render(&View::Full(&g), Format::Json)[0].1;
     let v: serde_json::Value = serde_json::from_slice(json).unwrap();
     assert_eq!(v["format"], "slant-fault-graph");
-    assert_eq!(v["version"], 1);
+    assert_eq!(v["version"], 2);
     let mechs = v["edges"].as_array().unwrap();
     assert_eq!(mechs.len(), g.edges.len());
     for (m, j) in g.edges.iter().zip(mechs) {

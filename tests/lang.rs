@@ -102,14 +102,22 @@ fn a_refused_measurement_is_reported_once() {
     let text = "qubit q[0..3]\nmeasure z q[5] -> m\ndetector = m\ndetector = m\n";
     let all = rendered(text);
     assert_eq!(all.matches("error:").count(), 1, "{all}");
-    assert!(all.starts_with("error: undefined qubit `q[5]`"), "{all}");
+    assert!(
+        all.starts_with("error: index out of range: qubit `q[5]` is not declared"),
+        "{all}"
+    );
 }
 
 #[test]
 fn non_deterministic_observable_gets_an_observable_hint() {
     assert_eq!(
         rendered("qubit a\nh a\nmeasure z a -> m\nobservable logical = m\n"),
-        "PLACEHOLDER"
+        "error: observable `logical` is not deterministic: without noise its value is random\n  \
+         --> t.slant:4:1\n  |\n4 | observable logical = m\n  | ^^^^^^^^^^^^^^^^^^^^^^\n  \
+         --> t.slant:1:7\n  |\n1 | qubit a\n  |       ^ randomised by the initial |0> state \
+         of `a`\n  = hint: an observable is the parity of results that read out one logical \
+         operator: measure its qubits in the basis it was prepared in, and include every qubit \
+         of the logical\n"
     );
 }
 
@@ -117,7 +125,10 @@ fn non_deterministic_observable_gets_an_observable_hint() {
 fn pauli_with_one_and_two_qubit_keys_is_refused_at_the_key() {
     assert_eq!(
         rendered("qubit a\nqubit b\nnoise pauli zz=0.01 x=0.02 a b\n"),
-        "PLACEHOLDER"
+        "error: `pauli` mixes two-qubit keys with the one-qubit key `x`\n  --> t.slant:3:21\n  \
+         |\n3 | noise pauli zz=0.01 x=0.02 a b\n  |                     ^\n  = hint: one channel \
+         acts on one qubit (`x= y= z=`) or on a pair (`ix= … zz=`); write two `noise pauli` \
+         statements\n"
     );
 }
 
@@ -788,7 +799,7 @@ fn check_prints_a_summary() {
     assert_eq!(code, 0, "{err}");
     assert_eq!(
         out,
-        "circuits/repetition_d3.slant: ok\n  parameters    distance=3 rounds=2\n  qubits        5 (ancilla 2, data 3)\n  layers        10 in 2 round(s)\n  operations    cx 8, measure 7, reset 9\n  measurements  7\n  detectors     6 (all deterministic)\n  observables   1 (all deterministic)\n  noise         none (expected faults per shot 0.0000e0)\n"
+        "circuits/repetition_d3.slant: ok\n  parameters    distance=3 rounds=2\n  qubits        5 (ancilla 2, data 3)\n  layers        10 in 2 rounds\n  operations    cx 8, measure 7, reset 9\n  measurements  7\n  detectors     6 (all deterministic)\n  observables   1 (all deterministic)\n  noise         none (expected faults per shot 0.0000e0)\n"
     );
 }
 

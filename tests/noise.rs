@@ -314,7 +314,8 @@ fn cli_compile_and_bias() {
             "circuit p=0.01 bias=100 cx=rotation",
         ])
         .run();
-    assert!(st.status.success());
+    // A lost bias is a "no": exit 3, after the whole report.
+    assert_eq!(st.status.code(), Some(3));
     let stdout = String::from_utf8_lossy(&st.stdout);
     assert!(stdout.contains("verdict: bias lost at"), "{stdout}");
 }

@@ -160,8 +160,17 @@ fn compare_keys_are_the_documented_ones() {
         "4096",
         "--json",
     ]);
+    // A bias-breaking schedule has a finite high-rate distance (the first run's are absent).
+    let high_rate = json_of(&[
+        "compare",
+        "circuits/xzzx_d3_cx.slant",
+        "--noise",
+        "circuit p=0.001 bias=100 cx=bias-preserving",
+        "--json",
+    ]);
+    assert!(high_rate["rows"][0]["high_rate_distance"]["value"].is_u64());
     let doc = documented("compare");
-    let mut out = written(&[with_rates]);
+    let mut out = written(&[with_rates, high_rate]);
     // The `unproven` form needs a search that cannot finish, which no small bundled circuit
     // gives; it is written by the same code as `slant distance --json` (tested there).
     for key in [

@@ -213,11 +213,13 @@ fn write_error(s: &mut String, name: &str, e: &LogicalError, g: &FaultGraph, c: 
             );
         }
         if all.len() > SHOWN {
-            let _ = writeln!(
-                s,
-                "    … and {} more",
-                plural_count(all.len() - SHOWN, "contributor")
-            );
+            let more = all.len() - SHOWN;
+            let noun = if more == 1 {
+                "contributor"
+            } else {
+                "contributors"
+            };
+            let _ = writeln!(s, "    … and {more} more {noun}");
         }
     }
 }

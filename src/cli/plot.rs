@@ -73,11 +73,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
             .values()
             .flat_map(|pts| pts.iter().map(|p| p.label.clone()))
             .collect();
-        let all: Vec<String> = labels
-            .iter()
-            .cloned()
-            .chain(groups.keys().filter(|g| !labels.contains(*g)).cloned())
-            .collect();
+        let all: Vec<String> = labels.iter().cloned().collect();
         groups.retain(|g, pts| g == only || pts.iter().any(|p| p.label == only));
         if groups.is_empty() && !all.is_empty() {
             return Err(
