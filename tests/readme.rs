@@ -2,8 +2,8 @@
 //! lines `$ slant ...` each followed by the output it prints (standard output and standard error
 //! together), and that output must match. In expected output, `[..]` matches any text within a
 //! line (for timings) and a line `...` alone matches any number of lines. Commands run in a
-//! fresh directory that sees the repository's `circuits/`, through `sh`, so quoting and
-//! `-o FILE` work as the reader would type them.
+//! fresh directory that sees the repository's `circuits/` (and has an empty `docs/` for the
+//! plots they write), through `sh`, so quoting and `-o FILE` work as the reader would type them.
 
 use std::path::Path;
 use std::process::Command;
@@ -100,6 +100,8 @@ fn readme_examples_print_what_the_readme_shows() {
     for (at, lines) in blocks {
         let dir = tempfile::tempdir().unwrap();
         std::os::unix::fs::symlink(root.join("circuits"), dir.path().join("circuits")).unwrap();
+        // Plots named `docs/...` land in the scratch directory, not in the repository.
+        std::fs::create_dir(dir.path().join("docs")).unwrap();
         for (cmd, expected) in commands(&lines) {
             assert!(cmd.starts_with("slant "), "README.md:{at}: `{cmd}`");
             let out = Command::new("sh")
