@@ -78,7 +78,7 @@ impl ChannelKind {
     }
 
     /// The kind of a `noise NAME KEYS…` statement: `pauli` with two-letter keys is the pair
-    /// channel. Mixed keys resolve by the first; [`ChannelKind::key_arity`] finds the clash.
+    /// channel. Mixed keys resolve by the first; the parser refuses the clash at its key.
     pub fn resolve<'k>(name: &str, keys: impl IntoIterator<Item = &'k str>) -> Option<ChannelKind> {
         let kind = ChannelKind::from_name(name)?;
         if kind != ChannelKind::Pauli {
