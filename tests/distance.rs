@@ -606,7 +606,7 @@ fn cli_compare_bias_rates_and_plot() {
             assert_eq!(x["p"].as_f64().unwrap(), p);
             assert_eq!(x["shots"].as_u64().unwrap(), 2000);
             let (k, n, rounds) = (
-                x["errors"].as_u64().unwrap() as f64,
+                x["failures"].as_u64().unwrap() as f64,
                 2000.0,
                 x["rounds"].as_u64().unwrap() as i32,
             );
