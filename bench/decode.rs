@@ -15,7 +15,7 @@
 //! Options: `--shots N` (default 20000), `--p P` (default: both 1e-3 and 3e-3),
 //! `--only mwpm|uf`, `--overhead` (also time empty and two-event shots), `--circuit` (use the
 //! real graph: `slant new surface` at d = 9 with 9 rounds, the `circuit p=…` noise preset and the
-//! fault-graph extractor's graphlike view, errors still sampled independently per edge).
+//! fault-graph extractor's matchable view, errors still sampled independently per edge).
 
 use std::time::Instant;
 
@@ -121,7 +121,7 @@ fn add_type(
     first + layers * per
 }
 
-/// The real graphlike fault graph of the generated rotated surface code (Z memory, default
+/// The real matchable fault graph of the generated rotated surface code (Z memory, default
 /// hook-safe order) under the `circuit p=…` preset: generator, noise, extractor.
 fn circuit_graph(d: u32, rounds: u32, p: f64) -> MatchingGraph {
     let mut spec = GenSpec::new(Family::Surface, d);
@@ -131,7 +131,7 @@ fn circuit_graph(d: u32, rounds: u32, p: f64) -> MatchingGraph {
     let noise = NoiseSpec::parse(&format!("circuit p={p}")).expect("valid preset");
     let noisy = slant::noise::apply(&circuit, &noise).expect("noise applies");
     let faults = slant::faults::extract(&noisy, &ExtractOptions::default());
-    faults.graphlike().0
+    faults.matching_graph().0
 }
 
 fn surface_graph(d: i32, rounds: u32, p: f64) -> MatchingGraph {

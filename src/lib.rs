@@ -49,7 +49,7 @@
 //!     .noised(Some("circuit p=0.001"))
 //!     .unwrap();
 //! assert!(noisy.warnings().is_empty());
-//! assert!(!noisy.graph(&Default::default()).mechanisms.is_empty());
+//! assert!(!noisy.graph(&Default::default()).edges.is_empty());
 //! ```
 
 pub mod analysis;

@@ -15,7 +15,7 @@ fn graph_of(spec: &GenSpec, noise: &str) -> FaultGraph {
 }
 
 /// Distances, with every returned logical error checked independently of the search: XOR of
-/// the mechanisms' symptoms has no detectors and flips an observable.
+/// the edges' symptoms has no detectors and flips an observable.
 fn report(graph: &FaultGraph) -> DistanceReport {
     let r = distances(graph, &DistanceOptions::default()).expect("distances");
     let errors = [
@@ -25,21 +25,21 @@ fn report(graph: &FaultGraph) -> DistanceReport {
         r.weighted.as_ref().map(|w| &w.error),
     ];
     for e in errors.into_iter().flatten() {
-        let (dets, obs) = symptom(graph, &e.mechanisms);
+        let (dets, obs) = symptom(graph, &e.edges);
         assert!(dets.is_empty(), "logical error leaves detectors {dets:?}");
         assert!(!obs.is_empty(), "logical error flips no observable");
         assert_eq!(obs, e.observables);
     }
     if let Some(c) = &r.distance {
-        assert_eq!(c.error.mechanisms.len() as u32, c.value);
+        assert_eq!(c.error.edges.len() as u32, c.value);
     }
     if let Some(l) = &r.lexicographic {
-        assert_eq!(l.error.mechanisms.len() as u32, l.total);
+        assert_eq!(l.error.edges.len() as u32, l.total);
         let low = l
             .error
-            .mechanisms
+            .edges
             .iter()
-            .filter(|&&m| !graph.mechanisms[m as usize].classes.has_high())
+            .filter(|&&m| !graph.edges[m as usize].classes.has_high())
             .count() as u32;
         assert_eq!(low, l.low);
     }
@@ -52,13 +52,13 @@ fn exact_distance(r: &DistanceReport) -> u32 {
     c.value
 }
 
-/// Least number of mechanisms forming an undetected logical error, by trying every subset
-/// (only for graphs with few mechanisms).
+/// Least number of edges forming an undetected logical error, by trying every subset
+/// (only for graphs with few edges).
 fn brute_force(graph: &FaultGraph, allow: impl Fn(usize) -> bool) -> Option<u32> {
-    let ids: Vec<u32> = (0..graph.mechanisms.len() as u32)
+    let ids: Vec<u32> = (0..graph.edges.len() as u32)
         .filter(|&m| allow(m as usize))
         .collect();
-    assert!(ids.len() <= 20, "too many mechanisms to brute-force");
+    assert!(ids.len() <= 20, "too many edges to brute-force");
     let mut best: Option<u32> = None;
     for mask in 1u32..(1 << ids.len()) {
         let w = mask.count_ones();
@@ -158,7 +158,7 @@ fn repetition_circuit_level_distance_is_d() {
 // repetition codes along its diagonals; the shortest pure-Z logical of a d × d planar patch has
 // length d. It anticommutes with the stored X-type logical (the Z-type memory has no pure-Z
 // logical error at all, which the test also checks). Brute force over every subset of the
-// capacity-noise mechanisms of one noisy round (rounds = 2: the first round's results are the
+// capacity-noise edges of one noisy round (rounds = 2: the first round's results are the
 // reference) confirms the graph search.
 #[test]
 fn xzzx_infinite_bias_high_rate_distance_is_d() {
@@ -172,7 +172,7 @@ fn xzzx_infinite_bias_high_rate_distance_is_d() {
         let high = r.high_rate.as_ref().expect("pure-Z logical exists");
         assert!(high.exact());
         assert_eq!(high.value, d, "{}", s.command_line().unwrap());
-        if g.mechanisms.len() <= 20 {
+        if g.edges.len() <= 20 {
             assert_eq!(brute_force(&g, |_| true), Some(d));
         }
         s.basis = Some(LogicalBasis::Z);
@@ -343,8 +343,8 @@ fn distance_matches_brute_force_on_small_graphs() {
     assert_eq!(
         Some(exact_distance(&r)),
         brute_force(&g, |_| true),
-        "mechanisms: {}",
-        g.mechanisms.len()
+        "edges: {}",
+        g.edges.len()
     );
 }
 
@@ -368,22 +368,22 @@ const HYPER: &str = "qubit q[0..6]\nreset x q[0..6]\nnoise dephasing p=0.01 q[0.
 #[test]
 fn exhaustive_search_matches_brute_force_on_hyperedges() {
     let g = hyperedge_graph();
-    assert!(g.mechanisms.iter().all(|m| m.detectors.len() > 2));
+    assert!(g.edges.iter().all(|m| m.detectors.len() > 2));
     let r = report(&g);
     let c = r.distance.as_ref().expect("logical error");
     assert_eq!(c.method, slant::analysis::Method::Exhaustive);
     assert_eq!(Some(c.value), brute_force(&g, |_| true));
     assert_eq!(c.value, 4);
-    // The class and weighted searches see no graphlike mechanism here: their absence is
+    // The class and weighted searches see no matchable edge here: their absence is
     // unproven, and the report must say so rather than claim "none".
     assert!(r.lexicographic.is_none());
-    assert_eq!(r.unresolved.lexicographic, Some(Unproven::GraphlikeOnly));
+    assert_eq!(r.unresolved.lexicographic, Some(Unproven::MatchableOnly));
     assert_eq!(r.unresolved.distance, None);
 }
 
 #[test]
 fn unfinished_searches_are_reported_as_unproven() {
-    // The same 4-mechanism logical error as above, searched with too small a depth or state
+    // The same 4-edge logical error as above, searched with too small a depth or state
     // cap: "none" would be false, so the report gives the proven bound or says it cannot tell.
     let g = hyperedge_graph();
     let shallow = DistanceOptions {
@@ -577,8 +577,12 @@ fn cli_compare_bias_rates_and_plot() {
         "--plot",
         svg_path.to_str().unwrap(),
     ]);
-    let rows: serde_json::Value = serde_json::from_str(&text).unwrap();
-    let rows = rows.as_array().unwrap();
+    let doc: serde_json::Value = serde_json::from_str(&text).unwrap();
+    assert_eq!(
+        (&doc["format"], &doc["version"]),
+        (&"slant-compare".into(), &2.into())
+    );
+    let rows = doc["rows"].as_array().unwrap();
     assert_eq!(rows.len(), 2);
     let (native, cx) = (&rows[0], &rows[1]);
     assert_eq!(native["circuit"], "entangler=native");
@@ -602,7 +606,7 @@ fn cli_compare_bias_rates_and_plot() {
             assert_eq!(x["p"].as_f64().unwrap(), p);
             assert_eq!(x["shots"].as_u64().unwrap(), 2000);
             let (k, n, rounds) = (
-                x["errors"].as_u64().unwrap() as f64,
+                x["failures"].as_u64().unwrap() as f64,
                 2000.0,
                 x["rounds"].as_u64().unwrap() as i32,
             );

@@ -30,7 +30,7 @@ fn estimate(c: &Circuit, kind: DecoderKind, shots: u64, seed: u64) -> Counts {
     exp.run(
         &RunOptions {
             shots,
-            max_errors: None,
+            until_failures: None,
             seed,
         },
         |_| {},
@@ -38,7 +38,7 @@ fn estimate(c: &Circuit, kind: DecoderKind, shots: u64, seed: u64) -> Counts {
 }
 
 fn rate(c: Counts) -> f64 {
-    c.errors as f64 / c.shots as f64
+    c.failures as f64 / c.shots as f64
 }
 
 /// Asserts `|k/n − p| ≤ 5σ` with `σ = sqrt(p(1−p)/n)`.
@@ -48,7 +48,7 @@ fn assert_within_5_sigma(c: Counts, p: f64, what: &str) {
     assert!(
         (got - p).abs() <= 5.0 * sigma,
         "{what}: measured {got} ({} / {}), expected {p} ± {sigma}",
-        c.errors,
+        c.failures,
         c.shots
     );
 }
@@ -60,9 +60,9 @@ fn assert_clearly_below(a: Counts, b: Counts, what: &str) {
     assert!(
         pb - pa > 5.0 * sigma,
         "{what}: expected {pa} ({}/{}) < {pb} ({}/{}) by more than 5σ = {}",
-        a.errors,
+        a.failures,
         a.shots,
-        b.errors,
+        b.failures,
         b.shots,
         5.0 * sigma
     );
@@ -243,7 +243,7 @@ fn mwpm_and_union_find_mostly_agree_at_low_noise() {
 }
 
 #[test]
-fn max_errors_stops_early_at_a_batch_boundary() {
+fn until_failures_stops_early_at_a_batch_boundary() {
     let c = with_noise(
         &generated(&GenSpec::new(Family::Repetition, 3)),
         "phenomenological p=0.1",
@@ -253,12 +253,12 @@ fn max_errors_stops_early_at_a_batch_boundary() {
         .unwrap();
     let opts = RunOptions {
         shots: 1_000_000,
-        max_errors: Some(50),
+        until_failures: Some(50),
         seed: 9,
     };
     let mut calls = 0;
     let counts = exp.run(&opts, |_| calls += 1);
-    assert!(counts.errors >= 50, "{counts:?}");
+    assert!(counts.failures >= 50, "{counts:?}");
     assert!(
         counts.shots < 1_000_000 && counts.shots.is_multiple_of(4096),
         "{counts:?}"
@@ -288,21 +288,35 @@ fn estimate_json(file: &std::path::Path, extra: &[&str], threads: &str) -> serde
 fn estimate_cli_is_deterministic_per_seed_whatever_the_thread_count() {
     let dir = tempfile::tempdir().unwrap();
     let f = write_circuit(dir.path(), "rep.slant", REP3_BITFLIP);
-    let args = ["--shots", "30000", "--seed", "42", "--max-errors", "300"];
+    let args = [
+        "--shots",
+        "30000",
+        "--seed",
+        "42",
+        "--until-failures",
+        "300",
+    ];
     let one = estimate_json(&f, &args, "1");
     let two = estimate_json(&f, &args, "2");
     let three = estimate_json(&f, &args, "3");
-    for key in ["shots", "errors", "per_shot", "per_round"] {
+    for key in ["shots", "failures", "per_shot", "per_round"] {
         assert_eq!(one[key], two[key], "{key}");
         assert_eq!(one[key], three[key], "{key}");
     }
     assert_eq!(one["stopped_early"], true);
     let other = estimate_json(
         &f,
-        &["--shots", "30000", "--seed", "43", "--max-errors", "300"],
+        &[
+            "--shots",
+            "30000",
+            "--seed",
+            "43",
+            "--until-failures",
+            "300",
+        ],
         "2",
     );
-    assert_ne!(one["errors"], other["errors"]);
+    assert_ne!(one["failures"], other["failures"]);
 }
 
 #[test]
@@ -360,13 +374,13 @@ p = [0.08, 0.1]
 bias = [inf]
 "#;
 
-/// `(task, chunk, shots, errors)` of every row, sorted: equal for runs that recorded the same
+/// `(task, chunk, shots, failures)` of every row, sorted: equal for runs that recorded the same
 /// chunks with the same counts, in whatever order.
 fn chunk_table(path: &std::path::Path) -> Vec<(String, u64, u64, u64)> {
     let mut t: Vec<_> = slant::study::read_store(path)
         .unwrap()
         .into_iter()
-        .map(|r| (r.task, r.chunk, r.shots, r.errors))
+        .map(|r| (r.task, r.chunk, r.shots, r.failures))
         .collect();
     t.sort();
     t
@@ -476,10 +490,11 @@ fn plot_marks_the_crossing_of_synthetic_power_laws() {
             let rate = 0.1 * (p / 0.02f64).powf((d as f64 + 1.0) / 2.0);
             let shots = 100_000_000u64;
             let row = slant::study::ChunkRow {
+                version: slant::study::STORE_VERSION,
                 task: format!("t d={d} p={p}"),
                 chunk: 0,
                 shots,
-                errors: (rate * shots as f64).round() as u64,
+                failures: (rate * shots as f64).round() as u64,
                 seed: 0,
                 label: "synthetic".into(),
                 family: "surface".into(),

@@ -245,8 +245,8 @@ fn model_generator_overrides_default() {
         let m = model(&cx_rotation_model(extra)).unwrap_or_else(|d| panic!("{}", d.render()));
         let c = compile(&circuit, &m).unwrap();
         for (a, b) in channels(&c.circuit).iter().zip(channels(&default.circuit)) {
-            let (Channel::Pauli2(a), Channel::Pauli2(b)) = (a, &b) else {
-                panic!("{what}: expected pauli2")
+            let (Channel::PairPauli(a), Channel::PairPauli(b)) = (a, &b) else {
+                panic!("{what}: expected a two-qubit pauli channel")
             };
             for k in 0..15 {
                 assert!((a[k] - b[k]).abs() < 1e-15, "{what}: term {k}");

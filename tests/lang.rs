@@ -54,7 +54,81 @@ fn upper_case_gate_gets_a_hint() {
     let errs = try_load("t.slant", "qubit a\nH a\n").unwrap_err();
     assert_eq!(
         errs[0].hint.as_deref(),
-        Some("gate names are lower-case: `h`")
+        Some("names are lower-case: `H` → `h`")
+    );
+}
+
+/// Every diagnostic of `text`, rendered as the user sees them, one after another.
+fn rendered(text: &str) -> String {
+    try_load("t.slant", text)
+        .unwrap_err()
+        .iter()
+        .map(|d| d.render())
+        .collect()
+}
+
+#[test]
+fn upper_case_statement_names_the_lower_case_statement() {
+    // `M` is no typo of a one-letter gate: it stands for `measure`.
+    assert_eq!(
+        rendered("qubit a\nM z a -> m\n"),
+        "error: unknown statement or gate `M`\n  --> t.slant:2:1\n  |\n2 | M z a -> m\n  \
+         | ^\n  = hint: names are lower-case: `M` → `measure`\n"
+    );
+    assert_eq!(
+        rendered("qubit a\nqubit b\nCX a b\n"),
+        "error: unknown statement or gate `CX`\n  --> t.slant:3:1\n  |\n3 | CX a b\n  \
+         | ^^\n  = hint: names are lower-case: `CX` → `cx`\n"
+    );
+}
+
+#[test]
+fn named_detector_in_a_loop_gets_an_index_hint() {
+    let text = "qubit a\nfor r in 0..3 {\n    measure z a -> m[r]\n    \
+                detector flagged = m[r]\n}\n";
+    assert_eq!(
+        rendered(text),
+        "error: detector `flagged` is declared again on the next iteration of its loop\n  \
+         --> t.slant:4:14\n  |\n4 |     detector flagged = m[r]\n  |              ^^^^^^^\n  \
+         = hint: each iteration declares a new detector; index its name by the loop variable: \
+         `detector flagged[r] ...`\n"
+    );
+}
+
+#[test]
+fn a_refused_measurement_is_reported_once() {
+    // `q[5]` does not exist: the measurement is refused, and the detectors that use its results
+    // get no "undefined result" errors of their own.
+    let text = "qubit q[0..3]\nmeasure z q[5] -> m\ndetector = m\ndetector = m\n";
+    let all = rendered(text);
+    assert_eq!(all.matches("error:").count(), 1, "{all}");
+    assert!(
+        all.starts_with("error: index out of range: qubit `q[5]` is not declared"),
+        "{all}"
+    );
+}
+
+#[test]
+fn non_deterministic_observable_gets_an_observable_hint() {
+    assert_eq!(
+        rendered("qubit a\nh a\nmeasure z a -> m\nobservable logical = m\n"),
+        "error: observable `logical` is not deterministic: without noise its value is random\n  \
+         --> t.slant:4:1\n  |\n4 | observable logical = m\n  | ^^^^^^^^^^^^^^^^^^^^^^\n  \
+         --> t.slant:1:7\n  |\n1 | qubit a\n  |       ^ randomised by the initial |0> state \
+         of `a`\n  = hint: an observable is the parity of results that read out one logical \
+         operator: measure its qubits in the basis it was prepared in, and include every qubit \
+         of the logical\n"
+    );
+}
+
+#[test]
+fn pauli_with_one_and_two_qubit_keys_is_refused_at_the_key() {
+    assert_eq!(
+        rendered("qubit a\nqubit b\nnoise pauli zz=0.01 x=0.02 a b\n"),
+        "error: `pauli` mixes two-qubit keys with the one-qubit key `x`\n  --> t.slant:3:21\n  \
+         |\n3 | noise pauli zz=0.01 x=0.02 a b\n  |                     ^\n  = hint: one channel \
+         acts on one qubit (`x= y= z=`) or on a pair (`ix= … zz=`); write two `noise pauli` \
+         statements\n"
     );
 }
 
@@ -725,7 +799,7 @@ fn check_prints_a_summary() {
     assert_eq!(code, 0, "{err}");
     assert_eq!(
         out,
-        "circuits/repetition_d3.slant: ok\n  parameters    distance=3 rounds=2\n  qubits        5 (ancilla 2, data 3)\n  layers        10 in 2 round(s)\n  operations    cx 8, measure 7, reset 9\n  measurements  7\n  detectors     6 (all deterministic)\n  observables   1 (all deterministic)\n  noise         none (expected faults per shot 0.0000e0)\n"
+        "circuits/repetition_d3.slant: ok\n  parameters    distance=3 rounds=2\n  qubits        5 (ancilla 2, data 3)\n  layers        10 in 2 rounds\n  operations    cx 8, measure 7, reset 9\n  measurements  7\n  detectors     6 (all deterministic)\n  observables   1 (all deterministic)\n  noise         none (expected faults per shot 0.0000e0)\n"
     );
 }
 

@@ -1,6 +1,7 @@
 //! The one integration-test binary: one module per area (front end, noise, graphs, shots,
-//! estimates, distances, pictures, decoders, codes, generators), golden outputs of every subcommand, and
-//! the import rules of the sources.
+//! estimates, distances, pictures, decoders, codes, generators), golden outputs of every
+//! subcommand, and the import rules of the sources, the README examples and the file-format
+//! reference.
 mod architecture;
 mod codes;
 mod decode;
@@ -14,5 +15,7 @@ mod implement;
 mod lang;
 mod noise;
 mod printer;
+mod readme;
+mod reference;
 mod shots;
 mod support;

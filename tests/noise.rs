@@ -32,9 +32,9 @@ fn idx(name: &str) -> usize {
     Pauli::pair_index(name).unwrap()
 }
 
-/// Mechanisms as comparable tuples.
-fn mechanisms(g: &FaultGraph) -> Vec<(Vec<u32>, Vec<u32>, f64)> {
-    g.mechanisms
+/// Edges as comparable tuples.
+fn edges(g: &FaultGraph) -> Vec<(Vec<u32>, Vec<u32>, f64)> {
+    g.edges
         .iter()
         .map(|m| (m.detectors.clone(), m.observables.clone(), m.probability))
         .collect()
@@ -45,8 +45,8 @@ fn assert_same_graph(a: &Circuit, b: &Circuit) {
         slant::faults::extract(a, &ExtractOptions::default()),
         slant::faults::extract(b, &ExtractOptions::default()),
     );
-    let (ma, mb) = (mechanisms(&ga), mechanisms(&gb));
-    assert_eq!(ma.len(), mb.len(), "mechanism counts differ");
+    let (ma, mb) = (edges(&ga), edges(&gb));
+    assert_eq!(ma.len(), mb.len(), "edge counts differ");
     assert!(!ma.is_empty());
     for (x, y) in ma.iter().zip(&mb) {
         assert_eq!((&x.0, &x.1), (&y.0, &y.1));
@@ -85,7 +85,7 @@ fn rotation_cx_residual_z_share_is_seven_eighths() {
         Implementation::Rotation,
         &m.gates[0].1.rate.two().unwrap(),
     );
-    let Channel::Pauli2(t) = ch else { panic!() };
+    let Channel::PairPauli(t) = ch else { panic!() };
     assert!((t[idx("IY") - 1] - 0.001 / 8.0).abs() < 1e-12);
 }
 
@@ -228,7 +228,7 @@ fn overrides_and_timed_idle() {
     let (px, _, pz) = twirled_decoherence(1.0, 100.0, 100.0);
     assert_eq!(
         op.kind,
-        slant::ir::OpKind::Noise(Channel::Pauli1 { px, py: px, pz })
+        slant::ir::OpKind::Noise(Channel::Pauli { px, py: px, pz })
     );
     // Layer 3 (measurement, duration 10): d and e idle with the data times.
     let l = &c.circuit.layers[2];
@@ -237,13 +237,13 @@ fn overrides_and_timed_idle() {
     let (px, _, pz) = twirled_decoherence(10.0, 100.0, 100.0);
     assert_eq!(
         last.kind,
-        slant::ir::OpKind::Noise(Channel::Pauli1 { px, py: px, pz })
+        slant::ir::OpKind::Noise(Channel::Pauli { px, py: px, pz })
     );
     // Ancilla override applies when the ancilla idles (it never does here, so check the lookup).
     let q = &circuit.qubits[1];
     assert_eq!(
         m.idle_for(q).channel(1.0),
-        Some(Channel::Pauli1 {
+        Some(Channel::Pauli {
             px: twirled_decoherence(1.0, 50.0, 20.0).0,
             py: twirled_decoherence(1.0, 50.0, 20.0).1,
             pz: twirled_decoherence(1.0, 50.0, 20.0).2,
@@ -295,7 +295,9 @@ fn cli_compile_and_bias() {
     );
     let text = std::fs::read_to_string(&out).unwrap();
     assert!(
-        text.contains("noise pauli2") && text.contains("# --noise after `cx` (rotation)"),
+        text.lines()
+            .any(|l| l.trim_start().starts_with("noise pauli ") && l.contains(" zz="))
+            && text.contains("# --noise after `cx` (rotation)"),
         "{text}"
     );
     let st = slant().args(["check", out.to_str().unwrap()]).run();
@@ -312,7 +314,8 @@ fn cli_compile_and_bias() {
             "circuit p=0.01 bias=100 cx=rotation",
         ])
         .run();
-    assert!(st.status.success());
+    // A lost bias is a "no": exit 3, after the whole report.
+    assert_eq!(st.status.code(), Some(3));
     let stdout = String::from_utf8_lossy(&st.stdout);
     assert!(stdout.contains("verdict: bias lost at"), "{stdout}");
 }
@@ -622,14 +625,14 @@ fn bias_report_explains_missing_rounds_and_data() {
     );
     assert!(!generated.contains(no_rounds) && !generated.contains(no_data));
     assert!(generated.contains("  round 1 "), "{generated}");
-    // Mechanisms but none high-rate-only (a bit-flip code under biased noise): the share is
+    // Edges but none high-rate-only (a bit-flip code under biased noise): the share is
     // printed as zero, not as a negative zero.
     let repetition = run(
         "repetition.slant",
         include_str!("../circuits/repetition_d3.slant"),
     );
     assert!(
-        repetition.contains("high-rate-only mechanisms: 0.0000\n"),
+        repetition.contains("high-rate-only edges: 0.0000\n"),
         "{repetition}"
     );
     // The value itself is a positive zero (the JSON prints it; `f64::max` with a negative zero
@@ -734,10 +737,10 @@ fn model_warnings_are_shown_by_every_study() {
         &["bias", circuit, "--noise", m],
         &["compile", circuit, "--noise", m],
         &["graph", circuit, "--noise", m, "--format", "text"],
-        &["trace", circuit, "--noise", m, "--mechanism", "0"],
+        &["trace", circuit, "--noise", m, "--edge", "0"],
         &["estimate", circuit, "--noise", m, "--shots", "64"],
         &[
-            "shots", circuit, "--noise", m, "--shots", "4", "--format", "01",
+            "shots", circuit, "--noise", m, "--shots", "4", "--format", "bits",
         ],
     ];
     for args in others {

@@ -56,8 +56,8 @@ fn library_circuits_are_canonical() {
 
 #[test]
 fn printer_normalises_layout() {
-    let messy = "param  d=3 # size\nqubit q[0..d]   role data,edge\nfor k in 0 .. d by 2{\n h q[k]\n}\nif d>2 and not d==4{ x q[0] }else if d<0 { y q[0] } else { z q[0] }\nnoise pauli2 zz=1e-3 ix=0.5 q[0] q[1]\nmeasure x q[0]*z q[1]->m flip 0.25\ndetector at(1,2.5,0)=m\n";
-    let expected = "param d = 3 # size\nqubit q[0..d] role data, edge\nfor k in 0..d by 2 {\n    h q[k]\n}\nif d > 2 and not d == 4 {\n    x q[0]\n} else if d < 0 {\n    y q[0]\n} else {\n    z q[0]\n}\nnoise pauli2 zz=0.001 ix=0.5 q[0] q[1]\nmeasure x q[0] * z q[1] -> m flip 0.25\ndetector at (1, 2.5, 0) = m\n";
+    let messy = "param  d=3 # size\nqubit q[0..d]   role data,edge\nfor k in 0 .. d by 2{\n h q[k]\n}\nif d>2 and not d==4{ x q[0] }else if d<0 { y q[0] } else { z q[0] }\nnoise pauli zz=1e-3 ix=0.5 q[0] q[1]\nmeasure x q[0]*z q[1]->m flip 0.25\ndetector at(1,2.5,0)=m\n";
+    let expected = "param d = 3 # size\nqubit q[0..d] role data, edge\nfor k in 0..d by 2 {\n    h q[k]\n}\nif d > 2 and not d == 4 {\n    x q[0]\n} else if d < 0 {\n    y q[0]\n} else {\n    z q[0]\n}\nnoise pauli zz=0.001 ix=0.5 q[0] q[1]\nmeasure x q[0] * z q[1] -> m flip 0.25\ndetector at (1, 2.5, 0) = m\n";
     assert_eq!(fmt(messy), expected);
     round_trip(messy);
 }
@@ -124,7 +124,7 @@ fn arb_stmt() -> impl Strategy<Value = String> {
         arb_expr().prop_map(|e| format!("noise pauli x=0.25 z={e} q[0], q[1]")),
         Just("# a comment".to_string()),
         Just("layer { cx a b, c d }".to_string()),
-        Just("round {\n\n  reset x a, b\n  noise correlated p=0.5 x a * y b\n}".to_string()),
+        Just("round {\n\n  reset x a, b\n  noise joint p=0.5 x a * y b\n}".to_string()),
         Just("observable l ^= m ^ n # trailing".to_string()),
     ]
 }

@@ -149,9 +149,9 @@ layer { sx c ; cz a b ; y e }
 layer { cx e a ; z b }
 noise pauli x=0.02 y=0.03 z=0.04 a
 noise dephasing p=0.05 b
-noise depolarizing2 p=0.06 c e
-noise pauli2 zz=0.03 xy=0.02 ix=0.02 a b
-noise correlated p=0.04 x a * y c * z e
+noise pair_depolarizing p=0.06 c e
+noise pauli zz=0.03 xy=0.02 ix=0.02 a b
+noise joint p=0.04 x a * y c * z e
 layer { cx e a ; z b }
 layer { sxdg c ; cz a b ; y e }
 layer { swap b e ; sdg a ; x c }
@@ -471,7 +471,7 @@ fn circuit_preset_placement() {
     assert!(at(idle).contains("h d"), "{}", at(idle));
     assert_eq!(
         idle.kind,
-        OpKind::Noise(slant::ir::Channel::Depolarizing1(0.01))
+        OpKind::Noise(slant::ir::Channel::Depolarizing(0.01))
     );
     for (_, op) in noisy.ops() {
         if let OpKind::Measure { flip, .. } = op.kind {
@@ -564,7 +564,7 @@ fn cli_same_seed_same_bytes_for_any_thread_count() {
 }
 
 /// The files parse as NumPy .npy, the packed variant unpacks to the unpacked one (little-endian
-/// bit order), and `--format 01` prints the same rows.
+/// bit order), and `--format bits` prints the same rows.
 #[test]
 fn cli_npy_packed_and_01_agree() {
     let dir = tempfile::tempdir().unwrap();
@@ -591,7 +591,7 @@ fn cli_npy_packed_and_01_agree() {
     };
     run(&["--out", plain.to_str().unwrap()]);
     run(&["--out", packed.to_str().unwrap(), "--packed"]);
-    let lines = String::from_utf8(run(&["--format", "01"]).stdout).unwrap();
+    let lines = String::from_utf8(run(&["--format", "bits"]).stdout).unwrap();
     let (descr, (rows, cols), data) = read_npy(&plain.join("detectors.npy"));
     assert_eq!(descr, "|u1");
     assert_eq!((rows, cols), (1500, 6));
@@ -640,7 +640,7 @@ fn cli_bad_noise_spec_points_into_the_option() {
             "--shots",
             "10",
             "--format",
-            "01",
+            "bits",
         ],
         "1",
     );

@@ -21,8 +21,8 @@
 //! following a gate or reset; classes come from the [`Note`]s, which presets and model files
 //! write alike), before and after the gate
 //! implementations; the effective bias at the data per round; the share of fault-graph
-//! probability in mechanisms made only of high-rate faults (classes as tagged by
-//! [`crate::faults`]); and the structure of the graph of mechanisms with a high-rate contributor:
+//! probability in edges made only of high-rate faults (classes as tagged by
+//! [`crate::faults`]); and the structure of the graph of edges with a high-rate contributor:
 //! connected components of detectors (each boundary edge ends at its own boundary node) and
 //! whether each is a chain (every detector of degree ≤ 2, no cycle, no hyperedge), the structure
 //! that makes the XZZX code decode as repetition codes under pure Z noise ("The XZZX surface
@@ -90,9 +90,15 @@ impl RoundBias {
 pub struct Converter {
     /// `file:line:col` of the operation.
     pub location: String,
+    /// File of the operation.
+    pub file: String,
+    /// Line of the operation (1-based).
+    pub line: usize,
+    /// Column of the operation (1-based).
+    pub column: usize,
     /// The gate (or `mid-gate cx (rotation)` for conversions inside a gate).
     pub what: String,
-    /// Summed probability of the high-rate faults it converted.
+    /// Expected number of high-rate faults it converts per shot (their summed probability).
     pub probability: f64,
     /// Number of elementary faults converted.
     pub faults: usize,
@@ -124,11 +130,11 @@ pub struct BiasReport {
     pub high_probability: f64,
     /// Summed probability of high-rate faults reaching the data with X or Y.
     pub converted_probability: f64,
-    /// Share of fault-graph probability in high-rate-only mechanisms.
+    /// Share of fault-graph probability in high-rate-only edges.
     pub high_only_share: f64,
-    /// Components of the graph of mechanisms with a high-rate contributor.
+    /// Components of the graph of edges with a high-rate contributor.
     pub components: Vec<Component>,
-    /// Hyperedges (more than two detectors) among those mechanisms.
+    /// Hyperedges (more than two detectors) among those edges.
     pub hyperedges: usize,
     /// Number of `round` blocks the circuit executes; without any, `rounds` is empty because
     /// there is nothing to report per round, not because no fault reached the data.
@@ -141,6 +147,11 @@ impl BiasReport {
     /// Whether every component of the high-rate graph is a chain.
     pub fn all_chains(&self) -> bool {
         self.components.iter().all(|c| c.chain) && self.hyperedges == 0
+    }
+
+    /// Whether no high-rate fault reaches the data as X or Y (no converter).
+    pub fn kept(&self) -> bool {
+        self.converters.is_empty()
     }
 
     /// One line: `bias kept`, or `bias lost at FILE:LINE:COL (GATE)` naming the top converter.
@@ -299,8 +310,12 @@ pub fn analyze(noisy: &Circuit, notes: &[Note]) -> BiasReport {
                             if let Some((start, what)) = converter {
                                 let c =
                                     converters.entry((start, what.clone())).or_insert_with(|| {
+                                        let (line, column) = noisy.source.line_col(start);
                                         Converter {
                                             location: loc(crate::base::Span { start, end: start }),
+                                            file: noisy.source.name.clone(),
+                                            line,
+                                            column,
                                             what,
                                             probability: 0.0,
                                             faults: 0,
@@ -408,15 +423,15 @@ fn propagate(
     }
 }
 
-/// High-only share and component structure of the graph of high-rate mechanisms.
+/// High-only share and component structure of the graph of high-rate edges.
 fn graph_structure(noisy: &Circuit) -> (f64, Vec<Component>, usize) {
     let graph = crate::faults::extract(noisy, &ExtractOptions::default());
-    let total: f64 = graph.mechanisms.iter().map(|m| m.probability).sum();
+    let total: f64 = graph.edges.iter().map(|m| m.probability).sum();
     let high: f64 = graph
-        .mechanisms
+        .edges
         .iter()
         .filter(|m| m.classes == ClassSet::High)
-        // A fold from +0.0: `Sum` for floats starts at −0.0, so with no high-only mechanism the
+        // A fold from +0.0: `Sum` for floats starts at −0.0, so with no high-only edge the
         // share would be −0.0 and print as `-0.0000`.
         .fold(0.0, |a, m| a + m.probability);
     let nd = graph.detectors.len();
@@ -433,7 +448,7 @@ fn graph_structure(noisy: &Circuit) -> (f64, Vec<Component>, usize) {
     let mut hyper_nodes: Vec<u32> = Vec::new();
     let mut hyperedges = 0;
     let mut used = vec![false; nd];
-    for m in graph.mechanisms.iter().filter(|m| m.classes.has_high()) {
+    for m in graph.edges.iter().filter(|m| m.classes.has_high()) {
         for &d in &m.detectors {
             used[d as usize] = true;
         }

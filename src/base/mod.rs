@@ -15,8 +15,9 @@ mod pauli;
 mod prob;
 mod read;
 mod source;
+mod words;
 
-pub use channel::ChannelKind;
+pub use channel::{key_arity, Arity, ChannelKind};
 pub use diagnostic::{did_you_mean, Diagnostic, Label, Severity};
 pub use gate::{Basis, Gate};
 pub use npy::{npy_f64_vector, npy_header};
@@ -26,3 +27,4 @@ pub use pauli::Pauli;
 pub use prob::xor_prob;
 pub use read::source_from_bytes;
 pub use source::{Source, Span, BOM};
+pub use words::{count, plural};

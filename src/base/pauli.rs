@@ -61,7 +61,7 @@ impl Pauli {
     }
 
     /// The pair with index `k = 4*a + b` in the order `I=0, X=1, Y=2, Z=3` (k in 0..16), the
-    /// order of the two-qubit Pauli channel (`pauli2`).
+    /// order of the two-qubit Pauli channel (`pauli` with two-letter keys).
     pub fn pair_from_index(k: usize) -> Vec<Pauli> {
         const ORDER: [Pauli; 4] = [Pauli::I, Pauli::X, Pauli::Y, Pauli::Z];
         vec![ORDER[k / 4], ORDER[k % 4]]

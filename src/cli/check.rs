@@ -127,8 +127,9 @@ impl Summary {
         }
         out += &format!("  qubits        {} ({})\n", self.qubits, list(&self.roles));
         out += &format!(
-            "  layers        {} in {} round(s)\n",
-            self.layers, self.rounds
+            "  layers        {} in {}\n",
+            self.layers,
+            crate::base::count(self.rounds as usize, "round")
         );
         out += &format!("  operations    {}\n", list(&self.operations));
         out += &format!("  measurements  {}\n", self.measurements);

@@ -28,17 +28,37 @@ use crate::ir::Limits;
 use crate::noise::NoiseSpec;
 use crate::study::{self, at_p, Column, Curve, Estimate, Panel, Pipeline, Row, RunOptions};
 
+/// The legend of the table's columns, printed under the table and in `--help`.
+macro_rules! legend {
+    () => {
+        "qubits, layers = circuit size (layers = time steps); duration = total gate, measurement and \
+reset time under the model, in its `time_unit` (- when the model gives no durations); \
+detectors; edges = fault-graph edges, hyperedges included; hyper = share of edges with more than \
+two detectors; hyper-after = share left unsplit for matching; distance = fewest edges forming an \
+undetected logical error; high-rate = the same with high-rate (Z-type) edges only (none = no such \
+logical error exists); low-rate = low-rate edges / all edges of the logical error with the \
+fewest low-rate ones; weighted = least total weight ln((1-p)/p) of a logical error; bias = \
+kept if no high-rate fault reaches the data as X or Y, else lost; data-eta = expected Z / \
+expected X,Y faults reaching the data; * = best in column"
+    };
+}
+
 /// Arguments of `slant compare`.
 #[derive(Debug, clap::Args)]
-#[command(
-    after_help = "Examples:\n  slant compare a.slant b.slant --noise 'circuit p=0.001'\n  \
+#[command(after_help = concat!(
+    "Examples:\n  slant compare a.slant b.slant --noise 'circuit p=0.001'\n  \
 slant compare --family surface --with distance=5 --vary order=hook-safe,hook-aligned \
 --noise 'circuit p=0.001' --p 0.002,0.004 --plot orders.svg\n  slant compare --family xzzx \
 --with distance=3 --vary entangler=native,cx --noise 'circuit p=0.001 bias=100 \
-cx=bias-preserving' --csv\n\
+cx=bias-preserving' --csv\n\n\
 A `*` marks the best value of a column when the rows differ; a logical error rate is marked only \
-when its 95% interval lies below every other row's. Rates are per round: 1 - (1 - p_shot)^(1/R)."
-)]
+when its 95% interval lies below every other row's. Rates are per round: 1 - (1 - p_shot)^(1/R), \
+with failures/shots the shots whose decoded observables were wrong.\n\nColumns: ",
+    legend!(),
+    "\n\nWith `--family`, locations name each variant's circuit by the `slant new` command that \
+writes it, e.g. `<slant new xzzx --distance 3 --entangler cx>:126:25`, so the file can be \
+reproduced. JSON (`--json`): format `slant-compare`, version 2."
+))]
 pub struct Args {
     /// Circuit files to compare.
     #[arg(conflicts_with = "family")]
@@ -81,9 +101,9 @@ pub struct Args {
     #[arg(long, value_name = "N", default_value_t = 10_000,
           value_parser = clap::value_parser!(u64).range(1..))]
     pub shots: u64,
-    /// Stop a point once this many logical errors have been seen.
+    /// Stop a point once this many shots have failed.
     #[arg(long, value_name = "K", value_parser = clap::value_parser!(u64).range(1..))]
-    pub max_errors: Option<u64>,
+    pub until_failures: Option<u64>,
     /// Decoder: `mwpm` or `uf`.
     #[arg(long, value_name = "D", default_value = "mwpm", value_parser = |s: &str| s.parse::<DecoderKind>())]
     pub decoder: DecoderKind,
@@ -143,7 +163,12 @@ fn sources(args: &Args) -> Result<Vec<(String, Pipeline)>, CliError> {
             let text = crate::gen::generate(&spec)
                 .map_err(|e| Diagnostic::bare(format!("variant `{key}={v}`: {e}")))?;
             let name = format!("{key}={v}");
-            let source = Source::new(name.clone(), text);
+            // Locations name the circuit by the command that writes it, so a user can
+            // reproduce the file a location points into.
+            let command = spec
+                .command_line()
+                .map_err(|e| Diagnostic::bare(format!("variant `{key}={v}`: {e}")))?;
+            let source = Source::new(format!("<{command}>"), text);
             out.push((name, Pipeline::load(&source, &[], &Limits::default())?));
         }
     } else {
@@ -195,7 +220,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
     };
     let run = RunOptions {
         shots: args.shots,
-        max_errors: args.max_errors,
+        until_failures: args.until_failures,
         seed: args.seed,
     };
     let mut rows = Vec::new();
@@ -250,12 +275,16 @@ pub fn run(args: Args) -> Result<(), CliError> {
         let bytes = study::render_for(path, &[panel]).map_err(CliError::Internal)?;
         write_atomic(path, &bytes)?;
     }
+    let unit = match &spec {
+        Some(NoiseSpec::Model(m)) => m.time_unit,
+        _ => None,
+    };
     let text = if args.json {
-        json_text(&rows)?
+        json_text(&rows, unit)?
     } else if args.csv {
         csv_text(&rows)
     } else {
-        table_text(&rows)
+        table_text(&rows, unit)
     };
     print!("{text}");
     if let Some(path) = &args.plot {
@@ -270,7 +299,7 @@ const HEADERS: [&str; 14] = [
     "layers",
     "duration",
     "detectors",
-    "mechanisms",
+    "edges",
     "hyper",
     "hyper-after",
     "distance",
@@ -310,9 +339,9 @@ fn cells(r: &Row) -> Vec<String> {
         r.duration
             .map_or("-".into(), |d| format!("{}", study::significant(d, 6))),
         r.detectors.to_string(),
-        r.mechanisms.to_string(),
+        r.edges.to_string(),
         format!("{:.1}%", 100.0 * r.hyperedge_share),
-        format!("{:.1}%", 100.0 * r.undecomposed_share),
+        format!("{:.1}%", 100.0 * r.unsplit_share),
         count_text(r.report.distance.as_ref(), r.report.unresolved.distance),
         count_text(r.report.high_rate.as_ref(), r.report.unresolved.high_rate),
         low,
@@ -328,7 +357,7 @@ fn cell_index(c: Column) -> Option<usize> {
         Column::Qubits => 1,
         Column::Layers => 2,
         Column::Duration => 3,
-        Column::Undecomposed => 7,
+        Column::Unsplit => 7,
         Column::Distance => 8,
         Column::HighRate => 9,
         Column::LowRate => 10,
@@ -377,8 +406,31 @@ fn aligned(header: &[String], grid: &[Vec<String>]) -> String {
     s
 }
 
-fn table_text(rows: &[Row]) -> String {
-    let header: Vec<String> = HEADERS.iter().map(|s| s.to_string()).collect();
+/// The legend, its `; `-separated items packed into lines of at most 100 characters.
+fn legend_lines() -> String {
+    let mut out = String::new();
+    let mut line = String::new();
+    for item in legend!().split("; ") {
+        if !line.is_empty() && line.len() + 2 + item.len() > 100 {
+            out.push_str(&line);
+            out.push_str(";\n");
+            line.clear();
+        }
+        if !line.is_empty() {
+            line.push_str("; ");
+        }
+        line.push_str(item);
+    }
+    out.push_str(&line);
+    out.push('\n');
+    out
+}
+
+fn table_text(rows: &[Row], unit: Option<&str>) -> String {
+    let mut header: Vec<String> = HEADERS.iter().map(|s| s.to_string()).collect();
+    if let Some(u) = unit {
+        header[3] = format!("duration ({u})");
+    }
     let mut grid: Vec<Vec<String>> = rows.iter().map(cells).collect();
     for c in Column::FIXED {
         let marks = study::best(rows, c);
@@ -390,16 +442,13 @@ fn table_text(rows: &[Row]) -> String {
         }
     }
     let mut s = aligned(&header, &grid);
-    s.push_str(
-        "low-rate = low-rate mechanisms / total in the logical error with the fewest low-rate \
-         ones; data-eta = pZ / pX,Y reaching the data; * = best in column\n",
-    );
+    s.push_str(&legend_lines());
     if rows
         .iter()
         .any(|r| r.report.unresolved != Default::default())
     {
         s.push_str(
-            "> k = no logical error of at most k mechanisms (larger ones not searched); \
+            "> k = no logical error of at most k edges (larger ones not searched); \
              ? = the search could not decide (see `slant distance`)\n",
         );
     }
@@ -417,7 +466,7 @@ fn table_text(rows: &[Row]) -> String {
                     .chain(r.rates.iter().map(|x| {
                         format!(
                             "{:.2e} [{:.2e}, {:.2e}] {}/{}",
-                            x.rate, x.low, x.high, x.errors, x.shots
+                            x.rate, x.low, x.high, x.failures, x.shots
                         )
                     }))
                     .collect()
@@ -430,7 +479,7 @@ fn table_text(rows: &[Row]) -> String {
                 }
             }
         }
-        s.push_str("\nlogical error rate per round [95% Wilson interval] errors/shots:\n");
+        s.push_str("\nlogical error rate per round [95% Wilson interval] failures/shots:\n");
         s.push_str(&aligned(&header, &grid));
     }
     s
@@ -438,14 +487,14 @@ fn table_text(rows: &[Row]) -> String {
 
 fn csv_text(rows: &[Row]) -> String {
     let mut s = String::from(
-        "circuit,qubits,layers,detectors,mechanisms,hyperedge_share,hyperedge_share_after,\
+        "circuit,qubits,layers,detectors,edges,hyperedge_share,hyperedge_share_after,\
          distance,distance_lower,high_rate_distance,low_rate_count,low_rate_total,weighted,\
          duration,bias_kept,bias_verdict,data_eta",
     );
     if let Some(r) = rows.first() {
         for x in &r.rates {
             let p = x.p;
-            let _ = write!(s, ",rate_p{p},low_p{p},high_p{p},errors_p{p},shots_p{p}");
+            let _ = write!(s, ",rate_p{p},low_p{p},high_p{p},failures_p{p},shots_p{p}");
         }
     }
     s.push_str(",best\n");
@@ -471,9 +520,9 @@ fn csv_text(rows: &[Row]) -> String {
             r.qubits,
             r.layers,
             r.detectors,
-            r.mechanisms,
+            r.edges,
             r.hyperedge_share,
-            r.undecomposed_share,
+            r.unsplit_share,
             opt(r.report.distance.as_ref(), r.report.unresolved.distance),
             r.report
                 .distance
@@ -501,7 +550,7 @@ fn csv_text(rows: &[Row]) -> String {
             let _ = write!(
                 s,
                 ",{},{},{},{},{}",
-                x.rate, x.low, x.high, x.errors, x.shots
+                x.rate, x.low, x.high, x.failures, x.shots
             );
         }
         // The columns where this row holds the best value, as the table's `*` marks them.
@@ -515,7 +564,10 @@ fn csv_text(rows: &[Row]) -> String {
     s
 }
 
-fn json_text(rows: &[Row]) -> Result<String, CliError> {
+/// Version of the `--json` document (version 1 was a bare array and used earlier key names).
+const JSON_VERSION: u32 = 2;
+
+fn json_text(rows: &[Row], unit: Option<&str>) -> Result<String, CliError> {
     let count = |c: Option<&Count>, u: Option<Unproven>| match (c, u) {
         (Some(c), _) => json!({"value": c.value, "lower": c.lower, "method": c.method.name()}),
         (None, Some(u)) => json!({"value": null, "unproven": u.describe()}),
@@ -545,9 +597,9 @@ fn json_text(rows: &[Row]) -> Result<String, CliError> {
                 "layers": r.layers,
                 "duration": r.duration,
                 "detectors": r.detectors,
-                "mechanisms": r.mechanisms,
+                "edges": r.edges,
                 "hyperedge_share": r.hyperedge_share,
-                "hyperedge_share_after": r.undecomposed_share,
+                "hyperedge_share_after": r.unsplit_share,
                 "distance": count(r.report.distance.as_ref(), r.report.unresolved.distance),
                 "high_rate_distance": count(
                     r.report.high_rate.as_ref(),
@@ -561,7 +613,7 @@ fn json_text(rows: &[Row]) -> Result<String, CliError> {
                 "rates": r.rates.iter().map(|x| json!({
                     "p": x.p,
                     "shots": x.shots,
-                    "errors": x.errors,
+                    "failures": x.failures,
                     "rounds": x.rounds,
                     "per_round": {"rate": x.rate, "low": x.low, "high": x.high},
                     "confidence": 0.95,
@@ -570,8 +622,14 @@ fn json_text(rows: &[Row]) -> Result<String, CliError> {
             })
         })
         .collect();
+    let doc = json!({
+        "format": "slant-compare",
+        "version": JSON_VERSION,
+        "time_unit": unit,
+        "rows": list,
+    });
     let mut s =
-        serde_json::to_string_pretty(&list).map_err(|e| CliError::Internal(e.to_string()))?;
+        serde_json::to_string_pretty(&doc).map_err(|e| CliError::Internal(e.to_string()))?;
     s.push('\n');
     Ok(s)
 }

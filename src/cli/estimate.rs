@@ -2,11 +2,11 @@
 //!
 //! Loads the circuit, writes `--noise` into it, extracts its fault graph, builds the decoder and
 //! runs the Monte Carlo loop ([`crate::study::run`]): shots in batches on the rayon pool,
-//! stopping early after `--max-errors` failures. Reports the rate per shot and per round with 95%
+//! stopping early after `--until-failures` failures. Reports the rate per shot and per round with 95%
 //! Wilson intervals ([`crate::study::Estimate`]), as text or as one JSON object (`--json`). A
 //! progress bar appears on stderr only when stderr is a terminal.
 
-use crate::base::Diagnostic;
+use crate::base::{count, Diagnostic};
 use crate::cli::common::{CircuitArgs, NoiseArgs};
 use crate::cli::progress::Progress;
 use crate::cli::CliError;
@@ -34,9 +34,9 @@ pub struct Args {
     /// Maximum number of shots.
     #[arg(long, value_name = "N", value_parser = clap::value_parser!(u64).range(1..))]
     pub shots: u64,
-    /// Stop once this many logical errors have been seen (checked every 4096 shots).
+    /// Stop once this many shots have failed (a logical error: predicted and sampled observable flips differ) (checked every 4096 shots).
     #[arg(long, value_name = "K", value_parser = clap::value_parser!(u64).range(1..))]
-    pub max_errors: Option<u64>,
+    pub until_failures: Option<u64>,
     /// Decoder: `mwpm` (minimum-weight perfect matching) or `uf` (union-find).
     #[arg(long, value_name = "D", default_value = "mwpm", value_parser = |s: &str| s.parse::<DecoderKind>())]
     pub decoder: DecoderKind,
@@ -51,6 +51,8 @@ pub struct Args {
 /// The machine-readable report (`--json`).
 #[derive(Debug, serde::Serialize)]
 struct Report<'a> {
+    format: &'static str,
+    version: u32,
     circuit: String,
     noise: &'a str,
     decoder: &'static str,
@@ -60,7 +62,7 @@ struct Report<'a> {
     edges: usize,
     rounds: u32,
     shots: u64,
-    errors: u64,
+    failures: u64,
     unmatched: u64,
     stopped_early: bool,
     confidence: f64,
@@ -87,16 +89,16 @@ pub fn run(args: Args) -> Result<(), CliError> {
         .map_err(|e| CliError::from(StudyError::Undecodable(e)))?;
     let opts = RunOptions {
         shots: args.shots,
-        max_errors: args.max_errors,
+        until_failures: args.until_failures,
         seed: args.seed,
     };
     let mut progress = Progress::new(args.shots, "shots");
     let counts = exp.run(&opts, |c: Counts| {
-        progress.set_message(format!("{} errors", c.errors));
+        progress.set_message(format!("{} failures", c.failures));
         progress.set_position(c.shots);
     });
     progress.finish();
-    let per_shot = Estimate::wilson(counts.errors, counts.shots, Z95);
+    let per_shot = Estimate::wilson(counts.failures, counts.shots, Z95);
     let per_round = per_shot.per_round(exp.rounds);
     let noise = args
         .noise
@@ -106,6 +108,9 @@ pub fn run(args: Args) -> Result<(), CliError> {
     let stopped_early = counts.shots < args.shots;
     if args.json {
         let report = Report {
+            format: "slant-estimate",
+            // Version 1 had no `format` or `version` and named `failures` `errors`.
+            version: 2,
             circuit: args.circuit.file.display().to_string(),
             noise,
             decoder: args.decoder.name(),
@@ -115,7 +120,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
             edges: exp.edges,
             rounds: exp.rounds,
             shots: counts.shots,
-            errors: counts.errors,
+            failures: counts.failures,
             unmatched: counts.unmatched,
             stopped_early,
             confidence: 0.95,
@@ -130,25 +135,25 @@ pub fn run(args: Args) -> Result<(), CliError> {
     }
     let mut out = String::new();
     out += &format!(
-        "circuit: {} ({} detectors, {} observables, {} rounds)\n",
+        "circuit: {} ({}, {}, {})\n",
         args.circuit.file.display(),
-        exp.detectors,
-        exp.observables,
-        exp.rounds
+        count(exp.detectors, "detector"),
+        count(exp.observables, "observable"),
+        count(exp.rounds as usize, "round")
     );
     out += &format!("noise: {noise}\n");
     out += &format!(
-        "decoder: {} on {} matching-graph edges\n",
+        "decoder: {} on {}\n",
         args.decoder.name(),
-        exp.edges
+        count(exp.edges, "matching-graph edge")
     );
     let s = &exp.graph_stats;
-    if !s.undecomposed.is_empty() || !s.undetectable_logical.is_empty() {
+    if !s.unsplit.is_empty() || !s.silent_logical.is_empty() {
         out += &format!(
-            "note: the matching graph leaves out {} undecomposable hyperedges and {} undetectable \
-             logical faults; the sampler still produces them\n",
-            s.undecomposed.len(),
-            s.undetectable_logical.len()
+            "note: the matching graph leaves out {} unsplit hyperedges and {} silent logical \
+             errors; the sampler still produces them\n",
+            s.unsplit.len(),
+            s.silent_logical.len()
         );
     }
     out += &format!("seed: {}\n", args.seed);
@@ -156,12 +161,12 @@ pub fn run(args: Args) -> Result<(), CliError> {
         "shots: {}{}\n",
         counts.shots,
         if stopped_early {
-            format!(" (stopped after {} logical errors)", counts.errors)
+            format!(" (stopped after {} failures)", counts.failures)
         } else {
             String::new()
         }
     );
-    out += &format!("logical errors: {}", counts.errors);
+    out += &format!("failures: {}", counts.failures);
     if counts.unmatched > 0 {
         out += &format!(
             " ({} with detection events the decoder could not pair)",

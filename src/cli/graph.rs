@@ -22,9 +22,9 @@ pub struct Args {
     #[arg(long, value_enum)]
     pub format: Format,
     /// Export the matching graph (hyperedges split, parallel edges merged) instead of every
-    /// mechanism.
+    /// edge.
     #[arg(long)]
-    pub graphlike: bool,
+    pub matching: bool,
     /// Tag measurement flips as high-rate faults.
     #[arg(long)]
     pub high_rate_flips: bool,
@@ -51,7 +51,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
     let extract_cpu = thread_cpu()
         .zip(cpu_before)
         .map(|(b, a)| b.saturating_sub(a));
-    let (rendered, written) = write(&graph, args.format, args.graphlike, args.output.as_deref())?;
+    let (rendered, written) = write(&graph, args.format, args.matching, args.output.as_deref())?;
     if args.timings {
         // On a shared machine wall time includes waiting for a core; the thread's own CPU
         // time is what the extractor costs.
@@ -59,12 +59,12 @@ pub fn run(args: Args) -> Result<(), CliError> {
             format!(" (cpu {:.6} s)", c.as_secs_f64())
         });
         eprintln!(
-            "timings: load {:.6} s, extract {:.6} s{cpu}, render {:.6} s, write {:.6} s; {} mechanisms, {} faults",
+            "timings: load {:.6} s, extract {:.6} s{cpu}, render {:.6} s, write {:.6} s; {} edges, {} faults",
             loaded.as_secs_f64(),
             (extracted - loaded).as_secs_f64(),
             rendered.as_secs_f64(),
             written.as_secs_f64(),
-            graph.mechanisms.len(),
+            graph.edges.len(),
             graph.provenance.len() + graph.silent.count,
         );
     }
@@ -93,14 +93,14 @@ fn thread_cpu() -> Option<Duration> {
 fn write(
     graph: &FaultGraph,
     format: Format,
-    graphlike: bool,
+    matchable: bool,
     out: Option<&Path>,
 ) -> Result<(Duration, Duration), CliError> {
     let clock = Instant::now();
     let matching;
-    let view = if graphlike {
-        matching = graph.graphlike();
-        View::Graphlike(graph, &matching.0, &matching.1)
+    let view = if matchable {
+        matching = graph.matching_graph();
+        View::Matching(graph, &matching.0, &matching.1)
     } else {
         View::Full(graph)
     };

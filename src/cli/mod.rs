@@ -10,7 +10,7 @@
 //! | 0 | success |
 //! | 1 | input rejected: a diagnostic was printed |
 //! | 2 | usage error (bad flags) |
-//! | 3 | the answer is "no" (e.g. `fmt --check` found a file that is not canonical) |
+//! | 3 | the answer is "no" (`fmt --check` found a file that is not canonical; `bias` found the bias lost) |
 //! | 4 | internal error: a bug, please report it |
 
 mod bias;
@@ -50,7 +50,7 @@ pub const EXIT_NO: i32 = 3;
 pub const EXIT_INTERNAL: i32 = 4;
 
 const EXIT_TABLE: &str = "Exit codes: 0 success, 1 input rejected (a diagnostic was printed), \
-2 usage error, 3 the answer is no (e.g. `fmt --check` found changes), 4 internal error (please report).";
+2 usage error, 3 the answer is no (`fmt --check` found changes, `bias` found the bias lost), 4 internal error (please report).";
 
 /// slant: syndrome-extraction circuits under biased noise.
 #[derive(Debug, Parser)]
@@ -92,7 +92,7 @@ enum Command {
     Shots(shots::Args),
     /// Run a threshold sweep from a TOML spec into a resumable results store.
     Sweep(sweep::Args),
-    /// Show which circuit faults make up a fault-graph mechanism.
+    /// Show which circuit faults make up a fault-graph edge.
     Trace(trace::Args),
 }
 

@@ -28,8 +28,9 @@ pub struct Args {
     /// Plot and fit the per-round rate `1 - (1 - p_shot)^(1/R)` instead of the per-shot rate.
     #[arg(long)]
     pub per_round: bool,
-    /// Only plot curve groups whose name contains this text.
-    #[arg(long, value_name = "TEXT")]
+    /// Only plot the curve groups of this label (the sweep grid's `label`), or the one group of
+    /// this whole name as `slant plot` prints it (`LABEL (DECODER)`). Matches whole names only.
+    #[arg(long, value_name = "LABEL")]
     pub only: Option<String>,
 }
 
@@ -58,16 +59,37 @@ pub fn run(args: Args) -> Result<(), CliError> {
     let mut groups: BTreeMap<String, Vec<Point>> = BTreeMap::new();
     for mut pt in aggregate(&rows) {
         if args.per_round {
-            // Rescale the failure count so errors/shots is the per-round rate; the fits and
+            // Rescale the failure count so failures/shots is the per-round rate; the fits and
             // crossings then work on per-round rates unchanged.
-            let r = Estimate::wilson(pt.errors, pt.shots, Z95)
+            let r = Estimate::wilson(pt.failures, pt.shots, Z95)
                 .per_round(pt.rounds)
                 .rate;
-            pt.errors = (r * pt.shots as f64).round() as u64;
+            pt.failures = (r * pt.shots as f64).round() as u64;
         }
         groups.entry(pt.group()).or_default().push(pt);
     }
-    groups.retain(|g, _| args.only.as_deref().is_none_or(|o| g.contains(o)));
+    if let Some(only) = args.only.as_deref() {
+        let labels: std::collections::BTreeSet<String> = groups
+            .values()
+            .flat_map(|pts| pts.iter().map(|p| p.label.clone()))
+            .collect();
+        let all: Vec<String> = labels.iter().cloned().collect();
+        groups.retain(|g, pts| g == only || pts.iter().any(|p| p.label == only));
+        if groups.is_empty() && !all.is_empty() {
+            return Err(
+                Diagnostic::bare(format!("`--only {only}`: no label matches"))
+                    .with_hint(format!(
+                        "the labels in `{}`: {}",
+                        args.store.display(),
+                        all.iter()
+                            .map(|l| format!("`{l}`"))
+                            .collect::<Vec<_>>()
+                            .join(", ")
+                    ))
+                    .into(),
+            );
+        }
+    }
     if groups.is_empty() {
         return Err(Diagnostic::bare(format!(
             "`{}` holds no results to plot",
@@ -123,7 +145,7 @@ fn draw(
             for p in pts {
                 by_d.entry(p.distance)
                     .or_default()
-                    .push((p.p, Estimate::wilson(p.errors, p.shots, Z95)));
+                    .push((p.p, Estimate::wilson(p.failures, p.shots, Z95)));
             }
             Panel {
                 title: name.clone(),

@@ -2,7 +2,7 @@
 //!
 //! Loads the circuit, writes `--noise` into it, runs the noiseless reference and streams batches
 //! from the Pauli-frame sampler ([`crate::sim::Sampler`]) to `.npy` files (or to stdout with
-//! `--format 01`). Files are filled through temporary siblings and renamed into place only when
+//! `--format bits`). Files are filled through temporary siblings and renamed into place only when
 //! every batch is written, so a killed run leaves no partial `.npy` behind. Memory stays bounded:
 //! a few batches per thread are held at once, whatever `--shots` is.
 
@@ -24,14 +24,14 @@ use crate::sim::{
 const AFTER_HELP: &str = "\
 Output (`--format npy`, the default): DIR/detectors.npy and DIR/observables.npy, NumPy .npy
 version 1.0, dtype uint8, shape (shots, count); `--measurements` adds DIR/measurements.npy
-(shape (shots, records), the raw results: 1 = eigenvalue -1). A detection event is 1 when the
+(shape (shots, results), the raw results: 1 = eigenvalue -1). A detection event is 1 when the
 detector's parity differs from its noiseless value; an observable entry is 1 when it flipped.
 
 With `--packed`, each row is packed into ceil(count/8) bytes, item k at bit k%8 of byte k/8
 (little-endian bit order): `np.unpackbits(np.load(f), axis=1, bitorder='little')[:, :count]`
 recovers the unpacked array.
 
-`--format 01` prints one shot per line to stdout instead: detector bits, a space, observable
+`--format bits` prints one shot per line to stdout instead: detector bits, a space, observable
 bits (and, with `--measurements`, a space and the measurement bits).
 
 The same `--seed` gives the same bytes for any number of threads (RAYON_NUM_THREADS).";
@@ -42,8 +42,7 @@ pub enum Format {
     /// NumPy `.npy` files in `--out`.
     Npy,
     /// One line of `0`/`1` per shot on stdout.
-    #[value(name = "01")]
-    ZeroOne,
+    Bits,
 }
 
 /// Arguments of `slant shots`.
@@ -81,9 +80,9 @@ pub struct Args {
 
 /// Runs `slant shots`.
 pub fn run(args: Args) -> Result<(), CliError> {
-    if args.packed && args.format == Format::ZeroOne {
+    if args.packed && args.format == Format::Bits {
         return Err(Diagnostic::bare(
-            "`--packed` applies to .npy output; `--format 01` writes one character per bit",
+            "`--packed` applies to .npy output; `--format bits` writes one character per bit",
         )
         .into());
     }
@@ -106,7 +105,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
     ];
     let mut progress = Progress::new(args.shots, "shots");
     match args.format {
-        Format::ZeroOne => {
+        Format::Bits => {
             let stdout = std::io::stdout();
             let mut out = BufWriter::new(stdout.lock());
             let mut result = Ok(());
@@ -236,7 +235,7 @@ fn bench(circuit: &Circuit, shots: u64, seed: u64) {
     let rate = word_ops as f64 / sample_s;
     println!("qubits: {}", circuit.qubits.len());
     println!("operations: {}", circuit.op_count());
-    println!("records: {}", circuit.records.len());
+    println!("results: {}", circuit.records.len());
     println!("detectors: {}", circuit.detectors.len());
     println!("reference_seconds: {reference_s:.6}");
     println!("shots: {sampled}");

@@ -72,11 +72,11 @@ pub fn run(args: Args) -> Result<(), CliError> {
     let finished = std::sync::atomic::AtomicUsize::new(0);
     let on_event = |e: Event| match e {
         Event::Warnings(_, warnings) => print_warnings(warnings),
-        Event::TaskDone(task, shots, errors) => {
+        Event::TaskDone(task, shots, failures) => {
             let n = finished.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
-            let est = Estimate::wilson(errors, shots, Z95);
+            let est = Estimate::wilson(failures, shots, Z95);
             eprintln!(
-                "[{n}/{total}] {} d={} {} {}: {errors}/{shots} = {:.3e}",
+                "[{n}/{total}] {} d={} {} {}: {failures}/{shots} = {:.3e}",
                 task.label,
                 task.distance,
                 task.noise,

@@ -1,4 +1,4 @@
-//! Decoders for graphlike fault graphs: minimum-weight perfect matching and union-find.
+//! Decoders for matchable fault graphs: minimum-weight perfect matching and union-find.
 //!
 //! In: a [`MatchingGraph`] (detectors `0..num_detectors`, edges touching one detector and the
 //! boundary or two detectors, each with a probability and the observables it flips). Out: a

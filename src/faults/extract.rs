@@ -1,8 +1,8 @@
 //! Extraction: one backward sensitivity sweep turns every noise term and measurement flip into an
-//! elementary fault, and faults with equal symptoms merge into mechanisms.
+//! elementary fault, and faults with equal symptoms merge into edges.
 //!
-//! In: a [`Circuit`] and [`ExtractOptions`]. Out: a [`FaultGraph`] (before decomposition, which
-//! [`crate::faults::decompose`] adds). The symptom of a Pauli fault is the XOR of the
+//! In: a [`Circuit`] and [`ExtractOptions`]. Out: a [`FaultGraph`] (hyperedges not yet split; the
+//! `split` step does that). The symptom of a Pauli fault is the XOR of the
 //! sensitivities ([`crate::ir::sensitivity_sweep`]) of its X and Z parts on each qubit at the point of
 //! injection; the symptom of a measurement flip is the set of detectors and observables that
 //! contain the record. Nothing is simulated per fault: the cost is one sweep plus a few short
@@ -11,14 +11,14 @@
 //! Layout (for speed at a million faults): each distinct channel is converted to independent
 //! terms once (`Table`); symptoms are interned in one flat arena, found through a table placed
 //! by first detector so that the sweep's lookups stay cache-local (`Interner`); a fault is a fixed-size record of indices
-//! (mechanism, layer, op, application, term), turned into a [`Contributor`] only once, in final
-//! order; the atoms that decomposition needs live in one flat arena too. The interner is in
+//! (edge, layer, op, application, term), turned into a [`Contributor`] only once, in final
+//! order; the atoms that split needs live in one flat arena too. The interner is in
 //! `intern.rs`. Nothing is allocated
 //! per fault during the sweep.
 
 use crate::base::{xor_into, xor_prob, Pauli};
 use crate::faults::graph::{
-    ClassSet, Contributor, DetectorInfo, FaultClass, FaultGraph, HyperedgeStats, Mechanism, Silent,
+    ClassSet, Contributor, DetectorInfo, FaultClass, FaultEdge, FaultGraph, HyperedgeStats, Silent,
     Small,
 };
 use crate::faults::intern::Interner;
@@ -40,7 +40,7 @@ pub struct IndependentTerm {
     pub paulis: Vec<Pauli>,
     /// Probability of the term in the channel as written (0 for terms the exact conversion adds).
     pub term_probability: f64,
-    /// Probability of the independent mechanism.
+    /// Probability of the independent edge.
     pub probability: f64,
 }
 
@@ -65,7 +65,7 @@ pub fn independent_terms(channel: &Channel) -> (Vec<IndependentTerm>, bool) {
     let terms = channel.terms();
     let n = channel.arity();
     if n > 2 || terms.len() <= 1 {
-        // One term (or a correlated product): already a single independent event.
+        // One term (or a joint product): already a single independent event.
         let out = terms
             .into_iter()
             .map(|(p, paulis)| IndependentTerm {
@@ -173,7 +173,7 @@ pub(crate) struct Candidate {
     pub first: u32,
     /// Number of atoms.
     pub len: u32,
-    /// Next candidate of the same mechanism, or `u32::MAX`.
+    /// Next candidate of the same edge, or `u32::MAX`.
     next: u32,
 }
 
@@ -193,21 +193,21 @@ impl Atoms {
     }
 }
 
-/// What the sweep produces before decomposition.
+/// What the sweep produces before split.
 pub(crate) struct Extracted {
     pub graph: FaultGraph,
-    /// Every symptom of the graph, by sweep-order mechanism id.
+    /// Every symptom of the graph, by sweep-order edge id.
     pub symptoms: Interner,
-    /// `rank[k]`: index in [`FaultGraph::mechanisms`] of sweep-order mechanism `k`.
+    /// `rank[k]`: index in [`FaultGraph::edges`] of sweep-order edge `k`.
     pub rank: Vec<u32>,
     /// Atoms of up to [`ATOM_CANDIDATES`] contributors of each hyperedge.
     pub atoms: Atoms,
-    /// First candidate of each sweep-order mechanism (`u32::MAX` for none).
+    /// First candidate of each sweep-order edge (`u32::MAX` for none).
     pub first_candidate: Vec<u32>,
 }
 
 impl Extracted {
-    /// Candidates of final mechanism with sweep-order id `k`, in sweep order.
+    /// Candidates of final edge with sweep-order id `k`, in sweep order.
     pub(crate) fn candidates(&self, k: u32) -> impl Iterator<Item = Candidate> + '_ {
         let mut c = self.first_candidate[k as usize];
         std::iter::from_fn(move || {
@@ -218,7 +218,7 @@ impl Extracted {
     }
 }
 
-/// How many contributors of one hyperedge keep their atoms for decomposition.
+/// How many contributors of one hyperedge keep their atoms for split.
 const ATOM_CANDIDATES: u8 = 3;
 
 struct Builder<'c> {
@@ -228,7 +228,7 @@ struct Builder<'c> {
     symptoms: Interner,
     probability: Vec<f64>,
     classes: Vec<ClassSet>,
-    /// Candidates kept per mechanism, and the last one (to append in order).
+    /// Candidates kept per edge, and the last one (to append in order).
     n_candidates: Vec<u8>,
     first_candidate: Vec<u32>,
     last_candidate: Vec<u32>,
@@ -383,8 +383,8 @@ impl Builder<'_> {
     }
 }
 
-/// Runs the sweep and merges faults into mechanisms (sorted by symptom), without decomposition.
-pub(crate) fn extract_mechanisms(circuit: &Circuit, opts: &ExtractOptions) -> Extracted {
+/// Runs the sweep and merges faults into edges (sorted by symptom), without split.
+pub(crate) fn extract_edges(circuit: &Circuit, opts: &ExtractOptions) -> Extracted {
     let mut b = Builder {
         circuit,
         opts,
@@ -417,7 +417,7 @@ pub(crate) fn extract_mechanisms(circuit: &Circuit, opts: &ExtractOptions) -> Ex
         }
     }
     b.faults.reserve(expected);
-    // Roughly a third of the faults open a new mechanism in circuit-level noise.
+    // Roughly a third of the faults open a new edge in circuit-level noise.
     let universe = (circuit.detectors.len() + circuit.observables.len()) as u32;
     b.symptoms = Interner::new(universe, expected / 3 + 16);
     let flip_class = if opts.high_rate_flips {
@@ -474,7 +474,7 @@ fn contributor(
             span: op.span,
             term: Small::new(),
             qubits: Small::from_slice(&op.targets),
-            record: Some(record),
+            result: Some(record),
             term_probability: flip,
             probability: flip,
             class: flip_class,
@@ -490,7 +490,7 @@ fn contributor(
         span: op.span,
         term: Small::from_slice(&t.paulis),
         qubits: Small::from_slice(&op.targets[start..start + arity]),
-        record: None,
+        result: None,
         term_probability: t.term_probability,
         probability: t.probability,
         class: table.classes[f.term as usize],
@@ -505,8 +505,8 @@ fn finish(circuit: &Circuit, b: Builder<'_>) -> Extracted {
         .map(|k| b.symptoms.get(k).partition_point(|&x| x < d) as u32)
         .collect();
     let split = |k: u32| b.symptoms.get(k).split_at(cut[k as usize] as usize);
-    // Sort mechanisms by (detectors, observables) so output does not depend on sweep order.
-    // A counting sort on the first detector comes first: buckets hold a few dozen mechanisms, so
+    // Sort edges by (detectors, observables) so output does not depend on sweep order.
+    // A counting sort on the first detector comes first: buckets hold a few dozen edges, so
     // the comparison sort inside them costs O(n) instead of O(n log n) cache-missing compares.
     let bucket = |k: u32| split(k).0.first().map_or(0, |&v| v as usize + 1);
     let mut bucket_start = vec![0usize; d as usize + 2];
@@ -530,7 +530,7 @@ fn finish(circuit: &Circuit, b: Builder<'_>) -> Extracted {
     for (new, &old) in order.iter().enumerate() {
         rank[old as usize] = new as u32;
     }
-    // Group contributors by mechanism (counting sort), in circuit order within each group: the
+    // Group contributors by edge (counting sort), in circuit order within each group: the
     // sweep saw them backwards.
     let mut starts = vec![0u32; n + 1];
     for f in &b.faults {
@@ -557,12 +557,12 @@ fn finish(circuit: &Circuit, b: Builder<'_>) -> Extracted {
         .map(|&i| contributor(circuit, &b.tables, flip_class, &b.faults[i as usize]))
         .collect();
     drop(slot_of);
-    let mechanisms: Vec<Mechanism> = order
+    let edges: Vec<FaultEdge> = order
         .iter()
         .enumerate()
         .map(|(new, &old)| {
             let (dets, obs) = split(old);
-            Mechanism {
+            FaultEdge {
                 probability: b.probability[old as usize],
                 detectors: dets.to_vec(),
                 observables: obs.iter().map(|&x| x - d).collect(),
@@ -571,7 +571,7 @@ fn finish(circuit: &Circuit, b: Builder<'_>) -> Extracted {
             }
         })
         .collect();
-    let hyper = mechanisms.iter().filter(|m| m.detectors.len() > 2).count();
+    let hyper = edges.iter().filter(|m| m.detectors.len() > 2).count();
     let graph = FaultGraph {
         source: circuit.source.clone(),
         detectors: circuit
@@ -583,10 +583,10 @@ fn finish(circuit: &Circuit, b: Builder<'_>) -> Extracted {
             })
             .collect(),
         observables: circuit.observables.iter().map(|o| o.name.clone()).collect(),
-        mechanisms,
+        edges,
         provenance,
         silent: b.silent,
-        decompositions: Vec::new(),
+        splits: Vec::new(),
         hyperedges: HyperedgeStats {
             hyperedges: hyper,
             ..HyperedgeStats::default()
@@ -645,9 +645,9 @@ mod tests {
     #[test]
     fn exact_conversions_reproduce_the_channel() {
         let channels = [
-            Channel::Depolarizing1(0.03),
-            Channel::Depolarizing2(0.05),
-            Channel::Pauli1 {
+            Channel::Depolarizing(0.03),
+            Channel::PairDepolarizing(0.05),
+            Channel::Pauli {
                 px: 0.01,
                 py: 0.02,
                 pz: 0.05,
@@ -669,7 +669,7 @@ mod tests {
     fn depolarizing_closed_form() {
         // q = (1 - sqrt(1 - 4p/3)) / 2 for each of X, Y, Z (derivation in `independent_terms`).
         let p: f64 = 0.03;
-        let (terms, _) = independent_terms(&Channel::Depolarizing1(p));
+        let (terms, _) = independent_terms(&Channel::Depolarizing(p));
         assert_eq!(terms.len(), 3);
         let q = (1.0 - (1.0 - 4.0 * p / 3.0).sqrt()) / 2.0;
         for t in terms {
@@ -680,7 +680,7 @@ mod tests {
     #[test]
     fn x_and_z_without_y_falls_back() {
         // X and Z exclusive with no Y needs anti-correlated events: no exact independent form.
-        let (terms, exact) = independent_terms(&Channel::Pauli1 {
+        let (terms, exact) = independent_terms(&Channel::Pauli {
             px: 0.1,
             py: 0.0,
             pz: 0.1,

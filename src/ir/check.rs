@@ -112,9 +112,12 @@ pub fn check(c: &Circuit) -> Result<(), Vec<Diagnostic>> {
                 ),
             ),
         };
-        errors.push(diag.with_hint(
-            "a detector compares results whose parity is fixed without noise; check the bases and which round it compares",
-        ));
+        errors.push(diag.with_hint(if kind == "detector" {
+            "a detector compares results whose parity is fixed without noise; check the bases and which round it compares"
+        } else {
+            "an observable is the parity of results that read out one logical operator: measure \
+             its qubits in the basis it was prepared in, and include every qubit of the logical"
+        }));
     }
     if errors.is_empty() {
         Ok(())

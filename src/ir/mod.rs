@@ -7,7 +7,7 @@
 //! - qubits are numbered `0..qubits.len()`; every target index is in range;
 //! - within one [`Layer`], gates, resets and measurements touch disjoint qubits; noise
 //!   operations in a layer act at their textual position relative to the other operations;
-//! - measurement records are numbered in execution order (`0..records.len()`), and each
+//! - measurement results are numbered in execution order (`0..records.len()`), and each
 //!   [`OpKind::Measure`] writes exactly one record;
 //! - detectors and observables refer only to records that exist, and are deterministic in the
 //!   noiseless circuit.
@@ -54,21 +54,24 @@ impl Qubit {
 pub enum Channel {
     /// X with probability `p` on each target.
     BitFlip(f64),
+    /// Z with probability `p` on each target.
+    Dephasing(f64),
+    /// Each of X, Y, Z with probability `p/3` on each target.
+    Depolarizing(f64),
     /// One Pauli product fault with probability `p`; factor `k` acts on target `k` of the op.
-    Correlated {
+    Joint {
         /// Probability that the product fires.
         p: f64,
         /// The factors, one per target qubit.
         paulis: Vec<Pauli>,
     },
-    /// Z with probability `p` on each target.
-    Dephasing(f64),
-    /// Each of X, Y, Z with probability `p/3` on each target.
-    Depolarizing1(f64),
     /// Each of the 15 non-identity two-qubit Paulis with probability `p/15` on each pair.
-    Depolarizing2(f64),
+    PairDepolarizing(f64),
+    /// A two-qubit Pauli channel on each pair; index `4*a + b - 1` for the Pauli pair `(a, b)`
+    /// with `I=0, X=1, Y=2, Z=3` (so `IX` is 0 and `ZZ` is 14).
+    PairPauli(Box<[f64; 15]>),
     /// A single-qubit Pauli channel on each target.
-    Pauli1 {
+    Pauli {
         /// Probability of X.
         px: f64,
         /// Probability of Y.
@@ -76,18 +79,15 @@ pub enum Channel {
         /// Probability of Z.
         pz: f64,
     },
-    /// A two-qubit Pauli channel on each pair; index `4*a + b - 1` for the Pauli pair `(a, b)`
-    /// with `I=0, X=1, Y=2, Z=3` (so `IX` is 0 and `ZZ` is 14).
-    Pauli2(Box<[f64; 15]>),
 }
 
 impl Channel {
-    /// Number of qubits one application acts on (the correlated fault counts as one application
+    /// Number of qubits one application acts on (a joint fault counts as one application
     /// over its own product).
     pub fn arity(&self) -> usize {
         match self {
-            Channel::Depolarizing2(_) | Channel::Pauli2(_) => 2,
-            Channel::Correlated { paulis, .. } => paulis.len(),
+            Channel::PairDepolarizing(_) | Channel::PairPauli(_) => 2,
+            Channel::Joint { paulis, .. } => paulis.len(),
             _ => 1,
         }
     }
@@ -104,27 +104,27 @@ impl Channel {
         match self {
             Channel::BitFlip(p) => push(*p, vec![Pauli::X]),
             Channel::Dephasing(p) => push(*p, vec![Pauli::Z]),
-            Channel::Depolarizing1(p) => {
+            Channel::Depolarizing(p) => {
                 for q in [Pauli::X, Pauli::Y, Pauli::Z] {
                     push(p / 3.0, vec![q]);
                 }
             }
-            Channel::Pauli1 { px, py, pz } => {
+            Channel::Pauli { px, py, pz } => {
                 push(*px, vec![Pauli::X]);
                 push(*py, vec![Pauli::Y]);
                 push(*pz, vec![Pauli::Z]);
             }
-            Channel::Depolarizing2(p) => {
+            Channel::PairDepolarizing(p) => {
                 for k in 1..16 {
                     push(p / 15.0, Pauli::pair_from_index(k));
                 }
             }
-            Channel::Pauli2(probs) => {
+            Channel::PairPauli(probs) => {
                 for (k, &p) in probs.iter().enumerate() {
                     push(p, Pauli::pair_from_index(k + 1));
                 }
             }
-            Channel::Correlated { p, paulis } => push(*p, paulis.clone()),
+            Channel::Joint { p, paulis } => push(*p, paulis.clone()),
         }
         out
     }
@@ -138,12 +138,12 @@ impl Channel {
     pub fn kind(&self) -> ChannelKind {
         match self {
             Channel::BitFlip(_) => ChannelKind::BitFlip,
-            Channel::Correlated { .. } => ChannelKind::Correlated,
+            Channel::Joint { .. } => ChannelKind::Joint,
             Channel::Dephasing(_) => ChannelKind::Dephasing,
-            Channel::Depolarizing1(_) => ChannelKind::Depolarizing1,
-            Channel::Depolarizing2(_) => ChannelKind::Depolarizing2,
-            Channel::Pauli1 { .. } => ChannelKind::Pauli1,
-            Channel::Pauli2(_) => ChannelKind::Pauli2,
+            Channel::Depolarizing(_) => ChannelKind::Depolarizing,
+            Channel::PairDepolarizing(_) => ChannelKind::PairDepolarizing,
+            Channel::Pauli { .. } => ChannelKind::Pauli,
+            Channel::PairPauli(_) => ChannelKind::PairPauli,
         }
     }
 
@@ -167,7 +167,7 @@ pub enum OpKind {
         flip: f64,
     },
     /// A noise channel applied to each target (pairs for two-qubit channels; the qubits of the
-    /// product for a correlated fault).
+    /// product for a joint fault).
     Noise(Channel),
     /// Reset of each target to the +1 eigenstate of the basis.
     Reset(Basis),
@@ -244,7 +244,7 @@ pub struct Circuit {
     pub qubits: Vec<Qubit>,
     /// Time layers in order.
     pub layers: Vec<Layer>,
-    /// Measurement records by index.
+    /// Measurement results by index.
     pub records: Vec<Record>,
     /// Detectors by index.
     pub detectors: Vec<Detector>,

@@ -148,7 +148,7 @@ impl Sensitivity {
     }
 }
 
-/// For each measurement record, the symptoms (detector ids, then observable ids from `D`) whose
+/// For each measurement result, the symptoms (detector ids, then observable ids from `D`) whose
 /// parity includes it, each list sorted.
 pub fn record_symptoms(circuit: &Circuit) -> Vec<SymSet> {
     let d = circuit.detectors.len() as u32;

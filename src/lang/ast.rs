@@ -145,7 +145,7 @@ pub struct Outcome {
 pub enum NoiseTargets {
     /// Comma-separated groups of qubits (one or two per group).
     Groups(Vec<Vec<Ref>>),
-    /// A Pauli product (`correlated` only).
+    /// A Pauli product (`joint` only).
     Product(Vec<(Pauli, Ref)>),
 }
 

@@ -264,13 +264,13 @@ fn channel_text(ch: &Channel) -> String {
     match ch {
         Channel::BitFlip(p)
         | Channel::Dephasing(p)
-        | Channel::Depolarizing1(p)
-        | Channel::Depolarizing2(p)
-        | Channel::Correlated { p, .. } => format!("{name} p={}", num(*p)),
-        Channel::Pauli1 { px, py, pz } => {
+        | Channel::Depolarizing(p)
+        | Channel::PairDepolarizing(p)
+        | Channel::Joint { p, .. } => format!("{name} p={}", num(*p)),
+        Channel::Pauli { px, py, pz } => {
             format!("{name} x={} y={} z={}", num(*px), num(*py), num(*pz))
         }
-        Channel::Pauli2(t) => {
+        Channel::PairPauli(t) => {
             let mut s = name.to_string();
             for (k, &p) in t.iter().enumerate() {
                 if p > 0.0 {
@@ -359,7 +359,7 @@ pub fn to_text(circuit: &Circuit, notes: &[Note], header: &[String]) -> String {
                     }
                     l
                 }
-                OpKind::Noise(Channel::Correlated { p, paulis }) => {
+                OpKind::Noise(Channel::Joint { p, paulis }) => {
                     let product: Vec<String> = op
                         .targets
                         .iter()
@@ -368,7 +368,7 @@ pub fn to_text(circuit: &Circuit, notes: &[Note], header: &[String]) -> String {
                         .collect();
                     format!(
                         "noise {} p={} {}",
-                        ChannelKind::Correlated.name(),
+                        ChannelKind::Joint.name(),
                         num(*p),
                         product.join(" * ")
                     )

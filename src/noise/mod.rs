@@ -47,4 +47,5 @@ pub use model::{
 };
 pub use note::Note;
 pub use preset::{Preset, PresetKind};
+pub use reader::MODEL_KEYS;
 pub use spec::{apply, apply_noted, NoiseSpec};

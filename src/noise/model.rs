@@ -102,7 +102,7 @@ pub enum Rate {
         /// `pZ/(pX+pY)`; infinite for pure Z.
         bias: Option<f64>,
     },
-    /// Explicit two-qubit Pauli probabilities in the order of [`Channel::Pauli2`].
+    /// Explicit two-qubit Pauli probabilities in the order of [`Channel::PairPauli`].
     Two(Box<[f64; 15]>),
 }
 
@@ -119,7 +119,7 @@ impl Rate {
     /// The channel on one qubit (`None` for a two-qubit rate).
     pub fn one(&self) -> Option<Channel> {
         match self {
-            Rate::One(px, py, pz) => Some(Channel::Pauli1 {
+            Rate::One(px, py, pz) => Some(Channel::Pauli {
                 px: *px,
                 py: *py,
                 pz: *pz,
@@ -132,7 +132,7 @@ impl Rate {
     /// The channel on a pair (`None` for a one-qubit rate).
     pub fn two(&self) -> Option<Channel> {
         match self {
-            Rate::Two(t) => Some(Channel::Pauli2(t.clone())),
+            Rate::Two(t) => Some(Channel::PairPauli(t.clone())),
             Rate::Total { p, bias } => Some(Rate::preset(*p, *bias).two_qubit(*p)),
             Rate::One(..) => None,
         }
@@ -222,7 +222,7 @@ impl IdleNoise {
             IdleNoise::Decoherence { t1, t2 } => twirled_decoherence(t, *t1, *t2),
             IdleNoise::Cat { t_bitflip, t2 } => cat_idle(t, *t_bitflip, *t2),
         };
-        Some(Channel::Pauli1 { px, py, pz })
+        Some(Channel::Pauli { px, py, pz })
     }
 
     pub(crate) fn needs_durations(&self) -> bool {

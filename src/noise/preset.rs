@@ -213,7 +213,7 @@ impl Preset {
     /// The single-qubit channel of total probability `p` (depolarizing, or biased).
     pub fn one_qubit(&self, p: f64) -> Channel {
         match self.bias {
-            None => Channel::Depolarizing1(p),
+            None => Channel::Depolarizing(p),
             Some(eta) => {
                 // PRL 120, 050505 (2018): eta = pZ / (pX + pY).
                 let high = if eta.is_infinite() {
@@ -221,7 +221,7 @@ impl Preset {
                 } else {
                     eta / (eta + 1.0)
                 };
-                Channel::Pauli1 {
+                Channel::Pauli {
                     px: p * (1.0 - high) / 2.0,
                     py: p * (1.0 - high) / 2.0,
                     pz: p * high,
@@ -234,7 +234,7 @@ impl Preset {
     /// `p·eta/(eta+1)` and the other twelve terms sharing `p/(eta+1)`.
     pub fn two_qubit(&self, p: f64) -> Channel {
         match self.bias {
-            None => Channel::Depolarizing2(p),
+            None => Channel::PairDepolarizing(p),
             Some(eta) => {
                 let high = if eta.is_infinite() {
                     1.0
@@ -246,7 +246,7 @@ impl Preset {
                     let k = Pauli::pair_index(name).unwrap_or(1);
                     probs[k - 1] = p * high / 3.0;
                 }
-                Channel::Pauli2(Box::new(probs))
+                Channel::PairPauli(Box::new(probs))
             }
         }
     }
@@ -518,19 +518,19 @@ mod tests {
     #[test]
     fn bias_split() {
         let p = parse("circuit p=0.03 bias=100").unwrap();
-        let Channel::Pauli1 { px, py, pz } = p.one_qubit(0.03) else {
+        let Channel::Pauli { px, py, pz } = p.one_qubit(0.03) else {
             panic!("expected a Pauli channel")
         };
         assert!((pz / (px + py) - 100.0).abs() < 1e-9);
         assert!((px + py + pz - 0.03).abs() < 1e-15);
         let half = parse("circuit p=0.03 bias=0.5").unwrap();
-        let Channel::Pauli1 { px, py, pz } = half.one_qubit(0.03) else {
+        let Channel::Pauli { px, py, pz } = half.one_qubit(0.03) else {
             panic!("expected a Pauli channel")
         };
         assert!(
             (px - 0.01).abs() < 1e-15 && (py - 0.01).abs() < 1e-15 && (pz - 0.01).abs() < 1e-15
         );
-        let Channel::Pauli2(probs) = p.two_qubit(0.03) else {
+        let Channel::PairPauli(probs) = p.two_qubit(0.03) else {
             panic!("expected a two-qubit Pauli channel")
         };
         let high: f64 = ["zi", "iz", "zz"]

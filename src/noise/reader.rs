@@ -37,20 +37,7 @@ fn parse_model(source: &Arc<Source>) -> Result<NoiseModel, Diagnostic> {
     let p = Parser { source };
     let root = doc.as_table();
     let whole = Span::new(0, source.text.len());
-    p.known_keys(
-        root,
-        &[
-            "bias",
-            "gates",
-            "idle",
-            "measure",
-            "override",
-            "p",
-            "reset",
-            "time_unit",
-        ],
-        "the top level",
-    )?;
+    p.known_keys(root, &TOP_KEYS, "the top level")?;
     let time_unit = p.time_unit(root)?;
     let base = p.base_rate(root, None)?;
     let gates = match root.get("gates") {
@@ -102,6 +89,38 @@ struct Parser<'a> {
 fn span_of(r: Option<std::ops::Range<usize>>) -> Option<Span> {
     r.map(|r| Span::new(r.start, r.end))
 }
+
+/// Keys of the top level of a model file.
+const TOP_KEYS: [&str; 8] = [
+    "bias",
+    "gates",
+    "idle",
+    "measure",
+    "override",
+    "p",
+    "reset",
+    "time_unit",
+];
+/// Keys of `[measure]`.
+const MEASURE_KEYS: [&str; 2] = ["duration", "flip"];
+/// Keys of `[reset]`.
+const RESET_KEYS: [&str; 2] = ["duration", "p"];
+/// Keys of `[idle]`.
+const IDLE_KEYS: [&str; 8] = ["bias", "p", "t1", "t2", "t_bitflip", "x", "y", "z"];
+/// Keys of `[[override]]`.
+const OVERRIDE_KEYS: [&str; 6] = ["gates", "idle", "measure", "qubit", "reset", "role"];
+
+/// Every section of a model file with the keys it accepts, for the reference page's test.
+/// `gates.NAME` lists the keys of every gate; one-qubit gates add `x y z`, two-qubit gates the
+/// fifteen names `ix` … `zz`.
+pub const MODEL_KEYS: [(&str, &[&str]); 6] = [
+    ("top level", &TOP_KEYS),
+    ("gates.NAME", &GATE_KEYS),
+    ("measure", &MEASURE_KEYS),
+    ("reset", &RESET_KEYS),
+    ("idle", &IDLE_KEYS),
+    ("override", &OVERRIDE_KEYS),
+];
 
 /// Keys of every gate section; one-qubit gates add `x`, `y`, `z`, two-qubit gates the 15 term
 /// names.
@@ -549,7 +568,7 @@ impl Parser<'_> {
             };
         };
         let t = self.table(item, "measure")?;
-        self.known_keys(t, &["duration", "flip"], "`measure`")?;
+        self.known_keys(t, &MEASURE_KEYS, "`measure`")?;
         let flip = self.probability(t, "flip")?;
         let duration = self.positive(t, "duration", true)?;
         let fallback = inherit.map(|m| m.flip).or(base.p);
@@ -584,7 +603,7 @@ impl Parser<'_> {
             };
         };
         let t = self.table(item, "reset")?;
-        self.known_keys(t, &["duration", "p"], "`reset`")?;
+        self.known_keys(t, &RESET_KEYS, "`reset`")?;
         let p = self.probability(t, "p")?;
         let duration = self.positive(t, "duration", true)?;
         let Some(p) = p.or(inherit.map(|r| r.p)).or(base.p) else {
@@ -602,11 +621,7 @@ impl Parser<'_> {
 
     fn idle(&self, item: &Item, base: &Base) -> Result<IdleNoise, Diagnostic> {
         let t = self.table(item, "idle")?;
-        self.known_keys(
-            t,
-            &["bias", "p", "t1", "t2", "t_bitflip", "x", "y", "z"],
-            "`idle`",
-        )?;
+        self.known_keys(t, &IDLE_KEYS, "`idle`")?;
         let t1 = self.positive(t, "t1", false)?;
         let t2 = self.positive(t, "t2", false)?;
         let tb = self.positive(t, "t_bitflip", false)?;
@@ -652,11 +667,7 @@ impl Parser<'_> {
         measure: &MeasureNoise,
         reset: &ResetNoise,
     ) -> Result<Override, Diagnostic> {
-        self.known_keys(
-            t,
-            &["gates", "idle", "measure", "qubit", "reset", "role"],
-            "`override`",
-        )?;
+        self.known_keys(t, &OVERRIDE_KEYS, "`override`")?;
         let at = span_of(t.span()).unwrap_or(Span::new(0, 0));
         let str_of = |k: &str| -> Result<Option<String>, Diagnostic> {
             match t.get(k) {

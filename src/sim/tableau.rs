@@ -1,6 +1,6 @@
 //! Stabilizer tableau: the noiseless reference run of a circuit.
 //!
-//! In: a [`Circuit`]. Out: a [`Reference`] with the noiseless value of every measurement record,
+//! In: a [`Circuit`]. Out: a [`Reference`] with the noiseless value of every measurement result,
 //! detector and observable. Noise operations and measurement flip probabilities are ignored.
 //!
 //! # Method
@@ -34,7 +34,7 @@ use crate::ir::{Circuit, OpKind};
 /// The noiseless values of a circuit's records, detectors and observables.
 #[derive(Clone, Debug, PartialEq, Eq)]
 pub struct Reference {
-    /// Value of every measurement record (`true` = 1 = eigenvalue −1). Random outcomes are 0.
+    /// Value of every measurement result (`true` = 1 = eigenvalue −1). Random outcomes are 0.
     pub measurements: Vec<bool>,
     /// Whether each record's noiseless outcome was random (resolved as 0).
     pub random: Vec<bool>,

@@ -54,7 +54,7 @@ pub struct RatePoint {
     /// Shots run.
     pub shots: u64,
     /// Logical failures among them.
-    pub errors: u64,
+    pub failures: u64,
     /// Rounds of the circuit (for the per-round conversion).
     pub rounds: u32,
     /// Per-round rate.
@@ -76,12 +76,12 @@ pub struct Row {
     pub layers: usize,
     /// Number of detectors.
     pub detectors: usize,
-    /// Number of mechanisms.
-    pub mechanisms: usize,
-    /// Share of mechanisms with three or more detectors, before decomposition.
+    /// Number of edges.
+    pub edges: usize,
+    /// Share of edges with three or more detectors, before split.
     pub hyperedge_share: f64,
-    /// Share of mechanisms left as hyperedges after decomposition.
-    pub undecomposed_share: f64,
+    /// Share of edges left as hyperedges after split.
+    pub unsplit_share: f64,
     /// Distances by class.
     pub report: DistanceReport,
     /// Total duration under the model, if it gives durations.
@@ -102,15 +102,15 @@ pub fn evaluate(
     let circuit = noisy.noisy();
     let graph: FaultGraph = noisy.graph(extract);
     let report = distances(&graph, opts)?;
-    let n = graph.mechanisms.len().max(1) as f64;
+    let n = graph.edges.len().max(1) as f64;
     Ok(Row {
         name: name.into(),
         qubits: circuit.qubits.len(),
         layers: circuit.layers.len(),
         detectors: graph.detectors.len(),
-        mechanisms: graph.mechanisms.len(),
+        edges: graph.edges.len(),
         hyperedge_share: graph.hyperedges.hyperedges as f64 / n,
-        undecomposed_share: graph.hyperedges.undecomposed.len() as f64 / n,
+        unsplit_share: graph.hyperedges.unsplit.len() as f64 / n,
         report,
         duration: noisy.duration(),
         bias: BiasSummary::of(&analyze_bias(circuit, noisy.notes())),
@@ -123,13 +123,13 @@ pub fn evaluate(
 pub enum Column {
     /// Circuit-level distance (larger is better).
     Distance,
-    /// Share of hyperedges after decomposition (smaller is better).
-    Undecomposed,
+    /// Share of hyperedges after split (smaller is better).
+    Unsplit,
     /// High-rate-only distance (larger is better; none is best).
     HighRate,
     /// Layers (smaller is better).
     Layers,
-    /// Low-rate mechanisms in the best logical error (larger is better).
+    /// Low-rate edges in the best logical error (larger is better).
     LowRate,
     /// Qubits (smaller is better).
     Qubits,
@@ -151,7 +151,7 @@ impl Column {
         Column::Qubits,
         Column::Layers,
         Column::Duration,
-        Column::Undecomposed,
+        Column::Unsplit,
         Column::Distance,
         Column::HighRate,
         Column::LowRate,
@@ -177,7 +177,7 @@ impl Column {
         let un = &r.report.unresolved;
         match self {
             Column::Distance => count(&r.report.distance, un.distance),
-            Column::Undecomposed => Some(-r.undecomposed_share),
+            Column::Unsplit => Some(-r.unsplit_share),
             Column::HighRate => count(&r.report.high_rate, un.high_rate),
             Column::Layers => Some(-(r.layers as f64)),
             Column::LowRate => r
@@ -299,11 +299,11 @@ pub fn rates(
         let noisy = circuit.noised(Some(&at_p(text, p)?))?;
         let exp = noisy.experiment(decoder)?;
         let counts = exp.run(opts, |_| {});
-        let e = Estimate::wilson(counts.errors, counts.shots, Z95).per_round(exp.rounds);
+        let e = Estimate::wilson(counts.failures, counts.shots, Z95).per_round(exp.rounds);
         out.push(RatePoint {
             p,
             shots: counts.shots,
-            errors: counts.errors,
+            failures: counts.failures,
             rounds: exp.rounds,
             rate: e.rate,
             low: e.low,

@@ -1,7 +1,7 @@
 //! Monte Carlo estimation of logical error rates: sample, decode, count failures.
 //!
 //! In: a [`Sampler`] (circuit with explicit noise), a [`Decoder`] built from the same circuit's
-//! graphlike fault graph, and [`RunOptions`] (shots, optional error budget, seed). Out: [`Counts`]
+//! matchable fault graph, and [`RunOptions`] (shots, optional error budget, seed). Out: [`Counts`]
 //! of shots and logical failures.
 //!
 //! A shot *fails* when the decoder's predicted observable flips differ from the sampled ones in
@@ -11,13 +11,13 @@
 //! Determinism: the sampler draws batch `b` of [`BATCH_SHOTS`] shots from its own generator
 //! seeded by `(seed, b)`. Batches are sampled and decoded in parallel on the rayon pool but their
 //! counts are accumulated in batch order, and the run stops after the first batch at which the
-//! failure count reaches `max_errors`. The batches counted are therefore a prefix fixed by the
+//! failure count reaches `until_failures`. The batches counted are therefore a prefix fixed by the
 //! seed alone, and the result is the same for any number of threads.
 
 use rayon::prelude::*;
 
 use crate::decode::Decoder;
-use crate::faults::GraphlikeStats;
+use crate::faults::MatchingStats;
 use crate::sim::{Batch, Outputs, Sampler, BATCH_SHOTS};
 
 /// A noisy circuit made ready for estimation: its sampler and a decoder for its fault graph
@@ -25,7 +25,7 @@ use crate::sim::{Batch, Outputs, Sampler, BATCH_SHOTS};
 pub struct Experiment {
     /// The frame sampler of the circuit.
     pub sampler: Sampler,
-    /// The decoder built from the circuit's graphlike fault graph.
+    /// The decoder built from the circuit's matchable fault graph.
     pub decoder: Box<dyn Decoder>,
     /// Number of `round` blocks (at least 1, for the per-round rate).
     pub rounds: u32,
@@ -35,8 +35,8 @@ pub struct Experiment {
     pub observables: usize,
     /// Number of edges of the matching graph.
     pub edges: usize,
-    /// What the graphlike view had to leave out or merge.
-    pub graph_stats: GraphlikeStats,
+    /// What the matchable view had to leave out or merge.
+    pub graph_stats: MatchingStats,
 }
 
 impl Experiment {
@@ -52,7 +52,7 @@ pub struct RunOptions {
     /// Maximum number of shots.
     pub shots: u64,
     /// Stop after the batch at which this many failures have been seen (`None`: run all shots).
-    pub max_errors: Option<u64>,
+    pub until_failures: Option<u64>,
     /// Seed of the sampler.
     pub seed: u64,
 }
@@ -63,20 +63,20 @@ pub struct Counts {
     /// Shots sampled and decoded.
     pub shots: u64,
     /// Shots whose predicted observables differ from the sampled ones (or with unmatched events).
-    pub errors: u64,
-    /// Shots the decoder could not decode completely (also counted in `errors`).
+    pub failures: u64,
+    /// Shots the decoder could not decode completely (also counted in `failures`).
     pub unmatched: u64,
 }
 
 impl Counts {
     fn add(&mut self, other: Counts) {
         self.shots += other.shots;
-        self.errors += other.errors;
+        self.failures += other.failures;
         self.unmatched += other.unmatched;
     }
 }
 
-/// Samples and decodes shots until `opts.shots` are done or `opts.max_errors` failures are
+/// Samples and decodes shots until `opts.shots` are done or `opts.until_failures` failures are
 /// seen, calling `progress` with the running totals after each batch (in batch order).
 pub fn run(
     sampler: &Sampler,
@@ -104,7 +104,7 @@ pub fn run(
         for c in counts {
             total.add(c);
             progress(total);
-            if opts.max_errors.is_some_and(|k| total.errors >= k) {
+            if opts.until_failures.is_some_and(|k| total.failures >= k) {
                 return total;
             }
         }
@@ -144,9 +144,9 @@ pub fn decode_batch(batch: &Batch, decoder: &dyn Decoder) -> Counts {
             .extend((0..num_obs as u32).filter(|&o| batch.get(&batch.observables, o as usize, s)));
         if decoded.unmatched > 0 {
             counts.unmatched += 1;
-            counts.errors += 1;
+            counts.failures += 1;
         } else if decoded.observables != actual {
-            counts.errors += 1;
+            counts.failures += 1;
         }
     }
     counts
@@ -193,7 +193,7 @@ mod tests {
             decode_batch(&b, &Nothing),
             Counts {
                 shots: 100,
-                errors: 2,
+                failures: 2,
                 unmatched: 0
             }
         );
@@ -215,7 +215,7 @@ mod tests {
             decode_batch(&b, mwpm.as_ref()),
             Counts {
                 shots: 100,
-                errors: 2,
+                failures: 2,
                 unmatched: 1
             }
         );

@@ -17,7 +17,7 @@ use std::sync::Arc;
 
 use crate::base::{Diagnostic, Source};
 use crate::decode::{BuildError, DecoderKind, MatchingGraph};
-use crate::faults::{ExtractOptions, FaultGraph, GraphlikeStats};
+use crate::faults::{ExtractOptions, FaultGraph, MatchingStats};
 use crate::ir::{Circuit, Limits};
 use crate::noise::{NoiseSpec, Note};
 use crate::sim::Sampler;
@@ -125,14 +125,14 @@ impl Pipeline {
         &self.warnings
     }
 
-    /// The fault graph of the noisy circuit, hyperedges decomposed for matching.
+    /// The fault graph of the noisy circuit, hyperedges split for matching.
     pub fn graph(&self, opts: &ExtractOptions) -> FaultGraph {
         crate::faults::extract(&self.noisy, opts)
     }
 
     /// The matching graph a decoder reads, with what building it left out or merged.
-    pub fn matching_graph(&self) -> (MatchingGraph, GraphlikeStats) {
-        self.graph(&ExtractOptions::default()).graphlike()
+    pub fn matching_graph(&self) -> (MatchingGraph, MatchingStats) {
+        self.graph(&ExtractOptions::default()).matching_graph()
     }
 
     /// The Pauli-frame sampler of the noisy circuit.
@@ -231,7 +231,7 @@ mod tests {
     fn every_product_comes_from_the_noisy_circuit() {
         let n = bell().noised(Some("circuit p=0.01")).unwrap();
         let graph = n.graph(&ExtractOptions::default());
-        assert!(!graph.mechanisms.is_empty());
+        assert!(!graph.edges.is_empty());
         let (matching, _) = n.matching_graph();
         assert_eq!(matching.num_detectors, 2);
         let exp = n.experiment(DecoderKind::Mwpm).unwrap();

@@ -6,7 +6,7 @@
 //! [`ScalingFit`].
 //!
 //! Conventions:
-//! - rates are per shot (`errors / shots`) unless the caller converts them; points with no
+//! - rates are per shot (`failures / shots`) unless the caller converts them; points with no
 //!   failure have no logarithm and are left out of both estimates;
 //! - a crossing of distances `d1 < d2` is where `ln pL(d2) − ln pL(d1)` changes sign from negative
 //!   (the larger code is better) to positive, located by linear interpolation in `ln p` between
@@ -48,10 +48,10 @@ pub struct ScalingFit {
 fn curves(points: &[Point]) -> BTreeMap<u32, Vec<(f64, f64)>> {
     let mut out: BTreeMap<u32, Vec<(f64, f64)>> = BTreeMap::new();
     for pt in points {
-        if pt.errors > 0 && pt.shots > 0 && pt.p > 0.0 {
+        if pt.failures > 0 && pt.shots > 0 && pt.p > 0.0 {
             out.entry(pt.distance)
                 .or_default()
-                .push((pt.p, (pt.errors as f64 / pt.shots as f64).ln()));
+                .push((pt.p, (pt.failures as f64 / pt.shots as f64).ln()));
         }
     }
     for c in out.values_mut() {
@@ -101,12 +101,12 @@ pub fn scaling_fit(points: &[Point], below: f64) -> Option<ScalingFit> {
     let mut n = 0;
     let mut ds = std::collections::BTreeSet::new();
     for pt in points {
-        if pt.errors == 0 || pt.p >= below || pt.p <= 0.0 {
+        if pt.failures == 0 || pt.p >= below || pt.p <= 0.0 {
             continue;
         }
         let k = (pt.distance as f64 + 1.0) / 2.0;
-        let y = (pt.errors as f64 / pt.shots as f64).ln() - k * pt.p.ln();
-        let w = pt.errors as f64;
+        let y = (pt.failures as f64 / pt.shots as f64).ln() - k * pt.p.ln();
+        let w = pt.failures as f64;
         // Row (1, −k).
         s11 += w;
         s12 -= w * k;
@@ -147,7 +147,7 @@ mod tests {
             rounds: d,
             p,
             shots,
-            errors: (rate * shots as f64).round() as u64,
+            failures: (rate * shots as f64).round() as u64,
         }
     }
 

@@ -208,7 +208,7 @@ fn steps(circuit: &Circuit, noisy: bool) -> Vec<Step> {
                 }
                 OpKind::Noise(ch) if noisy => {
                     let groups: Vec<&[u32]> = match ch {
-                        slant::ir::Channel::Correlated { .. } => vec![&op.targets[..]],
+                        slant::ir::Channel::Joint { .. } => vec![&op.targets[..]],
                         _ => op.targets.chunks(ch.arity()).collect(),
                     };
                     for g in groups {

@@ -1,5 +1,5 @@
 //! Lower bounds on the count distance when hyperedges keep the graph search from being exact:
-//! projection onto a partition of the detectors, and the decompositions' fractional costs.
+//! projection onto a partition of the detectors, and the splits' fractional costs.
 
 use std::collections::HashMap;
 
@@ -24,14 +24,14 @@ pub(super) fn best_lower_bound(
 
 /// Lower bound on the count distance by projection onto a partition of the detectors.
 ///
-/// For *any* partition in which every mechanism has at most two detectors in each class, and any
-/// split of each mechanism's observables among its classes, project a logical error onto each
+/// For *any* partition in which every edge has at most two detectors in each class, and any
+/// split of each edge's observables among its classes, project a logical error onto each
 /// class: every detector keeps even degree, and since the split observables XOR to the whole,
-/// some class sees odd parity of some observable. Each mechanism puts at most one part into a
-/// class, so the error has at least as many mechanisms as the shortest odd cycle among the parts
+/// some class sees odd parity of some observable. Each edge puts at most one part into a
+/// class, so the error has at least as many edges as the shortest odd cycle among the parts
 /// (each costing 1). The partition used: components of the detector graph joined by the
-/// two-detector mechanisms that cannot be split into two existing one-detector mechanisms and by
-/// the parts of decomposed hyperedges. In a CSS memory this separates X-type from Z-type
+/// two-detector edges that cannot be split into two existing one-detector edges and by
+/// the parts of split hyperedges. In a CSS memory this separates X-type from Z-type
 /// detectors (a Y fault at the boundary splits into its X and Z halves), which makes the bound
 /// tight for circuit-level depolarizing noise.
 /// Outer `None`: the partition does not apply; inner `None`: no logical error exists at all.
@@ -41,7 +41,7 @@ pub(super) fn projected_bound(
 ) -> Option<Option<u32>> {
     let boundary = graph.detectors.len() as u32;
     let mut one_det: HashMap<u32, Vec<&[u32]>> = HashMap::new();
-    for m in &graph.mechanisms {
+    for m in &graph.edges {
         if let [a] = *m.detectors.as_slice() {
             one_det.entry(a).or_default().push(&m.observables);
         }
@@ -65,20 +65,20 @@ pub(super) fn projected_bound(
         let (ra, rb) = (find(uf, a), find(uf, b));
         uf[ra as usize] = rb;
     };
-    let mut decomposition: HashMap<u32, usize> = HashMap::new();
-    for (i, d) in graph.decompositions.iter().enumerate() {
-        decomposition.insert(d.mechanism, i);
+    let mut split_of: HashMap<u32, usize> = HashMap::new();
+    for (i, d) in graph.splits.iter().enumerate() {
+        split_of.insert(d.edge, i);
         for (dets, _) in graph.parts(d) {
             if let [a, b] = *dets {
                 join(&mut uf, a, b);
             }
         }
     }
-    for (k, m) in graph.mechanisms.iter().enumerate() {
+    for (k, m) in graph.edges.iter().enumerate() {
         match *m.detectors.as_slice() {
             [a, b] if split(a, b, &m.observables).is_none() => join(&mut uf, a, b),
             [_, _] | [] | [_] => {}
-            ref dets if !decomposition.contains_key(&(k as u32)) => {
+            ref dets if !split_of.contains_key(&(k as u32)) => {
                 for w in dets.windows(2) {
                     join(&mut uf, w[0], w[1]);
                 }
@@ -104,7 +104,7 @@ pub(super) fn projected_bound(
         });
         true
     };
-    for (k, m) in graph.mechanisms.iter().enumerate() {
+    for (k, m) in graph.edges.iter().enumerate() {
         if !allow(m.classes) {
             continue;
         }
@@ -125,8 +125,8 @@ pub(super) fn projected_bound(
                 add(find(&mut uf, a), &[a], &oa);
                 add(find(&mut uf, b), &[b], &ob);
             }
-            ref dets if dets.len() > 2 && decomposition.contains_key(&(k as u32)) => {
-                for (pd, po) in graph.parts(&graph.decompositions[decomposition[&(k as u32)]]) {
+            ref dets if dets.len() > 2 && split_of.contains_key(&(k as u32)) => {
+                for (pd, po) in graph.parts(&graph.splits[split_of[&(k as u32)]]) {
                     let root = pd.first().map_or(u32::MAX, |&x| find(&mut uf, x));
                     add(root, pd, po);
                 }
@@ -148,10 +148,10 @@ pub(super) fn projected_bound(
     )
 }
 
-/// Lower bound on the count distance from the hyperedges' decompositions.
+/// Lower bound on the count distance from the hyperedges' splits.
 ///
-/// Detectors are grouped into components joined by graphlike edges and decomposition parts (the
-/// boundary joins nothing). Project a logical error onto one component: each mechanism becomes
+/// Detectors are grouped into components joined by matchable edges and split parts (the
+/// boundary joins nothing). Project a logical error onto one component: each edge becomes
 /// its parts there, every detector of the component keeps even degree, and since the parts'
 /// observables XOR to the whole, some component sees odd observable parity. So the error costs at
 /// least the shortest odd cycle in which each part of a hyperedge with `k` parts in the part's
@@ -181,13 +181,13 @@ pub(super) fn lower_bound(graph: &FaultGraph, allow: &dyn Fn(ClassSet) -> bool) 
             join(&mut uf, &[e.a, e.b]);
         }
     }
-    for d in &graph.decompositions {
+    for d in &graph.splits {
         for (dets, _) in graph.parts(d) {
             join(&mut uf, dets);
         }
     }
-    for d in &graph.decompositions {
-        let m = &graph.mechanisms[d.mechanism as usize];
+    for d in &graph.splits {
+        let m = &graph.edges[d.edge as usize];
         if !allow(m.classes) {
             continue;
         }
@@ -213,17 +213,17 @@ pub(super) fn lower_bound(graph: &FaultGraph, allow: &dyn Fn(ClassSet) -> bool) 
             });
         }
     }
-    let mut split = vec![false; graph.mechanisms.len()];
-    for d in &graph.decompositions {
-        split[d.mechanism as usize] = true;
+    let mut split = vec![false; graph.edges.len()];
+    for d in &graph.splits {
+        split[d.edge as usize] = true;
     }
     if graph
-        .mechanisms
+        .edges
         .iter()
         .zip(&split)
         .any(|(m, &split)| m.detectors.len() > 2 && allow(m.classes) && !split)
     {
-        // An undecomposed hyperedge could shorten anything: no bound beyond the trivial one.
+        // An unsplit hyperedge could shorten anything: no bound beyond the trivial one.
         return Some(1);
     }
     shortest_odd_cycle(graph.detectors.len() + 1, graph.observables.len(), &edges)

@@ -1,4 +1,4 @@
-//! The exhaustive meet-in-the-middle search for small logical errors made of any mechanisms,
+//! The exhaustive meet-in-the-middle search for small logical errors made of any edges,
 //! hyperedges included.
 
 use std::collections::HashMap;
@@ -8,16 +8,16 @@ use crate::faults::{ClassSet, FaultGraph};
 
 /// Outcome of the exhaustive search.
 pub(super) enum Exhaustive {
-    /// A logical error with at most `limit` mechanisms.
+    /// A logical error with at most `limit` edges.
     Found(Vec<u32>),
-    /// No logical error with at most `limit` mechanisms exists.
+    /// No logical error with at most `limit` edges exists.
     NoneUpTo,
     /// The state cap was reached first.
     Capped,
 }
 
-/// Meet-in-the-middle search for a logical error of at most `limit` mechanisms (any number of
-/// detectors). Symptoms reachable with `t` mechanisms are stored level by level; two stored
+/// Meet-in-the-middle search for a logical error of at most `limit` edges (any number of
+/// detectors). Symptoms reachable with `t` edges are stored level by level; two stored
 /// symptoms with equal detectors and different observables give a logical error of the sum of
 /// their levels, so levels up to `⌈limit/2⌉` suffice.
 pub(super) fn exhaustive(
@@ -26,10 +26,10 @@ pub(super) fn exhaustive(
     limit: u32,
     max_states: usize,
 ) -> Exhaustive {
-    let mechs: Vec<u32> = (0..graph.mechanisms.len() as u32)
-        .filter(|&k| allow(graph.mechanisms[k as usize].classes))
+    let mechs: Vec<u32> = (0..graph.edges.len() as u32)
+        .filter(|&k| allow(graph.edges[k as usize].classes))
         .collect();
-    // State: (detectors, observables, parent state, mechanism, level).
+    // State: (detectors, observables, parent state, edge, level).
     struct State {
         dets: Vec<u32>,
         obs: Vec<u32>,
@@ -64,7 +64,7 @@ pub(super) fn exhaustive(
         let mut next = Vec::new();
         for &s in &frontier {
             for &m in &mechs {
-                let mm = &graph.mechanisms[m as usize];
+                let mm = &graph.edges[m as usize];
                 let dets = xor_sets(&states[s as usize].dets, &mm.detectors);
                 let obs = xor_sets(&states[s as usize].obs, &mm.observables);
                 let list = by_dets.entry(dets.clone()).or_default();

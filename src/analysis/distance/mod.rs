@@ -1,20 +1,20 @@
 //! Circuit-level distances of a fault graph, overall and by fault class.
 //!
 //! In: a [`FaultGraph`]. Out: a [`DistanceReport`] holding, each with the logical error that
-//! attains it (mechanism ids; provenance through [`FaultGraph::contributors`]):
+//! attains it (edge ids; provenance through [`FaultGraph::contributors`]):
 //!
-//! - **distance**: the least number of mechanisms whose detectors cancel and whose observables do
+//! - **distance**: the least number of edges whose detectors cancel and whose observables do
 //!   not (an undetected logical error);
-//! - **high-rate distance**: the same using only mechanisms that a high-rate fault alone can cause
+//! - **high-rate distance**: the same using only edges that a high-rate fault alone can cause
 //!   (`None`: no logical error is made of high-rate faults alone);
-//! - **lexicographic**: the least number of low-rate mechanisms any logical error must contain,
+//! - **lexicographic**: the least number of low-rate edges any logical error must contain,
 //!   and among those errors the least total count. Under bias `eta` each low-rate fault costs a
 //!   factor of about `1/eta` ("The XZZX surface code", Nat. Commun. 12, 2172 (2021));
 //! - **weighted**: the least total weight `Σ ln((1−p)/p)`, i.e. the most likely logical error
 //!   relative to no error ("Topological quantum memory", J. Math. Phys. 43, 4452 (2002)).
 //!
 //! # Method
-//! Mechanisms with one or two detectors are edges of the detector graph (one detector: an edge to
+//! Edges with one or two detectors are edges of the detector graph (one detector: an edge to
 //! a boundary node; no detectors: a loop at the boundary). An undetected logical error flipping
 //! observable `o` is an edge set with even degree at every detector and odd `o`-parity; a least
 //! one is a cycle, so it is the least over the `o`-flipping edges `e = (u, w)` of `cost(e)` plus
@@ -22,24 +22,24 @@
 //! are `(node, parity)`. Cycles through the boundary take one search; the others start at the
 //! few edges left odd after re-gauging the parities along a spanning forest (see
 //! `shortest_odd_cycle`), and each search stops at the best cost so far. Costs: `1` per
-//! mechanism; `(low, 1)` pairs compared lexicographically; weights.
-//! This is exact when every mechanism has at most two detectors.
+//! edge; `(low, 1)` pairs compared lexicographically; weights.
+//! This is exact when every edge has at most two detectors.
 //!
 //! **Hyperedges** (three or more detectors) do not fit a path. The graph search over the
-//! graphlike mechanisms then gives an upper bound (its error is real). For the count distance the
+//! matchable edges then gives an upper bound (its error is real). For the count distance the
 //! report adds, in order (the first that closes the gap wins):
-//! 1. when every hyperedge was decomposed into graphlike parts, a lower bound from projecting
+//! 1. when every hyperedge was split into matchable parts, a lower bound from projecting
 //!    logical errors onto classes of detectors (see `projected_bound` and `lower_bound`);
 //! 2. an exhaustive meet-in-the-middle search over symptoms reached with up to `⌈(ub−1)/2⌉`
-//!    mechanisms (all mechanisms, hyperedges included), capped at
+//!    edges (all edges, hyperedges included), capped at
 //!    [`DistanceOptions::max_states`] states: when it finishes, the result is exact;
 //! 3. otherwise the report gives both bounds ([`Method::Bounds`]).
 //!
-//! Class convention: a mechanism counts as high-rate when *some* contributor is high-rate
-//! ([`ClassSet::has_high`]): each contributor alone produces the mechanism's symptom, so a
+//! Class convention: a edge counts as high-rate when *some* contributor is high-rate
+//! ([`ClassSet::has_high`]): each contributor alone produces the edge's symptom, so a
 //! high-rate fault alone suffices.
 //!
-//! Every logical error returned is checked here by XOR of its mechanisms' symptoms: empty
+//! Every logical error returned is checked here by XOR of its edges' symptoms: empty
 //! detectors, some observable flipped. A failed check is an internal error.
 //!
 //! Files: this one holds the report and the strategy; `search.rs` the graph search (costs,
@@ -56,7 +56,7 @@ use bounds::{best_lower_bound, projected_bound};
 use exhaustive::{exhaustive, Exhaustive};
 use search::{search, Lex, Weight};
 
-/// Default depth of the exhaustive search when the graphlike mechanisms make no logical error
+/// Default depth of the exhaustive search when the matchable edges make no logical error
 /// at all.
 pub const EXHAUSTIVE_DEPTH: u32 = 12;
 
@@ -65,8 +65,8 @@ pub const EXHAUSTIVE_DEPTH: u32 = 12;
 pub struct DistanceOptions {
     /// Largest number of distinct symptoms the exhaustive hyperedge search may store.
     pub max_states: usize,
-    /// Largest logical error (in mechanisms) the exhaustive search looks for when the graphlike
-    /// mechanisms make none.
+    /// Largest logical error (in edges) the exhaustive search looks for when the matchable
+    /// edges make none.
     pub exhaustive_depth: u32,
 }
 
@@ -79,11 +79,11 @@ impl Default for DistanceOptions {
     }
 }
 
-/// An undetected logical error: a set of mechanisms whose detectors cancel.
+/// An undetected logical error: a set of edges whose detectors cancel.
 #[derive(Clone, Debug, PartialEq)]
 pub struct LogicalError {
-    /// Mechanism ids, sorted.
-    pub mechanisms: Vec<u32>,
+    /// FaultEdge ids, sorted.
+    pub edges: Vec<u32>,
     /// Observables flipped (never empty).
     pub observables: Vec<u32>,
 }
@@ -93,12 +93,12 @@ pub struct LogicalError {
 pub enum Method {
     /// Shortest cycle on a graph without hyperedges: exact.
     Graph,
-    /// Graph search over the graphlike mechanisms, matched by the lower bound from the
-    /// hyperedges' decompositions: exact.
-    Decomposition,
+    /// Graph search over the matchable edges, matched by the lower bound from the
+    /// hyperedges' splits: exact.
+    Split,
     /// Exhaustive search over symptoms including hyperedges: exact.
     Exhaustive,
-    /// Graph search over the graphlike mechanisms only; the true value lies in
+    /// Graph search over the matchable edges only; the true value lies in
     /// `[lower, value]`.
     Bounds,
 }
@@ -108,17 +108,17 @@ impl Method {
     pub fn name(self) -> &'static str {
         match self {
             Method::Graph => "exact (graph)",
-            Method::Decomposition => "exact (graph, decomposition bound)",
+            Method::Split => "exact (graph, split bound)",
             Method::Exhaustive => "exact (exhaustive)",
             Method::Bounds => "bounds (hyperedges)",
         }
     }
 }
 
-/// A least mechanism count and the error attaining it.
+/// A least edge count and the error attaining it.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Count {
-    /// Number of mechanisms of [`Count::error`]: an upper bound, exact when `lower == value`.
+    /// Number of edges of [`Count::error`]: an upper bound, exact when `lower == value`.
     pub value: u32,
     /// Proven lower bound.
     pub lower: u32,
@@ -135,12 +135,12 @@ impl Count {
     }
 }
 
-/// The lexicographic result: fewest low-rate mechanisms, then fewest mechanisms.
+/// The lexicographic result: fewest low-rate edges, then fewest edges.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Lexicographic {
-    /// Low-rate mechanisms in the error.
+    /// Low-rate edges in the error.
     pub low: u32,
-    /// All mechanisms in the error.
+    /// All edges in the error.
     pub total: u32,
     /// The logical error found.
     pub error: LogicalError,
@@ -149,9 +149,9 @@ pub struct Lexicographic {
 /// The most likely logical error.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Weighted {
-    /// `Σ ln((1−p)/p)` over the error's mechanisms.
+    /// `Σ ln((1−p)/p)` over the error's edges.
     pub weight: f64,
-    /// `Π p` over the error's mechanisms.
+    /// `Π p` over the error's edges.
     pub probability: f64,
     /// The logical error found.
     pub error: LogicalError,
@@ -161,12 +161,12 @@ pub struct Weighted {
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub enum Unproven {
     /// The exhaustive search (hyperedges included) finished and found no logical error of at
-    /// most this many mechanisms: any logical error is larger.
+    /// most this many edges: any logical error is larger.
     AboveDepth(u32),
     /// The exhaustive search stopped at its state cap ([`DistanceOptions::max_states`]).
     Capped,
-    /// Only graphlike mechanisms were searched and the graph has hyperedges.
-    GraphlikeOnly,
+    /// Only matchable edges were searched and the graph has hyperedges.
+    MatchableOnly,
 }
 
 impl Unproven {
@@ -174,7 +174,7 @@ impl Unproven {
     pub fn cell(self) -> String {
         match self {
             Unproven::AboveDepth(k) => format!("> {k}"),
-            Unproven::Capped | Unproven::GraphlikeOnly => "?".into(),
+            Unproven::Capped | Unproven::MatchableOnly => "?".into(),
         }
     }
 
@@ -182,13 +182,13 @@ impl Unproven {
     pub fn describe(self) -> String {
         match self {
             Unproven::AboveDepth(k) => format!(
-                "no logical error of at most {k} mechanisms exists; larger ones were not searched"
+                "no logical error of at most {k} edges exists; larger ones were not searched"
             ),
             Unproven::Capped => {
                 "unknown: the exhaustive hyperedge search stopped at its state cap".into()
             }
-            Unproven::GraphlikeOnly => {
-                "unknown: none among graphlike mechanisms; hyperedges were not searched".into()
+            Unproven::MatchableOnly => {
+                "unknown: none among matchable edges; hyperedges were not searched".into()
             }
         }
     }
@@ -212,15 +212,15 @@ pub struct Unresolved {
 /// [`DistanceReport::unresolved`] says why the search could not prove that.
 #[derive(Clone, Debug, PartialEq)]
 pub struct DistanceReport {
-    /// Least number of mechanisms in an undetected logical error.
+    /// Least number of edges in an undetected logical error.
     pub distance: Option<Count>,
-    /// The same, high-rate mechanisms only.
+    /// The same, high-rate edges only.
     pub high_rate: Option<Count>,
-    /// Fewest low-rate mechanisms, then fewest in total (over graphlike mechanisms).
+    /// Fewest low-rate edges, then fewest in total (over matchable edges).
     pub lexicographic: Option<Lexicographic>,
-    /// Most likely logical error (over graphlike mechanisms).
+    /// Most likely logical error (over matchable edges).
     pub weighted: Option<Weighted>,
-    /// Mechanisms with three or more detectors (left out of the class and weighted searches).
+    /// Edges with three or more detectors (left out of the class and weighted searches).
     pub hyperedges: usize,
     /// Which absent results are unproven, and why.
     pub unresolved: Unresolved,
@@ -233,15 +233,11 @@ pub fn distances(graph: &FaultGraph, opts: &DistanceOptions) -> Result<DistanceR
     let high = |c: ClassSet| c.has_high();
     let (distance, distance_unproven) = count_distance(graph, &all, opts)?;
     let (high_rate, high_rate_unproven) = count_distance(graph, &high, opts)?;
-    let hyperedges = graph
-        .mechanisms
-        .iter()
-        .filter(|m| m.detectors.len() > 2)
-        .count();
-    // The class and weighted searches see graphlike mechanisms only.
-    let graphlike_only = (hyperedges > 0).then_some(Unproven::GraphlikeOnly);
+    let hyperedges = graph.edges.iter().filter(|m| m.detectors.len() > 2).count();
+    // The class and weighted searches see matchable edges only.
+    let matchable_only = (hyperedges > 0).then_some(Unproven::MatchableOnly);
     let lexicographic = match search(graph, &all, |m| {
-        Lex(u32::from(!graph.mechanisms[m].classes.has_high()), 1)
+        Lex(u32::from(!graph.edges[m].classes.has_high()), 1)
     }) {
         Some((Lex(low, total), error)) => Some(Lexicographic {
             low,
@@ -251,14 +247,14 @@ pub fn distances(graph: &FaultGraph, opts: &DistanceOptions) -> Result<DistanceR
         None => None,
     };
     let weighted = match search(graph, &all, |m| {
-        Weight(weight_of(graph.mechanisms[m].probability).max(0.0))
+        Weight(weight_of(graph.edges[m].probability).max(0.0))
     }) {
         Some((Weight(weight), error)) => {
             let error = verified(graph, error)?;
             let probability = error
-                .mechanisms
+                .edges
                 .iter()
-                .map(|&m| graph.mechanisms[m as usize].probability)
+                .map(|&m| graph.edges[m as usize].probability)
                 .product();
             Some(Weighted {
                 weight,
@@ -271,8 +267,8 @@ pub fn distances(graph: &FaultGraph, opts: &DistanceOptions) -> Result<DistanceR
     let unresolved = Unresolved {
         distance: distance_unproven,
         high_rate: high_rate_unproven,
-        lexicographic: graphlike_only.filter(|_| lexicographic.is_none()),
-        weighted: graphlike_only.filter(|_| weighted.is_none()),
+        lexicographic: matchable_only.filter(|_| lexicographic.is_none()),
+        weighted: matchable_only.filter(|_| weighted.is_none()),
     };
     Ok(DistanceReport {
         distance,
@@ -284,35 +280,35 @@ pub fn distances(graph: &FaultGraph, opts: &DistanceOptions) -> Result<DistanceR
     })
 }
 
-/// The XOR of the symptoms of `mechanisms` as `(detectors, observables)`.
-pub fn symptom(graph: &FaultGraph, mechanisms: &[u32]) -> (Vec<u32>, Vec<u32>) {
+/// The XOR of the symptoms of `edges` as `(detectors, observables)`.
+pub fn symptom(graph: &FaultGraph, edges: &[u32]) -> (Vec<u32>, Vec<u32>) {
     let mut dets = Vec::new();
     let mut obs = Vec::new();
-    for &m in mechanisms {
-        let m = &graph.mechanisms[m as usize];
+    for &m in edges {
+        let m = &graph.edges[m as usize];
         dets = xor_sets(&dets, &m.detectors);
         obs = xor_sets(&obs, &m.observables);
     }
     (dets, obs)
 }
 
-/// Cancels repeated mechanisms, then checks the symptom is empty and an observable flips.
+/// Cancels repeated edges, then checks the symptom is empty and an observable flips.
 fn verified(graph: &FaultGraph, mechs: Vec<u32>) -> Result<LogicalError, String> {
     let set = odd_parity(mechs);
     let (dets, obs) = symptom(graph, &set);
     if !dets.is_empty() || obs.is_empty() {
         return Err(format!(
-            "distance search returned mechanisms {set:?} with detectors {dets:?} and \
+            "distance search returned edges {set:?} with detectors {dets:?} and \
              observables {obs:?}, which is not an undetected logical error"
         ));
     }
     Ok(LogicalError {
-        mechanisms: set,
+        edges: set,
         observables: obs,
     })
 }
 
-/// The count distance over the mechanisms whose classes pass `allow`, with hyperedge handling;
+/// The count distance over the edges whose classes pass `allow`, with hyperedge handling;
 /// when none is found, why that is unproven (if it is).
 fn count_distance(
     graph: &FaultGraph,
@@ -320,7 +316,7 @@ fn count_distance(
     opts: &DistanceOptions,
 ) -> Result<(Option<Count>, Option<Unproven>), String> {
     let has_hyper = graph
-        .mechanisms
+        .edges
         .iter()
         .any(|m| m.detectors.len() > 2 && allow(m.classes));
     let found = search(graph, allow, |_| 1u32);
@@ -328,7 +324,7 @@ fn count_distance(
         return match found {
             Some((c, e)) => {
                 let error = verified(graph, e)?;
-                debug_assert_eq!(error.mechanisms.len() as u32, c);
+                debug_assert_eq!(error.edges.len() as u32, c);
                 Ok((
                     Some(Count {
                         value: c,
@@ -350,30 +346,30 @@ fn count_distance(
         // Not even the relaxation has a logical error: none exists.
         return Ok((None, None));
     }
-    // The decomposition bound is one more graph search: try it before the exhaustive search.
+    // The split bound is one more graph search: try it before the exhaustive search.
     if let Some(error) = &upper {
-        let value = error.mechanisms.len() as u32;
+        let value = error.edges.len() as u32;
         let lower = best_lower_bound(graph, allow, value);
         if lower == value {
             return Ok((
                 Some(Count {
                     value,
                     lower,
-                    method: Method::Decomposition,
+                    method: Method::Split,
                     error: error.clone(),
                 }),
                 None,
             ));
         }
     }
-    // Exhaustive search below the graphlike value (or up to a fixed depth when the graphlike
-    // mechanisms alone make no logical error).
+    // Exhaustive search below the matchable value (or up to a fixed depth when the matchable
+    // edges alone make no logical error).
     let limit = upper
         .as_ref()
-        .map_or(opts.exhaustive_depth, |e| e.mechanisms.len() as u32 - 1);
+        .map_or(opts.exhaustive_depth, |e| e.edges.len() as u32 - 1);
     // A logical error the exhaustive search proved least.
     let exact = |error: LogicalError| {
-        let n = error.mechanisms.len() as u32;
+        let n = error.edges.len() as u32;
         Ok((
             Some(Count {
                 value: n,
@@ -396,7 +392,7 @@ fn count_distance(
         // Neither the graph search nor the capped exhaustive search found a logical error.
         return Ok((None, Some(Unproven::Capped)));
     };
-    let value = error.mechanisms.len() as u32;
+    let value = error.edges.len() as u32;
     let lower = best_lower_bound(graph, allow, value);
     Ok((
         Some(Count {
@@ -435,11 +431,11 @@ mod tests {
     #[test]
     fn repetition_code_has_distance_three_in_every_measure() {
         let g = graph(REPETITION);
-        assert_eq!(g.mechanisms.len(), 3);
+        assert_eq!(g.edges.len(), 3);
         let r = distances(&g, &DistanceOptions::default()).unwrap();
         let d = r.distance.as_ref().unwrap();
         assert_eq!((d.value, d.lower, d.method), (3, 3, Method::Graph));
-        assert_eq!(d.error.mechanisms, vec![0, 1, 2]);
+        assert_eq!(d.error.edges, vec![0, 1, 2]);
         assert_eq!(d.error.observables, vec![0]);
         // Bit flips are low-rate: no logical error is made of high-rate faults, and that absence
         // is proven (no unresolved reason).
@@ -458,7 +454,7 @@ mod tests {
         // Repeats cancel before the check: {0, 1, 1, 2} is {0, 2}, which leaves detectors lit.
         assert!(verified(&g, vec![0, 1, 1, 2]).is_err());
         let e = verified(&g, vec![2, 0, 1, 1, 1]).unwrap();
-        assert_eq!(e.mechanisms, vec![0, 1, 2]);
+        assert_eq!(e.edges, vec![0, 1, 2]);
         let (dets, obs) = symptom(&g, &[0, 1]);
         assert!(!dets.is_empty() && obs == vec![0]);
     }

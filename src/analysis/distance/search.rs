@@ -1,4 +1,4 @@
-//! The graph search: least-cost undetected logical errors over the graphlike mechanisms, as
+//! The graph search: least-cost undetected logical errors over the matchable edges, as
 //! shortest cycles of odd observable parity (see the module docs of the distance report).
 
 use std::cmp::{Ordering, Reverse};
@@ -60,7 +60,7 @@ impl Cost for Weight {
     const ZERO: Weight = Weight(0.0);
 }
 
-/// One edge of the search graph. `mech` is a mechanism id, or `u32::MAX` for a virtual part edge
+/// One edge of the search graph. `mech` is a edge id, or `u32::MAX` for a virtual part edge
 /// of the lower-bound search.
 #[derive(Clone, Debug)]
 pub(super) struct Edge<C> {
@@ -71,7 +71,7 @@ pub(super) struct Edge<C> {
     pub(super) mech: u32,
 }
 
-/// The graphlike edges of the mechanisms passing `allow`, the boundary being node `D`.
+/// The matchable edges of the edges passing `allow`, the boundary being node `D`.
 pub(super) fn graph_edges<C: Cost>(
     graph: &FaultGraph,
     allow: &dyn Fn(ClassSet) -> bool,
@@ -79,7 +79,7 @@ pub(super) fn graph_edges<C: Cost>(
 ) -> Vec<Edge<C>> {
     let boundary = graph.detectors.len() as u32;
     let mut out = Vec::new();
-    for (k, m) in graph.mechanisms.iter().enumerate() {
+    for (k, m) in graph.edges.iter().enumerate() {
         if !allow(m.classes) {
             continue;
         }
@@ -100,7 +100,7 @@ pub(super) fn graph_edges<C: Cost>(
     out
 }
 
-/// Least-cost logical error over the graphlike mechanisms passing `allow`.
+/// Least-cost logical error over the matchable edges passing `allow`.
 pub(super) fn search<C: Cost>(
     graph: &FaultGraph,
     allow: &dyn Fn(ClassSet) -> bool,

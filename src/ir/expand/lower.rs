@@ -1,7 +1,7 @@
 //! Lowering: each statement of the syntax tree executed into the circuit being built — loops
 //! unrolled, conditions taken, declarations recorded, operations placed in layers.
 
-use crate::base::{odd_parity, ChannelKind, Gate, Pauli, Span};
+use crate::base::{odd_parity, ChannelKind, Diagnostic, Gate, Pauli, Span};
 use crate::ir::expand::budget::{cost, stmt_steps};
 use crate::ir::expand::eval::Value;
 use crate::ir::expand::{Expander, Tally, MAX_ERRORS, R};
@@ -21,6 +21,9 @@ impl Expander {
                 .and_then(|()| self.stmt(st));
             if let Err(d) = result {
                 self.report(d);
+                // What the refused statement would have measured is now undefined for reasons
+                // already reported: later uses of those results get no error of their own.
+                refused_results(st, &mut self.refused);
             }
         }
     }
@@ -225,6 +228,11 @@ impl Expander {
                     Some(r) => {
                         let n = self.single_name(r, "a detector name")?;
                         if let Some(&first) = self.detector_names.get(&n) {
+                            if first == r.span {
+                                // The same statement again: a loop runs it once per
+                                // iteration, so the name needs the loop variable.
+                                return Err(self.repeated_in_loop(r, &n));
+                            }
                             return Err(self
                                 .err(r.span, format!("detector `{n}` is declared twice"))
                                 .with_label(&self.src, first, "first declared here"));
@@ -407,9 +415,12 @@ impl Expander {
                 .err(
                     o.result.span,
                     format!(
-                        "{} result name(s) for {} measurement(s)",
-                        len,
-                        lists.iter().map(Vec::len).max().unwrap_or(0)
+                        "{} for {}",
+                        crate::base::count(len, "result name"),
+                        crate::base::count(
+                            lists.iter().map(Vec::len).max().unwrap_or(0),
+                            "measurement"
+                        )
                     ),
                 )
                 .with_hint("ranges are zipped: `measure z q[0..3] -> m[0..3]`"));
@@ -472,6 +483,38 @@ impl Expander {
         Ok(())
     }
 
+    /// The error for a detector statement inside a loop whose name does not change between
+    /// iterations: its hint indexes the name by the loop variables it lacks (`flagged[r]`).
+    fn repeated_in_loop(&self, r: &Ref, name: &str) -> Diagnostic {
+        let text = self.src.slice(r.span).trim().to_string();
+        let is_word = |w: &str| {
+            text.split(|c: char| !(c.is_ascii_alphanumeric() || c == '_'))
+                .any(|t| t == w)
+        };
+        let missing: Vec<&str> = self
+            .vars
+            .iter()
+            .map(|(v, _)| v.as_str())
+            .filter(|v| !is_word(v))
+            .collect();
+        let suggestion = match text.split_once('[') {
+            _ if missing.is_empty() => None,
+            None => Some(format!("{text}[{}]", missing.join(", "))),
+            Some((base, rest)) => Some(format!("{base}[{}, {rest}", missing.join(", "))),
+        };
+        let d = self.err(
+            r.span,
+            format!("detector `{name}` is declared again on the next iteration of its loop"),
+        );
+        match suggestion {
+            Some(s) => d.with_hint(format!(
+                "each iteration declares a new detector; index its name by the loop variable: \
+                 `detector {s} ...`"
+            )),
+            None => d.with_hint("each iteration declares a new detector; give each its own name"),
+        }
+    }
+
     pub(super) fn noise(
         &mut self,
         st: &Stmt,
@@ -490,36 +533,36 @@ impl Expander {
         };
         let optional =
             |key: &str| -> R<f64> { arg(key).map_or(Ok(0.0), |(_, e)| self.probability(e)) };
-        let Some(kind) = ChannelKind::from_name(channel) else {
+        let Some(kind) = ChannelKind::resolve(channel, args.iter().map(|(k, _)| k.name.as_str()))
+        else {
             return Err(self.err(st.span, format!("unknown noise channel `{channel}`")));
         };
         let ch = match kind {
             ChannelKind::BitFlip => Channel::BitFlip(required("p")?),
             ChannelKind::Dephasing => Channel::Dephasing(required("p")?),
-            ChannelKind::Depolarizing1 => Channel::Depolarizing1(required("p")?),
-            ChannelKind::Depolarizing2 => Channel::Depolarizing2(required("p")?),
-            ChannelKind::Pauli1 => Channel::Pauli1 {
+            ChannelKind::Depolarizing => Channel::Depolarizing(required("p")?),
+            ChannelKind::PairDepolarizing => Channel::PairDepolarizing(required("p")?),
+            ChannelKind::Pauli => Channel::Pauli {
                 px: optional("x")?,
                 py: optional("y")?,
                 pz: optional("z")?,
             },
-            ChannelKind::Pauli2 => {
+            ChannelKind::PairPauli => {
                 let mut probs = [0.0; 15];
                 for (k, e) in args {
                     if let Some(ix) = Pauli::pair_index(&k.name) {
                         probs[ix - 1] = self.probability(e)?;
                     }
                 }
-                Channel::Pauli2(Box::new(probs))
+                Channel::PairPauli(Box::new(probs))
             }
-            ChannelKind::Correlated => {
+            ChannelKind::Joint => {
                 let NoiseTargets::Product(product) = targets else {
-                    return Err(self.err(
-                        st.span,
-                        "`correlated` takes a Pauli product, e.g. `x a * z b`",
-                    ));
+                    return Err(
+                        self.err(st.span, "`joint` takes a Pauli product, e.g. `x a * z b`")
+                    );
                 };
-                Channel::Correlated {
+                Channel::Joint {
                     p: required("p")?,
                     paulis: product.iter().map(|(p, _)| *p).collect(),
                 }
@@ -539,7 +582,7 @@ impl Expander {
                     let q = self.qubits_of(r)?;
                     if q.len() != 1 {
                         return Err(
-                            self.err(r.span, "each factor of a correlated fault names one qubit")
+                            self.err(r.span, "each factor of a joint fault names one qubit")
                         );
                     }
                     qs.push(q[0]);
@@ -616,5 +659,29 @@ impl Expander {
             }
         }
         Ok(complete.then_some(out))
+    }
+}
+
+/// Adds the base names of the results that `st` (and the statements inside it) measure.
+fn refused_results(st: &Stmt, out: &mut std::collections::HashSet<String>) {
+    match &st.kind {
+        StmtKind::Measure { outcomes, .. } => {
+            for o in outcomes {
+                out.insert(o.result.name.name.clone());
+            }
+        }
+        StmtKind::Layer(body) | StmtKind::Round(body) | StmtKind::For { body, .. } => {
+            for s in body {
+                refused_results(s, out);
+            }
+        }
+        StmtKind::If {
+            then, otherwise, ..
+        } => {
+            for s in then.iter().chain(otherwise) {
+                refused_results(s, out);
+            }
+        }
+        _ => {}
     }
 }

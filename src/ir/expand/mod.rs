@@ -39,7 +39,7 @@ mod names;
 #[cfg(test)]
 mod tests;
 
-use std::collections::HashMap;
+use std::collections::{HashMap, HashSet};
 use std::sync::Arc;
 
 use crate::base::{did_you_mean, odd_parity, Diagnostic, Source, Span};
@@ -158,6 +158,9 @@ struct Expander {
     /// Results used before being measured: (name, use span). Resolved at the end to tell
     /// "measured later" from "never measured".
     pending: Vec<(String, Span)>,
+    /// Base names of results measured by statements that were refused: their uses are not
+    /// reported again as undefined.
+    refused: HashSet<String>,
     depth_loop: usize,
 }
 
@@ -197,6 +200,7 @@ impl Expander {
             halted: false,
             errors: Vec::new(),
             pending: Vec::new(),
+            refused: HashSet::new(),
             depth_loop: 0,
         }
     }
@@ -214,6 +218,10 @@ impl Expander {
 
     fn finish(mut self, stmts: &[Stmt]) -> Result<Circuit, Vec<Diagnostic>> {
         for (name, span) in std::mem::take(&mut self.pending) {
+            let base = name.split('[').next().unwrap_or(&name);
+            if self.refused.contains(base) && !self.record_ids.contains_key(&name) {
+                continue;
+            }
             let d = if let Some(&id) = self.record_ids.get(&name) {
                 let rec = &self.records[id as usize];
                 self.err(

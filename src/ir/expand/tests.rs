@@ -37,7 +37,7 @@ fn up_front_count_is_exact() {
          }\nfor i in 0..n {\n  if i % 3 == 0 { measure z q[i, 0] -> m[i] } else { \
          measure x q[i, 1] * x q[i, 0] -> m[i] flip 0.1 }\n}\n\
          layer { reset z q[0..n, 0]; noise depolarizing p=0.1 q[0..n, 1] }\n\
-         noise correlated p=0.1 x z * z q[0, 0]\n\
+         noise joint p=0.1 x z * z q[0, 0]\n\
          detector at (1, 2) = m[0..n] ^ m[0..n]\nobservable o = m[1]\nobservable o ^= m[2..4]\n"
             .into(),
     );

@@ -397,7 +397,7 @@ mod tests {
     fn statements_keep_their_parts_and_comments() {
         let ast = ok(
             "qubit q[0..3] at (1, 2) role data, edge  # note\n\n# own line\n\
-                      noise correlated p=0.1 x q[0] * z q[1]\nmeasure z q[0] -> m flip 0.01\n",
+                      noise joint p=0.1 x q[0] * z q[1]\nmeasure z q[0] -> m flip 0.01\n",
         );
         let kinds: Vec<&StmtKind> = ast.stmts.iter().map(|s| &s.kind).collect();
         assert!(

@@ -4,7 +4,7 @@
 use nom::bytes::complete::tag;
 use nom::{Input, Parser as _};
 
-use crate::base::{did_you_mean, Basis, ChannelKind, Gate, Pauli, Span};
+use crate::base::{did_you_mean, key_arity, Arity, Basis, ChannelKind, Gate, Pauli, Span};
 use crate::lang::ast::{Expr, Ident, NoiseTargets, Outcome, Ref, Stmt, StmtKind};
 use crate::lang::parser::{
     commit, describe, fail, fail_err, is_ident_start, skip_line, span_from, token_len, In, PError,
@@ -141,8 +141,33 @@ impl Parser {
                     name.len(),
                     format!("unknown statement or gate `{name}`"),
                 );
-                if let Some(g) = Gate::from_name(&lower) {
-                    e = e.hint(format!("gate names are lower-case: `{}`", g.name()));
+                if name.chars().any(|c| c.is_ascii_uppercase()) {
+                    // A capitalised word is a habit from elsewhere, not a typo: name the
+                    // lower-case statement or gate it stands for instead of the nearest spelling.
+                    let names: Vec<&str> = candidates.collect();
+                    let exact = names.iter().find(|c| **c == lower);
+                    let starting: Vec<&str> = names
+                        .iter()
+                        .copied()
+                        .filter(|c| c.starts_with(&lower))
+                        .collect();
+                    let list = |v: &[&str]| {
+                        v.iter()
+                            .map(|c| format!("`{c}`"))
+                            .collect::<Vec<_>>()
+                            .join(" or ")
+                    };
+                    let target = match (exact, starting.as_slice()) {
+                        (Some(c), _) => Some(format!("`{c}`")),
+                        (None, [_, ..]) => Some(list(&starting)),
+                        (None, []) => {
+                            did_you_mean(&lower, names.iter().copied()).map(|c| format!("`{c}`"))
+                        }
+                    };
+                    e = e.hint(match target {
+                        Some(t) => format!("names are lower-case: `{name}` → {t}"),
+                        None => "names are lower-case".to_string(),
+                    });
                 } else if let Some(s) = did_you_mean(name, candidates) {
                     e = e.hint(format!("did you mean `{s}`?"));
                 }
@@ -457,21 +482,24 @@ impl Parser {
                 format!("expected a channel name, found {}", describe(&j)),
             );
         };
-        let Some(kind) = ChannelKind::from_name(&channel.name) else {
+        let Some(mut kind) = ChannelKind::from_name(&channel.name) else {
             let mut e = PError::at(
                 &j,
                 channel.name.len(),
                 format!("unknown noise channel `{}`", channel.name),
             );
-            if let Some(s) = did_you_mean(&channel.name, ChannelKind::ALL.map(ChannelKind::name)) {
+            if let Some(s) = did_you_mean(&channel.name, ChannelKind::KEYWORDS) {
                 e = e.hint(format!("did you mean `{s}`?"));
             } else {
-                let names = ChannelKind::ALL.map(ChannelKind::name).join(", ");
+                let names = ChannelKind::KEYWORDS.join(", ");
                 e = e.hint(format!("channels are {names}"));
             }
             return fail_err(e);
         };
         let mut args: Vec<(Ident, Expr)> = Vec::new();
+        // The keys of `pauli` decide its arity: the first key sets it, and a later key of the
+        // other arity is refused at that key.
+        let mut arity = Arity::Open;
         let mut i = i;
         loop {
             let j = self.sp(i);
@@ -481,14 +509,47 @@ impl Parser {
             let Ok((after, _)) = self.punct(after, "=") else {
                 break;
             };
+            if matches!(kind, ChannelKind::Pauli | ChannelKind::PairPauli) {
+                let a = key_arity(&key.name);
+                if a != Arity::Open && arity != Arity::Open && a != arity {
+                    let (first, this) = if a == Arity::Two {
+                        ("one-qubit", "two-qubit")
+                    } else {
+                        ("two-qubit", "one-qubit")
+                    };
+                    return fail_err(
+                        PError::at(
+                            &j,
+                            key.name.len(),
+                            format!(
+                                "`pauli` mixes {first} keys with the {this} key `{}`",
+                                key.name
+                            ),
+                        )
+                        .hint(
+                            "one channel acts on one qubit (`x= y= z=`) or on a pair (`ix= … zz=`); \
+                             write two `noise pauli` statements",
+                        ),
+                    );
+                }
+                if arity == Arity::Open && a != Arity::Open {
+                    arity = a;
+                    kind = if a == Arity::Two {
+                        ChannelKind::PairPauli
+                    } else {
+                        ChannelKind::Pauli
+                    };
+                }
+            }
             if !kind.takes(&key.name) {
                 let mut e = PError::at(
                     &j,
                     key.name.len(),
                     format!("`{}` takes no parameter `{}`", channel.name, key.name),
                 );
-                e = e.hint(if kind == ChannelKind::Pauli2 {
-                    "pauli2 terms are two-letter Pauli names such as `zz=0.01` or `ix=0.001`"
+                e = e.hint(if kind == ChannelKind::Pauli {
+                    "`pauli` takes `x=`, `y=`, `z=` for one qubit, or two-letter Pauli names such \
+                     as `zz=0.01` or `ix=0.001` for a pair"
                         .to_string()
                 } else {
                     format!(
@@ -516,7 +577,7 @@ impl Parser {
             i = after;
         }
         let (i, targets) = if kind.takes_product() {
-            let (i, p) = self.product(i, "noise correlated p=0.01 x a * z b")?;
+            let (i, p) = self.product(i, "noise joint p=0.01 x a * z b")?;
             (i, NoiseTargets::Product(p))
         } else {
             let (mut i, first) = self.group(i, "a target qubit")?;

@@ -298,7 +298,7 @@ pub fn drawing(p: &Pipeline, o: &DrawOptions) -> Result<Drawing, DrawError> {
             Some(Show::Shot(seed)) => View::Shot(shot::shot(p, &tl, &layout, seed)?),
             Some(show) => {
                 let graph = p.graph(&o.extract);
-                if graph.mechanisms.is_empty() {
+                if graph.edges.is_empty() {
                     return Err(shot::no_noise().into());
                 }
                 let ctx = overlay::Context {
@@ -309,8 +309,8 @@ pub fn drawing(p: &Pipeline, o: &DrawOptions) -> Result<Drawing, DrawError> {
                 };
                 let overlay = match show {
                     Show::Edge(k) => {
-                        if k >= graph.mechanisms.len() {
-                            let n = graph.mechanisms.len();
+                        if k >= graph.edges.len() {
+                            let n = graph.edges.len();
                             return Err(Diagnostic::bare(format!(
                                 "there is no edge {k}: the fault graph has {n} (0..{n})"
                             ))
@@ -376,7 +376,7 @@ fn logical_overlay(
                 (
                     format!(
                         "shortest logical error: {} edges (distance {}), flips {}",
-                        c.error.mechanisms.len(),
+                        c.error.edges.len(),
                         count(c),
                         obs(&c.error)
                     ),
@@ -392,7 +392,7 @@ fn logical_overlay(
                     format!(
                         "shortest logical error of high-rate faults: {} edges (high-rate distance \
                          {}), flips {}",
-                        c.error.mechanisms.len(),
+                        c.error.edges.len(),
                         count(c),
                         obs(&c.error)
                     ),
@@ -407,7 +407,7 @@ fn logical_overlay(
                 (
                     format!(
                         "most likely logical error: {} edges, probability product {:.2e}, flips {}",
-                        w.error.mechanisms.len(),
+                        w.error.edges.len(),
                         w.probability,
                         obs(&w.error)
                     ),

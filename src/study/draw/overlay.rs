@@ -54,7 +54,7 @@ fn representative(g: &FaultGraph, k: usize, high: bool) -> &Contributor {
 
 /// The fault's data-qubit Paulis at the end of its round, when they differ from its own.
 fn spread(c: &Circuit, k: &Contributor) -> Vec<(u32, Pauli)> {
-    if k.record.is_some() {
+    if k.result.is_some() {
         return Vec::new();
     }
     let is_data = |q: u32| c.qubits[q as usize].has_role("data");
@@ -179,7 +179,7 @@ impl Context<'_> {
 
     /// Whether a two-qubit fault sits on a gate of its layer (the noise after that gate).
     fn on_gate(&self, k: &Contributor) -> bool {
-        if k.qubits.len() != 2 || k.record.is_some() {
+        if k.qubits.len() != 2 || k.result.is_some() {
             return false;
         }
         self.circuit.layers[k.layer as usize].ops.iter().any(|op| {
@@ -193,7 +193,7 @@ impl Context<'_> {
 
     fn mark(&self, edge: usize, k: &Contributor, number: usize) -> FaultMark {
         let t = &self.timeline.layers[k.layer as usize];
-        let at = if k.record.is_some() {
+        let at = if k.result.is_some() {
             self.flip_place(k)
         } else {
             k.qubits
@@ -227,7 +227,7 @@ impl Context<'_> {
     /// shown by a high-rate fault (a high-rate logical error's edges all have one).
     pub fn logical(&self, title: String, e: &LogicalError, high: bool) -> FaultOverlay {
         let marks = e
-            .mechanisms
+            .edges
             .iter()
             .enumerate()
             .map(|(n, &m)| {
@@ -246,7 +246,7 @@ impl Context<'_> {
     /// merged, and the detectors it flips.
     pub fn edge(&self, k: usize) -> FaultOverlay {
         let g = self.graph;
-        let m = &g.mechanisms[k];
+        let m = &g.edges[k];
         let mut marks: Vec<FaultMark> = Vec::new();
         for c in g.contributors(k) {
             let mark = self.mark(k, c, 0);

@@ -334,7 +334,7 @@ fn an_edge_shows_all_its_faults_and_detectors() {
     let p = pipeline(SURFACE_ALIGNED, Some("circuit p=0.001"));
     let g = p.graph(&ExtractOptions::default());
     // The edge with the most circuit faults: merging may join some, never lose one's place.
-    let k = (0..g.mechanisms.len())
+    let k = (0..g.edges.len())
         .max_by_key(|&k| g.contributors(k).len())
         .unwrap();
     let d = drawing(
@@ -351,7 +351,7 @@ fn an_edge_shows_all_its_faults_and_detectors() {
     };
     assert_eq!(
         o.detectors.iter().map(|x| x.index).collect::<Vec<_>>(),
-        g.mechanisms[k].detectors
+        g.edges[k].detectors
     );
     for c in g.contributors(k) {
         assert!(o
@@ -359,7 +359,7 @@ fn an_edge_shows_all_its_faults_and_detectors() {
             .iter()
             .any(|m| m.layer == c.layer && m.qubits == c.qubits.to_vec()));
     }
-    let n = g.mechanisms.len();
+    let n = g.edges.len();
     let Err(DrawError::Rejected(e)) = drawing(
         &p,
         &DrawOptions {

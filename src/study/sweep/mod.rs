@@ -7,8 +7,8 @@
 //! # Spec
 //! ```toml
 //! seed = 1            # optional, default 0
-//! shots = 100000      # per task (grids may override shots, max_errors, chunk, decoders)
-//! max_errors = 500    # optional early stop per task
+//! shots = 100000      # per task (grids may override shots, until_failures, chunk, decoders)
+//! until_failures = 500 # optional early stop per task
 //! chunk = 20000       # shots per chunk (the unit of resumption), default 16384
 //! decoders = ["mwpm"] # default ["mwpm"]
 //!
@@ -30,7 +30,7 @@
 //! line, the noise text, decoder, chunk size and seed. Chunk `c` of a task samples
 //! `min(chunk, shots − c·chunk)` shots with seed `chunk_seed(key, c)`, so it gives the same counts
 //! on any machine, thread count or run. Chunks run in order; the task stops after the first
-//! chunk at which its failure total reaches `max_errors`.
+//! chunk at which its failure total reaches `until_failures`.
 //!
 //! # Store (JSON Lines)
 //! One [`ChunkRow`] per finished chunk, appended with a single `write` followed by `fsync`. A killed
@@ -43,13 +43,19 @@
 //! # Shards
 //! `--shard k/n` (1 ≤ k ≤ n) runs the tasks whose index in the expanded grid is `k − 1` mod `n`.
 //!
-//! Files: `spec.rs` (spec and tasks), `store.rs` (rows, reading, merging, totals), `run.rs`
-//! (shards and the run).
+//! Every row carries `"version": 2`; rows of version 1 stores are upgraded as they are read
+//! (`legacy.rs`), so old stores still merge and plot. `docs/reference.md` documents the row.
+//!
+//! Files: `spec.rs` (spec and tasks), `store.rs` (rows, reading, merging, totals), `legacy.rs`
+//! (version 1 rows), `run.rs` (shards and the run).
 
+mod legacy;
 mod run;
 mod spec;
 mod store;
 
 pub use run::{run_sweep, Event, Shard};
 pub use spec::{chunk_seed, SweepSpec, Task, DEFAULT_CHUNK};
-pub use store::{aggregate, merge_rows, parse_rows, read_store, ChunkRow, Point, Store};
+pub use store::{
+    aggregate, merge_rows, parse_rows, read_store, ChunkRow, Point, Store, STORE_VERSION,
+};

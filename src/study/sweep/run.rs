@@ -10,7 +10,7 @@ use crate::ir::Limits;
 use crate::study::montecarlo::{Experiment, RunOptions};
 use crate::study::pipeline::Pipeline;
 use crate::study::sweep::spec::{SweepSpec, Task};
-use crate::study::sweep::store::{ChunkRow, Store};
+use crate::study::sweep::store::{ChunkRow, Store, STORE_VERSION};
 
 /// A `k/n` shard (1 ≤ k ≤ n).
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -51,7 +51,7 @@ pub enum Event<'a> {
     Chunk(&'a Task, &'a ChunkRow),
     /// The noise model has warnings about the task's circuit (once per task run).
     Warnings(&'a Task, &'a [Diagnostic]),
-    /// A task is complete (all shots, or enough errors): its totals.
+    /// A task is complete (all shots, or enough failures): its totals.
     TaskDone(&'a Task, u64, u64),
 }
 
@@ -93,14 +93,14 @@ fn run_task(
     on_event: &(dyn Fn(Event) + Sync),
 ) -> Result<(), Diagnostic> {
     let mut exp: Option<Experiment> = None;
-    let (mut shots, mut errors) = (0u64, 0u64);
+    let (mut shots, mut failures) = (0u64, 0u64);
     for c in 0..task.chunks() {
-        if task.max_errors.is_some_and(|k| errors >= k) {
+        if task.until_failures.is_some_and(|k| failures >= k) {
             break;
         }
         if let Some(r) = prior.get(&c) {
             shots += r.shots;
-            errors += r.errors;
+            failures += r.failures;
             continue;
         }
         if exp.is_none() {
@@ -112,16 +112,17 @@ fn run_task(
         let counts = e.run(
             &RunOptions {
                 shots: n,
-                max_errors: None,
+                until_failures: None,
                 seed,
             },
             |_| {},
         );
         let row = ChunkRow {
+            version: STORE_VERSION,
             task: task.key.clone(),
             chunk: c,
             shots: counts.shots,
-            errors: counts.errors,
+            failures: counts.failures,
             seed,
             label: task.label.clone(),
             family: task.gen.family.name().to_string(),
@@ -135,9 +136,9 @@ fn run_task(
         store.append(&row)?;
         on_event(Event::Chunk(task, &row));
         shots += counts.shots;
-        errors += counts.errors;
+        failures += counts.failures;
     }
-    on_event(Event::TaskDone(task, shots, errors));
+    on_event(Event::TaskDone(task, shots, failures));
     Ok(())
 }
 

@@ -31,7 +31,7 @@ struct GridToml {
     family: String,
     flip: Option<String>,
     label: Option<String>,
-    max_errors: Option<u64>,
+    until_failures: Option<u64>,
     noise: String,
     order: Option<String>,
     p: Vec<f64>,
@@ -49,7 +49,7 @@ struct SpecToml {
     decoders: Option<Vec<String>>,
     /// Spanned so that a mistake inside one grid points at that grid.
     grid: Vec<toml::Spanned<GridToml>>,
-    max_errors: Option<u64>,
+    until_failures: Option<u64>,
     seed: Option<u64>,
     shots: Option<u64>,
     store: Option<String>,
@@ -77,7 +77,7 @@ pub struct Task {
     /// Shots to run at most.
     pub shots: u64,
     /// Early stop after this many failures.
-    pub max_errors: Option<u64>,
+    pub until_failures: Option<u64>,
     /// Shots per chunk.
     pub chunk: u64,
     /// Seed of the sweep.
@@ -154,7 +154,7 @@ impl SweepSpec {
             if chunk == 0 {
                 return Err(at("`chunk` must be at least 1".into()));
             }
-            let max_errors = g.max_errors.or(raw.max_errors);
+            let until_failures = g.until_failures.or(raw.until_failures);
             let decoders = g
                 .decoders
                 .clone()
@@ -251,7 +251,7 @@ impl SweepSpec {
                                 noise,
                                 decoder,
                                 shots,
-                                max_errors,
+                                until_failures,
                                 chunk,
                                 seed,
                             });

@@ -9,9 +9,15 @@ use std::sync::{Arc, Mutex};
 
 use crate::base::{Diagnostic, Source, Span};
 
+/// Version of the store format written in every row. Version 1 rows (no `version` key, the
+/// failure count named differently) are still read: see `legacy.rs`.
+pub const STORE_VERSION: u32 = 2;
+
 /// One finished chunk of a task: a line of the store.
 #[derive(Clone, Debug, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct ChunkRow {
+    /// Store format version ([`STORE_VERSION`] for rows written now).
+    pub version: u32,
     /// Task key.
     pub task: String,
     /// Chunk index within the task.
@@ -19,7 +25,7 @@ pub struct ChunkRow {
     /// Shots sampled in this chunk.
     pub shots: u64,
     /// Logical failures among them.
-    pub errors: u64,
+    pub failures: u64,
     /// Sampler seed of the chunk.
     pub seed: u64,
     /// Curve label.
@@ -53,15 +59,19 @@ pub fn parse_rows(source: &Arc<Source>) -> Result<(Vec<ChunkRow>, usize), Diagno
         let body = line.trim_end();
         if !body.is_empty() {
             let span = Span::new(offset, offset + body.len());
-            let row: ChunkRow = serde_json::from_str(body)
-                .map_err(|e| Diagnostic::error(source, span, format!("not a results row: {e}")))?;
-            if row.errors > row.shots {
+            let bad = |e: serde_json::Error| {
+                Diagnostic::error(source, span, format!("not a results row: {e}"))
+            };
+            let mut value: serde_json::Value = serde_json::from_str(body).map_err(bad)?;
+            super::legacy::upgrade(&mut value, STORE_VERSION);
+            let row: ChunkRow = serde_json::from_value(value).map_err(bad)?;
+            if row.failures > row.shots {
                 return Err(Diagnostic::error(
                     source,
                     span,
                     format!(
-                        "damaged results row: {} errors in {} shots",
-                        row.errors, row.shots
+                        "damaged results row: {} failures in {} shots",
+                        row.failures, row.shots
                     ),
                 ));
             }
@@ -147,12 +157,12 @@ pub fn merge_rows(lists: impl IntoIterator<Item = Vec<ChunkRow>>) -> (Vec<ChunkR
         for r in list {
             match seen.get(&(r.task.clone(), r.chunk)) {
                 Some(&(s, e)) => {
-                    if (s, e) != (r.shots, r.errors) {
+                    if (s, e) != (r.shots, r.failures) {
                         conflicts += 1;
                     }
                 }
                 None => {
-                    seen.insert((r.task.clone(), r.chunk), (r.shots, r.errors));
+                    seen.insert((r.task.clone(), r.chunk), (r.shots, r.failures));
                     out.push(r);
                 }
             }
@@ -181,7 +191,7 @@ pub struct Point {
     /// Total shots.
     pub shots: u64,
     /// Total logical failures.
-    pub errors: u64,
+    pub failures: u64,
 }
 
 impl Point {
@@ -209,10 +219,10 @@ pub fn aggregate(rows: &[ChunkRow]) -> Vec<Point> {
             rounds: r.rounds,
             p: r.p,
             shots: 0,
-            errors: 0,
+            failures: 0,
         });
         p.shots += r.shots;
-        p.errors += r.errors;
+        p.failures += r.failures;
     }
     let mut points: Vec<Point> = by_task.into_values().collect();
     points.sort_by(|a, b| {
@@ -230,10 +240,11 @@ mod tests {
     #[test]
     fn torn_last_line_is_ignored_and_duplicates_merge() {
         let row = |c: u64, e: u64| ChunkRow {
+            version: STORE_VERSION,
             task: "t".into(),
             chunk: c,
             shots: 10,
-            errors: e,
+            failures: e,
             seed: 1,
             label: "l".into(),
             family: "surface".into(),
@@ -258,9 +269,9 @@ mod tests {
         let text = parse_rows(&Source::new("r.jsonl", format!("{line}\n{bad}\n")))
             .unwrap_err()
             .render();
-        assert!(text.contains("11 errors in 10 shots"), "{text}");
+        assert!(text.contains("11 failures in 10 shots"), "{text}");
         assert!(text.contains("r.jsonl:2:1"), "{text}");
         let pts = aggregate(&merged);
-        assert_eq!((pts[0].shots, pts[0].errors), (20, 5));
+        assert_eq!((pts[0].shots, pts[0].failures), (20, 5));
     }
 }

@@ -1,11 +1,11 @@
-//! Decomposition of hyperedges for matching decoders.
+//! Split of hyperedges for matching decoders.
 //!
-//! In: a [`crate::faults::FaultGraph`] whose mechanisms may flip more than two detectors, and for each such
-//! mechanism the *atoms* of a few contributors: the symptoms of the X and Z parts of each factor
-//! of its Pauli term. Out: the graph's `decompositions` and `hyperedges`.
+//! In: a [`crate::faults::FaultGraph`] whose edges may flip more than two detectors, and for each such
+//! edge the *atoms* of a few contributors: the symptoms of the X and Z parts of each factor
+//! of its Pauli term. Out: the graph's `splits` and `hyperedges`.
 //!
-//! A hyperedge is split into parts that are each *existing* graphlike mechanisms — one or two
-//! detectors with exactly the observables of a mechanism that has those detectors — so the
+//! A hyperedge is split into parts that are each *existing* matchable edges — one or two
+//! detectors with exactly the observables of a edge that has those detectors — so the
 //! matching graph gains no edge that the circuit cannot produce on its own. XOR over the parts
 //! is the whole symptom, observables included, so the observables split consistently.
 //!
@@ -14,13 +14,13 @@
 //!    and its Z part; a two-qubit `XZ` into X on one qubit and Z on the other). Every grouping
 //!    of up to [`MAX_ATOMS`] atoms is tried and the finest valid one wins. In a CSS code this
 //!    splits every circuit-level fault of a memory experiment (common practice).
-//! 2. **By detectors**: cover the detectors by existing one- and two-detector mechanisms whose
+//! 2. **By detectors**: cover the detectors by existing one- and two-detector edges whose
 //!    observables XOR to the whole (searched exhaustively for up to [`MAX_SEARCH`] detectors).
 //!
-//! Hyperedges neither strategy splits are listed in [`HyperedgeStats::undecomposed`].
+//! Hyperedges neither strategy splits are listed in [`HyperedgeStats::unsplit`].
 
 use crate::faults::extract::Extracted;
-use crate::faults::graph::{Decomposition, HyperedgeStats};
+use crate::faults::graph::{HyperedgeStats, Split};
 use crate::faults::intern::FxMap;
 
 /// Largest number of atoms whose groupings are enumerated (Bell number 203 at 6).
@@ -28,29 +28,29 @@ pub const MAX_ATOMS: usize = 6;
 /// Largest number of detectors covered by the detector search.
 pub const MAX_SEARCH: usize = 8;
 
-/// Existing graphlike mechanisms: detector set → (observables, mechanism index) of each.
+/// Existing matchable edges: detector set → (observables, edge index) of each.
 type Index = FxMap<Vec<u32>, Vec<(Vec<u32>, u32)>>;
 
-/// Fills in the decompositions of every hyperedge of the extracted graph.
-pub(crate) fn decompose(ex: &mut Extracted) {
+/// Fills in the splits of every hyperedge of the extracted graph.
+pub(crate) fn split_hyperedges(ex: &mut Extracted) {
     let graph = &ex.graph;
     let mut old_of = vec![0u32; ex.rank.len()];
     for (old, &r) in ex.rank.iter().enumerate() {
         old_of[r as usize] = old as u32;
     }
-    // An atom is a graphlike part iff its whole symptom (detectors and observables) is that of
-    // a mechanism with one or two detectors: one lookup in the extractor's symptom table.
+    // An atom is a matchable part iff its whole symptom (detectors and observables) is that of
+    // a edge with one or two detectors: one lookup in the extractor's symptom table.
     let lookup = |sym: &[u32]| -> Option<u32> {
         let r = ex.rank[ex.symptoms.find(sym)? as usize];
         (1..=2)
-            .contains(&graph.mechanisms[r as usize].detectors.len())
+            .contains(&graph.edges[r as usize].detectors.len())
             .then_some(r)
     };
     // Only built if some hyperedge needs the detector search.
     let mut index: Option<Index> = None;
     let mut stats = HyperedgeStats::default();
     let mut out = Vec::new();
-    for (k, m) in graph.mechanisms.iter().enumerate() {
+    for (k, m) in graph.edges.iter().enumerate() {
         if m.detectors.len() <= 2 {
             continue;
         }
@@ -71,7 +71,7 @@ pub(crate) fn decompose(ex: &mut Extracted) {
             }
             let index = index.get_or_insert_with(|| {
                 let mut ix = Index::default();
-                for (r, m) in graph.mechanisms.iter().enumerate() {
+                for (r, m) in graph.edges.iter().enumerate() {
                     if (1..=2).contains(&m.detectors.len()) {
                         ix.entry(m.detectors.clone())
                             .or_default()
@@ -84,16 +84,16 @@ pub(crate) fn decompose(ex: &mut Extracted) {
         });
         match parts {
             Some(parts) => {
-                stats.decomposed += 1;
-                out.push(Decomposition {
-                    mechanism: k as u32,
+                stats.split += 1;
+                out.push(Split {
+                    edge: k as u32,
                     parts,
                 });
             }
-            None => stats.undecomposed.push(k as u32),
+            None => stats.unsplit.push(k as u32),
         }
     }
-    ex.graph.decompositions = out;
+    ex.graph.splits = out;
     ex.graph.hyperedges = stats;
 }
 
@@ -101,8 +101,8 @@ fn xor(a: &[u32], b: &[u32]) -> Vec<u32> {
     crate::base::xor_sets(a, b)
 }
 
-/// Finest grouping of the atoms whose blocks are all graphlike mechanisms (as found by
-/// `lookup`, which maps a whole symptom to a mechanism index); returns the parts' indices.
+/// Finest grouping of the atoms whose blocks are all matchable edges (as found by
+/// `lookup`, which maps a whole symptom to a edge index); returns the parts' indices.
 fn split_by_atoms(atoms: &[&[u32]], lookup: &dyn Fn(&[u32]) -> Option<u32>) -> Option<Vec<u32>> {
     let n = atoms.len();
     if n < 2 {
@@ -153,8 +153,8 @@ fn split_by_atoms(atoms: &[&[u32]], lookup: &dyn Fn(&[u32]) -> Option<u32>) -> O
     }
 }
 
-/// Covers `dets` exactly by existing one- and two-detector mechanisms whose observables XOR to
-/// `obs`; returns the mechanisms' indices. The lowest uncovered detector is always covered
+/// Covers `dets` exactly by existing one- and two-detector edges whose observables XOR to
+/// `obs`; returns the edges' indices. The lowest uncovered detector is always covered
 /// next, so each cover is tried once.
 fn split_by_detectors(dets: &[u32], obs: &[u32], index: &Index) -> Option<Vec<u32>> {
     if dets.is_empty() {
@@ -211,7 +211,7 @@ mod tests {
 
     #[test]
     fn coarser_grouping_when_atoms_alone_do_not_exist() {
-        // Atoms {0},{1},{2,3}: {0} and {1} are not mechanisms, but {0,1} is.
+        // Atoms {0},{1},{2,3}: {0} and {1} are not edges, but {0,1} is.
         let known: Vec<Vec<u32>> = vec![vec![0, 1], vec![2, 3]];
         let lookup = |s: &[u32]| known.iter().position(|k| k == s).map(|i| i as u32);
         let atoms: [&[u32]; 3] = [&[0], &[1], &[2, 3]];
