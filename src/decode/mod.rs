@@ -23,6 +23,7 @@
 pub mod matching;
 pub mod plot;
 pub mod run;
+pub mod sparse;
 pub mod stats;
 pub mod sweep;
 pub mod threshold;
@@ -34,7 +35,8 @@ use std::sync::Mutex;
 
 pub use crate::faults::{MatchingEdge, MatchingGraph};
 
-pub use matching::Mwpm;
+pub use matching::ReferenceMwpm;
+pub use sparse::Mwpm;
 pub use unionfind::UnionFind;
 
 /// The result of decoding one shot.
@@ -56,7 +58,7 @@ pub trait Decoder: Send + Sync {
 /// Which decoder to build.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
 pub enum DecoderKind {
-    /// Exact minimum-weight perfect matching ([`Mwpm`]).
+    /// Exact minimum-weight perfect matching ([`Mwpm`], grown on the sparse graph).
     Mwpm,
     /// Weighted union-find with peeling ([`UnionFind`]).
     UnionFind,

@@ -1,0 +1,156 @@
+//! The detector graph in the form the sparse matcher walks: integer weights, compact adjacency
+//! and observable masks.
+//!
+//! In: a [`Prepared`] graph (boundary node `n`, non-negative `f64` weights, flipped and dropped
+//! edges already handled). Out: a [`SparseGraph`] whose edge lengths are even integers.
+//!
+//! Weights are quantised once per graph: `q(e) = round(w(e) · 2^20 / w_max)`, so the heaviest
+//! edge is `2^20` units long and one unit is `w_max / 2^20` (the *quantum*). The matcher then
+//! works with `2 q(e)`: with every length even, two regions growing towards each other always
+//! meet after a whole number of time units (see the module docs of [`super`]), so every
+//! radius and every event time is an exact integer.
+
+use crate::decode::Prepared;
+
+/// Bits of resolution: the heaviest edge is `2^RESOLUTION_BITS` units long.
+pub const RESOLUTION_BITS: u32 = 20;
+
+/// One adjacency entry: the neighbour, the doubled integer length and the edge index.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub(crate) struct Adj {
+    /// Neighbouring node (`n` is the boundary).
+    pub node: u32,
+    /// Twice the quantised weight of the edge.
+    pub len: u32,
+    /// Index of the edge in [`Prepared::ends`].
+    pub edge: u32,
+}
+
+/// The matcher's view of a graph; immutable and shared by every shot.
+#[derive(Debug)]
+pub(crate) struct SparseGraph {
+    /// The validated graph (events are normalised through it).
+    pub prepared: Prepared,
+    /// `adj[adj_start[v]..adj_start[v + 1]]` are the edges of node `v` (`v <= n`).
+    pub adj_start: Vec<u32>,
+    /// Adjacency entries.
+    pub adj: Vec<Adj>,
+    /// Quantised weight of each edge (not doubled); read by the tests.
+    #[cfg_attr(not(test), allow(dead_code))]
+    pub weight: Vec<u32>,
+    /// Observable masks: word `k` of edge `e` is `masks[e * words + k]` (observables
+    /// `64k..64k + 64`).
+    pub masks: Vec<u64>,
+    /// Mask words per edge (at least 1).
+    pub words: usize,
+    /// The real weight of one integer unit.
+    pub quantum: f64,
+}
+
+impl SparseGraph {
+    /// Quantises the weights of `prepared` so that the heaviest edge is `2^bits` units long
+    /// (`bits <= 20`) and builds the adjacency.
+    pub fn new(prepared: Prepared, num_observables: usize, bits: u32) -> SparseGraph {
+        let w_max = prepared.weight.iter().copied().fold(0.0, f64::max);
+        let top = f64::from(1u32 << bits.min(RESOLUTION_BITS));
+        let scale = if w_max > 0.0 { top / w_max } else { 1.0 };
+        let weight: Vec<u32> = prepared
+            .weight
+            .iter()
+            .map(|&w| (w * scale).round().clamp(0.0, top) as u32)
+            .collect();
+        let words = num_observables.div_ceil(64).max(1);
+        let edges = prepared.ends.len();
+        let mut masks = vec![0u64; edges * words];
+        for e in 0..edges {
+            for &o in prepared.edge_observables(e) {
+                masks[e * words + o as usize / 64] ^= 1 << (o % 64);
+            }
+        }
+        let adj = prepared
+            .adj
+            .iter()
+            .map(|&(node, edge)| Adj {
+                node,
+                len: 2 * weight[edge as usize],
+                edge,
+            })
+            .collect();
+        SparseGraph {
+            adj_start: prepared.adj_start.clone(),
+            adj,
+            weight,
+            masks,
+            words,
+            quantum: 1.0 / scale,
+            prepared,
+        }
+    }
+
+    /// Number of detectors; node `n` is the boundary.
+    #[inline]
+    pub fn n(&self) -> usize {
+        self.prepared.n
+    }
+
+    /// The edges of node `v`.
+    #[inline]
+    pub fn neighbours(&self, v: u32) -> &[Adj] {
+        let v = v as usize;
+        &self.adj[self.adj_start[v] as usize..self.adj_start[v + 1] as usize]
+    }
+
+    /// Word `window` of the observable mask of edge `e`.
+    #[inline]
+    pub fn mask(&self, e: u32, window: usize) -> u64 {
+        self.masks[e as usize * self.words + window]
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::decode::{MatchingEdge, MatchingGraph};
+
+    #[test]
+    fn heaviest_edge_maps_to_full_resolution() {
+        let g = MatchingGraph {
+            num_detectors: 2,
+            num_observables: 70,
+            edges: vec![
+                MatchingEdge {
+                    a: 0,
+                    b: Some(1),
+                    p: 0.01,
+                    observables: vec![3, 69],
+                },
+                MatchingEdge {
+                    a: 1,
+                    b: None,
+                    p: 0.1,
+                    observables: vec![],
+                },
+                MatchingEdge {
+                    a: 0,
+                    b: None,
+                    p: 0.5,
+                    observables: vec![],
+                },
+            ],
+        };
+        let s = SparseGraph::new(
+            Prepared::new(&g).unwrap(),
+            g.num_observables,
+            RESOLUTION_BITS,
+        );
+        // Edges sorted by endpoints: (0,1), (0,2=boundary), (1,2).
+        assert_eq!(s.weight[0], 1 << RESOLUTION_BITS);
+        assert_eq!(s.weight[1], 0);
+        let want = (9f64.ln() / 99f64.ln() * f64::from(1 << RESOLUTION_BITS)).round() as u32;
+        assert_eq!(s.weight[2], want);
+        assert!((s.quantum * f64::from(1u32 << RESOLUTION_BITS) - 99f64.ln()).abs() < 1e-12);
+        assert_eq!(s.words, 2);
+        assert_eq!((s.mask(0, 0), s.mask(0, 1)), (1 << 3, 1 << 5));
+        assert_eq!(s.neighbours(0)[0].len, 2 << RESOLUTION_BITS);
+    }
+}

@@ -1,0 +1,207 @@
+//! Per-shot state of the sparse matcher and its main loop.
+//!
+//! The state is split by concept over several files that all extend [`Solver`]:
+//! `flooder.rs` grows and shrinks regions on the graph and turns contacts into matcher calls,
+//! `matcher.rs` keeps the alternating trees, blossoms and matches, and `extract.rs` reads the
+//! final matching out of the region structure. This file holds the shared state, the event
+//! loop and the reset between shots.
+//!
+//! Every array indexed by node is sized once for the graph and restored after each shot
+//! through the list of touched nodes, so a shot costs time proportional to the area its
+//! regions covered, not to the graph.
+
+use super::graph::SparseGraph;
+use super::queue::RadixHeap;
+use super::region::{Kind, Region, NONE};
+
+/// Time value meaning "never".
+pub(crate) const NEVER: i64 = i64::MAX;
+/// Queue items with this bit set are region shrink events; others are node events.
+pub(crate) const REGION_EVENT: u32 = 1 << 31;
+
+/// What the flooder knows about one graph node.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub(crate) struct NodeState {
+    /// The top region whose area holds the node ([`NONE`]: not reached).
+    pub top: u32,
+    /// The detection event the node was reached from.
+    pub source: u32,
+    /// Sum of the radii of the regions between the source and `top` (excluded), minus `dist`:
+    /// the node's *local radius* is `wrapped + radius(top)`, how far the area extends beyond
+    /// the node.
+    pub wrapped: i64,
+    /// Length of the path by which the node was reached from its source.
+    pub dist: i64,
+    /// Observable mask of that path.
+    pub mask: u64,
+    /// Time of the node's pending event ([`NEVER`]: none).
+    pub next: i64,
+}
+
+/// A node no region has reached.
+pub(crate) const FRESH: NodeState = NodeState {
+    top: NONE,
+    source: NONE,
+    wrapped: 0,
+    dist: 0,
+    mask: 0,
+    next: NEVER,
+};
+
+/// The matching found for one shot in one observable window.
+#[derive(Clone, Debug, Default, PartialEq, Eq)]
+pub(crate) struct Outcome {
+    /// Matched pairs of events; the second is [`super::region::BOUNDARY`] for the boundary.
+    pub pairs: Vec<(u32, u32)>,
+    /// Sum of the doubled lengths of the matched paths.
+    pub len: i64,
+    /// XOR of the observable masks of the matched paths.
+    pub mask: u64,
+    /// Events left without a partner (one per odd component without boundary).
+    pub unmatched: u32,
+    /// Sum of all region radii at the end: the dual objective (doubled units).
+    pub dual: i64,
+}
+
+/// Scratch space for decoding shots on one graph; reused from shot to shot.
+#[derive(Debug)]
+pub(crate) struct Solver {
+    pub nodes: Vec<NodeState>,
+    /// Trivial region of each event node during a shot ([`NONE`] otherwise).
+    pub event_region: Vec<u32>,
+    /// Nodes whose state must be restored after the shot (may repeat).
+    pub touched: Vec<u32>,
+    /// Region arena; `regions[..live]` are in use.
+    pub regions: Vec<Region>,
+    pub live: usize,
+    pub queue: RadixHeap,
+    /// Current time.
+    pub t: i64,
+    /// Stamp for region marks.
+    pub stamp: u32,
+    /// Which 64-observable window of the edge masks this run tracks.
+    pub window: usize,
+    /// Scratch lists for area walks and tree walks.
+    pub area: Vec<u32>,
+    pub stack: Vec<u32>,
+    pub path_a: Vec<u32>,
+    pub path_b: Vec<u32>,
+    pub expand: Vec<(u32, u32)>,
+    /// The shot's normalised events.
+    pub events: Vec<u32>,
+    pub outcome: Outcome,
+}
+
+impl Solver {
+    /// Scratch space for a graph of `n` detectors (plus the boundary).
+    pub fn new(n: usize) -> Solver {
+        Solver {
+            nodes: vec![FRESH; n + 1],
+            event_region: vec![NONE; n + 1],
+            touched: Vec::new(),
+            regions: Vec::new(),
+            live: 0,
+            queue: RadixHeap::new(),
+            t: 0,
+            stamp: 0,
+            window: 0,
+            area: Vec::new(),
+            stack: Vec::new(),
+            path_a: Vec::new(),
+            path_b: Vec::new(),
+            expand: Vec::new(),
+            events: Vec::new(),
+            outcome: Outcome::default(),
+        }
+    }
+
+    /// Allocates a fresh region and returns its index.
+    pub fn new_region(&mut self) -> u32 {
+        if self.live == self.regions.len() {
+            self.regions.push(Region::fresh());
+        } else {
+            self.regions[self.live].reset();
+        }
+        self.live += 1;
+        (self.live - 1) as u32
+    }
+
+    /// The region `r`.
+    #[inline]
+    pub fn reg(&self, r: u32) -> &Region {
+        &self.regions[r as usize]
+    }
+
+    /// The region `r`, mutably.
+    #[inline]
+    pub fn reg_mut(&mut self, r: u32) -> &mut Region {
+        &mut self.regions[r as usize]
+    }
+
+    /// Finds a minimum-weight matching of `events` (sorted, distinct, in range) tracking
+    /// observable window `window`; the result is left in `self.outcome`.
+    pub fn solve(&mut self, g: &SparseGraph, events: &[u32], window: usize) {
+        self.reset();
+        self.window = window;
+        for &s in events {
+            let r = self.new_region();
+            let reg = self.reg_mut(r);
+            reg.event = s;
+            reg.kind = Kind::Outer;
+            reg.slope = 1;
+            self.nodes[s as usize] = NodeState {
+                top: r,
+                source: s,
+                ..FRESH
+            };
+            self.event_region[s as usize] = r;
+            self.touched.push(s);
+        }
+        for &s in events {
+            self.look_at(g, s);
+        }
+        while let Some((time, item)) = self.queue.pop() {
+            self.t = time as i64;
+            if item & REGION_EVENT != 0 {
+                self.shrink_event(g, item & !REGION_EVENT);
+            } else {
+                self.node_event(g, item);
+            }
+        }
+        self.extract();
+    }
+
+    /// Restores the state left by the previous shot.
+    fn reset(&mut self) {
+        for &v in &self.touched {
+            self.nodes[v as usize] = FRESH;
+            self.event_region[v as usize] = NONE;
+        }
+        self.touched.clear();
+        self.live = 0;
+        self.queue.clear();
+        self.t = 0;
+        self.outcome.pairs.clear();
+        self.outcome.len = 0;
+        self.outcome.mask = 0;
+        self.outcome.unmatched = 0;
+        self.outcome.dual = 0;
+    }
+
+    /// Puts the nodes of the area of region `r` (its own shell and source, and those of every
+    /// region nested inside it) into `out`.
+    pub fn collect_area(&mut self, r: u32, out: &mut Vec<u32>) {
+        let mut stack = std::mem::take(&mut self.stack);
+        stack.clear();
+        stack.push(r);
+        while let Some(x) = stack.pop() {
+            let reg = &self.regions[x as usize];
+            if reg.event != NONE {
+                out.push(reg.event);
+            }
+            out.extend_from_slice(&reg.shell);
+            stack.extend(reg.cycle.iter().map(|&(c, _)| c));
+        }
+        self.stack = stack;
+    }
+}
