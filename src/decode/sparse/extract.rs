@@ -37,7 +37,7 @@ impl Solver {
             let mut sum = 0;
             let mut y = x;
             while y != NONE {
-                sum += self.reg(y).radius(self.t);
+                sum += self.radius(y);
                 y = self.reg(y).blossom_parent;
             }
             if sum > best.0 || (sum == best.0 && reg.event < best.1) {
@@ -50,7 +50,6 @@ impl Solver {
 
     /// Fills `self.outcome` from the final region structure.
     pub fn extract(&mut self) {
-        let t = self.t;
         let mut expand = std::mem::take(&mut self.expand);
         expand.clear();
         for r in 0..self.live as u32 {
@@ -58,7 +57,8 @@ impl Solver {
             if !reg.alive {
                 continue;
             }
-            let (y, top, mate, e) = (reg.radius(t), reg.is_top(), reg.mate, reg.mate_edge);
+            let (top, mate, e) = (reg.is_top(), reg.mate, reg.mate_edge);
+            let y = self.radius(r);
             self.outcome.dual += y;
             if !top {
                 continue;

@@ -8,77 +8,70 @@
 //!   matcher must handle), which happens only if their slopes add up to more than zero;
 //! - `u` the boundary: `v`'s region touches it when `r(v) = w`.
 //!
-//! A node keeps at most one *pending* event in the queue: the earliest such time over its
-//! edges. The time is stored on the node; a popped event whose time no longer matches is stale
-//! and is dropped, so events never need to be removed from the queue. When a region's slope
-//! goes up (it starts growing, or stops shrinking), some contacts come earlier, so every node of
-//! its area is looked at again; when a slope goes down, events only get later, and the stale
-//! early events simply re-scan their node when they fire.
+//! Every contact needs a growing side, so only nodes of growing regions keep a *pending*
+//! event in the queue: the earliest such time over their edges. The time is stored on the
+//! node; a popped event whose time no longer matches is stale and is dropped, so events never
+//! need to be removed from the queue. Invariant: every node of a growing region has its pending
+//! event no later than its first interaction. Whatever can bring an interaction forward
+//! restores it: a region starting to grow looks at its whole area and at the growing nodes
+//! next to it; a node being taken or given back, or a shrinking region stopping, looks at the
+//! growing nodes next to it. When a slope goes down, events only get later, and the stale
+//! early events simply re-scan their node when they fire (or are dropped if it stopped growing).
 
-use super::graph::{Adj, SparseGraph};
+use super::graph::SparseGraph;
 use super::region::{Edge, BOUNDARY, NONE};
 use super::solver::{Solver, NEVER, REGION_EVENT};
 
 impl Solver {
-    /// The earliest time at which node `v` (owned) interacts along one of its edges, and the
-    /// first edge (in adjacency order) doing so at that time.
+    /// The earliest time at which owned node `v` interacts along one of its edges, and the
+    /// position in `v`'s adjacency of the first edge doing so at that time. The boundary node
+    /// is never owned, so it looks like an empty node here.
     #[inline]
-    fn scan(&self, g: &SparseGraph, v: u32) -> (i64, Adj) {
-        let boundary = g.n() as u32;
+    fn scan(&self, g: &SparseGraph, v: u32) -> (i64, usize) {
         let t = self.t;
-        let s = &self.nodes[v as usize];
-        let top = s.top;
-        let reg = &self.regions[top as usize];
-        let slope = reg.slope;
-        let rv = s.wrapped + reg.radius(t);
+        let top = self.top[v as usize];
+        let rad = self.rad[top as usize];
+        debug_assert!(rad.slope > 0);
+        let rv = self.nodes[v as usize].wrapped + rad.at(t);
         let mut best = NEVER;
-        let mut which = Adj {
-            node: NONE,
-            len: 0,
-            edge: NONE,
-        };
-        for &a in g.neighbours(v) {
-            let u = a.node;
-            let w = i64::from(a.len);
-            let when = if u == boundary {
-                if slope <= 0 {
-                    continue;
-                }
+        let mut which = usize::MAX;
+        for (i, a) in g.neighbours(v).iter().enumerate() {
+            let tu = self.top[a.node as usize];
+            if tu == top {
+                continue;
+            }
+            let w = a.len();
+            let when = if tu == NONE {
                 t + w - rv
             } else {
-                let su = &self.nodes[u as usize];
-                if su.top == NONE {
-                    if slope <= 0 {
-                        continue;
-                    }
-                    t + w - rv
-                } else if su.top == top {
+                let other = self.rad[tu as usize];
+                let ss = 1 + other.slope;
+                if ss <= 0 {
                     continue;
-                } else {
-                    let other = &self.regions[su.top as usize];
-                    let ss = slope + other.slope;
-                    if ss <= 0 {
-                        continue;
-                    }
-                    let gap = w - rv - (su.wrapped + other.radius(t));
-                    debug_assert!(gap >= 0, "regions overlap on edge {}", a.edge);
-                    // Two growing regions meet halfway; lengths being even keeps this exact.
-                    debug_assert!(gap % ss == 0, "odd gap {gap} between growing regions");
-                    t + (gap >> (ss - 1))
                 }
+                let gap = w - rv - (self.nodes[a.node as usize].wrapped + other.at(t));
+                debug_assert!(gap >= 0, "regions overlap at node {v}");
+                // Two growing regions meet halfway; lengths being even keeps this exact.
+                debug_assert!(gap % ss == 0, "odd gap {gap} between growing regions");
+                t + (gap >> (ss - 1))
             };
             if when < best {
                 best = when;
-                which = a;
+                which = i;
             }
         }
         (best, which)
     }
 
-    /// Recomputes and schedules the pending event of owned node `v`.
+    /// Recomputes and schedules the pending event of owned node `v`. Only nodes of growing
+    /// regions keep events: every contact needs a growing side, and that side finds it.
     #[inline]
     pub fn look_at(&mut self, g: &SparseGraph, v: u32) {
-        let (best, _) = self.scan(g, v);
+        let best = if self.rad[self.top[v as usize] as usize].slope > 0 {
+            self.scan(g, v).0
+        } else {
+            NEVER
+        };
         let s = &mut self.nodes[v as usize];
         if best != s.next {
             s.next = best;
@@ -88,85 +81,112 @@ impl Solver {
         }
     }
 
-    /// Handles a popped node event: every interaction of `v` due now, one at a time.
+    /// Handles a popped node event: claims every empty neighbour due now, then hands the first
+    /// contact due now (if any) to the matcher and reschedules.
     pub fn node_event(&mut self, g: &SparseGraph, v: u32) {
-        if self.nodes[v as usize].next != self.t {
+        let t = self.t;
+        if self.nodes[v as usize].next != t {
             return;
         }
         self.nodes[v as usize].next = NEVER;
-        loop {
-            let top = self.nodes[v as usize].top;
-            if top == NONE {
-                return;
+        let top = self.top[v as usize];
+        if top == NONE {
+            return;
+        }
+        let rad = self.rad[top as usize];
+        if rad.slope <= 0 {
+            return;
+        }
+        let boundary = g.n() as u32;
+        let rv = self.nodes[v as usize].wrapped + rad.at(t);
+        for (i, &a) in g.neighbours(v).iter().enumerate() {
+            if a.node != boundary && self.top[a.node as usize] == NONE && a.len() == rv {
+                self.claim(g, v, i);
             }
-            let (best, a) = self.scan(g, v);
-            if best != self.t {
-                if best != NEVER {
-                    self.nodes[v as usize].next = best;
-                    self.queue.push(best as u64, v);
-                }
-                return;
+        }
+        let (best, i) = self.scan(g, v);
+        if best != t {
+            if best != NEVER {
+                self.nodes[v as usize].next = best;
+                self.queue.push(best as u64, v);
             }
-            let s = self.nodes[v as usize];
-            let mask = s.mask ^ g.mask(a.edge, self.window);
-            let w = i64::from(a.len);
-            if a.node == g.n() as u32 {
-                let edge = Edge {
-                    a: s.source,
-                    b: BOUNDARY,
-                    len: s.dist + w,
-                    mask,
-                };
-                self.hit_boundary(g, top, edge);
-                break;
-            }
-            let su = self.nodes[a.node as usize];
-            if su.top == NONE {
-                self.claim(g, v, a);
-                continue;
-            }
+            return;
+        }
+        let a = g.neighbours(v)[i];
+        let s = self.nodes[v as usize];
+        let mask = s.mask ^ self.edge_mask(g, v, i);
+        let source = self.source[v as usize];
+        if a.node == boundary {
             let edge = Edge {
-                a: s.source,
-                b: su.source,
-                len: s.dist + w + su.dist,
+                a: source,
+                b: BOUNDARY,
+                len: s.dist + a.len(),
+                mask,
+            };
+            self.hit_boundary(g, top, edge);
+        } else {
+            let su = self.nodes[a.node as usize];
+            let edge = Edge {
+                a: source,
+                b: self.source[a.node as usize],
+                len: s.dist + a.len() + su.dist,
                 mask: mask ^ su.mask,
             };
-            self.collide(g, top, su.top, edge);
-            break;
+            self.collide(g, top, self.top[a.node as usize], edge);
         }
-        if self.nodes[v as usize].top != NONE {
+        if self.top[v as usize] != NONE {
             self.look_at(g, v);
         }
     }
 
-    /// The region of `v` reaches the empty node `a.node` along edge `a`.
-    fn claim(&mut self, g: &SparseGraph, v: u32, a: Adj) {
-        let s = self.nodes[v as usize];
-        let w = i64::from(a.len);
+    /// The observable mask (current window) of entry `i` of `v`'s adjacency.
+    #[inline]
+    fn edge_mask(&self, g: &SparseGraph, v: u32, i: usize) -> u64 {
+        if g.neighbours(v)[i].flips() {
+            g.mask(g.edge_at(v, i), self.window)
+        } else {
+            0
+        }
+    }
+
+    /// The region of `v` reaches the empty node at entry `i` of `v`'s adjacency.
+    fn claim(&mut self, g: &SparseGraph, v: u32, i: usize) {
+        let a = g.neighbours(v)[i];
         let u = a.node;
+        let top = self.top[v as usize];
+        let s = self.nodes[v as usize];
+        self.top[u as usize] = top;
+        self.source[u as usize] = self.source[v as usize];
+        let mask = s.mask ^ self.edge_mask(g, v, i);
         let su = &mut self.nodes[u as usize];
-        su.top = s.top;
-        su.source = s.source;
-        su.wrapped = s.wrapped - w;
-        su.dist = s.dist + w;
-        su.mask = s.mask ^ g.mask(a.edge, self.window);
-        self.regions[s.top as usize].shell.push(u);
+        su.wrapped = s.wrapped - a.len();
+        su.dist = s.dist + a.len();
+        su.mask = mask;
+        self.regions[top as usize].shell.push(u);
         self.touched.push(u);
         self.look_at(g, u);
+        self.wake_around(g, u);
+    }
+
+    /// Looks at every neighbour of `v` in another growing region: a contact with `v` may now
+    /// come sooner than that neighbour planned.
+    fn wake_around(&mut self, g: &SparseGraph, v: u32) {
+        let top = self.top[v as usize];
+        for a in g.neighbours(v) {
+            let tu = self.top[a.node as usize];
+            if tu != NONE && tu != top && self.rad[tu as usize].slope > 0 {
+                self.look_at(g, a.node);
+            }
+        }
     }
 
     /// A shrinking region gives node `v` back; growing neighbours may now move in.
     fn release(&mut self, g: &SparseGraph, v: u32) {
-        let s = &mut self.nodes[v as usize];
-        s.top = NONE;
-        s.next = NEVER;
-        let boundary = g.n() as u32;
-        for &a in g.neighbours(v) {
-            if a.node == boundary {
-                continue;
-            }
-            let top = self.nodes[a.node as usize].top;
-            if top != NONE && self.regions[top as usize].slope > 0 {
+        self.top[v as usize] = NONE;
+        self.nodes[v as usize].next = NEVER;
+        for a in g.neighbours(v) {
+            let top = self.top[a.node as usize];
+            if top != NONE && self.rad[top as usize].slope > 0 {
                 self.look_at(g, a.node);
             }
         }
@@ -176,9 +196,8 @@ impl Solver {
     /// leaving, or its radius reaching zero.
     pub fn schedule_shrink(&mut self, r: u32) {
         let t = self.t;
-        let reg = &self.regions[r as usize];
-        let y = reg.radius(t);
-        let when = match reg.shell.last() {
+        let y = self.radius(r);
+        let when = match self.reg(r).shell.last() {
             Some(&v) => t + self.nodes[v as usize].wrapped + y,
             None => t + y,
         };
@@ -191,13 +210,12 @@ impl Solver {
 
     /// Handles a popped shrink event of region `r`.
     pub fn shrink_event(&mut self, g: &SparseGraph, r: u32) {
-        let t = self.t;
-        if self.reg(r).shrink_at != t {
+        if self.reg(r).shrink_at != self.t {
             return;
         }
         self.reg_mut(r).shrink_at = NEVER;
-        debug_assert!(self.reg(r).is_top() && self.reg(r).slope < 0);
-        let y = self.reg(r).radius(t);
+        debug_assert!(self.reg(r).is_top() && self.slope(r) < 0);
+        let y = self.radius(r);
         while let Some(&v) = self.reg(r).shell.last() {
             let local = self.nodes[v as usize].wrapped + y;
             debug_assert!(local >= 0);
@@ -223,20 +241,34 @@ impl Solver {
         area.clear();
         self.collect_area(r, &mut area);
         for &v in &area {
-            let s = &mut self.nodes[v as usize];
-            s.top = top;
-            s.wrapped += delta;
+            self.top[v as usize] = top;
+            self.nodes[v as usize].wrapped += delta;
         }
         self.area = area;
     }
 
-    /// Looks again at every node in the area of `r` (after its slope went up).
+    /// After region `r` stopped shrinking without starting to grow, its growing neighbours
+    /// may touch it sooner than they had planned: looks at every node of another region next to
+    /// its area.
+    pub fn wake_neighbours(&mut self, g: &SparseGraph, r: u32) {
+        let mut area = std::mem::take(&mut self.area);
+        area.clear();
+        self.collect_area(r, &mut area);
+        for &v in &area {
+            self.wake_around(g, v);
+        }
+        self.area = area;
+    }
+
+    /// Looks again at every node in the area of `r` after it started growing, and at the
+    /// growing neighbours of that area (their contacts with it now come sooner).
     pub fn reschedule(&mut self, g: &SparseGraph, r: u32) {
         let mut area = std::mem::take(&mut self.area);
         area.clear();
         self.collect_area(r, &mut area);
         for &v in &area {
             self.look_at(g, v);
+            self.wake_around(g, v);
         }
         self.area = area;
     }

@@ -15,15 +15,32 @@ use crate::decode::Prepared;
 /// Bits of resolution: the heaviest edge is `2^RESOLUTION_BITS` units long.
 pub const RESOLUTION_BITS: u32 = 20;
 
-/// One adjacency entry: the neighbour, the doubled integer length and the edge index.
+/// Flag in [`Adj::tagged_len`]: the edge flips some observable.
+const FLIPS: u32 = 1 << 31;
+
+/// One adjacency entry: the neighbour and the doubled integer length (8 bytes, so that a
+/// node's edges share few cache lines; the edge index is in [`SparseGraph::adj_edge`]).
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub(crate) struct Adj {
     /// Neighbouring node (`n` is the boundary).
     pub node: u32,
+    /// Twice the quantised weight of the edge, with the top bit set when the edge flips an
+    /// observable (most edges flip none, and their masks need not be looked up).
+    pub tagged_len: u32,
+}
+
+impl Adj {
     /// Twice the quantised weight of the edge.
-    pub len: u32,
-    /// Index of the edge in [`Prepared::ends`].
-    pub edge: u32,
+    #[inline]
+    pub fn len(self) -> i64 {
+        i64::from(self.tagged_len & !FLIPS)
+    }
+
+    /// Whether the edge flips some observable.
+    #[inline]
+    pub fn flips(self) -> bool {
+        self.tagged_len & FLIPS != 0
+    }
 }
 
 /// The matcher's view of a graph; immutable and shared by every shot.
@@ -35,6 +52,8 @@ pub(crate) struct SparseGraph {
     pub adj_start: Vec<u32>,
     /// Adjacency entries.
     pub adj: Vec<Adj>,
+    /// Edge index (in [`Prepared::ends`]) of each adjacency entry.
+    pub adj_edge: Vec<u32>,
     /// Quantised weight of each edge (not doubled); read by the tests.
     #[cfg_attr(not(test), allow(dead_code))]
     pub weight: Vec<u32>,
@@ -72,13 +91,19 @@ impl SparseGraph {
             .iter()
             .map(|&(node, edge)| Adj {
                 node,
-                len: 2 * weight[edge as usize],
-                edge,
+                tagged_len: 2 * weight[edge as usize]
+                    | if prepared.edge_observables(edge as usize).is_empty() {
+                        0
+                    } else {
+                        FLIPS
+                    },
             })
             .collect();
+        let adj_edge = prepared.adj.iter().map(|&(_, edge)| edge).collect();
         SparseGraph {
             adj_start: prepared.adj_start.clone(),
             adj,
+            adj_edge,
             weight,
             masks,
             words,
@@ -98,6 +123,12 @@ impl SparseGraph {
     pub fn neighbours(&self, v: u32) -> &[Adj] {
         let v = v as usize;
         &self.adj[self.adj_start[v] as usize..self.adj_start[v + 1] as usize]
+    }
+
+    /// Edge index of entry `i` of node `v`'s adjacency.
+    #[inline]
+    pub fn edge_at(&self, v: u32, i: usize) -> u32 {
+        self.adj_edge[self.adj_start[v as usize] as usize + i]
     }
 
     /// Word `window` of the observable mask of edge `e`.
@@ -151,6 +182,7 @@ mod tests {
         assert!((s.quantum * f64::from(1u32 << RESOLUTION_BITS) - 99f64.ln()).abs() < 1e-12);
         assert_eq!(s.words, 2);
         assert_eq!((s.mask(0, 0), s.mask(0, 1)), (1 << 3, 1 << 5));
-        assert_eq!(s.neighbours(0)[0].len, 2 << RESOLUTION_BITS);
+        assert_eq!(s.neighbours(0)[0].len(), 2 << RESOLUTION_BITS);
+        assert!(s.neighbours(0)[0].flips() && !s.neighbours(1)[1].flips());
     }
 }

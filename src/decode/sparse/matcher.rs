@@ -22,7 +22,7 @@
 //! blossom is shattered or the final matching is read out, from where its outside edge enters.
 
 use super::graph::SparseGraph;
-use super::region::{Edge, Kind, BOUNDARY, NONE};
+use super::region::{Edge, Kind, Radius, BOUNDARY, NONE};
 use super::solver::{Solver, NEVER};
 
 impl Solver {
@@ -161,26 +161,25 @@ impl Solver {
         stack.clear();
         stopped.clear();
         stack.push(root);
-        let t = self.t;
         while let Some(x) = stack.pop() {
             let mut c = self.reg(x).first_child;
             while c != NONE {
                 stack.push(c);
                 c = self.reg(c).next_sibling;
             }
-            if self.reg(x).slope < 0 {
+            if self.slope(x) < 0 {
                 stopped.push(x);
             }
+            self.set_slope(x, 0);
             let rx = self.reg_mut(x);
             debug_assert!(rx.mate != NONE);
             rx.kind = Kind::Free;
-            rx.set_slope(0, t);
             rx.shrink_at = NEVER;
             self.clear_tree_links(x);
         }
         // Inner regions stop shrinking: contacts with growing neighbours come earlier.
         for &x in &stopped {
-            self.reschedule(g, x);
+            self.wake_neighbours(g, x);
         }
         self.path_a = stack;
         self.path_b = stopped;
@@ -191,22 +190,21 @@ impl Solver {
     fn grow_tree(&mut self, g: &SparseGraph, a: u32, b: u32, e: Edge) {
         let c = self.reg(b).mate;
         debug_assert!(c != NONE && c != BOUNDARY);
-        let t = self.t;
         self.add_child(a, b);
         {
             let rb = self.reg_mut(b);
             rb.kind = Kind::Inner;
             rb.parent_edge = e.rev();
-            rb.set_slope(-1, t);
         }
+        self.set_slope(b, -1);
         self.schedule_shrink(b);
         self.add_child(b, c);
         {
             let rc = self.reg_mut(c);
             rc.kind = Kind::Outer;
             rc.parent_edge = rc.mate_edge;
-            rc.set_slope(1, t);
         }
+        self.set_slope(c, 1);
         self.reschedule(g, c);
     }
 
@@ -265,12 +263,11 @@ impl Solver {
         {
             let rn = self.reg_mut(n);
             rn.kind = Kind::Outer;
-            rn.slope = 1;
-            rn.base = -t;
             rn.mate = lm;
             rn.mate_edge = lme;
             rn.parent_edge = lpe;
         }
+        self.rad[n as usize] = Radius { base: -t, slope: 1 };
         if lp != NONE {
             self.replace_child(lp, lca, n);
             self.reg_mut(lp).mate = n;
@@ -289,10 +286,10 @@ impl Solver {
             }
         }
         for &(x, _) in &cycle {
-            let y = self.reg(x).radius(t);
+            let y = self.radius(x);
+            self.set_slope(x, 0);
             {
                 let rx = self.reg_mut(x);
-                rx.set_slope(0, t);
                 rx.shrink_at = NEVER;
                 rx.mate = NONE;
                 rx.mate_edge = Edge::EMPTY;
@@ -339,9 +336,8 @@ impl Solver {
         let j = cycle.iter().position(|&(x, _)| x == cj).unwrap_or(0);
         let forward = ((j + len - i) % len).is_multiple_of(2);
 
-        let t = self.t;
         for &(x, _) in &cycle {
-            let y = self.reg(x).radius(t);
+            let y = self.radius(x);
             self.reg_mut(x).blossom_parent = NONE;
             self.retop(x, x, -y);
         }
@@ -366,14 +362,14 @@ impl Solver {
             if idx > 0 {
                 self.add_child(path[idx - 1].0, x);
             }
+            let inner = idx % 2 == 0;
+            self.set_slope(x, if inner { -1 } else { 1 });
             let rx = self.reg_mut(x);
             rx.parent_edge = e;
-            if idx % 2 == 0 {
+            if inner {
                 rx.kind = Kind::Inner;
-                rx.set_slope(-1, t);
             } else {
                 rx.kind = Kind::Outer;
-                rx.set_slope(1, t);
                 rx.mate = path[idx - 1].0;
                 rx.mate_edge = e;
                 let rp = self.reg_mut(path[idx - 1].0);
@@ -424,7 +420,7 @@ impl Solver {
             }
         }
         for q in 0..rest {
-            self.reschedule(g, cycle[(start + q) % len].0);
+            self.wake_neighbours(g, cycle[(start + q) % len].0);
         }
         self.reg_mut(b).cycle = cycle;
     }

@@ -72,14 +72,36 @@ pub(crate) enum Kind {
     Outer,
 }
 
-/// One region; fields other than the radius, parent and area only mean something for the
-/// region's current role.
-#[derive(Clone, Debug)]
-pub(crate) struct Region {
+/// The radius of a region as a linear function of time; kept apart from [`Region`] in a
+/// compact array because the flooder reads it for every neighbouring region it meets.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub(crate) struct Radius {
     /// Radius at time 0 of the current linear piece.
     pub base: i64,
     /// Radius change per unit time.
     pub slope: i64,
+}
+
+impl Radius {
+    /// The radius at time `t`.
+    #[inline]
+    pub fn at(self, t: i64) -> i64 {
+        self.base + self.slope * t
+    }
+
+    /// Changes the slope at time `t`, keeping the radius continuous.
+    #[inline]
+    pub fn set_slope(&mut self, slope: i64, t: i64) {
+        let y = self.at(t);
+        self.slope = slope;
+        self.base = y - slope * t;
+    }
+}
+
+/// One region; fields other than the parent and area only mean something for the region's
+/// current role.
+#[derive(Clone, Debug)]
+pub(crate) struct Region {
     /// The blossom this region is a child of ([`NONE`] for a top region).
     pub blossom_parent: u32,
     /// The event a trivial region grew from ([`NONE`] for a blossom).
@@ -116,8 +138,6 @@ impl Region {
     /// A region with no role yet (keeps nothing from a previous use except allocations).
     pub fn fresh() -> Region {
         Region {
-            base: 0,
-            slope: 0,
             blossom_parent: NONE,
             event: NONE,
             shell: Vec::new(),
@@ -149,20 +169,6 @@ impl Region {
         };
     }
 
-    /// The radius at time `t`.
-    #[inline]
-    pub fn radius(&self, t: i64) -> i64 {
-        self.base + self.slope * t
-    }
-
-    /// Changes the slope at time `t`, keeping the radius continuous.
-    #[inline]
-    pub fn set_slope(&mut self, slope: i64, t: i64) {
-        let y = self.radius(t);
-        self.slope = slope;
-        self.base = y - slope * t;
-    }
-
     /// True for a region that is not inside a blossom and still exists.
     #[inline]
     pub fn is_top(&self) -> bool {
@@ -176,13 +182,13 @@ mod tests {
 
     #[test]
     fn radius_is_continuous_across_slope_changes() {
-        let mut r = Region::fresh();
+        let mut r = Radius::default();
         r.set_slope(1, 0);
-        assert_eq!(r.radius(10), 10);
+        assert_eq!(r.at(10), 10);
         r.set_slope(-1, 10);
-        assert_eq!(r.radius(14), 6);
+        assert_eq!(r.at(14), 6);
         r.set_slope(0, 14);
-        assert_eq!(r.radius(100), 6);
+        assert_eq!(r.at(100), 6);
     }
 
     #[test]

@@ -12,20 +12,19 @@
 
 use super::graph::SparseGraph;
 use super::queue::RadixHeap;
-use super::region::{Kind, Region, NONE};
+use super::region::{Kind, Radius, Region, NONE};
 
 /// Time value meaning "never".
 pub(crate) const NEVER: i64 = i64::MAX;
 /// Queue items with this bit set are region shrink events; others are node events.
 pub(crate) const REGION_EVENT: u32 = 1 << 31;
 
-/// What the flooder knows about one graph node.
+/// What the flooder knows about one node reached by a region (its top region and source are
+/// kept apart, in [`Solver::top`] and [`Solver::source`]). 32 bytes, aligned, so that a node
+/// never straddles two cache lines.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[repr(align(32))]
 pub(crate) struct NodeState {
-    /// The top region whose area holds the node ([`NONE`]: not reached).
-    pub top: u32,
-    /// The detection event the node was reached from.
-    pub source: u32,
     /// Sum of the radii of the regions between the source and `top` (excluded), minus `dist`:
     /// the node's *local radius* is `wrapped + radius(top)`, how far the area extends beyond
     /// the node.
@@ -40,8 +39,6 @@ pub(crate) struct NodeState {
 
 /// A node no region has reached.
 pub(crate) const FRESH: NodeState = NodeState {
-    top: NONE,
-    source: NONE,
     wrapped: 0,
     dist: 0,
     mask: 0,
@@ -66,6 +63,12 @@ pub(crate) struct Outcome {
 /// Scratch space for decoding shots on one graph; reused from shot to shot.
 #[derive(Debug)]
 pub(crate) struct Solver {
+    /// The top region whose area holds each node ([`NONE`]: not reached; always for the
+    /// boundary node). Apart from the rest of the node state because scanning a node's edges
+    /// reads it for every neighbour.
+    pub top: Vec<u32>,
+    /// The detection event each node was reached from.
+    pub source: Vec<u32>,
     pub nodes: Vec<NodeState>,
     /// Trivial region of each event node during a shot ([`NONE`] otherwise).
     pub event_region: Vec<u32>,
@@ -73,6 +76,8 @@ pub(crate) struct Solver {
     pub touched: Vec<u32>,
     /// Region arena; `regions[..live]` are in use.
     pub regions: Vec<Region>,
+    /// Radius of each region (same indices).
+    pub rad: Vec<Radius>,
     pub live: usize,
     pub queue: RadixHeap,
     /// Current time.
@@ -96,10 +101,13 @@ impl Solver {
     /// Scratch space for a graph of `n` detectors (plus the boundary).
     pub fn new(n: usize) -> Solver {
         Solver {
+            top: vec![NONE; n + 1],
+            source: vec![NONE; n + 1],
             nodes: vec![FRESH; n + 1],
             event_region: vec![NONE; n + 1],
             touched: Vec::new(),
             regions: Vec::new(),
+            rad: Vec::new(),
             live: 0,
             queue: RadixHeap::new(),
             t: 0,
@@ -119,8 +127,10 @@ impl Solver {
     pub fn new_region(&mut self) -> u32 {
         if self.live == self.regions.len() {
             self.regions.push(Region::fresh());
+            self.rad.push(Radius::default());
         } else {
             self.regions[self.live].reset();
+            self.rad[self.live] = Radius::default();
         }
         self.live += 1;
         (self.live - 1) as u32
@@ -130,6 +140,25 @@ impl Solver {
     #[inline]
     pub fn reg(&self, r: u32) -> &Region {
         &self.regions[r as usize]
+    }
+
+    /// The radius of region `r` now.
+    #[inline]
+    pub fn radius(&self, r: u32) -> i64 {
+        self.rad[r as usize].at(self.t)
+    }
+
+    /// Changes the slope of region `r` now.
+    #[inline]
+    pub fn set_slope(&mut self, r: u32, slope: i64) {
+        let t = self.t;
+        self.rad[r as usize].set_slope(slope, t);
+    }
+
+    /// The slope of region `r`.
+    #[inline]
+    pub fn slope(&self, r: u32) -> i64 {
+        self.rad[r as usize].slope
     }
 
     /// The region `r`, mutably.
@@ -148,12 +177,10 @@ impl Solver {
             let reg = self.reg_mut(r);
             reg.event = s;
             reg.kind = Kind::Outer;
-            reg.slope = 1;
-            self.nodes[s as usize] = NodeState {
-                top: r,
-                source: s,
-                ..FRESH
-            };
+            self.rad[r as usize].slope = 1;
+            self.top[s as usize] = r;
+            self.source[s as usize] = s;
+            self.nodes[s as usize] = FRESH;
             self.event_region[s as usize] = r;
             self.touched.push(s);
         }
@@ -174,6 +201,7 @@ impl Solver {
     /// Restores the state left by the previous shot.
     fn reset(&mut self) {
         for &v in &self.touched {
+            self.top[v as usize] = NONE;
             self.nodes[v as usize] = FRESH;
             self.event_region[v as usize] = NONE;
         }
