@@ -1,5 +1,5 @@
-//! The detector graph in the form the sparse matcher walks: integer weights, compact adjacency
-//! and observable masks.
+//! The detector graph in the form the sparse decoders walk (the matcher here and
+//! [`crate::decode::UnionFind`]): integer weights, compact adjacency and observable masks.
 //!
 //! In: a [`Prepared`] graph (boundary node `n`, non-negative `f64` weights, flipped and dropped
 //! edges already handled). Out: a [`SparseGraph`] whose edge lengths are even integers.

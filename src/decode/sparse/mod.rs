@@ -48,9 +48,9 @@
 
 mod extract;
 mod flooder;
-mod graph;
+pub(crate) mod graph;
 mod matcher;
-mod queue;
+pub(crate) mod queue;
 mod region;
 mod solver;
 #[cfg(test)]
