@@ -357,7 +357,8 @@ fn grid(args: &[String]) {
          circuit p, {shots} shots per point, best of {reps} interleaved passes, one thread"
     );
     println!(
-        "{:>3} {:>6} {:>6} {:>8} | {:>9} {:>7} {:>7} | {:>9} {:>6} | {:>9} {:>6} {:>6} | {}",
+        "{:>3} {:>6} {:>6} {:>8} | {:>9} {:>7} {:>7} | {:>9} {:>6} | {:>9} {:>6} {:>6} | \
+         failures mwpm/ref/uf",
         "d",
         "p",
         "dets",
@@ -370,7 +371,6 @@ fn grid(args: &[String]) {
         "ref us",
         "ref/mw",
         "shots",
-        "failures mwpm/ref/uf"
     );
     let mut fit: Vec<(f64, f64)> = Vec::new();
     for &d in &ds {

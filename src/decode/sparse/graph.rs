@@ -91,7 +91,7 @@ impl SparseGraph {
             .iter()
             .map(|&(node, edge)| Adj {
                 node,
-                tagged_len: 2 * weight[edge as usize]
+                tagged_len: (2 * weight[edge as usize])
                     | if prepared.edge_observables(edge as usize).is_empty() {
                         0
                     } else {
