@@ -67,22 +67,25 @@ impl Solver {
     /// regions keep events: every contact needs a growing side, and that side finds it.
     #[inline]
     pub fn look_at(&mut self, g: &SparseGraph, v: u32) {
-        let best = if self.rad[self.top[v as usize] as usize].slope > 0 {
-            self.scan(g, v).0
+        let (best, which) = if self.rad[self.top[v as usize] as usize].slope > 0 {
+            self.scan(g, v)
         } else {
-            NEVER
+            (NEVER, 0)
         };
         let s = &mut self.nodes[v as usize];
         if best != s.next {
             s.next = best;
+            self.hint[v as usize] = which as u32;
             if best != NEVER {
                 self.queue.push(best as u64, v);
             }
         }
     }
 
-    /// Handles a popped node event: claims every empty neighbour due now, then hands the first
-    /// contact due now (if any) to the matcher and reschedules.
+    /// Handles a popped node event. Shortcut first: when the edge that set the event is a
+    /// contact (with a region or the boundary) that is still due, it goes straight to the
+    /// matcher. Otherwise one pass over the edges takes every empty neighbour due now, finds
+    /// the next interaction, and hands the first contact due now (if any) to the matcher.
     pub fn node_event(&mut self, g: &SparseGraph, v: u32) {
         let t = self.t;
         if self.nodes[v as usize].next != t {
@@ -99,22 +102,63 @@ impl Solver {
         }
         let boundary = g.n() as u32;
         let rv = self.nodes[v as usize].wrapped + rad.at(t);
-        for (i, &a) in g.neighbours(v).iter().enumerate() {
-            if a.node != boundary && self.top[a.node as usize] == NONE && a.len() == rv {
-                self.claim(g, v, i);
+        let adj = g.neighbours(v);
+        let h = self.hint[v as usize] as usize;
+        let due = |a: &super::graph::Adj| {
+            let tu = self.top[a.node as usize];
+            if a.node == boundary {
+                a.len() == rv
+            } else {
+                // A tight edge to a shrinking region is a tree edge, not a contact.
+                tu != NONE
+                    && tu != top
+                    && self.rad[tu as usize].slope >= 0
+                    && a.len() == rv + self.nodes[a.node as usize].wrapped + self.radius(tu)
             }
-        }
-        let (best, i) = self.scan(g, v);
-        if best != t {
-            if best != NEVER {
-                self.nodes[v as usize].next = best;
-                self.queue.push(best as u64, v);
+        };
+        let which = if adj.get(h).is_some_and(due) {
+            h
+        } else {
+            let (mut best, mut which) = (NEVER, usize::MAX);
+            for (i, &a) in adj.iter().enumerate() {
+                let tu = self.top[a.node as usize];
+                if tu == top {
+                    continue;
+                }
+                let when = if tu == NONE {
+                    if a.len() == rv && a.node != boundary {
+                        self.claim(g, v, i);
+                        continue;
+                    }
+                    t + a.len() - rv
+                } else {
+                    let other = self.rad[tu as usize];
+                    let ss = 1 + other.slope;
+                    if ss <= 0 {
+                        continue;
+                    }
+                    let gap = a.len() - rv - (self.nodes[a.node as usize].wrapped + other.at(t));
+                    debug_assert!(gap >= 0 && gap % ss == 0, "bad gap {gap} at node {v}");
+                    t + (gap >> (ss - 1))
+                };
+                if when < best {
+                    best = when;
+                    which = i;
+                }
             }
-            return;
-        }
-        let a = g.neighbours(v)[i];
+            if best != t {
+                if best != NEVER {
+                    self.nodes[v as usize].next = best;
+                    self.hint[v as usize] = which as u32;
+                    self.queue.push(best as u64, v);
+                }
+                return;
+            }
+            which
+        };
+        let a = adj[which];
         let s = self.nodes[v as usize];
-        let mask = s.mask ^ self.edge_mask(g, v, i);
+        let mask = s.mask ^ self.edge_mask(g, v, which);
         let source = self.source[v as usize];
         if a.node == boundary {
             let edge = Edge {

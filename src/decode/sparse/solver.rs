@@ -69,6 +69,8 @@ pub(crate) struct Solver {
     pub top: Vec<u32>,
     /// The detection event each node was reached from.
     pub source: Vec<u32>,
+    /// Position in each node's adjacency of the edge that set its pending event.
+    pub hint: Vec<u32>,
     pub nodes: Vec<NodeState>,
     /// Trivial region of each event node during a shot ([`NONE`] otherwise).
     pub event_region: Vec<u32>,
@@ -103,6 +105,7 @@ impl Solver {
         Solver {
             top: vec![NONE; n + 1],
             source: vec![NONE; n + 1],
+            hint: vec![0; n + 1],
             nodes: vec![FRESH; n + 1],
             event_region: vec![NONE; n + 1],
             touched: Vec::new(),
