@@ -552,13 +552,10 @@ fn real_distances(p: &Prepared, src: u32) -> (Vec<f64>, f64) {
     let mut dist = vec![f64::INFINITY; n + 1];
     let mut done = vec![false; n + 1];
     dist[src as usize] = 0.0;
-    loop {
-        let Some(v) = (0..n)
-            .filter(|&v| !done[v] && dist[v].is_finite())
-            .min_by(|&a, &b| dist[a].total_cmp(&dist[b]))
-        else {
-            break;
-        };
+    while let Some(v) = (0..n)
+        .filter(|&v| !done[v] && dist[v].is_finite())
+        .min_by(|&a, &b| dist[a].total_cmp(&dist[b]))
+    {
         done[v] = true;
         for &(u, e) in p.neighbours(v) {
             let nd = dist[v] + p.weight[e as usize];
