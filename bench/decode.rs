@@ -203,6 +203,10 @@ fn main() {
         grid(&args);
         return;
     }
+    if args.iter().any(|a| a == "--unpaired") {
+        unpaired(&args);
+        return;
+    }
     let shots: usize = args
         .iter()
         .position(|a| a == "--shots")
@@ -461,4 +465,76 @@ fn grid(args: &[String]) {
             num / den
         );
     }
+}
+
+/// The unpaired case: the d = 9, 9-round circuit graph at `--p` (default 0.005) with every
+/// boundary edge removed, so the whole graph is one boundary-free component and every shot
+/// with an odd number of events must leave one unmatched (the sparse decoder then floods the
+/// component). Half the shots get one extra event to make them odd. Prints, per decoder, the
+/// mean time of even and odd shots and the max / median shot time over all shots (best of
+/// `--reps` interleaved passes), then the reference's means on the shots it decodes within 20 s.
+fn unpaired(args: &[String]) {
+    let first = |name: &str| list::<f64>(args, name).and_then(|v| v.first().copied());
+    let p = first("--p").unwrap_or(0.005);
+    let shots = first("--shots").map_or(2000, |x| x as usize);
+    let reps = first("--reps").map_or(3, |x| x as usize);
+    let mut g = circuit_graph(9, 9, p);
+    g.edges.retain(|e| e.b.is_some());
+    let mut data = sample(&g, shots, 77);
+    let mut rng = Xoshiro256PlusPlus::seed_from_u64(78);
+    for (k, (events, _)) in data.iter_mut().enumerate() {
+        if (events.len() % 2 == 0) == (k % 2 == 0) {
+            let extra = rng.gen_range(0..g.num_detectors as u32);
+            if let Err(at) = events.binary_search(&extra) {
+                events.insert(at, extra);
+            } else {
+                events.retain(|&e| e != extra);
+            }
+        }
+    }
+    let odd: Vec<bool> = data.iter().map(|(e, _)| e.len() % 2 == 1).collect();
+    let mwpm = Mwpm::new(&g).expect("valid graph");
+    let uf = UnionFind::new(&g).expect("valid graph");
+    println!(
+        "unpaired case: d=9 circuit graph at p={p} without boundary edges, {} detectors, \
+         {shots} shots ({} odd), best of {reps} passes",
+        g.num_detectors,
+        odd.iter().filter(|&&o| o).count()
+    );
+    let r = time_interleaved(&[&mwpm, &uf], &data, reps);
+    for ((times, _), name) in r.iter().zip(["mwpm", "uf"]) {
+        let mean = |want: bool| {
+            let v: Vec<f64> = times
+                .iter()
+                .zip(&odd)
+                .filter(|&(_, &o)| o == want)
+                .map(|(&t, _)| t)
+                .collect();
+            mean_us(&v)
+        };
+        let max = times.iter().copied().fold(0.0, f64::max);
+        println!(
+            "  {name:<5} even shots {:8.2} us, odd shots {:8.2} us, max/median {:6.1}",
+            mean(false),
+            mean(true),
+            max / median(times)
+        );
+    }
+    // The reference on the same shots, within a time budget.
+    let reference = ReferenceMwpm::new(&g).expect("valid graph");
+    let (times, _) = time_shots(&reference, &data, 20.0);
+    let (mut even, mut odd_t) = (Vec::new(), Vec::new());
+    for (t, &o) in times.iter().zip(&odd) {
+        if o {
+            odd_t.push(*t)
+        } else {
+            even.push(*t)
+        }
+    }
+    println!(
+        "  ref   even shots {:8.2} us, odd shots {:8.2} us ({} shots within 20 s)",
+        mean_us(&even),
+        mean_us(&odd_t),
+        times.len()
+    );
 }

@@ -30,8 +30,9 @@
 //! the active nodes next to it. Nodes whose neighbours all lie in their own cluster are dropped
 //! from its frontier list for good.
 //!
-//! An active cluster with no edge left to grow (a whole boundary-free component with an odd
-//! number of events) stops growing; its leftover event is counted in [`Decoded::unmatched`].
+//! A boundary-free connected component with an odd number of events cannot be decoded
+//! completely: as in [`super::Mwpm`], its highest-numbered event is left out beforehand and
+//! counted in [`Decoded::unmatched`], so no cluster ever floods a whole component in vain.
 
 use super::sparse::graph::{SparseGraph, RESOLUTION_BITS};
 use super::sparse::queue::RadixHeap;
@@ -62,10 +63,11 @@ impl Decoder for UnionFind {
     fn decode(&self, events: &[u32]) -> Decoded {
         let n = self.g.n();
         self.pool.with(
-            || Scratch::new(n),
+            || Scratch::new(&self.g),
             |s| {
                 let mut list = std::mem::take(&mut s.events);
-                let bad = self.g.prepared.normalize_into(events, &mut list);
+                let bad = self.g.prepared.normalize_into(events, &mut list)
+                    + self.g.drop_unpairable(&mut list, &mut s.component_count);
                 s.grow(&self.g, &list);
                 let mut d = s.peel(&self.g);
                 s.events = list;
@@ -142,10 +144,13 @@ struct Scratch {
     toggles: Vec<u32>,
     /// The shot's normalised detection events.
     events: Vec<u32>,
+    /// Per-component event parity scratch (see [`SparseGraph::drop_unpairable`]).
+    component_count: Vec<u32>,
 }
 
 impl Scratch {
-    fn new(n: usize) -> Scratch {
+    fn new(g: &SparseGraph) -> Scratch {
+        let n = g.n();
         Scratch {
             cluster: vec![NONE; n + 1],
             node: vec![FRESH; n + 1],
@@ -159,6 +164,7 @@ impl Scratch {
             order: Vec::new(),
             toggles: Vec::new(),
             events: Vec::new(),
+            component_count: vec![0; g.closed.len()],
         }
     }
 

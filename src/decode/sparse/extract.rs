@@ -6,11 +6,10 @@
 //! children along the cycle as `(c_{j+1}, c_{j+2}), (c_{j+3}, c_{j+4}), …`, recursively inside
 //! each child from the event its own edge enters.
 //!
-//! A root left unmatched holds an odd number of events with no boundary to absorb one. Letting
-//! it keep growing against a virtual boundary at a huge equal distance from every node would
-//! first touch that boundary at the node with the largest local radius, which is the event `s`
-//! with the largest sum of radii of the regions containing it. So `s` is the event left out,
-//! and the rest of the component is then paired at minimum weight (ties: the lowest node id).
+//! A root left unmatched would hold an odd number of events with no boundary to absorb one;
+//! the caller removes one event from every such component beforehand
+//! ([`super::graph::SparseGraph::drop_unpairable`]), so it does not happen. Should it, the root
+//! is counted unmatched and paired inside from its first child, the tree root it grew from.
 
 use super::region::{Edge, BOUNDARY, NONE};
 use super::solver::Solver;
@@ -22,30 +21,12 @@ impl Solver {
         self.outcome.mask ^= e.mask;
     }
 
-    /// The event of top region `r` to leave unmatched (module docs).
-    fn best_unmatched(&mut self, r: u32) -> u32 {
-        let mut stack = std::mem::take(&mut self.stack);
-        stack.clear();
-        stack.push(r);
-        let mut best = (i64::MIN, NONE);
-        while let Some(x) = stack.pop() {
-            let reg = self.reg(x);
-            stack.extend(reg.cycle.iter().map(|&(c, _)| c));
-            if reg.event == NONE {
-                continue;
-            }
-            let mut sum = 0;
-            let mut y = x;
-            while y != NONE {
-                sum += self.radius(y);
-                y = self.reg(y).blossom_parent;
-            }
-            if sum > best.0 || (sum == best.0 && reg.event < best.1) {
-                best = (sum, reg.event);
-            }
+    /// An event of region `r` reached through the first child at every level.
+    fn first_event(&self, mut r: u32) -> u32 {
+        while self.reg(r).event == NONE {
+            r = self.reg(r).cycle[0].0;
         }
-        self.stack = stack;
-        best.1
+        self.reg(r).event
     }
 
     /// Fills `self.outcome` from the final region structure.
@@ -68,8 +49,7 @@ impl Solver {
                 expand.push((r, e.a));
             } else if mate == NONE {
                 self.outcome.unmatched += 1;
-                let s = self.best_unmatched(r);
-                expand.push((r, s));
+                expand.push((r, self.first_event(r)));
             } else if r < mate {
                 self.emit(e);
                 expand.push((r, e.a));

@@ -64,6 +64,12 @@ pub(crate) struct SparseGraph {
     pub words: usize,
     /// The real weight of one integer unit.
     pub quantum: f64,
+    /// Connected component of each detector (edges between detectors only).
+    pub component: Vec<u32>,
+    /// Per component: no edge leads from it to the boundary.
+    pub closed: Vec<bool>,
+    /// Some component is closed.
+    pub any_closed: bool,
 }
 
 impl SparseGraph {
@@ -100,6 +106,7 @@ impl SparseGraph {
             })
             .collect();
         let adj_edge = prepared.adj.iter().map(|&(_, edge)| edge).collect();
+        let (component, closed) = components(&prepared);
         SparseGraph {
             adj_start: prepared.adj_start.clone(),
             adj,
@@ -108,8 +115,51 @@ impl SparseGraph {
             masks,
             words,
             quantum: 1.0 / scale,
+            any_closed: closed.iter().any(|&c| c),
+            component,
+            closed,
             prepared,
         }
+    }
+
+    /// Leaves out one event (the highest-numbered) of every boundary-free component holding
+    /// an odd number of events, since no matching can pair them all; returns how many were
+    /// left out. `count` is scratch space of one zero entry per component, left zeroed.
+    ///
+    /// Which event stays unpaired is a cheap fixed choice: finding the one whose removal
+    /// leaves the lightest matching would mean growing regions over the whole component.
+    pub fn drop_unpairable(&self, events: &mut Vec<u32>, count: &mut [u32]) -> u32 {
+        if !self.any_closed {
+            return 0;
+        }
+        for &e in events.iter() {
+            let c = self.component[e as usize] as usize;
+            if self.closed[c] {
+                count[c] ^= 1;
+            }
+        }
+        let mut dropped = 0;
+        for k in (0..events.len()).rev() {
+            let c = self.component[events[k] as usize] as usize;
+            if self.closed[c] && count[c] == 1 {
+                count[c] = 2;
+                events[k] = u32::MAX;
+                dropped += 1;
+            }
+        }
+        if dropped > 0 {
+            events.retain(|&e| e != u32::MAX);
+        }
+        for &e in events.iter() {
+            count[self.component[e as usize] as usize] = 0;
+        }
+        if dropped > 0 {
+            // The dropped events' components are also closed and odd; clear them too.
+            for c in count.iter_mut().filter(|c| **c == 2) {
+                *c = 0;
+            }
+        }
+        dropped
     }
 
     /// Number of detectors; node `n` is the boundary.
@@ -136,6 +186,47 @@ impl SparseGraph {
     pub fn mask(&self, e: u32, window: usize) -> u64 {
         self.masks[e as usize * self.words + window]
     }
+}
+
+/// Connected components of the detectors through detector–detector edges, and which of them
+/// have no boundary edge.
+fn components(p: &Prepared) -> (Vec<u32>, Vec<bool>) {
+    let n = p.n;
+    let mut parent: Vec<u32> = (0..n as u32).collect();
+    fn find(parent: &mut [u32], mut x: u32) -> u32 {
+        while parent[x as usize] != x {
+            let up = parent[parent[x as usize] as usize];
+            parent[x as usize] = up;
+            x = up;
+        }
+        x
+    }
+    for &(a, b) in &p.ends {
+        if (b as usize) < n {
+            let (ra, rb) = (find(&mut parent, a), find(&mut parent, b));
+            if ra != rb {
+                parent[ra as usize] = rb;
+            }
+        }
+    }
+    let mut id = vec![u32::MAX; n];
+    let mut component = vec![0u32; n];
+    let mut count = 0u32;
+    for v in 0..n as u32 {
+        let r = find(&mut parent, v) as usize;
+        if id[r] == u32::MAX {
+            id[r] = count;
+            count += 1;
+        }
+        component[v as usize] = id[r];
+    }
+    let mut closed = vec![true; count as usize];
+    for &(a, b) in &p.ends {
+        if b as usize == n {
+            closed[component[a as usize] as usize] = false;
+        }
+    }
+    (component, closed)
 }
 
 #[cfg(test)]
@@ -184,5 +275,31 @@ mod tests {
         assert_eq!((s.mask(0, 0), s.mask(0, 1)), (1 << 3, 1 << 5));
         assert_eq!(s.neighbours(0)[0].len(), 2 << RESOLUTION_BITS);
         assert!(s.neighbours(0)[0].flips() && !s.neighbours(1)[1].flips());
+    }
+
+    #[test]
+    fn one_event_per_odd_closed_component_is_left_out() {
+        let e = |a, b| MatchingEdge {
+            a,
+            b,
+            p: 0.1,
+            observables: vec![],
+        };
+        // Components {0, 1, 2} (closed), {3, 4} (boundary at 4), {5} (closed, no edges).
+        let g = MatchingGraph {
+            num_detectors: 6,
+            num_observables: 1,
+            edges: vec![e(0, Some(1)), e(1, Some(2)), e(3, Some(4)), e(4, None)],
+        };
+        let s = SparseGraph::new(Prepared::new(&g).unwrap(), 1, RESOLUTION_BITS);
+        assert_eq!(s.closed.len(), 3);
+        let mut count = vec![0; 3];
+        let mut events = vec![0, 1, 2, 3, 5];
+        assert_eq!(s.drop_unpairable(&mut events, &mut count), 2);
+        assert_eq!(events, vec![0, 1, 3]);
+        let mut events = vec![0, 2, 3];
+        assert_eq!(s.drop_unpairable(&mut events, &mut count), 0);
+        assert_eq!(events, vec![0, 2, 3]);
+        assert_eq!(count, vec![0, 0, 0]);
     }
 }

@@ -39,9 +39,10 @@
 //! # Semantics shared with every decoder
 //! Handling of repeated and out-of-range events, `p > 1/2` edges, `p = 0` edges and parallel
 //! edges is that of [`crate::decode`] (the common graph preparation). A boundary-free connected
-//! component with an odd number of events leaves one event unmatched, counted in
-//! [`Decoded::unmatched`]; the rest of it is paired at minimum weight. Costs one flood of that
-//! component.
+//! component with an odd number of events cannot be paired: its highest-numbered event is left
+//! out before matching and counted in [`Decoded::unmatched`], and the rest is paired at minimum
+//! weight. (Choosing the event whose removal leaves the lightest matching would cost a flood of
+//! the whole component; the shot counts as a failure either way.)
 //!
 //! Graphs with more than 64 observables run the matcher once per 64 observables; the matching
 //! is the same each time (determinism), only the tracked observables differ.
@@ -121,10 +122,11 @@ impl Mwpm {
     fn run(&self, events: &[u32], want_pairs: bool) -> Matching {
         let g = &self.g;
         self.pool.with(
-            || Solver::new(g.n()),
+            || Solver::new(g),
             |s| {
                 let mut list = std::mem::take(&mut s.events);
-                let bad = g.prepared.normalize_into(events, &mut list);
+                let bad = g.prepared.normalize_into(events, &mut list)
+                    + g.drop_unpairable(&mut list, &mut s.component_count);
                 let mut observables = g.prepared.fixed_observables.clone();
                 for window in 0..g.words {
                     s.solve(g, &list, window);
@@ -150,7 +152,7 @@ impl Mwpm {
                 } else {
                     Vec::new()
                 };
-                debug_assert!(out.unmatched > 0 || out.len == out.dual);
+                debug_assert!(out.unmatched == 0 && out.len == out.dual);
                 Matching {
                     pairs,
                     weight: (out.len / 2) as u64,

@@ -96,12 +96,15 @@ pub(crate) struct Solver {
     pub expand: Vec<(u32, u32)>,
     /// The shot's normalised events.
     pub events: Vec<u32>,
+    /// Per-component event parity scratch (see [`SparseGraph::drop_unpairable`]).
+    pub component_count: Vec<u32>,
     pub outcome: Outcome,
 }
 
 impl Solver {
-    /// Scratch space for a graph of `n` detectors (plus the boundary).
-    pub fn new(n: usize) -> Solver {
+    /// Scratch space for `g`.
+    pub fn new(g: &SparseGraph) -> Solver {
+        let n = g.n();
         Solver {
             top: vec![NONE; n + 1],
             source: vec![NONE; n + 1],
@@ -122,6 +125,7 @@ impl Solver {
             path_b: Vec::new(),
             expand: Vec::new(),
             events: Vec::new(),
+            component_count: vec![0; g.closed.len()],
             outcome: Outcome::default(),
         }
     }
