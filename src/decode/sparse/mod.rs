@@ -25,12 +25,13 @@
 //!
 //! # Weights and exactness
 //! Weights `ln((1−p)/p)` are rounded once per graph to integers: the heaviest edge maps to
-//! `2^20` and every weight to `round(w · 2^20 / w_max)`, a resolution of `w_max / 2^20`
-//! ([`Mwpm::quantum`]; about `1.3·10^-5` for the lightest-probability edges of a circuit at
-//! `p = 10^-3`). The matching is exactly minimum for these integer weights; internally every
-//! length is doubled so that two growing regions always meet at a whole time step. A matching
-//! that is minimum for the real weights can differ only when two matchings' real weights are
-//! within about `(number of paths) · w_max / 2^21` of each other.
+//! `2^20` and every weight to `round(w · 2^20 / w_max)`, a resolution (quantum) of
+//! `w_max / 2^20` ([`Mwpm::quantum`]; `9.2·10^-6` for the d = 9 surface-code circuit under
+//! `circuit p=0.001`, whose weights run from 4.2 to 9.6). The matching is exactly minimum for
+//! these integer weights; internally every length is doubled so that two growing regions always
+//! meet at a whole time step. Each edge's rounding error is at most half a quantum, so a
+//! matching that is minimum for the real weights can lose to another only when their real
+//! weights differ by less than `(edges on both matchings' paths) · quantum / 2`.
 //!
 //! # Determinism
 //! Ties (several minimum matchings) are broken by the order of events, which depends only on
