@@ -343,7 +343,8 @@ impl Solver {
         }
 
         // The path through the blossom: region and edge towards its tree parent.
-        let mut path: Vec<(u32, Edge)> = Vec::with_capacity(len);
+        let mut path = std::mem::take(&mut self.path_edges);
+        path.clear();
         path.push((cycle[i].0, ep));
         let mut k = i;
         while k != j {
@@ -423,5 +424,6 @@ impl Solver {
             self.wake_neighbours(g, cycle[(start + q) % len].0);
         }
         self.reg_mut(b).cycle = cycle;
+        self.path_edges = path;
     }
 }

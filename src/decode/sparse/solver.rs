@@ -12,7 +12,7 @@
 
 use super::graph::SparseGraph;
 use super::queue::RadixHeap;
-use super::region::{Kind, Radius, Region, NONE};
+use super::region::{Edge, Kind, Radius, Region, NONE};
 
 /// Time value meaning "never".
 pub(crate) const NEVER: i64 = i64::MAX;
@@ -93,6 +93,8 @@ pub(crate) struct Solver {
     pub stack: Vec<u32>,
     pub path_a: Vec<u32>,
     pub path_b: Vec<u32>,
+    /// The even path through a shattered blossom: regions and edges to their tree parents.
+    pub path_edges: Vec<(u32, Edge)>,
     pub expand: Vec<(u32, u32)>,
     /// The shot's normalised events.
     pub events: Vec<u32>,
@@ -123,6 +125,7 @@ impl Solver {
             stack: Vec::new(),
             path_a: Vec::new(),
             path_b: Vec::new(),
+            path_edges: Vec::new(),
             expand: Vec::new(),
             events: Vec::new(),
             component_count: vec![0; g.closed.len()],
