@@ -16,17 +16,22 @@ use super::solver::Solver;
 
 impl Solver {
     fn emit(&mut self, e: Edge) {
-        self.outcome.pairs.push((e.a, e.b));
+        let b = if e.b == BOUNDARY {
+            BOUNDARY
+        } else {
+            self.reg(e.b).event
+        };
+        self.outcome.pairs.push((self.reg(e.a).event, b));
         self.outcome.len += e.len;
         self.outcome.mask ^= e.mask;
     }
 
-    /// An event of region `r` reached through the first child at every level.
-    fn first_event(&self, mut r: u32) -> u32 {
+    /// The trivial region reached from `r` through the first child at every level.
+    fn first_trivial(&self, mut r: u32) -> u32 {
         while self.reg(r).event == NONE {
             r = self.reg(r).cycle[0].0;
         }
-        self.reg(r).event
+        r
     }
 
     /// Fills `self.outcome` from the final region structure.
@@ -49,7 +54,7 @@ impl Solver {
                 expand.push((r, e.a));
             } else if mate == NONE {
                 self.outcome.unmatched += 1;
-                expand.push((r, self.first_event(r)));
+                expand.push((r, self.first_trivial(r)));
             } else if r < mate {
                 self.emit(e);
                 expand.push((r, e.a));
@@ -58,7 +63,7 @@ impl Solver {
         }
         while let Some((x, base)) = expand.pop() {
             if self.reg(x).event != NONE {
-                debug_assert_eq!(self.reg(x).event, base);
+                debug_assert_eq!(x, base);
                 continue;
             }
             let cj = self.child_containing(base, x);

@@ -75,7 +75,7 @@ impl Solver {
         let s = &mut self.nodes[v as usize];
         if best != s.next {
             s.next = best;
-            self.hint[v as usize] = which as u32;
+            s.hint = which as u32;
             if best != NEVER {
                 self.queue.push(best as u64, v);
             }
@@ -103,7 +103,7 @@ impl Solver {
         let boundary = g.n() as u32;
         let rv = self.nodes[v as usize].wrapped + rad.at(t);
         let adj = g.neighbours(v);
-        let h = self.hint[v as usize] as usize;
+        let h = self.nodes[v as usize].hint as usize;
         let due = |a: &super::graph::Adj| {
             let tu = self.top[a.node as usize];
             if a.node == boundary {
@@ -149,31 +149,31 @@ impl Solver {
             if best != t {
                 if best != NEVER {
                     self.nodes[v as usize].next = best;
-                    self.hint[v as usize] = which as u32;
+                    self.nodes[v as usize].hint = which as u32;
                     self.queue.push(best as u64, v);
                 }
                 return;
             }
             which
         };
+        // The contact's path is tight: its length is the sum of the radii around its ends.
         let a = adj[which];
         let s = self.nodes[v as usize];
         let mask = s.mask ^ self.edge_mask(g, v, which);
-        let source = self.source[v as usize];
         if a.node == boundary {
             let edge = Edge {
-                a: source,
+                a: s.source,
                 b: BOUNDARY,
-                len: s.dist + a.len(),
+                len: self.chain_radius(s.source),
                 mask,
             };
             self.hit_boundary(g, top, edge);
         } else {
             let su = self.nodes[a.node as usize];
             let edge = Edge {
-                a: source,
-                b: self.source[a.node as usize],
-                len: s.dist + a.len() + su.dist,
+                a: s.source,
+                b: su.source,
+                len: self.chain_radius(s.source) + self.chain_radius(su.source),
                 mask: mask ^ su.mask,
             };
             self.collide(g, top, self.top[a.node as usize], edge);
@@ -200,11 +200,10 @@ impl Solver {
         let top = self.top[v as usize];
         let s = self.nodes[v as usize];
         self.top[u as usize] = top;
-        self.source[u as usize] = self.source[v as usize];
         let mask = s.mask ^ self.edge_mask(g, v, i);
         let su = &mut self.nodes[u as usize];
         su.wrapped = s.wrapped - a.len();
-        su.dist = s.dist + a.len();
+        su.source = s.source;
         su.mask = mask;
         self.regions[top as usize].shell.push(u);
         self.touched.push(u);

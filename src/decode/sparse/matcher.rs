@@ -75,14 +75,24 @@ impl Solver {
         r
     }
 
-    /// The child of blossom `b` whose area holds event `ev`.
-    pub fn child_containing(&self, ev: u32, b: u32) -> u32 {
-        let mut r = self.event_region[ev as usize];
+    /// The child of blossom `b` that holds trivial region `r`.
+    pub fn child_containing(&self, mut r: u32, b: u32) -> u32 {
         while self.reg(r).blossom_parent != b {
             r = self.reg(r).blossom_parent;
-            debug_assert!(r != NONE, "event {ev} is not inside region {b}");
+            debug_assert!(r != NONE, "region {r} is not inside region {b}");
         }
         r
+    }
+
+    /// Sum of the radii of trivial region `r` and every blossom around it: the length of any
+    /// tight path from its event to the edge of the top region's area.
+    pub fn chain_radius(&self, mut r: u32) -> i64 {
+        let mut sum = 0;
+        while r != NONE {
+            sum += self.radius(r);
+            r = self.reg(r).blossom_parent;
+        }
+        sum
     }
 
     /// Outer region `r` touches the boundary along `edge`.

@@ -16,12 +16,13 @@ pub(crate) const NONE: u32 = u32::MAX;
 pub(crate) const BOUNDARY: u32 = u32::MAX - 1;
 
 /// A path between two detection events (or an event and the boundary) that was tight when it
-/// was found, reduced to what the matcher needs: its ends, length and observable mask.
+/// was found, reduced to what the matcher needs: its ends (as the events' trivial regions),
+/// length and observable mask.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub(crate) struct Edge {
-    /// The event at this end (inside the region that stores the edge).
+    /// The trivial region of the event at this end (inside the region storing the edge).
     pub a: u32,
-    /// The event at the far end, or [`BOUNDARY`].
+    /// The trivial region of the event at the far end, or [`BOUNDARY`].
     pub b: u32,
     /// Doubled integer length of the path.
     pub len: i64,

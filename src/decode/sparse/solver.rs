@@ -19,36 +19,40 @@ pub(crate) const NEVER: i64 = i64::MAX;
 /// Queue items with this bit set are region shrink events; others are node events.
 pub(crate) const REGION_EVENT: u32 = 1 << 31;
 
-/// What the flooder knows about one node reached by a region (its top region and source are
-/// kept apart, in [`Solver::top`] and [`Solver::source`]). 32 bytes, aligned, so that a node
-/// never straddles two cache lines.
+/// What the flooder knows about one node reached by a region (its top region is kept apart, in
+/// [`Solver::top`], because scans read it for every neighbour). 32 bytes, aligned, so that a
+/// node never straddles two cache lines.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 #[repr(align(32))]
 pub(crate) struct NodeState {
-    /// Sum of the radii of the regions between the source and `top` (excluded), minus `dist`:
-    /// the node's *local radius* is `wrapped + radius(top)`, how far the area extends beyond
-    /// the node.
+    /// Sum of the radii of the regions between the source and `top` (excluded), minus the
+    /// length of the path by which the node was reached: the node's *local radius* is
+    /// `wrapped + radius(top)`, how far the area extends beyond the node.
     pub wrapped: i64,
-    /// Length of the path by which the node was reached from its source.
-    pub dist: i64,
-    /// Observable mask of that path.
-    pub mask: u64,
     /// Time of the node's pending event ([`NEVER`]: none).
     pub next: i64,
+    /// Observable mask of the path from the source.
+    pub mask: u64,
+    /// Trivial region of the detection event the node was reached from.
+    pub source: u32,
+    /// Position in the node's adjacency of the edge that set `next`.
+    pub hint: u32,
 }
 
 /// A node no region has reached.
 pub(crate) const FRESH: NodeState = NodeState {
     wrapped: 0,
-    dist: 0,
-    mask: 0,
     next: NEVER,
+    mask: 0,
+    source: NONE,
+    hint: 0,
 };
 
 /// The matching found for one shot in one observable window.
 #[derive(Clone, Debug, Default, PartialEq, Eq)]
 pub(crate) struct Outcome {
-    /// Matched pairs of events; the second is [`super::region::BOUNDARY`] for the boundary.
+    /// Matched pairs of events (detector ids); the second is [`super::region::BOUNDARY`] for
+    /// the boundary.
     pub pairs: Vec<(u32, u32)>,
     /// Sum of the doubled lengths of the matched paths.
     pub len: i64,
@@ -67,13 +71,7 @@ pub(crate) struct Solver {
     /// boundary node). Apart from the rest of the node state because scanning a node's edges
     /// reads it for every neighbour.
     pub top: Vec<u32>,
-    /// The detection event each node was reached from.
-    pub source: Vec<u32>,
-    /// Position in each node's adjacency of the edge that set its pending event.
-    pub hint: Vec<u32>,
     pub nodes: Vec<NodeState>,
-    /// Trivial region of each event node during a shot ([`NONE`] otherwise).
-    pub event_region: Vec<u32>,
     /// Nodes whose state must be restored after the shot (may repeat).
     pub touched: Vec<u32>,
     /// Region arena; `regions[..live]` are in use.
@@ -109,10 +107,7 @@ impl Solver {
         let n = g.n();
         Solver {
             top: vec![NONE; n + 1],
-            source: vec![NONE; n + 1],
-            hint: vec![0; n + 1],
             nodes: vec![FRESH; n + 1],
-            event_region: vec![NONE; n + 1],
             touched: Vec::new(),
             regions: Vec::new(),
             rad: Vec::new(),
@@ -189,9 +184,7 @@ impl Solver {
             reg.kind = Kind::Outer;
             self.rad[r as usize].slope = 1;
             self.top[s as usize] = r;
-            self.source[s as usize] = s;
-            self.nodes[s as usize] = FRESH;
-            self.event_region[s as usize] = r;
+            self.nodes[s as usize] = NodeState { source: r, ..FRESH };
             self.touched.push(s);
         }
         for &s in events {
@@ -213,7 +206,6 @@ impl Solver {
         for &v in &self.touched {
             self.top[v as usize] = NONE;
             self.nodes[v as usize] = FRESH;
-            self.event_region[v as usize] = NONE;
         }
         self.touched.clear();
         self.live = 0;
