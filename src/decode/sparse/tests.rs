@@ -576,3 +576,62 @@ fn stress_against_both_oracles() {
         }
     }
 }
+
+mod properties {
+    use super::*;
+    use proptest::prelude::*;
+
+    /// Edges `(a, b, p, observable mask)` over `n` detectors; `b == n` is the boundary and
+    /// `a == b` a self-loop, any `p` in `[0, 1]`, parallel edges allowed.
+    fn graph_and_events() -> impl Strategy<Value = (MatchingGraph, Vec<u32>)> {
+        (1usize..8).prop_flat_map(|n| {
+            let edge = (0..n as u32, 0..=n as u32, 0.0f64..=1.0, 0u8..8);
+            (
+                Just(n),
+                proptest::collection::vec(edge, 0..20),
+                proptest::collection::vec(0..n as u32 + 2, 0..10),
+            )
+                .prop_map(|(n, edges, events)| {
+                    let edges = edges
+                        .into_iter()
+                        .map(|(a, b, p, m)| MatchingEdge {
+                            a,
+                            b: (b < n as u32).then_some(b),
+                            p,
+                            observables: (0..OBS).filter(|o| m >> o & 1 == 1).collect(),
+                        })
+                        .collect();
+                    let g = MatchingGraph {
+                        num_detectors: n,
+                        num_observables: OBS as usize,
+                        edges,
+                    };
+                    (g, events)
+                })
+        })
+    }
+
+    proptest! {
+        #![proptest_config(ProptestConfig { cases: 2000, .. ProptestConfig::default() })]
+
+        /// Arbitrary small graphs and event lists (repeats, out-of-range ids): the number left
+        /// unmatched and the weight of what is paired are optimal by exhaustive search, at full
+        /// and at a 2-bit resolution (ties everywhere).
+        #[test]
+        fn optimal_on_arbitrary_small_graphs((g, events) in graph_and_events(), coarse in any::<bool>()) {
+            let bits = if coarse { 2 } else { RESOLUTION_BITS };
+            let sparse = Mwpm::with_resolution(&g, bits).unwrap();
+            let p = &sparse.g.prepared;
+            let w = sparse.integer_weights();
+            let (norm, bad) = p.normalize_events(&events);
+            let got = sparse.decode_matching(&events);
+            check_pairs(&got, &norm, bad);
+            let (kept, _) = paired_events(&got, p);
+            let (unmatched, _, _) = brute_force(p, w, &norm);
+            let (none, weight, _) = brute_force(p, w, &kept);
+            prop_assert_eq!(got.decoded.unmatched - bad, unmatched);
+            prop_assert_eq!((none, got.weight), (0, weight));
+            prop_assert_eq!(&got.decoded, &sparse.decode(&events));
+        }
+    }
+}
