@@ -342,7 +342,7 @@ fn time_interleaved(
 /// independently per edge with a fixed seed, decoded on one thread by the sparse MWPM and
 /// union-find in `--reps` interleaved passes (default 3; each shot's best time is kept, as the
 /// machine is shared), and by the reference MWPM once. The reference runs only up to
-/// `--ref-max-d` (default 13; beyond, single shots take seconds) and stops after
+/// `--ref-max-d` (default 17; beyond, single shots take seconds) and stops after
 /// `--ref-budget` seconds (default 20) per point, reporting the shots it did; the failure
 /// counts of the two MWPM decoders are compared on those shots. `--only mwpm|uf` times one
 /// decoder alone (for profiling). Then: the least-squares exponent of sparse-MWPM time per
@@ -354,7 +354,7 @@ fn grid(args: &[String]) {
     let shots = first("--shots").map_or(2000, |x| x as usize);
     let reps = first("--reps").map_or(3, |x| x as usize);
     let budget = first("--ref-budget").unwrap_or(20.0);
-    let ref_max_d = first("--ref-max-d").map_or(13, |x| x as u32);
+    let ref_max_d = first("--ref-max-d").map_or(17, |x| x as u32);
     let only: Option<String> = list::<String>(args, "--only").and_then(|v| v.first().cloned());
     println!(
         "sparse MWPM vs reference MWPM and union-find; rotated surface code, d rounds, \
