@@ -295,8 +295,14 @@ impl Solver {
                 c = next;
             }
         }
+        // Nodes of outer members keep their local radius and slope, so their pending events
+        // stay valid; only the inner members start growing.
+        path_a.clear();
         for &(x, _) in &cycle {
             let y = self.radius(x);
+            if self.slope(x) < 0 {
+                path_a.push(x);
+            }
             self.set_slope(x, 0);
             {
                 let rx = self.reg_mut(x);
@@ -309,9 +315,11 @@ impl Solver {
             self.retop(x, n, y);
         }
         self.reg_mut(n).cycle = cycle;
+        for &x in &path_a {
+            self.reschedule(g, x);
+        }
         self.path_a = path_a;
         self.path_b = path_b;
-        self.reschedule(g, n);
     }
 
     /// Inner trivial region `r` has shrunk to radius zero: its tree parent and its child touch
