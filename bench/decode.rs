@@ -16,17 +16,17 @@
 //! Prints per-decoder time per shot, mean detection events per shot and logical failures.
 //! Options: `--shots N` (default 20000), `--p P` (default: both 1e-3 and 3e-3),
 //! `--only mwpm|ref|uf`, `--overhead` (also time empty and two-event shots), `--circuit` (use
-//! the real graph: `slant new surface` at d = 9 with 9 rounds, the `circuit p=…` noise preset
-//! and the fault-graph extractor's graphlike view, errors still sampled independently per edge).
+//! the real graph: `slant new surface` at d = 9 with 9 rounds, the `circuit p=…` noise preset and
+//! the fault-graph extractor's matchable view, errors still sampled independently per edge).
 
 use std::time::Instant;
 
 use rand::{Rng, SeedableRng};
 use rand_xoshiro::Xoshiro256PlusPlus;
+use slant::base::Source;
 use slant::decode::{Decoder, MatchingEdge, MatchingGraph, Mwpm, ReferenceMwpm, UnionFind};
 use slant::faults::ExtractOptions;
 use slant::gen::{generate, Family, GenSpec};
-use slant::lang::Source;
 use slant::noise::NoiseSpec;
 
 /// Plaquettes of one type of the rotated surface code: each is a list of data qubits `(x, y)`.
@@ -123,17 +123,17 @@ fn add_type(
     first + layers * per
 }
 
-/// The real graphlike fault graph of the generated rotated surface code (Z memory, default
+/// The real matchable fault graph of the generated rotated surface code (Z memory, default
 /// hook-safe order) under the `circuit p=…` preset: generator, noise, extractor.
 fn circuit_graph(d: u32, rounds: u32, p: f64) -> MatchingGraph {
     let mut spec = GenSpec::new(Family::Surface, d);
     spec.rounds = rounds;
     let text = generate(&spec).expect("generator accepts the spec");
-    let circuit = slant::load_source(&Source::new("bench.slant", &text), &[]).expect("valid");
+    let circuit = slant::ir::load_source(&Source::new("bench.slant", &text), &[]).expect("valid");
     let noise = NoiseSpec::parse(&format!("circuit p={p}")).expect("valid preset");
     let noisy = slant::noise::apply(&circuit, &noise).expect("noise applies");
     let faults = slant::faults::extract(&noisy, &ExtractOptions::default());
-    faults.graphlike().0
+    faults.matching_graph().0
 }
 
 fn surface_graph(d: i32, rounds: u32, p: f64) -> MatchingGraph {
@@ -338,7 +338,7 @@ fn time_interleaved(
 
 /// The grid benchmark. For every `d` (`--d`, default 5,9,13,17,21,25) and `p` (`--p`, default
 /// 0.001,0.003,0.005,0.007): the generated rotated surface code with `d` rounds under
-/// `circuit p=…`, its graphlike fault graph, `--shots` shots (default 2000) sampled
+/// `circuit p=…`, its matchable fault graph, `--shots` shots (default 2000) sampled
 /// independently per edge with a fixed seed, decoded on one thread by the sparse MWPM and
 /// union-find in `--reps` interleaved passes (default 3; each shot's best time is kept, as the
 /// machine is shared), and by the reference MWPM once. The reference runs only up to

@@ -19,7 +19,7 @@ tmp=$(mktemp -d)
 trap 'rm -rf "$tmp"' EXIT
 noise='circuit p=0.001'
 
-echo "d  volume  wall_s  cpu_s  mechanisms  faults"
+echo "d  volume  wall_s  cpu_s  edges  faults"
 : > "$tmp/fit"
 for d in 5 9 13 17 21 25; do
   "$bin" new surface --distance "$d" --rounds "$d" -o "$tmp/s$d.slant"
@@ -36,7 +36,7 @@ for d in 5 9 13 17 21 25; do
     best_w=$(python3 -c "print(min(float('$w'), float('${best_w:-inf}')))")
     best_c=$(python3 -c "print(min(float('$c'), float('${best_c:-inf}')))")
   done
-  mech=$(sed -E 's/.*; ([0-9]+) mechanisms.*/\1/' <<<"$line")
+  mech=$(sed -E 's/.*; ([0-9]+) edges.*/\1/' <<<"$line")
   faults=$(sed -E 's/.* ([0-9]+) faults/\1/' <<<"$line")
   echo "$d  $volume  $best_w  $best_c  $mech  $faults"
   echo "$volume $best_w $best_c" >> "$tmp/fit"

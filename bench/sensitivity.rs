@@ -14,10 +14,10 @@
 
 use std::time::{Duration, Instant};
 
+use slant::base::{xor_into, Pauli, Source};
 use slant::gen::{generate, Family, GenSpec};
-use slant::ir::sensitivity::{self, xor_into, Point};
-use slant::ir::{Circuit, OpKind, Pauli};
-use slant::lang::Source;
+use slant::ir::{sensitivity_sweep, SweepPoint};
+use slant::ir::{Circuit, OpKind};
 use slant::noise::NoiseSpec;
 
 /// Folds one symptom (sorted ids) into a checksum that depends on order and content.
@@ -36,8 +36,8 @@ const TERMS: [Pauli; 3] = [Pauli::X, Pauli::Y, Pauli::Z];
 fn sorted_vectors(circuit: &Circuit) -> (u64, u64) {
     let (mut sum, mut count) = (0u64, 0u64);
     let (mut acc, mut tmp) = (Vec::new(), Vec::new());
-    sensitivity::sweep(circuit, |point, s| {
-        let Point::After { op, .. } = point else {
+    sensitivity_sweep(circuit, |point, s| {
+        let SweepPoint::After { op, .. } = point else {
             return;
         };
         if !matches!(op.kind, OpKind::Noise(_)) {
@@ -95,7 +95,7 @@ fn flip_ids(row: &mut [u64], ids: &[u32]) {
 fn bitsets(circuit: &Circuit) -> (u64, u64) {
     let words = (circuit.detectors.len() + circuit.observables.len()).div_ceil(64);
     let n = circuit.qubits.len();
-    let record_symptoms = sensitivity::record_symptoms(circuit);
+    let record_symptoms = slant::ir::record_symptoms(circuit);
     let mut s = Bitsets {
         x: vec![0; n * words],
         z: vec![0; n * words],
@@ -210,7 +210,8 @@ fn main() {
         let mut spec = GenSpec::new(Family::Surface, d);
         spec.rounds = d;
         let text = generate(&spec).expect("generator accepts the spec");
-        let circuit = slant::load_source(&Source::new("bench.slant", &text), &[]).expect("valid");
+        let circuit =
+            slant::ir::load_source(&Source::new("bench.slant", &text), &[]).expect("valid");
         let noisy = slant::noise::apply(&circuit, &noise).expect("noise applies");
         let ((sum_v, count), t_v) = best_of(reps, || sorted_vectors(&noisy));
         let ((sum_b, count_b), t_b) = best_of(reps, || bitsets(&noisy));

@@ -24,7 +24,7 @@ for name in $specs; do
     # Fewer shots and the three smallest distances; a separate store, so quick and full runs
     # never mix (their task keys differ anyway through the chunk size).
     quick="$out/$name.quick.toml"
-    sed -e 's/^shots = .*/shots = 20000/' -e 's/^max_errors = .*/max_errors = 300/' \
+    sed -e 's/^shots = .*/shots = 20000/' -e 's/^until_failures = .*/until_failures = 300/' \
         -e 's/^chunk = .*/chunk = 10000/' \
         -e 's/^distances = \[\([0-9]*\), *\([0-9]*\), *\([0-9]*\).*\]/distances = [\1, \2, \3]/' \
         "$spec" > "$quick"

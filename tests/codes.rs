@@ -6,9 +6,9 @@
 
 use std::collections::{BTreeMap, BTreeSet};
 
+use slant::base::{Pauli, Source};
 use slant::gen::{generate, Family, GenSpec, LogicalBasis, Style};
-use slant::ir::{Circuit, OpKind, Pauli};
-use slant::lang::Source;
+use slant::ir::{Circuit, OpKind};
 
 /// A Pauli on at most 64 data qubits: bit `k` of `x`/`z` is the X/Z part on data qubit `k`.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord)]
@@ -237,7 +237,7 @@ fn product_code(
     s.basis = basis;
     s.periodic = periodic;
     let text = generate(&s).unwrap();
-    let c = slant::load_source(&Source::new("code.slant", text), &[]).unwrap();
+    let c = crate::support::load("code.slant", &text);
     Code::from_circuit(&c)
 }
 
@@ -392,7 +392,8 @@ fn repetition_codes_have_distance_d_against_their_flip() {
         s.flip = Some(slant::gen::Flip::Z);
         s.style = Some(Style::Product);
         s.rounds = 1;
-        let c = slant::load_source(&Source::new("r.slant", generate(&s).unwrap()), &[]).unwrap();
+        let c =
+            slant::ir::load_source(&Source::new("r.slant", generate(&s).unwrap()), &[]).unwrap();
         let phase = Code::from_circuit(&c);
         assert_stabilizer_code(&phase, 1);
         assert_eq!(phase.min_logical(&[Pauli::Z], d), Some(d));

@@ -1,24 +1,21 @@
 //! `slant distance` / `analysis::distance`: circuit-level distances by fault class, checked
 //! against published code distances, derivations and brute force; `slant compare` end to end.
 
-use crate::support::slant;
-use slant::analysis::distance::{
-    distances, symptom, DistanceOptions, DistanceReport, Unproven, Unresolved,
-};
+use crate::support::{slant, Runner};
+use slant::analysis::{distances, symptom, DistanceOptions, DistanceReport, Unproven, Unresolved};
 use slant::faults::{ExtractOptions, FaultGraph};
 use slant::gen::{generate, Entangler, Family, GenSpec, LogicalBasis, Order, Style};
-use slant::lang::Source;
 
 fn graph_of(spec: &GenSpec, noise: &str) -> FaultGraph {
     let text = generate(spec).expect("generate");
-    let circuit = slant::load_source(&Source::new("gen.slant", text), &[]).expect("load");
+    let circuit = crate::support::load("gen.slant", &text);
     let spec = slant::noise::NoiseSpec::parse(noise).expect("noise");
     let noisy = slant::noise::apply(&circuit, &spec).expect("apply");
     slant::faults::extract(&noisy, &ExtractOptions::default())
 }
 
 /// Distances, with every returned logical error checked independently of the search: XOR of
-/// the mechanisms' symptoms has no detectors and flips an observable.
+/// the edges' symptoms has no detectors and flips an observable.
 fn report(graph: &FaultGraph) -> DistanceReport {
     let r = distances(graph, &DistanceOptions::default()).expect("distances");
     let errors = [
@@ -28,21 +25,21 @@ fn report(graph: &FaultGraph) -> DistanceReport {
         r.weighted.as_ref().map(|w| &w.error),
     ];
     for e in errors.into_iter().flatten() {
-        let (dets, obs) = symptom(graph, &e.mechanisms);
+        let (dets, obs) = symptom(graph, &e.edges);
         assert!(dets.is_empty(), "logical error leaves detectors {dets:?}");
         assert!(!obs.is_empty(), "logical error flips no observable");
         assert_eq!(obs, e.observables);
     }
     if let Some(c) = &r.distance {
-        assert_eq!(c.error.mechanisms.len() as u32, c.value);
+        assert_eq!(c.error.edges.len() as u32, c.value);
     }
     if let Some(l) = &r.lexicographic {
-        assert_eq!(l.error.mechanisms.len() as u32, l.total);
+        assert_eq!(l.error.edges.len() as u32, l.total);
         let low = l
             .error
-            .mechanisms
+            .edges
             .iter()
-            .filter(|&&m| !graph.mechanisms[m as usize].classes.has_high())
+            .filter(|&&m| !graph.edges[m as usize].classes.has_high())
             .count() as u32;
         assert_eq!(low, l.low);
     }
@@ -55,13 +52,13 @@ fn exact_distance(r: &DistanceReport) -> u32 {
     c.value
 }
 
-/// Least number of mechanisms forming an undetected logical error, by trying every subset
-/// (only for graphs with few mechanisms).
+/// Least number of edges forming an undetected logical error, by trying every subset
+/// (only for graphs with few edges).
 fn brute_force(graph: &FaultGraph, allow: impl Fn(usize) -> bool) -> Option<u32> {
-    let ids: Vec<u32> = (0..graph.mechanisms.len() as u32)
+    let ids: Vec<u32> = (0..graph.edges.len() as u32)
         .filter(|&m| allow(m as usize))
         .collect();
-    assert!(ids.len() <= 20, "too many mechanisms to brute-force");
+    assert!(ids.len() <= 20, "too many edges to brute-force");
     let mut best: Option<u32> = None;
     for mask in 1u32..(1 << ids.len()) {
         let w = mask.count_ones();
@@ -161,7 +158,7 @@ fn repetition_circuit_level_distance_is_d() {
 // repetition codes along its diagonals; the shortest pure-Z logical of a d × d planar patch has
 // length d. It anticommutes with the stored X-type logical (the Z-type memory has no pure-Z
 // logical error at all, which the test also checks). Brute force over every subset of the
-// capacity-noise mechanisms of one noisy round (rounds = 2: the first round's results are the
+// capacity-noise edges of one noisy round (rounds = 2: the first round's results are the
 // reference) confirms the graph search.
 #[test]
 fn xzzx_infinite_bias_high_rate_distance_is_d() {
@@ -175,7 +172,7 @@ fn xzzx_infinite_bias_high_rate_distance_is_d() {
         let high = r.high_rate.as_ref().expect("pure-Z logical exists");
         assert!(high.exact());
         assert_eq!(high.value, d, "{}", s.command_line().unwrap());
-        if g.mechanisms.len() <= 20 {
+        if g.edges.len() <= 20 {
             assert_eq!(brute_force(&g, |_| true), Some(d));
         }
         s.basis = Some(LogicalBasis::Z);
@@ -259,7 +256,7 @@ fn rectangular_xzzx_high_rate_distance_equals_brute_force_z_logical() {
             s.style = Some(Style::Product);
             s.basis = Some(basis);
             let text = generate(&s).expect("generate");
-            let circuit = slant::load_source(&Source::new("rect.slant", text), &[]).expect("load");
+            let circuit = crate::support::load("rect.slant", &text);
             let brute = min_pure_z_logical(&circuit);
             let r = report(&graph_of(&s, "capacity p=0.01 bias=inf"));
             assert_eq!(
@@ -346,14 +343,14 @@ fn distance_matches_brute_force_on_small_graphs() {
     assert_eq!(
         Some(exact_distance(&r)),
         brute_force(&g, |_| true),
-        "mechanisms: {}",
-        g.mechanisms.len()
+        "edges: {}",
+        g.edges.len()
     );
 }
 
 /// The fault graph of [`HYPER`].
 fn hyperedge_graph() -> FaultGraph {
-    let circuit = slant::load_source(&Source::new("hyper.slant", HYPER), &[]).expect("load");
+    let circuit = crate::support::load("hyper.slant", HYPER);
     slant::faults::extract(&circuit, &ExtractOptions::default())
 }
 
@@ -371,22 +368,22 @@ const HYPER: &str = "qubit q[0..6]\nreset x q[0..6]\nnoise dephasing p=0.01 q[0.
 #[test]
 fn exhaustive_search_matches_brute_force_on_hyperedges() {
     let g = hyperedge_graph();
-    assert!(g.mechanisms.iter().all(|m| m.detectors.len() > 2));
+    assert!(g.edges.iter().all(|m| m.detectors.len() > 2));
     let r = report(&g);
     let c = r.distance.as_ref().expect("logical error");
-    assert_eq!(c.method, slant::analysis::distance::Method::Exhaustive);
+    assert_eq!(c.method, slant::analysis::Method::Exhaustive);
     assert_eq!(Some(c.value), brute_force(&g, |_| true));
     assert_eq!(c.value, 4);
-    // The class and weighted searches see no graphlike mechanism here: their absence is
+    // The class and weighted searches see no matchable edge here: their absence is
     // unproven, and the report must say so rather than claim "none".
     assert!(r.lexicographic.is_none());
-    assert_eq!(r.unresolved.lexicographic, Some(Unproven::GraphlikeOnly));
+    assert_eq!(r.unresolved.lexicographic, Some(Unproven::MatchableOnly));
     assert_eq!(r.unresolved.distance, None);
 }
 
 #[test]
 fn unfinished_searches_are_reported_as_unproven() {
-    // The same 4-mechanism logical error as above, searched with too small a depth or state
+    // The same 4-edge logical error as above, searched with too small a depth or state
     // cap: "none" would be false, so the report gives the proven bound or says it cannot tell.
     let g = hyperedge_graph();
     let shallow = DistanceOptions {
@@ -406,7 +403,7 @@ fn unfinished_searches_are_reported_as_unproven() {
     // A graph without hyperedges has an exact search: an absence there is proven.
     let text = "qubit q[0..2]\nreset x q[0..2]\nnoise dephasing p=0.01 q[0..2]\n\
         measure x q[0..2] -> m[0..2]\ndetector = m[0] ^ m[1]\n";
-    let circuit = slant::load_source(&Source::new("plain.slant", text), &[]).expect("load");
+    let circuit = crate::support::load("plain.slant", text);
     let plain = slant::faults::extract(&circuit, &ExtractOptions::default());
     let r = distances(&plain, &DistanceOptions::default()).unwrap();
     assert!(r.distance.is_none());
@@ -437,8 +434,7 @@ fn cli_distance_prints_error_with_source_lines() {
             "circuit p=0.001",
             "--json",
         ])
-        .output()
-        .unwrap();
+        .run();
     let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
     assert_eq!(v["distance"]["value"], 2);
     assert_eq!(v["distance"]["exact"], true);
@@ -506,8 +502,7 @@ fn cli_compare_orders_marks_best() {
             "--noise",
             "circuit p=0.001",
         ])
-        .output()
-        .unwrap();
+        .run();
     let text = String::from_utf8(out.stdout).unwrap();
     let safe = text
         .lines()
@@ -582,8 +577,12 @@ fn cli_compare_bias_rates_and_plot() {
         "--plot",
         svg_path.to_str().unwrap(),
     ]);
-    let rows: serde_json::Value = serde_json::from_str(&text).unwrap();
-    let rows = rows.as_array().unwrap();
+    let doc: serde_json::Value = serde_json::from_str(&text).unwrap();
+    assert_eq!(
+        (&doc["format"], &doc["version"]),
+        (&"slant-compare".into(), &2.into())
+    );
+    let rows = doc["rows"].as_array().unwrap();
     assert_eq!(rows.len(), 2);
     let (native, cx) = (&rows[0], &rows[1]);
     assert_eq!(native["circuit"], "entangler=native");
@@ -607,7 +606,7 @@ fn cli_compare_bias_rates_and_plot() {
             assert_eq!(x["p"].as_f64().unwrap(), p);
             assert_eq!(x["shots"].as_u64().unwrap(), 2000);
             let (k, n, rounds) = (
-                x["errors"].as_u64().unwrap() as f64,
+                x["failures"].as_u64().unwrap() as f64,
                 2000.0,
                 x["rounds"].as_u64().unwrap() as i32,
             );
@@ -696,8 +695,7 @@ fn cli_compare_refuses_p_for_model_files() {
             "--p",
             "0.01",
         ])
-        .output()
-        .unwrap();
+        .run();
     assert_eq!(out.status.code(), Some(1));
     let err = String::from_utf8_lossy(&out.stderr);
     assert!(err.contains("model file"), "{err}");

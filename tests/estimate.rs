@@ -4,20 +4,12 @@
 //! binomial standard deviations) or with the ordering of distances below and above a published
 //! threshold; full-size threshold runs live in `bench/thresholds.sh`.
 
-use crate::support::slant;
-use slant::decode::run::{Counts, Experiment, RunOptions};
+use crate::support::{load, slant, Runner};
 use slant::decode::DecoderKind;
 use slant::gen::{Family, Flip, GenSpec, LogicalBasis, Style};
 use slant::ir::Circuit;
-use slant::lang::Source;
 use slant::noise::{self, NoiseSpec};
-
-fn load(text: &str) -> Circuit {
-    match slant::load_source(&Source::new("t.slant", text), &[]) {
-        Ok(c) => c,
-        Err(d) => panic!("{}", d.iter().map(|d| d.render()).collect::<String>()),
-    }
-}
+use slant::study::{Counts, Pipeline, RunOptions};
 
 fn with_noise(c: &Circuit, spec: &str) -> Circuit {
     let spec = NoiseSpec::parse(spec).unwrap_or_else(|d| panic!("{}", d.render()));
@@ -25,15 +17,20 @@ fn with_noise(c: &Circuit, spec: &str) -> Circuit {
 }
 
 fn generated(spec: &GenSpec) -> Circuit {
-    load(&slant::gen::generate(spec).expect("generator accepts the spec"))
+    load(
+        "t.slant",
+        &slant::gen::generate(spec).expect("generator accepts the spec"),
+    )
 }
 
 fn estimate(c: &Circuit, kind: DecoderKind, shots: u64, seed: u64) -> Counts {
-    let exp = Experiment::new(c, kind).expect("decodable graph");
+    let exp = Pipeline::from_circuit(c.clone())
+        .experiment(kind)
+        .expect("decodable graph");
     exp.run(
         &RunOptions {
             shots,
-            max_errors: None,
+            until_failures: None,
             seed,
         },
         |_| {},
@@ -41,7 +38,7 @@ fn estimate(c: &Circuit, kind: DecoderKind, shots: u64, seed: u64) -> Counts {
 }
 
 fn rate(c: Counts) -> f64 {
-    c.errors as f64 / c.shots as f64
+    c.failures as f64 / c.shots as f64
 }
 
 /// Asserts `|k/n − p| ≤ 5σ` with `σ = sqrt(p(1−p)/n)`.
@@ -51,7 +48,7 @@ fn assert_within_5_sigma(c: Counts, p: f64, what: &str) {
     assert!(
         (got - p).abs() <= 5.0 * sigma,
         "{what}: measured {got} ({} / {}), expected {p} ± {sigma}",
-        c.errors,
+        c.failures,
         c.shots
     );
 }
@@ -63,9 +60,9 @@ fn assert_clearly_below(a: Counts, b: Counts, what: &str) {
     assert!(
         pb - pa > 5.0 * sigma,
         "{what}: expected {pa} ({}/{}) < {pb} ({}/{}) by more than 5σ = {}",
-        a.errors,
+        a.failures,
         a.shots,
-        b.errors,
+        b.failures,
         b.shots,
         5.0 * sigma
     );
@@ -95,7 +92,7 @@ fn repetition_d3_code_capacity_matches_3p2_minus_2p3() {
     // probability 3p²(1−p) + p³ = 3p² − 2p³ (majority vote; MWPM on this graph is majority vote).
     let p: f64 = 0.1;
     let exact = 3.0 * p * p - 2.0 * p * p * p;
-    let c = load(REP3_BITFLIP);
+    let c = load("t.slant", REP3_BITFLIP);
     for kind in [DecoderKind::Mwpm, DecoderKind::UnionFind] {
         assert_within_5_sigma(estimate(&c, kind, 100_000, 7), exact, kind.name());
     }
@@ -246,20 +243,22 @@ fn mwpm_and_union_find_mostly_agree_at_low_noise() {
 }
 
 #[test]
-fn max_errors_stops_early_at_a_batch_boundary() {
+fn until_failures_stops_early_at_a_batch_boundary() {
     let c = with_noise(
         &generated(&GenSpec::new(Family::Repetition, 3)),
         "phenomenological p=0.1",
     );
-    let exp = Experiment::new(&c, DecoderKind::Mwpm).unwrap();
+    let exp = Pipeline::from_circuit(c)
+        .experiment(DecoderKind::Mwpm)
+        .unwrap();
     let opts = RunOptions {
         shots: 1_000_000,
-        max_errors: Some(50),
+        until_failures: Some(50),
         seed: 9,
     };
     let mut calls = 0;
     let counts = exp.run(&opts, |_| calls += 1);
-    assert!(counts.errors >= 50, "{counts:?}");
+    assert!(counts.failures >= 50, "{counts:?}");
     assert!(
         counts.shots < 1_000_000 && counts.shots.is_multiple_of(4096),
         "{counts:?}"
@@ -289,21 +288,35 @@ fn estimate_json(file: &std::path::Path, extra: &[&str], threads: &str) -> serde
 fn estimate_cli_is_deterministic_per_seed_whatever_the_thread_count() {
     let dir = tempfile::tempdir().unwrap();
     let f = write_circuit(dir.path(), "rep.slant", REP3_BITFLIP);
-    let args = ["--shots", "30000", "--seed", "42", "--max-errors", "300"];
+    let args = [
+        "--shots",
+        "30000",
+        "--seed",
+        "42",
+        "--until-failures",
+        "300",
+    ];
     let one = estimate_json(&f, &args, "1");
     let two = estimate_json(&f, &args, "2");
     let three = estimate_json(&f, &args, "3");
-    for key in ["shots", "errors", "per_shot", "per_round"] {
+    for key in ["shots", "failures", "per_shot", "per_round"] {
         assert_eq!(one[key], two[key], "{key}");
         assert_eq!(one[key], three[key], "{key}");
     }
     assert_eq!(one["stopped_early"], true);
     let other = estimate_json(
         &f,
-        &["--shots", "30000", "--seed", "43", "--max-errors", "300"],
+        &[
+            "--shots",
+            "30000",
+            "--seed",
+            "43",
+            "--until-failures",
+            "300",
+        ],
         "2",
     );
-    assert_ne!(one["errors"], other["errors"]);
+    assert_ne!(one["failures"], other["failures"]);
 }
 
 #[test]
@@ -313,8 +326,7 @@ fn estimate_cli_reports_rates_intervals_and_the_model() {
     let out = slant()
         .args(["estimate", "--shots", "8192", "--decoder", "uf"])
         .arg(&f)
-        .output()
-        .unwrap();
+        .run();
     assert!(out.status.success());
     let text = String::from_utf8(out.stdout).unwrap();
     assert!(
@@ -344,11 +356,7 @@ fn estimate_cli_reports_rates_intervals_and_the_model() {
         "none.slant",
         "qubit q\nmeasure z q -> m\ndetector = m\n",
     );
-    let out = slant()
-        .args(["estimate", "--shots", "10"])
-        .arg(&g)
-        .output()
-        .unwrap();
+    let out = slant().args(["estimate", "--shots", "10"]).arg(&g).run();
     assert_eq!(out.status.code(), Some(1));
     assert!(String::from_utf8_lossy(&out.stderr).contains("declares no observable"));
 }
@@ -366,13 +374,13 @@ p = [0.08, 0.1]
 bias = [inf]
 "#;
 
-/// `(task, chunk, shots, errors)` of every row, sorted: equal for runs that recorded the same
+/// `(task, chunk, shots, failures)` of every row, sorted: equal for runs that recorded the same
 /// chunks with the same counts, in whatever order.
 fn chunk_table(path: &std::path::Path) -> Vec<(String, u64, u64, u64)> {
-    let mut t: Vec<_> = slant::decode::sweep::read_store(path)
+    let mut t: Vec<_> = slant::study::read_store(path)
         .unwrap()
         .into_iter()
-        .map(|r| (r.task, r.chunk, r.shots, r.errors))
+        .map(|r| (r.task, r.chunk, r.shots, r.failures))
         .collect();
     t.sort();
     t
@@ -461,13 +469,12 @@ fn shard_and_merge_round_trip_equals_the_unsharded_sweep() {
         .args([&a, &b, &c, &a])
         .arg("-o")
         .arg(&merged)
-        .output()
-        .unwrap();
+        .run();
     assert!(out.status.success());
     assert!(String::from_utf8_lossy(&out.stderr).contains("duplicates dropped"));
     assert_eq!(chunk_table(&merged), chunk_table(&whole));
-    let rows = slant::decode::sweep::read_store(&merged).unwrap();
-    let points = slant::decode::sweep::aggregate(&rows);
+    let rows = slant::study::read_store(&merged).unwrap();
+    let points = slant::study::aggregate(&rows);
     assert_eq!(points.len(), 4);
     assert!(points.iter().all(|p| p.shots == 49152));
 }
@@ -482,11 +489,12 @@ fn plot_marks_the_crossing_of_synthetic_power_laws() {
         for p in [0.005, 0.01, 0.015, 0.025, 0.03] {
             let rate = 0.1 * (p / 0.02f64).powf((d as f64 + 1.0) / 2.0);
             let shots = 100_000_000u64;
-            let row = slant::decode::sweep::Row {
+            let row = slant::study::ChunkRow {
+                version: slant::study::STORE_VERSION,
                 task: format!("t d={d} p={p}"),
                 chunk: 0,
                 shots,
-                errors: (rate * shots as f64).round() as u64,
+                failures: (rate * shots as f64).round() as u64,
                 seed: 0,
                 label: "synthetic".into(),
                 family: "surface".into(),
@@ -529,7 +537,6 @@ fn plot_marks_the_crossing_of_synthetic_power_laws() {
         .arg(&store)
         .arg("-o")
         .arg(dir.path().join("t.jpg"))
-        .output()
-        .unwrap();
+        .run();
     assert_eq!(bad.status.code(), Some(1));
 }

@@ -1,26 +1,10 @@
 //! `slant new`: generated circuits load and check, the circuits/ library is up to date, bad specs
 //! are refused with a reason, coordinates and roles are present, and XZZX shows its diagonal.
 
-use std::process::Command;
-
+use crate::support::{load, slant, Runner};
+use slant::base::Pauli;
 use slant::gen::{generate, Entangler, Family, GenSpec, LogicalBasis, Order, Style};
-use slant::ir::{Circuit, OpKind, Pauli};
-use slant::lang::Source;
-
-fn slant() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_slant"))
-}
-
-fn load(text: &str) -> Circuit {
-    let src = Source::new("gen.slant", text.to_string());
-    match slant::load_source(&src, &[]) {
-        Ok(c) => c,
-        Err(d) => panic!(
-            "generated circuit rejected:\n{}\n{text}",
-            d.iter().map(|d| d.render()).collect::<String>()
-        ),
-    }
-}
+use slant::ir::OpKind;
 
 /// Every variant of a square or rectangular spec the options allow.
 fn variants(family: Family, dx: u32, dz: u32, rounds: u32) -> Vec<GenSpec> {
@@ -89,7 +73,7 @@ fn check_spec(spec: &GenSpec) {
         generate(spec).unwrap(),
         "generation is not deterministic"
     );
-    let c = load(&text);
+    let c = load("gen.slant", &text);
     assert_eq!(c.rounds, spec.rounds, "{spec:?}");
     assert_eq!(c.observables.len(), 1);
     assert!(c.qubits.iter().all(|q| q.coords.len() == 2));
@@ -192,7 +176,7 @@ fn library_is_up_to_date() {
     {
         let mut words = line.split_whitespace();
         let file = words.next().unwrap();
-        let out = slant().arg("new").args(words).output().unwrap();
+        let out = slant().arg("new").args(words).run();
         assert!(
             out.status.success(),
             "{line}: {}",
@@ -203,7 +187,7 @@ fn library_is_up_to_date() {
             out.stdout == want,
             "circuits/{file} is out of date; run circuits/refresh.sh"
         );
-        load(&String::from_utf8(want).unwrap());
+        load("gen.slant", &String::from_utf8(want).unwrap());
         count += 1;
     }
     assert!(count >= 12);
@@ -216,8 +200,7 @@ fn cli_writes_file_and_refuses_bad_specs() {
     let out = slant()
         .args(["new", "xzzx", "--dx", "3", "--dz", "5", "-o"])
         .arg(&path)
-        .output()
-        .unwrap();
+        .run();
     assert!(out.status.success());
     let text = std::fs::read_to_string(&path).unwrap();
     assert!(text.starts_with(
@@ -245,13 +228,13 @@ fn cli_writes_file_and_refuses_bad_specs() {
         (&["surface", "--flip", "z"], "repetition code only"),
     ];
     for (args, msg) in cases {
-        let out = slant().arg("new").args(args).output().unwrap();
+        let out = slant().arg("new").args(args).run();
         assert_eq!(out.status.code(), Some(1), "{args:?}");
         let err = String::from_utf8_lossy(&out.stderr);
         assert!(err.contains(msg), "{args:?}: {err}");
         assert!(out.stdout.is_empty());
     }
-    let out = slant().args(["new", "toric"]).output().unwrap();
+    let out = slant().args(["new", "toric"]).run();
     assert_eq!(out.status.code(), Some(2));
 }
 
@@ -282,17 +265,14 @@ fn distances_out_of_range_are_usage_errors() {
         ),
     ];
     for (args, msg) in cases {
-        let out = slant().arg("new").args(args).output().unwrap();
+        let out = slant().arg("new").args(args).run();
         let err = String::from_utf8_lossy(&out.stderr);
         assert_eq!(out.status.code(), Some(2), "{args:?}: {err}");
         assert!(err.contains(msg), "{args:?}: {err}");
         assert!(!err.contains("--rounds"), "{args:?}: {err}");
         assert!(out.stdout.is_empty());
     }
-    let out = slant()
-        .args(["new", "surface", "--distance", "1"])
-        .output()
-        .unwrap();
+    let out = slant().args(["new", "surface", "--distance", "1"]).run();
     assert_eq!(out.status.code(), Some(1));
     assert!(String::from_utf8_lossy(&out.stderr).contains("distance must be odd and at least 3"));
     // The library refuses the same specs, naming the distance rather than the rounds.
@@ -308,8 +288,7 @@ fn distances_out_of_range_are_usage_errors() {
     // `--distance 1001` on the torus asks for 1001 × 1002.
     let out = slant()
         .args(["new", "xzzx", "--periodic", "--distance", "1001"])
-        .output()
-        .unwrap();
+        .run();
     assert_eq!(out.status.code(), Some(1));
     let e = String::from_utf8_lossy(&out.stderr);
     assert!(
@@ -325,8 +304,7 @@ fn largest_distance_generates_quickly() {
     for family in ["surface", "xzzx"] {
         let out = slant()
             .args(["new", family, "--distance", "1001", "--rounds", "1"])
-            .output()
-            .unwrap();
+            .run();
         assert!(
             out.status.success(),
             "{}",
@@ -344,7 +322,7 @@ fn xzzx_z_faults_flip_detectors_along_one_diagonal() {
     let mut s = GenSpec::new(Family::Xzzx, 5);
     s.rounds = 3;
     s.style = Some(Style::Product);
-    let c = load(&generate(&s).unwrap());
+    let c = load("gen.slant", &generate(&s).unwrap());
     let round1: Vec<(u32, &slant::ir::Op)> = c
         .layers
         .iter()

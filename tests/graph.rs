@@ -1,23 +1,15 @@
 //! Fault-graph extraction (`slant graph`, `slant trace`): structure, exact statistics, exports.
 
 use std::collections::BTreeSet;
-use std::process::Command;
 
-use slant::faults::export::{self, Format, View};
+use crate::support::{load_with, slant, Runner};
+use slant::base::{Gate, Pauli};
 use slant::faults::{self, ExtractOptions, FaultGraph};
-use slant::ir::{Circuit, Gate, OpKind, Pauli};
-use slant::lang::Source;
-
-fn load(text: &str, set: &[(&str, i64)]) -> Circuit {
-    let set: Vec<(String, i64)> = set.iter().map(|(k, v)| (k.to_string(), *v)).collect();
-    match slant::load_source(&Source::new("t.slant", text), &set) {
-        Ok(c) => c,
-        Err(d) => panic!("{}", d.iter().map(|d| d.render()).collect::<String>()),
-    }
-}
+use slant::faults::{Format, View};
+use slant::ir::{Circuit, OpKind};
 
 fn graph_of(text: &str, set: &[(&str, i64)]) -> FaultGraph {
-    faults::extract(&load(text, set), &ExtractOptions::default())
+    faults::extract(&load_with("t.slant", text, set), &ExtractOptions::default())
 }
 
 /// Bit-flip repetition code, ancilla-based extraction with perfect measurements and a bit flip
@@ -58,7 +50,7 @@ fn repetition_code_capacity_is_a_path_graph() {
         let g = graph_of(REPETITION, &[("d", d), ("rounds", rounds)]);
         let n = (d - 1) as usize;
         assert_eq!(g.detectors.len(), n * rounds as usize);
-        let (mg, stats) = g.graphlike();
+        let (mg, stats) = g.matching_graph();
         assert_eq!(stats.observable_conflicts, 0);
         assert_eq!(mg.edges.len(), d as usize * rounds as usize, "d={d}");
         for r in 0..rounds as u32 {
@@ -135,33 +127,33 @@ observable logical = f[0] ^ f[1] ^ f[2]
 ";
 
 #[test]
-fn css_y_faults_decompose_into_x_and_z_parts() {
+fn css_y_faults_split_into_x_and_z_parts() {
     // In a CSS code a Y fault is X·Z; its X part trips Z checks, its Z part X checks, and each
-    // part is a mechanism of its own (the X and Z faults of the same channel). Every hyperedge
+    // part is a edge of its own (the X and Z faults of the same channel). Every hyperedge
     // must therefore split (common practice for matching CSS codes).
     let g = graph_of(SURFACE3, &[("rounds", 3)]);
     assert!(g.hyperedges.hyperedges > 0);
-    assert_eq!(g.hyperedges.decomposed, g.hyperedges.hyperedges);
-    assert!(g.hyperedges.undecomposed.is_empty());
-    for dec in &g.decompositions {
-        let m = &g.mechanisms[dec.mechanism as usize];
+    assert_eq!(g.hyperedges.split, g.hyperedges.hyperedges);
+    assert!(g.hyperedges.unsplit.is_empty());
+    for dec in &g.splits {
+        let m = &g.edges[dec.edge as usize];
         let (mut dets, mut obs) = (Vec::new(), Vec::new());
         for (d, o) in g.parts(dec) {
             assert!((1..=2).contains(&d.len()));
             assert!(g
-                .mechanisms
+                .edges
                 .iter()
                 .any(|x| x.detectors == d && x.observables == o));
-            dets = slant::ir::sensitivity::xor_sets(&dets, d);
-            obs = slant::ir::sensitivity::xor_sets(&obs, o);
+            dets = slant::base::xor_sets(&dets, d);
+            obs = slant::base::xor_sets(&obs, o);
         }
         assert_eq!(dets, m.detectors);
         assert_eq!(obs, m.observables);
     }
     // Z-type checks have 4 detectors per round; X-type ones appear from the second round.
     assert_eq!(g.detectors.len(), 4 + 8 * 2 + 4);
-    let (mg, stats) = g.graphlike();
-    assert_eq!(stats.undecomposed.len(), 0);
+    let (mg, stats) = g.matching_graph();
+    assert_eq!(stats.unsplit.len(), 0);
     assert_eq!(stats.observable_conflicts, 0);
     assert!(mg.edges.iter().all(|e| e.b.is_none_or(|b| b > e.a)));
 }
@@ -173,9 +165,9 @@ qubit a[0..2]
 reset z q[0..3], a[0..2]
 noise depolarizing p=0.02 q[0..3]
 layer { cx q[0] a[0] ; cx q[1] a[1] }
-noise depolarizing2 p=0.03 q[0] a[0]
+noise pair_depolarizing p=0.03 q[0] a[0]
 noise pauli x=0.01 y=0.02 z=0.04 q[1]
-noise correlated p=0.05 x q[1] * z q[2]
+noise joint p=0.05 x q[1] * z q[2]
 layer { cx q[1] a[0] ; cx q[2] a[1] }
 h a[1]
 noise dephasing p=0.03 a[1]
@@ -201,7 +193,7 @@ struct Location {
 /// Exact detector marginals and pair probabilities by enumerating every combination of channel
 /// outcomes (terms mutually exclusive, as written) and propagating each Pauli frame forward
 /// through the circuit with the gates' Heisenberg images. Independent of the backward sweep and
-/// of the independent-mechanism conversion.
+/// of the independent-edge conversion.
 fn exact_by_enumeration(c: &Circuit) -> (Vec<f64>, Vec<Vec<f64>>) {
     let mut locs = Vec::new();
     for (li, layer) in c.layers.iter().enumerate() {
@@ -328,12 +320,12 @@ fn exact_by_enumeration(c: &Circuit) -> (Vec<f64>, Vec<Vec<f64>>) {
 #[test]
 #[allow(clippy::needless_range_loop)] // i and j index two matrices at once
 fn detector_statistics_match_exhaustive_enumeration() {
-    // Exact check: marginals and pair probabilities from the graph's independent mechanisms,
-    // P(odd number of touching mechanisms fire), against exhaustive enumeration of the written
+    // Exact check: marginals and pair probabilities from the graph's independent edges,
+    // P(odd number of touching edges fire), against exhaustive enumeration of the written
     // (mutually exclusive) channel terms with forward Pauli propagation. Every channel here has
     // an exact independent form (see `slant::faults` docs), so they agree to round-off.
     for text in [MIXED, REPETITION] {
-        let c = load(text, &[]);
+        let c = load_with("t.slant", text, &[]);
         let g = faults::extract(&c, &ExtractOptions::default());
         assert_eq!(g.inexact_channels, 0);
         let (marg, pair) = exact_by_enumeration(&c);
@@ -359,17 +351,17 @@ fn detector_statistics_match_exhaustive_enumeration() {
 fn classes_follow_the_injected_pauli() {
     let g = graph_of(MIXED, &[]);
     for c in &g.provenance {
-        let z_only = c.record.is_none() && c.term.iter().all(|p| !p.has_x());
+        let z_only = c.result.is_none() && c.term.iter().all(|p| !p.has_x());
         assert_eq!(c.class == faults::FaultClass::High, z_only, "{c:?}");
     }
     let flips = ExtractOptions {
         high_rate_flips: true,
     };
-    let g2 = faults::extract(&load(MIXED, &[]), &flips);
+    let g2 = faults::extract(&load_with("t.slant", MIXED, &[]), &flips);
     assert!(g2
         .provenance
         .iter()
-        .filter(|c| c.record.is_some())
+        .filter(|c| c.result.is_some())
         .all(|c| c.class == faults::FaultClass::High));
 }
 
@@ -431,13 +423,13 @@ fn ids(v: &serde_json::Value) -> Vec<u32> {
 fn exports_parse_back_to_the_same_graph() {
     let g = graph_of(SURFACE3, &[("rounds", 2)]);
     // JSON, full graph.
-    let json = &export::render(&View::Full(&g), Format::Json)[0].1;
+    let json = &slant::faults::render(&View::Full(&g), Format::Json)[0].1;
     let v: serde_json::Value = serde_json::from_slice(json).unwrap();
     assert_eq!(v["format"], "slant-fault-graph");
-    assert_eq!(v["version"], 1);
-    let mechs = v["mechanisms"].as_array().unwrap();
-    assert_eq!(mechs.len(), g.mechanisms.len());
-    for (m, j) in g.mechanisms.iter().zip(mechs) {
+    assert_eq!(v["version"], 2);
+    let mechs = v["edges"].as_array().unwrap();
+    assert_eq!(mechs.len(), g.edges.len());
+    for (m, j) in g.edges.iter().zip(mechs) {
         assert_eq!(ids(&j["detectors"]), m.detectors);
         assert_eq!(ids(&j["observables"]), m.observables);
         assert_eq!(j["probability"].as_f64().unwrap(), m.probability);
@@ -458,11 +450,11 @@ fn exports_parse_back_to_the_same_graph() {
             .starts_with("noise depolarizing"));
     }
     assert_eq!(v["detectors"].as_array().unwrap().len(), g.detectors.len());
-    // JSON, graphlike.
-    let (mg, st) = g.graphlike();
-    let gl = View::Graphlike(&g, &mg, &st);
+    // JSON, matchable.
+    let (mg, st) = g.matching_graph();
+    let gl = View::Matching(&g, &mg, &st);
     let v: serde_json::Value =
-        serde_json::from_slice(&export::render(&gl, Format::Json)[0].1).unwrap();
+        serde_json::from_slice(&slant::faults::render(&gl, Format::Json)[0].1).unwrap();
     assert_eq!(v["format"], "slant-matching-graph");
     let edges = v["edges"].as_array().unwrap();
     assert_eq!(edges.len(), mg.edges.len());
@@ -472,17 +464,17 @@ fn exports_parse_back_to_the_same_graph() {
         assert_eq!(j["p"].as_f64().unwrap(), e.p);
         assert_eq!(ids(&j["observables"]), e.observables);
     }
-    // Matrix Market + npy, full and graphlike.
+    // Matrix Market + npy, full and matchable.
     for (view, cols) in [
         (
             View::Full(&g),
-            g.mechanisms
+            g.edges
                 .iter()
                 .map(|m| (m.detectors.clone(), m.observables.clone(), m.probability))
                 .collect::<Vec<_>>(),
         ),
         (
-            View::Graphlike(&g, &mg, &st),
+            View::Matching(&g, &mg, &st),
             mg.edges
                 .iter()
                 .map(|e| {
@@ -493,7 +485,7 @@ fn exports_parse_back_to_the_same_graph() {
                 .collect(),
         ),
     ] {
-        let files = export::render(&view, Format::Mtx);
+        let files = slant::faults::render(&view, Format::Mtx);
         let get = |n: &str| &files.iter().find(|f| f.0 == n).unwrap().1;
         let (hr, hc, h) = read_mtx(std::str::from_utf8(get("H.mtx")).unwrap());
         let (lr, lc, l) = read_mtx(std::str::from_utf8(get("L.mtx")).unwrap());
@@ -506,12 +498,16 @@ fn exports_parse_back_to_the_same_graph() {
             assert_eq!(priors[k], *p);
         }
     }
-    // Text: one line per mechanism after the header, with its detectors.
-    let text =
-        String::from_utf8(export::render(&View::Full(&g), Format::Text)[0].1.clone()).unwrap();
+    // Text: one line per edge after the header, with its detectors.
+    let text = String::from_utf8(
+        slant::faults::render(&View::Full(&g), Format::Text)[0]
+            .1
+            .clone(),
+    )
+    .unwrap();
     let lines: Vec<&str> = text.lines().collect();
-    assert_eq!(lines.len(), 1 + g.mechanisms.len());
-    for (m, l) in g.mechanisms.iter().zip(&lines[1..]) {
+    assert_eq!(lines.len(), 1 + g.edges.len());
+    for (m, l) in g.edges.iter().zip(&lines[1..]) {
         let dets = l.split(" dets=").nth(1).unwrap().split(' ').next().unwrap();
         let parsed: Vec<u32> = if dets == "-" {
             vec![]
@@ -521,13 +517,9 @@ fn exports_parse_back_to_the_same_graph() {
         assert_eq!(parsed, m.detectors);
     }
     // Dot: one node per detector plus the boundary; one edge line per matching edge.
-    let dot = String::from_utf8(export::render(&gl, Format::Dot)[0].1.clone()).unwrap();
+    let dot = String::from_utf8(slant::faults::render(&gl, Format::Dot)[0].1.clone()).unwrap();
     assert_eq!(dot.matches("pos=\"").count(), g.detectors.len() + 1);
     assert_eq!(dot.matches(" -- ").count(), mg.edges.len());
-}
-
-fn slant_cmd() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_slant"))
 }
 
 #[test]
@@ -536,7 +528,7 @@ fn cli_graph_and_trace() {
     let file = dir.path().join("rep.slant");
     std::fs::write(&file, REPETITION).unwrap();
     let out = dir.path().join("g.json");
-    let st = slant_cmd()
+    let st = slant()
         .args([
             "graph",
             file.to_str().unwrap(),
@@ -547,47 +539,43 @@ fn cli_graph_and_trace() {
             "-o",
         ])
         .arg(&out)
-        .status()
-        .unwrap();
-    assert!(st.success());
+        .run();
+    assert!(st.status.success());
     let v: serde_json::Value = serde_json::from_slice(&std::fs::read(&out).unwrap()).unwrap();
     assert_eq!(v["detectors"].as_array().unwrap().len(), 8);
     let mtx = dir.path().join("mtx");
-    let st = slant_cmd()
+    let st = slant()
         .args([
             "graph",
             file.to_str().unwrap(),
             "--format",
             "mtx",
-            "--graphlike",
+            "--matching",
             "-o",
         ])
         .arg(&mtx)
-        .status()
-        .unwrap();
-    assert!(st.success());
+        .run();
+    assert!(st.status.success());
     assert!(mtx.join("H.mtx").exists() && mtx.join("priors.npy").exists());
     // The edge between detectors 0 and 1 is the bit flip of q[1], written on line 9.
-    let o = slant_cmd()
+    let o = slant()
         .args(["trace", file.to_str().unwrap(), "--detectors", "0,1"])
-        .output()
-        .unwrap();
+        .run();
     assert!(o.status.success());
     let s = String::from_utf8(o.stdout).unwrap();
     assert!(s.contains("rep.slant:9:5"), "{s}");
     assert!(s.contains("X on q[1]"), "{s}");
     assert!(s.contains("noise bitflip p=0.01 q[0..d]"), "{s}");
-    let o = slant_cmd()
-        .args(["trace", file.to_str().unwrap(), "--mechanism", "999"])
-        .output()
-        .unwrap();
+    let o = slant()
+        .args(["trace", file.to_str().unwrap(), "--edge", "999"])
+        .run();
     assert_eq!(o.status.code(), Some(1));
 }
 
 /// A generated circuit with `noise` (a `--noise` preset) written in.
 fn generated(spec: &slant::gen::GenSpec, noise: &str) -> Circuit {
     let text = slant::gen::generate(spec).unwrap_or_else(|e| panic!("{}", e.0));
-    let clean = load(&text, &[]);
+    let clean = load_with("t.slant", &text, &[]);
     let spec = slant::noise::NoiseSpec::parse(noise).unwrap();
     match slant::noise::apply(&clean, &spec) {
         Ok(c) => c,
@@ -596,7 +584,7 @@ fn generated(spec: &slant::gen::GenSpec, noise: &str) -> Circuit {
 }
 
 #[test]
-fn rotated_surface_memory_detectors_and_decomposition() {
+fn rotated_surface_memory_detectors_and_split() {
     use slant::gen::{Family, GenSpec};
     for d in [3u32, 5] {
         let rounds = 4;
@@ -627,7 +615,7 @@ fn rotated_surface_memory_detectors_and_decomposition() {
         }
         assert_eq!(c.detectors.len(), rounds as usize * 2 * half);
 
-        // Every circuit-level fault is graphlike after decomposition (common practice for CSS
+        // Every circuit-level fault is matchable after split (common practice for CSS
         // memories under depolarizing noise): its X part flips only Z-check detectors and its Z
         // part only X-check detectors, and with the hook-safe coupling order each part flips at
         // most two of them. Hyperedges exist (Y faults, two-qubit XZ-type terms) — count them —
@@ -637,13 +625,13 @@ fn rotated_surface_memory_detectors_and_decomposition() {
             g.hyperedges.hyperedges > 0,
             "d={d}: expected some hyperedges"
         );
-        assert_eq!(g.hyperedges.decomposed, g.hyperedges.hyperedges, "d={d}");
-        assert!(g.hyperedges.undecomposed.is_empty(), "d={d}");
-        for m in &g.mechanisms {
-            assert!(!m.detectors.is_empty(), "d={d}: undetectable logical error");
+        assert_eq!(g.hyperedges.split, g.hyperedges.hyperedges, "d={d}");
+        assert!(g.hyperedges.unsplit.is_empty(), "d={d}");
+        for m in &g.edges {
+            assert!(!m.detectors.is_empty(), "d={d}: silent logical error");
         }
-        let (_, stats) = g.graphlike();
-        assert!(stats.undecomposed.is_empty() && stats.undetectable_logical.is_empty());
+        let (_, stats) = g.matching_graph();
+        assert!(stats.unsplit.is_empty() && stats.silent_logical.is_empty());
     }
 }
 
@@ -652,7 +640,7 @@ fn xzzx_under_pure_z_noise_splits_into_diagonal_chains() {
     // "The XZZX surface code", Nat. Commun. 12, 2172 (2021): under pure Z noise every error
     // flips checks along one diagonal of the lattice, so the decoding graph is a set of
     // independent one-dimensional repetition-code chains. With product-style checks and pure Z
-    // data noise (capacity preset, bias=inf) there are no measurement faults, so each mechanism
+    // data noise (capacity preset, bias=inf) there are no measurement faults, so each edge
     // joins two detectors of one round on the same diagonal, or one detector to the boundary.
     use slant::gen::{Family, GenSpec, Style};
     for d in [3u32, 5, 7] {
@@ -663,7 +651,7 @@ fn xzzx_under_pure_z_noise_splits_into_diagonal_chains() {
         };
         let c = generated(&spec, "capacity p=0.01 bias=inf");
         let g = faults::extract(&c, &ExtractOptions::default());
-        assert!(!g.mechanisms.is_empty());
+        assert!(!g.edges.is_empty());
         let xy = |k: u32| {
             let c = &g.detectors[k as usize].coords;
             (c[0], c[1], c[2])
@@ -671,10 +659,10 @@ fn xzzx_under_pure_z_noise_splits_into_diagonal_chains() {
         // Which diagonal direction (x − y or x + y constant) the edges follow: the same for all.
         let mut direction: Option<bool> = None;
         let mut degree = vec![0usize; g.detectors.len()];
-        for m in &g.mechanisms {
+        for m in &g.edges {
             assert!(
                 (1..=2).contains(&m.detectors.len()),
-                "d={d}: mechanism {:?} is not an edge",
+                "d={d}: edge {:?} is not an edge",
                 m.detectors
             );
             for &k in &m.detectors {
@@ -699,7 +687,7 @@ fn xzzx_under_pure_z_noise_splits_into_diagonal_chains() {
 #[test]
 fn sampled_statistics_agree_with_the_graph() {
     // Sampler agreement: detector marginals and pair probabilities sampled with the Pauli-frame
-    // sampler agree with the graph's independent-mechanism predictions within 5σ (binomial
+    // sampler agree with the graph's independent-edge predictions within 5σ (binomial
     // standard error, fixed seed). The exact channel conversion makes the predictions exact
     // (module docs of `slant::faults`), so only sampling noise remains.
     use slant::gen::{Family, GenSpec};
@@ -731,9 +719,9 @@ fn sampled_statistics_agree_with_the_graph() {
         let c = generated(&spec, noise);
         let g = faults::extract(&c, &ExtractOptions::default());
         let n = g.detectors.len();
-        // Pairs that share a mechanism, where correlations are strongest.
+        // Pairs that share a edge, where correlations are strongest.
         let mut pairs = BTreeSet::new();
-        for m in &g.mechanisms {
+        for m in &g.edges {
             for (i, &a) in m.detectors.iter().enumerate() {
                 for &b in &m.detectors[i + 1..] {
                     pairs.insert((a, b));
@@ -743,7 +731,7 @@ fn sampled_statistics_agree_with_the_graph() {
         let pairs: Vec<(u32, u32)> = pairs.into_iter().collect();
         let mut ones = vec![0u64; n];
         let mut both = vec![0u64; pairs.len()];
-        slant::sim::frame::sample(&c, shots, 7, slant::sim::frame::Outputs::syndromes(), |b| {
+        slant::sim::sample(&c, shots, 7, slant::sim::Outputs::syndromes(), |b| {
             for s in 0..b.shots {
                 for (k, o) in ones.iter_mut().enumerate() {
                     *o += u64::from(b.get(&b.detectors, k, s));

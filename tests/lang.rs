@@ -1,43 +1,10 @@
-//! The language front end: bad-input catalogue, canonical printer round trips, grammar samples,
-//! and the `check` and `fmt` subcommands end to end.
+//! The language front end: the bad-input catalogue, the `check` and `fmt` subcommands end to
+//! end, and determinism checked against the sampler (the printer and the grammar samples are in
+//! `printer.rs`).
 
-use std::io::Write;
-use std::process::{Command, Stdio};
-
+use crate::support::{run_cli, try_load};
 use proptest::prelude::*;
-use slant::lang::{Diagnostic, Source};
-
-/// Runs the real binary with optional standard input; returns (exit code, stdout, stderr).
-fn slant(args: &[&str], stdin: Option<&str>) -> (i32, String, String) {
-    let mut child = Command::new(env!("CARGO_BIN_EXE_slant"))
-        .args(args)
-        .env("NO_COLOR", "1")
-        .stdin(Stdio::piped())
-        .stdout(Stdio::piped())
-        .stderr(Stdio::piped())
-        .spawn()
-        .expect("binary runs");
-    if let Some(text) = stdin {
-        child
-            .stdin
-            .take()
-            .unwrap()
-            .write_all(text.as_bytes())
-            .unwrap();
-    } else {
-        drop(child.stdin.take());
-    }
-    let out = child.wait_with_output().unwrap();
-    (
-        out.status.code().unwrap_or(-1),
-        String::from_utf8_lossy(&out.stdout).into_owned(),
-        String::from_utf8_lossy(&out.stderr).into_owned(),
-    )
-}
-
-fn load(text: &str) -> Result<slant::ir::Circuit, Vec<Diagnostic>> {
-    slant::load_source(&Source::new("t.slant", text), &[])
-}
+use slant::base::Source;
 
 /// Asserts that `text` is rejected with a first diagnostic whose message contains `message` and
 /// whose primary location is `line:col`.
@@ -46,7 +13,7 @@ fn rejects(text: &str, message: &str, line: usize, col: usize) {
 }
 
 fn rejects_with(text: &str, sets: &[(String, i64)], message: &str, line: usize, col: usize) {
-    let errs = match slant::load_source(&Source::new("t.slant", text), sets) {
+    let errs = match slant::ir::load_source(&Source::new("t.slant", text), sets) {
         Ok(_) => panic!("accepted but should reject with `{message}`:\n{text}"),
         Err(e) => e,
     };
@@ -71,7 +38,7 @@ fn rejects_with(text: &str, sets: &[(String, i64)], message: &str, line: usize, 
 
 #[test]
 fn unknown_gate_with_suggestion() {
-    let errs = load("qubit a\nqubit b\nczz a b\n").unwrap_err();
+    let errs = try_load("t.slant", "qubit a\nqubit b\nczz a b\n").unwrap_err();
     assert_eq!(errs[0].message, "unknown statement or gate `czz`");
     assert_eq!(errs[0].hint.as_deref(), Some("did you mean `cz`?"));
     rejects(
@@ -84,10 +51,84 @@ fn unknown_gate_with_suggestion() {
 
 #[test]
 fn upper_case_gate_gets_a_hint() {
-    let errs = load("qubit a\nH a\n").unwrap_err();
+    let errs = try_load("t.slant", "qubit a\nH a\n").unwrap_err();
     assert_eq!(
         errs[0].hint.as_deref(),
-        Some("gate names are lower-case: `h`")
+        Some("names are lower-case: `H` → `h`")
+    );
+}
+
+/// Every diagnostic of `text`, rendered as the user sees them, one after another.
+fn rendered(text: &str) -> String {
+    try_load("t.slant", text)
+        .unwrap_err()
+        .iter()
+        .map(|d| d.render())
+        .collect()
+}
+
+#[test]
+fn upper_case_statement_names_the_lower_case_statement() {
+    // `M` is no typo of a one-letter gate: it stands for `measure`.
+    assert_eq!(
+        rendered("qubit a\nM z a -> m\n"),
+        "error: unknown statement or gate `M`\n  --> t.slant:2:1\n  |\n2 | M z a -> m\n  \
+         | ^\n  = hint: names are lower-case: `M` → `measure`\n"
+    );
+    assert_eq!(
+        rendered("qubit a\nqubit b\nCX a b\n"),
+        "error: unknown statement or gate `CX`\n  --> t.slant:3:1\n  |\n3 | CX a b\n  \
+         | ^^\n  = hint: names are lower-case: `CX` → `cx`\n"
+    );
+}
+
+#[test]
+fn named_detector_in_a_loop_gets_an_index_hint() {
+    let text = "qubit a\nfor r in 0..3 {\n    measure z a -> m[r]\n    \
+                detector flagged = m[r]\n}\n";
+    assert_eq!(
+        rendered(text),
+        "error: detector `flagged` is declared again on the next iteration of its loop\n  \
+         --> t.slant:4:14\n  |\n4 |     detector flagged = m[r]\n  |              ^^^^^^^\n  \
+         = hint: each iteration declares a new detector; index its name by the loop variable: \
+         `detector flagged[r] ...`\n"
+    );
+}
+
+#[test]
+fn a_refused_measurement_is_reported_once() {
+    // `q[5]` does not exist: the measurement is refused, and the detectors that use its results
+    // get no "undefined result" errors of their own.
+    let text = "qubit q[0..3]\nmeasure z q[5] -> m\ndetector = m\ndetector = m\n";
+    let all = rendered(text);
+    assert_eq!(all.matches("error:").count(), 1, "{all}");
+    assert!(
+        all.starts_with("error: index out of range: qubit `q[5]` is not declared"),
+        "{all}"
+    );
+}
+
+#[test]
+fn non_deterministic_observable_gets_an_observable_hint() {
+    assert_eq!(
+        rendered("qubit a\nh a\nmeasure z a -> m\nobservable logical = m\n"),
+        "error: observable `logical` is not deterministic: without noise its value is random\n  \
+         --> t.slant:4:1\n  |\n4 | observable logical = m\n  | ^^^^^^^^^^^^^^^^^^^^^^\n  \
+         --> t.slant:1:7\n  |\n1 | qubit a\n  |       ^ randomised by the initial |0> state \
+         of `a`\n  = hint: an observable is the parity of results that read out one logical \
+         operator: measure its qubits in the basis it was prepared in, and include every qubit \
+         of the logical\n"
+    );
+}
+
+#[test]
+fn pauli_with_one_and_two_qubit_keys_is_refused_at_the_key() {
+    assert_eq!(
+        rendered("qubit a\nqubit b\nnoise pauli zz=0.01 x=0.02 a b\n"),
+        "error: `pauli` mixes two-qubit keys with the one-qubit key `x`\n  --> t.slant:3:21\n  \
+         |\n3 | noise pauli zz=0.01 x=0.02 a b\n  |                     ^\n  = hint: one channel \
+         acts on one qubit (`x= y= z=`) or on a pair (`ix= … zz=`); write two `noise pauli` \
+         statements\n"
     );
 }
 
@@ -134,7 +175,7 @@ fn qubit_twice_in_one_gate() {
 #[test]
 fn undefined_qubit() {
     rejects("qubit alpha\nh alpah\n", "undefined qubit `alpah`", 2, 3);
-    let errs = load("qubit alpha\nh alpah\n").unwrap_err();
+    let errs = try_load("t.slant", "qubit alpha\nh alpah\n").unwrap_err();
     assert_eq!(errs[0].hint.as_deref(), Some("did you mean `alpha`?"));
 }
 
@@ -167,7 +208,7 @@ fn index_out_of_range() {
 
 #[test]
 fn duplicate_qubit() {
-    let errs = load("qubit a\nqubit a\n").unwrap_err();
+    let errs = try_load("t.slant", "qubit a\nqubit a\n").unwrap_err();
     assert_eq!(errs[0].secondary[0].text, "first declared here");
     rejects("qubit a\nqubit a\n", "qubit `a` is declared twice", 2, 7);
 }
@@ -247,22 +288,22 @@ fn loop_past_the_size_limit() {
 
 #[test]
 fn size_limit_is_configurable_on_the_command_line() {
-    use slant::ir::expand::cost;
+    use slant::ir::cost;
     let text = "param n = 50\nqubit q[0..n]\nfor k in 0..n {\n    h q[k]\n}\n";
     // The count is exact: 50 qubits and 50 lone single-target gates.
     let items = 50 * cost::QUBIT + 50 * (cost::LAYER + cost::OP + cost::TARGET);
-    let (code, _, err) = slant(&["check", "-", "--max-items", "60"], Some(text));
+    let (code, _, err) = run_cli(&["check", "-", "--max-items", "60"], Some(text));
     assert_eq!(code, 1);
     assert!(err.contains("past the limit of 60"), "{err}");
     assert!(err.contains("--max-items"), "{err}");
     let below = (items - 1).to_string();
-    let (code, _, err) = slant(&["check", "-", "--max-items", &below], Some(text));
+    let (code, _, err) = run_cli(&["check", "-", "--max-items", &below], Some(text));
     assert_eq!(code, 1);
     assert!(
         err.contains(&format!("the circuit would expand to about {items} items")),
         "{err}"
     );
-    let (code, _, err) = slant(
+    let (code, _, err) = run_cli(
         &["check", "-", "--max-items", &items.to_string()],
         Some(text),
     );
@@ -272,7 +313,7 @@ fn size_limit_is_configurable_on_the_command_line() {
 /// Refused by the up-front count (a "would" message at `line:col`) under `--max-items max`,
 /// with the hint, through the binary.
 fn refused_up_front(text: &str, max: u64, message: &str, location: &str) {
-    let (code, _, err) = slant(&["check", "-", "--max-items", &max.to_string()], Some(text));
+    let (code, _, err) = run_cli(&["check", "-", "--max-items", &max.to_string()], Some(text));
     assert_eq!(code, 1, "{err}");
     assert!(err.contains(message), "{err}");
     assert!(err.contains(&format!("--> -:{location}\n")), "{err}");
@@ -331,7 +372,7 @@ fn size_limit_sees_loops_whose_bounds_depend_on_outer_variables() {
         "2:1",
     );
     // Within the limit, the walk counts exactly and the circuit loads.
-    let (code, _, err) = slant(
+    let (code, _, err) = run_cli(
         &["check", "-", "--max-items", "20000"],
         Some("qubit a\nfor i in 0..100 {\n    for j in 0..i { h a }\n}\n"),
     );
@@ -359,7 +400,7 @@ fn default_limit_refuses_memory_bombs_at_once() {
         ),
     ] {
         let start = std::time::Instant::now();
-        let (code, _, err) = slant(&["check", "-"], Some(text));
+        let (code, _, err) = run_cli(&["check", "-"], Some(text));
         assert_eq!(code, 1, "{err}");
         assert!(err.contains("past the limit of 20000000"), "{err}");
         assert!(err.contains(&format!("--> -:{location}\n")), "{err}");
@@ -371,8 +412,8 @@ fn default_limit_refuses_memory_bombs_at_once() {
 #[test]
 fn override_of_unknown_parameter() {
     let sets = vec![("distanse".to_string(), 5)];
-    let errs =
-        slant::load_source(&Source::new("t", "param distance = 3\nqubit a\n"), &sets).unwrap_err();
+    let errs = slant::ir::load_source(&Source::new("t", "param distance = 3\nqubit a\n"), &sets)
+        .unwrap_err();
     assert_eq!(
         errs[0].message,
         "`--set distanse=...` names no parameter of this circuit"
@@ -386,7 +427,7 @@ fn override_of_a_generator_option_names_the_parameters() {
     let text = "param dx = 3\nparam dz = 3\nparam rounds = 3\nqubit a\n";
     for name in ["distanse", "distance", "Distance"] {
         let sets = vec![(name.to_string(), 5)];
-        let errs = slant::load_source(&Source::new("t", text), &sets).unwrap_err();
+        let errs = slant::ir::load_source(&Source::new("t", text), &sets).unwrap_err();
         assert_eq!(
             errs[0].message,
             format!("`--set {name}=...` names no parameter of this circuit")
@@ -402,10 +443,10 @@ fn override_of_a_generator_option_names_the_parameters() {
     }
     // A close name still gets the plain suggestion, whatever its case.
     let sets = vec![("ROUNDS".to_string(), 2)];
-    let errs = slant::load_source(&Source::new("t", text), &sets).unwrap_err();
+    let errs = slant::ir::load_source(&Source::new("t", text), &sets).unwrap_err();
     assert_eq!(errs[0].hint.as_deref(), Some("did you mean `rounds`?"));
     // Through the binary: a circuit that does not take the name is rejected input (exit 1).
-    let (code, _, err) = slant(&["check", "-", "--set", "distanse=5"], Some(text));
+    let (code, _, err) = run_cli(&["check", "-", "--set", "distanse=5"], Some(text));
     assert_eq!(code, 1);
     assert!(err.contains("did you mean `dx` and `dz`?"), "{err}");
 }
@@ -421,11 +462,11 @@ fn malformed_set_is_a_usage_error() {
         ("rounds", "expected NAME=INT"),
         ("rounds=x", "`x` is not an integer"),
     ] {
-        let (code, _, err) = slant(&["check", "-", "--set", set], Some("qubit a\n"));
+        let (code, _, err) = run_cli(&["check", "-", "--set", set], Some("qubit a\n"));
         assert_eq!(code, 2, "--set {set:?}: {err}");
         assert!(err.contains(message), "--set {set:?}: {err}");
     }
-    let (code, _, err) = slant(
+    let (code, _, err) = run_cli(
         &["check", "-", "--set", "_n2=1"],
         Some("param _n2 = 0\nqubit a\n"),
     );
@@ -436,7 +477,7 @@ fn malformed_set_is_a_usage_error() {
 fn non_deterministic_detector_names_the_culprit() {
     let text =
         "qubit a\nqubit b\nh b\nmeasure z a -> ma\nmeasure z b -> mb\ndetector both = ma ^ mb\n";
-    let errs = load(text).unwrap_err();
+    let errs = try_load("t.slant", text).unwrap_err();
     assert!(errs[0]
         .message
         .contains("detector `both` is not deterministic"));
@@ -452,7 +493,7 @@ fn non_deterministic_detector_from_a_measurement() {
     // The X measurement in between randomises the second Z result.
     let text =
         "qubit a\nmeasure z a -> m1\nmeasure x a -> m2\nmeasure z a -> m3\ndetector = m1 ^ m3\n";
-    let errs = load(text).unwrap_err();
+    let errs = try_load("t.slant", text).unwrap_err();
     let label = &errs[0].secondary[0];
     assert!(
         label.text.contains("randomised by this measurement"),
@@ -480,7 +521,7 @@ fn empty_file_is_rejected() {
 
 #[test]
 fn non_utf8_bytes() {
-    let err = slant::lang::source_from_bytes("t.slant".into(), b"qubit a\n\xffh a\n".to_vec())
+    let err = slant::base::source_from_bytes("t.slant".into(), b"qubit a\n\xffh a\n".to_vec())
         .unwrap_err();
     assert_eq!(err.message, "the file is not valid UTF-8");
     assert_eq!(err.location().map(|l| (l.1, l.2)), Some((2, 1)));
@@ -490,27 +531,27 @@ fn non_utf8_bytes() {
 fn byte_order_mark_is_skipped() {
     // Some Windows editors start UTF-8 files with U+FEFF; it is not part of the circuit.
     let text = "\u{feff}qubit a\nh a\n";
-    let (code, out, err) = slant(&["check", "-"], Some(text));
+    let (code, out, err) = run_cli(&["check", "-"], Some(text));
     assert_eq!(code, 0, "{err}");
     assert!(out.contains("qubits        1"), "{out}");
     // Locations count from the character after the mark.
-    let (code, _, err) = slant(&["check", "-"], Some("\u{feff}czz a\n"));
+    let (code, _, err) = run_cli(&["check", "-"], Some("\u{feff}czz a\n"));
     assert_eq!(code, 1);
     assert!(err.contains("--> -:1:1\n"), "{err}");
     // Bytes that are not UTF-8 are still located in the text after the mark.
-    let err = slant::lang::source_from_bytes(
+    let err = slant::base::source_from_bytes(
         "t.slant".into(),
         b"\xef\xbb\xbfqubit a\n\xffh a\n".to_vec(),
     )
     .unwrap_err();
     assert_eq!(err.location().map(|l| (l.1, l.2)), Some((2, 1)));
     // The canonical form has no mark: `fmt` drops it and `fmt --check` flags it.
-    let (code, out, _) = slant(&["fmt", "-"], Some(text));
+    let (code, out, _) = run_cli(&["fmt", "-"], Some(text));
     assert_eq!((code, out.as_str()), (0, "qubit a\nh a\n"));
-    let (code, _, _) = slant(&["fmt", "--check", "-"], Some(text));
+    let (code, _, _) = run_cli(&["fmt", "--check", "-"], Some(text));
     assert_eq!(code, 3);
     // Anywhere but the start it is an ordinary character, refused with a location.
-    let (code, _, err) = slant(&["check", "-"], Some("qubit a\n\u{feff}h a\n"));
+    let (code, _, err) = run_cli(&["check", "-"], Some("qubit a\n\u{feff}h a\n"));
     assert_eq!(code, 1);
     assert!(err.contains("-:2:1"), "{err}");
     assert!(err.contains("the invisible character U+FEFF"), "{err}");
@@ -523,7 +564,7 @@ fn very_long_line_is_windowed() {
         text.push_str("h a; ");
     }
     text.push_str("hh a\n");
-    let errs = load(&text).unwrap_err();
+    let errs = try_load("t.slant", &text).unwrap_err();
     let (_, l, c) = errs[0].location().unwrap();
     assert_eq!((l, c), (2, 10001));
     let rendered = errs[0].render();
@@ -551,7 +592,7 @@ fn binary_rejects(text: &str, message: &str, location: &str) {
     let path = dir.path().join("deep.slant");
     std::fs::write(&path, text).unwrap();
     for cmd in ["check", "fmt"] {
-        let (code, _, err) = slant(&[cmd, path.to_str().unwrap()], None);
+        let (code, _, err) = run_cli(&[cmd, path.to_str().unwrap()], None);
         assert_eq!(code, 1, "`slant {cmd}` exit code; stderr:\n{err}");
         assert!(err.contains(message), "`slant {cmd}`: {err}");
         assert!(err.contains(&format!("deep.slant:{location}")), "{err}");
@@ -580,7 +621,7 @@ fn chains_that_recurse_are_bounded() {
         let path = dir.path().join(format!("{name}.slant"));
         std::fs::write(&path, text).unwrap();
         for cmd in ["check", "fmt"] {
-            let (code, _, err) = slant(&[cmd, path.to_str().unwrap()], None);
+            let (code, _, err) = run_cli(&[cmd, path.to_str().unwrap()], None);
             assert_eq!(code, 0, "`slant {cmd}` on {name}: {err}");
         }
     }
@@ -712,7 +753,7 @@ fn chained_comparison() {
 
 #[test]
 fn several_independent_errors_are_reported() {
-    let errs = load("qubit a\nczz a\nh a\nmesure z a -> m\n").unwrap_err();
+    let errs = try_load("t.slant", "qubit a\nczz a\nh a\nmesure z a -> m\n").unwrap_err();
     assert_eq!(errs.len(), 2, "{errs:?}");
     assert_eq!(errs[1].location().map(|l| l.1), Some(4));
 }
@@ -723,8 +764,8 @@ proptest! {
     /// Random bytes never panic the front end.
     #[test]
     fn random_bytes_never_panic(bytes in proptest::collection::vec(any::<u8>(), 0..400)) {
-        if let Ok(src) = slant::lang::source_from_bytes("r".into(), bytes) {
-            let _ = slant::load_source(&src, &[]);
+        if let Ok(src) = slant::base::source_from_bytes("r".into(), bytes) {
+            let _ = slant::ir::load_source(&src, &[]);
         }
     }
 
@@ -736,9 +777,9 @@ proptest! {
         let end = (pos + len).min(base.len());
         if base.is_char_boundary(pos) && base.is_char_boundary(end) {
             let text = format!("{}{}{}", &base[..pos], insert, &base[end..]);
-            let _ = load(&text);
+            let _ = try_load("t.slant", &text);
             if let Ok(ast) = slant::lang::parse(&Source::new("m", text)) {
-                let _ = slant::lang::print::print(&ast);
+                let _ = slant::lang::print(&ast);
             }
         }
     }
@@ -747,184 +788,24 @@ proptest! {
 const BELL: &str = include_str!("../circuits/bell.slant");
 const REPETITION: &str = include_str!("../circuits/repetition_d3.slant");
 
-// ---- canonical printer ------------------------------------------------------------------------
-
-/// The AST's debug form with every span erased, for comparing trees parsed from different text.
-fn shape(text: &str) -> String {
-    let ast = slant::lang::parse(&Source::new("s", text))
-        .unwrap_or_else(|e| panic!("{}\n{text}", e[0].render()));
-    let dbg = format!("{:?}", ast.stmts);
-    let mut out = String::with_capacity(dbg.len());
-    let mut rest = dbg.as_str();
-    while let Some(i) = rest.find("Span {") {
-        out.push_str(&rest[..i]);
-        let j = rest[i..].find('}').unwrap();
-        rest = &rest[i + j + 1..];
-    }
-    out.push_str(rest);
-    out
-}
-
-fn fmt(text: &str) -> String {
-    slant::lang::print::print(&slant::lang::parse(&Source::new("s", text)).unwrap())
-}
-
-fn round_trip(text: &str) {
-    let printed = fmt(text);
-    assert_eq!(
-        shape(text),
-        shape(&printed),
-        "tree changed by printing:\n{printed}"
-    );
-    assert_eq!(printed, fmt(&printed), "printing is not idempotent");
-}
-
-#[test]
-fn library_circuits_are_canonical() {
-    for entry in std::fs::read_dir(concat!(env!("CARGO_MANIFEST_DIR"), "/circuits")).unwrap() {
-        let path = entry.unwrap().path();
-        if path.extension().is_some_and(|e| e == "slant") {
-            let text = std::fs::read_to_string(&path).unwrap();
-            round_trip(&text);
-            assert_eq!(
-                fmt(&text),
-                text,
-                "{} is not in canonical form",
-                path.display()
-            );
-        }
-    }
-}
-
-#[test]
-fn printer_normalises_layout() {
-    let messy = "param  d=3 # size\nqubit q[0..d]   role data,edge\nfor k in 0 .. d by 2{\n h q[k]\n}\nif d>2 and not d==4{ x q[0] }else if d<0 { y q[0] } else { z q[0] }\nnoise pauli2 zz=1e-3 ix=0.5 q[0] q[1]\nmeasure x q[0]*z q[1]->m flip 0.25\ndetector at(1,2.5,0)=m\n";
-    let expected = "param d = 3 # size\nqubit q[0..d] role data, edge\nfor k in 0..d by 2 {\n    h q[k]\n}\nif d > 2 and not d == 4 {\n    x q[0]\n} else if d < 0 {\n    y q[0]\n} else {\n    z q[0]\n}\nnoise pauli2 zz=0.001 ix=0.5 q[0] q[1]\nmeasure x q[0] * z q[1] -> m flip 0.25\ndetector at (1, 2.5, 0) = m\n";
-    assert_eq!(fmt(messy), expected);
-    round_trip(messy);
-}
-
-#[test]
-fn else_may_start_a_new_line() {
-    let text = "qubit a\nif 0 {\n    x a\n}\nelse {\n    z a\n}\n";
-    assert_eq!(
-        fmt(text),
-        "qubit a\nif 0 {\n    x a\n} else {\n    z a\n}\n"
-    );
-    assert!(load(text).is_ok());
-}
-
-#[test]
-fn parentheses_are_kept_only_where_needed() {
-    assert_eq!(
-        fmt("qubit q[(1 + 2) * 3 - (4 - 5) - -(6 + 1)]\n"),
-        "qubit q[(1 + 2) * 3 - (4 - 5) - -(6 + 1)]\n"
-    );
-    assert_eq!(fmt("qubit q[((1 * 2)) + 3]\n"), "qubit q[1 * 2 + 3]\n");
-}
-
-/// Random well-formed programs for the round-trip property.
-fn arb_expr() -> impl Strategy<Value = String> {
-    let leaf = prop_oneof![
-        (0i64..50).prop_map(|v| v.to_string()),
-        prop_oneof![Just("k"), Just("d")].prop_map(str::to_string),
-        (0u32..1000).prop_map(|v| format!("{}.5", v)),
-    ];
-    leaf.prop_recursive(4, 24, 2, |inner| {
-        prop_oneof![
-            (
-                inner.clone(),
-                prop_oneof![
-                    Just("+"),
-                    Just("-"),
-                    Just("*"),
-                    Just("/"),
-                    Just("%"),
-                    Just("<"),
-                    Just("=="),
-                    Just("and"),
-                    Just("or")
-                ],
-                inner.clone()
-            )
-                .prop_map(|(a, op, b)| format!("({a} {op} {b})")),
-            inner.clone().prop_map(|a| format!("-{a}")),
-            inner.prop_map(|a| format!("not ({a})")),
-        ]
-    })
-}
-
-fn arb_stmt() -> impl Strategy<Value = String> {
-    prop_oneof![
-        arb_expr().prop_map(|e| format!("qubit q[{e}] at ({e}, 1)")),
-        arb_expr().prop_map(|e| format!("h q[{e}], q[0..{e}]")),
-        arb_expr().prop_map(|e| format!("if {e} {{\n x q[0]\n}} else {{ # c\n y q[1] }}")),
-        arb_expr().prop_map(|e| format!("measure z q[{e}] * x r -> m[{e}, 0..2] flip 0.125")),
-        arb_expr().prop_map(|e| format!(
-            "for k in 0..{e} by 2 {{ detector s[k] at (k, {e}) = m[k] ^ m[k - 1] }}"
-        )),
-        arb_expr().prop_map(|e| format!("noise pauli x=0.25 z={e} q[0], q[1]")),
-        Just("# a comment".to_string()),
-        Just("layer { cx a b, c d }".to_string()),
-        Just("round {\n\n  reset x a, b\n  noise correlated p=0.5 x a * y b\n}".to_string()),
-        Just("observable l ^= m ^ n # trailing".to_string()),
-    ]
-}
-
-proptest! {
-    #![proptest_config(ProptestConfig { cases: 200, .. ProptestConfig::default() })]
-
-    /// parse(print(parse(x))) == parse(x), and printing is idempotent.
-    #[test]
-    fn print_round_trips(stmts in proptest::collection::vec(arb_stmt(), 1..8), blank in any::<bool>()) {
-        let sep = if blank { "\n\n" } else { "\n" };
-        let text = stmts.join(sep) + "\n";
-        round_trip(&text);
-    }
-}
-
-// ---- grammar reference ------------------------------------------------------------------------
-
-/// Every ```slant block of the reference parses, and the complete examples (those declaring a
-/// qubit) also expand and pass the determinism check, so documentation and parser cannot drift.
-#[test]
-fn reference_examples_parse() {
-    let text = include_str!("../grammar/reference.md");
-    let mut count = 0;
-    for block in text.split("```slant").skip(1) {
-        let code = block.split("```").next().unwrap();
-        let source = Source::new("reference.md", code);
-        let ast =
-            slant::lang::parse(&source).unwrap_or_else(|e| panic!("{}\n{code}", e[0].render()));
-        if code.contains("qubit") {
-            slant::load_source(&source, &[])
-                .unwrap_or_else(|e| panic!("{}\n{code}", e[0].render()));
-        }
-        round_trip(code);
-        let _ = ast;
-        count += 1;
-    }
-    assert!(count >= 15, "only {count} examples found");
-}
-
 // ---- subcommands end to end -------------------------------------------------------------------
 
 #[test]
 fn check_prints_a_summary() {
-    let (code, out, err) = slant(
+    let (code, out, err) = run_cli(
         &["check", "circuits/repetition_d3.slant", "--set", "rounds=2"],
         None,
     );
     assert_eq!(code, 0, "{err}");
     assert_eq!(
         out,
-        "circuits/repetition_d3.slant: ok\n  parameters    distance=3 rounds=2\n  qubits        5 (ancilla 2, data 3)\n  layers        10 in 2 round(s)\n  operations    cx 8, measure 7, reset 9\n  measurements  7\n  detectors     6 (all deterministic)\n  observables   1 (all deterministic)\n  noise         none (expected faults per shot 0.0000e0)\n"
+        "circuits/repetition_d3.slant: ok\n  parameters    distance=3 rounds=2\n  qubits        5 (ancilla 2, data 3)\n  layers        10 in 2 rounds\n  operations    cx 8, measure 7, reset 9\n  measurements  7\n  detectors     6 (all deterministic)\n  observables   1 (all deterministic)\n  noise         none (expected faults per shot 0.0000e0)\n"
     );
 }
 
 #[test]
 fn check_json_and_stdin() {
-    let (code, out, _) = slant(
+    let (code, out, _) = run_cli(
         &["check", "-", "--json"],
         Some("qubit a\nnoise depolarizing p=0.03 a\nmeasure z a -> m flip 0.01\ndetector = m\n"),
     );
@@ -935,7 +816,7 @@ fn check_json_and_stdin() {
     assert_eq!(v["noise_channels"]["depolarizing"], 1);
     assert!((v["noise_total_probability"].as_f64().unwrap() - 0.04).abs() < 1e-12);
     // A refusal is machine-readable too (and still rendered for people on stderr).
-    let (code, out, err) = slant(&["check", "-", "--json"], Some("qubit a\nczz a\n"));
+    let (code, out, err) = run_cli(&["check", "-", "--json"], Some("qubit a\nczz a\n"));
     assert_eq!(code, 1);
     assert!(err.contains("did you mean `cz`?"), "{err}");
     let v: serde_json::Value = serde_json::from_str(&out).unwrap();
@@ -954,7 +835,8 @@ fn check_json_and_stdin() {
 
 #[test]
 fn record_table_maps_result_names_to_indices() {
-    let c = load(
+    let c = try_load(
+        "t.slant",
         "qubit q[0..2]\nfor r in 0..2 {\n  measure z q[0..2] -> m[r, 0..2]\n}\n\
          detector = m[1, 0] ^ m[0, 0]\n",
     )
@@ -972,25 +854,25 @@ fn record_table_maps_result_names_to_indices() {
 
 #[test]
 fn check_exit_codes_and_rendered_error() {
-    let (code, out, err) = slant(&["check", "-"], Some("qubit a\nczz a\n"));
+    let (code, out, err) = run_cli(&["check", "-"], Some("qubit a\nczz a\n"));
     assert_eq!(code, 1);
     assert_eq!(out, "");
     assert_eq!(err, "error: unknown statement or gate `czz`\n  --> -:2:1\n  |\n2 | czz a\n  | ^^^\n  = hint: did you mean `cz`?\n");
-    let (code, _, _) = slant(&["check"], None);
+    let (code, _, _) = run_cli(&["check"], None);
     assert_eq!(code, 2);
-    let (code, _, err) = slant(&["check", "no/such/file.slant"], None);
+    let (code, _, err) = run_cli(&["check", "no/such/file.slant"], None);
     assert_eq!(code, 1);
     assert!(err.contains("cannot read `no/such/file.slant`"), "{err}");
 }
 
 #[test]
 fn fmt_check_answers_no_with_code_3() {
-    let (code, out, _) = slant(&["fmt", "--check", "-"], Some("qubit   a\n"));
+    let (code, out, _) = run_cli(&["fmt", "--check", "-"], Some("qubit   a\n"));
     assert_eq!(code, 3);
     assert!(out.contains("not in canonical form"));
-    let (code, out, _) = slant(&["fmt", "-"], Some("qubit   a\n"));
+    let (code, out, _) = run_cli(&["fmt", "-"], Some("qubit   a\n"));
     assert_eq!((code, out.as_str()), (0, "qubit a\n"));
-    let (code, _, _) = slant(&["fmt", "--check", "circuits/bell.slant"], None);
+    let (code, _, _) = run_cli(&["fmt", "--check", "circuits/bell.slant"], None);
     assert_eq!(code, 0);
 }
 
@@ -1052,15 +934,15 @@ proptest! {
     fn determinism_check_agrees_with_noiseless_sampling(text in arb_random_circuit()) {
         let source = Source::new("r.slant", text.clone());
         let ast = slant::lang::parse(&source).unwrap();
-        let circuit = slant::ir::expand::expand(&ast, &[], &Default::default()).unwrap();
-        let flagged: Vec<bool> = match slant::ir::check::check(&circuit) {
+        let circuit = slant::ir::expand(&ast, &[], &Default::default()).unwrap();
+        let flagged: Vec<bool> = match slant::ir::check(&circuit) {
             Ok(()) => vec![false; circuit.detectors.len()],
             Err(errs) => (0..circuit.detectors.len())
                 .map(|k| errs.iter().any(|e| e.message.contains(&format!("detector `d{k}`"))))
                 .collect(),
         };
         let mut fired = vec![false; circuit.detectors.len()];
-        slant::sim::frame::sample(&circuit, 512, 7, slant::sim::frame::Outputs::syndromes(), |batch| {
+        slant::sim::sample(&circuit, 512, 7, slant::sim::Outputs::syndromes(), |batch| {
             for (k, f) in fired.iter_mut().enumerate() {
                 *f |= (0..batch.shots).any(|s| batch.get(&batch.detectors, k, s));
             }
@@ -1071,10 +953,10 @@ proptest! {
         // in all of them with probability 2^-63.
         use rand::{Rng, SeedableRng};
         let mut rng = rand_xoshiro::Xoshiro256PlusPlus::seed_from_u64(5);
-        let base = slant::sim::tableau::reference_run(&circuit).detectors;
+        let base = slant::sim::reference_run(&circuit).detectors;
         let mut varies = vec![false; circuit.detectors.len()];
         for _ in 0..64 {
-            let run = slant::sim::tableau::branch_run(&circuit, || rng.gen::<bool>());
+            let run = slant::sim::branch_run(&circuit, || rng.gen::<bool>());
             for (v, (a, b)) in varies.iter_mut().zip(run.detectors.iter().zip(&base)) {
                 *v |= a != b;
             }

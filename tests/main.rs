@@ -1,11 +1,19 @@
-//! The one integration-test binary: runs the real `slant` executable, one module per subcommand.
+//! The one integration-test binary: one module per area (front end, noise, graphs, shots,
+//! estimates, distances, decoders, codes, generators), golden outputs of every subcommand, and
+//! the import rules of the sources, the README examples and the file-format reference.
+mod architecture;
 mod codes;
 mod decode;
 mod distance;
 mod estimate;
 mod gen;
+mod golden;
 mod graph;
+mod implement;
 mod lang;
 mod noise;
+mod printer;
+mod readme;
+mod reference;
 mod shots;
 mod support;

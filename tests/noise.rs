@@ -1,28 +1,25 @@
-//! Hardware noise models, gate implementations, the noise compiler and the bias report.
+//! Hardware noise models, the noise compiler and the bias report (gate implementations on their
+//! own are in `implement.rs`).
 
 use std::sync::Arc;
 
-use slant::analysis::bias::analyze;
+use crate::support::{load, slant, Runner};
+use slant::analysis::analyze_bias as analyze;
+use slant::base::{Gate, Pauli, Source};
 use slant::faults::{ExtractOptions, FaultGraph};
 use slant::gen::{generate, Entangler, Family, GenSpec};
-use slant::ir::{Channel, Circuit, Gate, Pauli};
-use slant::lang::Source;
-use slant::noise::compile::{compile, to_text};
-use slant::noise::implement::{effective_channel, mid_gate_fault, Generator, Implementation};
-use slant::noise::model::{cat_idle, twirled_decoherence, NoiseModel};
+use slant::ir::{Channel, Circuit};
 use slant::noise::{apply, NoiseSpec};
+use slant::noise::{compile, to_text};
+use slant::noise::{effective_channel, Implementation};
+use slant::noise::{twirled_decoherence, NoiseModel};
 
-fn load(name: &str, text: &str) -> Circuit {
-    slant::load_source(&Source::new(name, text), &[])
-        .unwrap_or_else(|d| panic!("{}", d[0].render()))
-}
-
-fn model(text: &str) -> Result<NoiseModel, slant::lang::Diagnostic> {
+pub(crate) fn model(text: &str) -> Result<NoiseModel, slant::base::Diagnostic> {
     NoiseModel::parse(&Source::new("m.toml", text))
 }
 
 /// Each model text must be refused with a message containing the given words at line:col.
-fn assert_refused(cases: &[(&str, &str, usize, usize)]) {
+pub(crate) fn assert_refused(cases: &[(&str, &str, usize, usize)]) {
     for &(text, msg, line, col) in cases {
         let d = model(text).expect_err(text);
         assert!(d.message.contains(msg), "{text}: {}", d.message);
@@ -35,9 +32,9 @@ fn idx(name: &str) -> usize {
     Pauli::pair_index(name).unwrap()
 }
 
-/// Mechanisms as comparable tuples.
-fn mechanisms(g: &FaultGraph) -> Vec<(Vec<u32>, Vec<u32>, f64)> {
-    g.mechanisms
+/// Edges as comparable tuples.
+fn edges(g: &FaultGraph) -> Vec<(Vec<u32>, Vec<u32>, f64)> {
+    g.edges
         .iter()
         .map(|m| (m.detectors.clone(), m.observables.clone(), m.probability))
         .collect()
@@ -48,8 +45,8 @@ fn assert_same_graph(a: &Circuit, b: &Circuit) {
         slant::faults::extract(a, &ExtractOptions::default()),
         slant::faults::extract(b, &ExtractOptions::default()),
     );
-    let (ma, mb) = (mechanisms(&ga), mechanisms(&gb));
-    assert_eq!(ma.len(), mb.len(), "mechanism counts differ");
+    let (ma, mb) = (edges(&ga), edges(&gb));
+    assert_eq!(ma.len(), mb.len(), "edge counts differ");
     assert!(!ma.is_empty());
     for (x, y) in ma.iter().zip(&mb) {
         assert_eq!((&x.0, &x.1), (&y.0, &y.1));
@@ -60,185 +57,7 @@ fn assert_same_graph(a: &Circuit, b: &Circuit) {
     }
 }
 
-/// Pauli-twirled amplitude and phase damping: "Surface code with decoherence", PRA 86, 062318
-/// (2012): px = py = (1 − e^(−t/T1))/4, pz = (1 − e^(−t/T2))/2 − (1 − e^(−t/T1))/4.
-#[test]
-fn twirling_formulas_and_limits() {
-    let (t, t1, t2) = (0.3, 20.0, 15.0);
-    let (px, py, pz) = twirled_decoherence(t, t1, t2);
-    let a = 1.0 - (-t / t1).exp();
-    assert!((px - a / 4.0).abs() < 1e-15 && (py - a / 4.0).abs() < 1e-15);
-    assert!((pz - ((1.0 - (-t / t2).exp()) / 2.0 - a / 4.0)).abs() < 1e-15);
-    // t → 0: no error; first order px ≈ t/(4T1).
-    assert_eq!(twirled_decoherence(0.0, t1, t2), (0.0, 0.0, 0.0));
-    let (px, _, _) = twirled_decoherence(1e-6, t1, t2);
-    assert!((px / (1e-6 / (4.0 * t1)) - 1.0).abs() < 1e-6);
-    // T1 → ∞: pure dephasing with pz = (1 − e^(−t/T2))/2.
-    let (px, py, pz) = twirled_decoherence(t, f64::INFINITY, t2);
-    assert_eq!((px, py), (0.0, 0.0));
-    assert!((pz - (1.0 - (-t / t2).exp()) / 2.0).abs() < 1e-15);
-    // T2 = 2T1 (no pure dephasing) still gives pz ≥ 0.
-    assert!(twirled_decoherence(1.0, 1.0, 2.0).2 >= 0.0);
-    // Cat-like idle without bit flips is pure dephasing.
-    let (x, y, z) = cat_idle(t, f64::INFINITY, t2);
-    assert_eq!((x, y), (0.0, 0.0));
-    assert!((z - (1.0 - (-t / t2).exp()) / 2.0).abs() < 1e-15);
-}
-
-/// An independent 4×4 complex routine: CX = exp(iπΠ) with Π = |1⟩⟨1| ⊗ |−⟩⟨−| (the projector
-/// (I−Z_c)(I−X_t)/4), so the rest of the gate after time s is I + (e^{iφ} − 1)Π, φ = π(1−s).
-/// The twirled distribution of V Z_t V† averaged over s by the midpoint rule must give
-/// IZ 3/8, ZZ 3/8, IY 1/8, ZY 1/8 (values stated in issue 6, derived there by direct matrix
-/// exponentiation; re-derived here).
-#[test]
-fn cx_rotation_check_values() {
-    type C = (f64, f64);
-    let mul = |a: C, b: C| (a.0 * b.0 - a.1 * b.1, a.0 * b.1 + a.1 * b.0);
-    let kron = |a: [[C; 2]; 2], b: [[C; 2]; 2]| {
-        let mut m = [[(0.0, 0.0); 4]; 4];
-        for i in 0..4 {
-            for j in 0..4 {
-                m[i][j] = mul(a[i / 2][j / 2], b[i % 2][j % 2]);
-            }
-        }
-        m
-    };
-    let o = (1.0, 0.0);
-    let z0 = (0.0, 0.0);
-    let pi = |p: char| -> [[C; 2]; 2] {
-        match p {
-            'I' => [[o, z0], [z0, o]],
-            'X' => [[z0, o], [o, z0]],
-            'Y' => [[z0, (0.0, -1.0)], [(0.0, 1.0), z0]],
-            _ => [[o, z0], [z0, (-1.0, 0.0)]],
-        }
-    };
-    let proj1 = [[z0, z0], [z0, o]];
-    let minus = [[(0.5, 0.0), (-0.5, 0.0)], [(-0.5, 0.0), (0.5, 0.0)]];
-    let big_pi = kron(proj1, minus);
-    let matmul = |a: &[[C; 4]; 4], b: &[[C; 4]; 4]| {
-        let mut m = [[(0.0, 0.0); 4]; 4];
-        for i in 0..4 {
-            for j in 0..4 {
-                for k in 0..4 {
-                    let t = mul(a[i][k], b[k][j]);
-                    m[i][j].0 += t.0;
-                    m[i][j].1 += t.1;
-                }
-            }
-        }
-        m
-    };
-    let steps = 4000;
-    let names = ["IZ", "ZZ", "IY", "ZY"];
-    let mut acc = [0.0; 4];
-    let mut total = 0.0;
-    for k in 0..steps {
-        let s = (k as f64 + 0.5) / steps as f64;
-        let phi = std::f64::consts::PI * (1.0 - s);
-        let e = (phi.cos() - 1.0, phi.sin());
-        let mut v = [[(0.0, 0.0); 4]; 4];
-        let mut vd = v;
-        for i in 0..4 {
-            for j in 0..4 {
-                let id = if i == j { 1.0 } else { 0.0 };
-                let t = mul(e, big_pi[i][j]);
-                v[i][j] = (id + t.0, t.1);
-                let t2 = mul((e.0, -e.1), big_pi[i][j]);
-                vd[i][j] = (id + t2.0, t2.1);
-            }
-        }
-        let f = matmul(&matmul(&v, &kron(pi('I'), pi('Z'))), &vd);
-        for a in ['I', 'X', 'Y', 'Z'] {
-            for b in ['I', 'X', 'Y', 'Z'] {
-                let p = kron(pi(a), pi(b));
-                let mut tr = (0.0, 0.0);
-                for i in 0..4 {
-                    for j in 0..4 {
-                        let t = mul(p[i][j], f[j][i]);
-                        tr.0 += t.0;
-                        tr.1 += t.1;
-                    }
-                }
-                let w = (tr.0 * tr.0 + tr.1 * tr.1) / 16.0 / steps as f64;
-                total += w;
-                let name = format!("{a}{b}");
-                if let Some(n) = names.iter().position(|x| *x == name) {
-                    acc[n] += w;
-                }
-            }
-        }
-    }
-    let expected = [3.0 / 8.0, 3.0 / 8.0, 1.0 / 8.0, 1.0 / 8.0];
-    assert!((total - 1.0).abs() < 1e-9);
-    let lib = mid_gate_fault(Gate::Cx, Implementation::Rotation, [Pauli::I, Pauli::Z]);
-    for (n, name) in names.iter().enumerate() {
-        assert!((acc[n] - expected[n]).abs() < 1e-6, "{name}: {}", acc[n]);
-        assert!(
-            (lib[idx(name)] - expected[n]).abs() < 1e-9,
-            "{name}: lib {}",
-            lib[idx(name)]
-        );
-    }
-    // A control Z commutes with the generator and stays ZI.
-    let c = mid_gate_fault(Gate::Cx, Implementation::Rotation, [Pauli::Z, Pauli::I]);
-    assert!((c[idx("ZI")] - 1.0).abs() < 1e-12);
-}
-
-/// Bias-preserving CX of cat qubits: target Z → Z_t or Z_c Z_t with equal weight, control Z
-/// stays ("Repetition cat qubits for fault-tolerant quantum computation", PRX 9, 041053 (2019);
-/// "Bias-preserving gates with stabilized cat qubits", Sci. Adv. 6, eaay5901 (2020) — the equal
-/// split is recalled from memory, not re-derived).
-#[test]
-fn bias_preserving_cx() {
-    let t = mid_gate_fault(
-        Gate::Cx,
-        Implementation::BiasPreserving,
-        [Pauli::I, Pauli::Z],
-    );
-    assert_eq!((t[idx("IZ")], t[idx("ZZ")]), (0.5, 0.5));
-    let c = mid_gate_fault(
-        Gate::Cx,
-        Implementation::BiasPreserving,
-        [Pauli::Z, Pauli::I],
-    );
-    assert_eq!(c[idx("ZI")], 1.0);
-    // Bit flips are untouched (after-gate).
-    let x = mid_gate_fault(
-        Gate::Cx,
-        Implementation::BiasPreserving,
-        [Pauli::X, Pauli::I],
-    );
-    assert_eq!(x[idx("XI")], 1.0);
-}
-
-/// CZ commutes with Z faults under any implementation; H maps Z to X (Clifford tables).
-#[test]
-fn cz_keeps_z_and_h_maps_z_to_x() {
-    for imp in Implementation::ALL {
-        for f in [
-            [Pauli::Z, Pauli::I],
-            [Pauli::I, Pauli::Z],
-            [Pauli::Z, Pauli::Z],
-        ] {
-            let d = mid_gate_fault(Gate::Cz, imp, f);
-            let name = format!("{}{}", f[0].letter(), f[1].letter());
-            assert!((d[idx(&name)] - 1.0).abs() < 1e-12, "{imp:?} {name}");
-        }
-    }
-    assert_eq!(
-        Gate::H.conjugate([Pauli::Z, Pauli::I]),
-        [Pauli::X, Pauli::I]
-    );
-    assert_eq!(
-        Generator::default_for(Gate::H)
-            .conjugate([Pauli::Z, Pauli::I])
-            .0,
-        [Pauli::X, Pauli::I]
-    );
-}
-
-const ONE_CX: &str = "qubit c role data\nqubit t role data\nreset x c\nreset z t\ncx c t\nmeasure x c -> mc\nmeasure z t -> mt\n";
+pub(crate) const ONE_CX: &str = "qubit c role data\nqubit t role data\nreset x c\nreset z t\ncx c t\nmeasure x c -> mc\nmeasure z t -> mt\n";
 
 /// Two-level qubits, generic (rotation) CX, pure dephasing equally on both qubits: a control Z
 /// stays Z-type, a target Z is Z-type with weight 3/8 + 3/8 (check values above), so the
@@ -266,7 +85,7 @@ fn rotation_cx_residual_z_share_is_seven_eighths() {
         Implementation::Rotation,
         &m.gates[0].1.rate.two().unwrap(),
     );
-    let Channel::Pauli2(t) = ch else { panic!() };
+    let Channel::PairPauli(t) = ch else { panic!() };
     assert!((t[idx("IY") - 1] - 0.001 / 8.0).abs() < 1e-12);
 }
 
@@ -409,7 +228,7 @@ fn overrides_and_timed_idle() {
     let (px, _, pz) = twirled_decoherence(1.0, 100.0, 100.0);
     assert_eq!(
         op.kind,
-        slant::ir::OpKind::Noise(Channel::Pauli1 { px, py: px, pz })
+        slant::ir::OpKind::Noise(Channel::Pauli { px, py: px, pz })
     );
     // Layer 3 (measurement, duration 10): d and e idle with the data times.
     let l = &c.circuit.layers[2];
@@ -418,13 +237,13 @@ fn overrides_and_timed_idle() {
     let (px, _, pz) = twirled_decoherence(10.0, 100.0, 100.0);
     assert_eq!(
         last.kind,
-        slant::ir::OpKind::Noise(Channel::Pauli1 { px, py: px, pz })
+        slant::ir::OpKind::Noise(Channel::Pauli { px, py: px, pz })
     );
     // Ancilla override applies when the ancilla idles (it never does here, so check the lookup).
     let q = &circuit.qubits[1];
     assert_eq!(
         m.idle_for(q).channel(1.0),
-        Some(Channel::Pauli1 {
+        Some(Channel::Pauli {
             px: twirled_decoherence(1.0, 50.0, 20.0).0,
             py: twirled_decoherence(1.0, 50.0, 20.0).1,
             pz: twirled_decoherence(1.0, 50.0, 20.0).2,
@@ -459,8 +278,7 @@ fn cli_compile_and_bias() {
     let src = dir.path().join("one.slant");
     std::fs::write(&src, ONE_CX).unwrap();
     let out = dir.path().join("out.slant");
-    let bin = env!("CARGO_BIN_EXE_slant");
-    let st = std::process::Command::new(bin)
+    let st = slant()
         .args([
             "compile",
             src.to_str().unwrap(),
@@ -469,8 +287,7 @@ fn cli_compile_and_bias() {
             "-o",
             out.to_str().unwrap(),
         ])
-        .output()
-        .unwrap();
+        .run();
     assert!(
         st.status.success(),
         "{}",
@@ -478,28 +295,27 @@ fn cli_compile_and_bias() {
     );
     let text = std::fs::read_to_string(&out).unwrap();
     assert!(
-        text.contains("noise pauli2") && text.contains("# --noise after `cx` (rotation)"),
+        text.lines()
+            .any(|l| l.trim_start().starts_with("noise pauli ") && l.contains(" zz="))
+            && text.contains("# --noise after `cx` (rotation)"),
         "{text}"
     );
-    let st = std::process::Command::new(bin)
-        .args(["check", out.to_str().unwrap()])
-        .output()
-        .unwrap();
+    let st = slant().args(["check", out.to_str().unwrap()]).run();
     assert!(
         st.status.success(),
         "{}",
         String::from_utf8_lossy(&st.stderr)
     );
-    let st = std::process::Command::new(bin)
+    let st = slant()
         .args([
             "bias",
             src.to_str().unwrap(),
             "--noise",
             "circuit p=0.01 bias=100 cx=rotation",
         ])
-        .output()
-        .unwrap();
-    assert!(st.status.success());
+        .run();
+    // A lost bias is a "no": exit 3, after the whole report.
+    assert_eq!(st.status.code(), Some(3));
     let stdout = String::from_utf8_lossy(&st.stdout);
     assert!(stdout.contains("verdict: bias lost at"), "{stdout}");
 }
@@ -558,15 +374,14 @@ fn unmatched_overrides_are_located() {
     std::fs::write(&src, ONE_CX).unwrap();
     let m = dir.path().join("m.toml");
     let bias = || {
-        std::process::Command::new(env!("CARGO_BIN_EXE_slant"))
+        slant()
             .args([
                 "bias",
                 src.to_str().unwrap(),
                 "--noise",
                 m.to_str().unwrap(),
             ])
-            .output()
-            .unwrap()
+            .run()
     };
     std::fs::write(&m, cases[1].0).unwrap();
     let st = bias();
@@ -689,10 +504,9 @@ fn missing_model_file_is_named() {
     // Through the binary: exit 1 with the message.
     let src = dir.path().join("one.slant");
     std::fs::write(&src, ONE_CX).unwrap();
-    let st = std::process::Command::new(env!("CARGO_BIN_EXE_slant"))
+    let st = slant()
         .args(["bias", src.to_str().unwrap(), "--noise", "models/cat"])
-        .output()
-        .unwrap();
+        .run();
     assert_eq!(st.status.code(), Some(1));
     let stderr = String::from_utf8_lossy(&st.stderr);
     assert!(
@@ -772,15 +586,14 @@ fn bias_report_explains_missing_rounds_and_data() {
     let run = |name: &str, text: &str| -> String {
         let src = dir.path().join(name);
         std::fs::write(&src, text).unwrap();
-        let st = std::process::Command::new(env!("CARGO_BIN_EXE_slant"))
+        let st = slant()
             .args([
                 "bias",
                 src.to_str().unwrap(),
                 "--noise",
                 "circuit p=0.01 bias=10",
             ])
-            .output()
-            .unwrap();
+            .run();
         assert!(
             st.status.success(),
             "{}",
@@ -812,14 +625,14 @@ fn bias_report_explains_missing_rounds_and_data() {
     );
     assert!(!generated.contains(no_rounds) && !generated.contains(no_data));
     assert!(generated.contains("  round 1 "), "{generated}");
-    // Mechanisms but none high-rate-only (a bit-flip code under biased noise): the share is
+    // Edges but none high-rate-only (a bit-flip code under biased noise): the share is
     // printed as zero, not as a negative zero.
     let repetition = run(
         "repetition.slant",
         include_str!("../circuits/repetition_d3.slant"),
     );
     assert!(
-        repetition.contains("high-rate-only mechanisms: 0.0000\n"),
+        repetition.contains("high-rate-only edges: 0.0000\n"),
         "{repetition}"
     );
     // The value itself is a positive zero (the JSON prints it; `f64::max` with a negative zero
@@ -842,207 +655,6 @@ fn bias_report_explains_missing_rounds_and_data() {
     let r = analyze(&n.circuit, &n.notes);
     assert!(r.all_qubits_data);
     assert_eq!(r.circuit_rounds, 0);
-}
-
-fn cx_rotation_model(extra: &str) -> String {
-    format!(
-        "[gates.cx]\nzi = 0.001\niz = 0.001\nimplementation = \"rotation\"\n{extra}[measure]\nflip = 0\n[reset]\np = 0\n"
-    )
-}
-
-/// The noise channels of a compiled circuit, in order.
-fn channels(c: &Circuit) -> Vec<Channel> {
-    c.layers
-        .iter()
-        .flat_map(|l| &l.ops)
-        .filter_map(|o| match &o.kind {
-            slant::ir::OpKind::Noise(ch) => Some(ch.clone()),
-            _ => None,
-        })
-        .collect()
-}
-
-/// A model may give a gate's rotation generator. Written equal to the default, it compiles to
-/// exactly the default channel; equal up to a global phase (no `II` term), to the same channel
-/// up to rounding; a different path to the same gate gives a different channel, so the
-/// generator is really used.
-#[test]
-fn model_generator_overrides_default() {
-    let circuit = load("one.slant", ONE_CX);
-    let default = compile(&circuit, &model(&cx_rotation_model("")).unwrap()).unwrap();
-    let explicit = model(&cx_rotation_model(
-        "generator = \"II - ZI - IX + ZX\"\nangle = \"pi/4\"\n",
-    ))
-    .unwrap();
-    assert!(explicit.gates[0].1.generator.is_some());
-    let c = compile(&circuit, &explicit).unwrap();
-    assert_eq!(channels(&c.circuit), channels(&default.circuit));
-    assert_eq!(c.notes[0].generator, explicit.gates[0].1.generator);
-    let report = analyze(&c.circuit, &c.notes);
-    let cx = report.classes.iter().find(|c| c.class == "cx").unwrap();
-    assert!((cx.output_z_share() - 7.0 / 8.0).abs() < 1e-9);
-
-    for (extra, what) in [
-        (
-            "generator = \"ZX - ZI - IX\"\nangle = 0.7853981633974483\n",
-            "no II",
-        ),
-        (
-            "generator = \"-II + ZI + IX - ZX\"\nangle = \"-pi/4\"\n",
-            "negated",
-        ),
-    ] {
-        let m = model(&cx_rotation_model(extra)).unwrap_or_else(|d| panic!("{}", d.render()));
-        let c = compile(&circuit, &m).unwrap();
-        for (a, b) in channels(&c.circuit).iter().zip(channels(&default.circuit)) {
-            let (Channel::Pauli2(a), Channel::Pauli2(b)) = (a, &b) else {
-                panic!("{what}: expected pauli2")
-            };
-            for k in 0..15 {
-                assert!((a[k] - b[k]).abs() < 1e-15, "{what}: term {k}");
-            }
-        }
-    }
-
-    // `II − ZI + 3 IX + ZX` = 4Π + 4·IX with Π = |1⟩⟨1| ⊗ |−⟩⟨−|: IX commutes with Π and
-    // exp(iπ·IX) = −I, so exp(iπ/4·G) is CX up to a sign. Mid-gate (u = 1 − s, hand derivation):
-    // the rest of the gate turns the target about X by 2πu when the control is 0 and by 3πu
-    // when it is 1, so a target Z leaves as P0⊗(cos a Z + sin a Y) + P1⊗(cos b Z + sin b Y),
-    // a = 2πu, b = 3πu: IZ = (cos a + cos b)/2, ZZ = (cos a − cos b)/2, IY = (sin a + sin b)/2,
-    // ZY = (sin a − sin b)/2. Over u ∈ [0, 1] the squares of cos and sin average 1/2 and the
-    // cross terms (cos πu ± cos 5πu)/2 average 0, so each of the four is 1/4 (the default
-    // generator gives 3/8, 3/8, 1/8, 1/8).
-    let other = model(&cx_rotation_model(
-        "generator = \"II - ZI + 3 IX + ZX\"\nangle = \"pi/4\"\n",
-    ))
-    .unwrap_or_else(|d| panic!("{}", d.render()));
-    let g = other.gates[0].1.generator.as_ref().unwrap();
-    let d = slant::noise::implement::mid_gate_fault_with(
-        Gate::Cx,
-        Implementation::Rotation,
-        Some(g),
-        [Pauli::I, Pauli::Z],
-    );
-    for name in ["IZ", "ZZ", "IY", "ZY"] {
-        assert!(
-            (d[idx(name)] - 0.25).abs() < 1e-9,
-            "{name}: {}",
-            d[idx(name)]
-        );
-    }
-    // Through the compiler and the bias report: the Z-type share of the cx channel is now
-    // (1 + 1/2)/2 = 3/4 (control Z stays ZI; target Z is Z-type half the time).
-    let c = compile(&circuit, &other).unwrap();
-    assert_ne!(channels(&c.circuit), channels(&default.circuit));
-    let report = analyze(&c.circuit, &c.notes);
-    let cx = report.classes.iter().find(|c| c.class == "cx").unwrap();
-    assert!(
-        (cx.output_z_share() - 3.0 / 4.0).abs() < 1e-9,
-        "{}",
-        cx.output_z_share()
-    );
-}
-
-/// Generators that are not the gate, malformed, or misplaced are refused at line:col.
-#[test]
-fn bad_generators_are_located() {
-    let cases: &[(&str, &str, usize, usize)] = &[
-        // √CX, not CX: refused at the generator value.
-        (
-            "generator = \"II - ZI - IX + ZX\"\nangle = \"pi/8\"\n",
-            "this generator does not implement `cx`",
-            5,
-            13,
-        ),
-        // CZ's generator given to cx.
-        (
-            "generator = \"II - ZI - IZ + ZZ\"\nangle = \"pi/4\"\n",
-            "this generator does not implement `cx`",
-            5,
-            13,
-        ),
-        // A Pauli string of the wrong length, located inside the string.
-        (
-            "generator = \"II - ZI - IXZ + ZX\"\nangle = \"pi/4\"\n",
-            "`IXZ` has 3 letters",
-            5,
-            24,
-        ),
-        (
-            "generator = \"II - ZI - IX + ZX\"\n",
-            "`generator` needs `angle`",
-            5,
-            1,
-        ),
-        ("angle = \"pi/4\"\n", "`angle` needs `generator`", 5, 1),
-        (
-            "generator = \"II - ZI - IX + ZX\"\nangle = \"tau/4\"\n",
-            "`tau/4` is not an angle",
-            6,
-            9,
-        ),
-        (
-            "generator = \"1e400 II\"\nangle = 1\n",
-            "coefficient `1e400` is not finite",
-            5,
-            14,
-        ),
-        (
-            "generator = \"II - ZI - IX + ZX\"\nangle = \"64*pi\"\n",
-            "winds too far",
-            6,
-            9,
-        ),
-    ];
-    for &(extra, msg, line, col) in cases {
-        let text = cx_rotation_model(extra);
-        let d = model(&text).expect_err(&text);
-        assert!(d.message.contains(msg), "{text}: {}", d.message);
-        let (_, l, c) = d.location().unwrap();
-        assert_eq!((l, c), (line, col), "{text}: {}", d.message);
-    }
-    let d = model(&cx_rotation_model(
-        "generator = \"II - ZI - IX + ZX\"\nangle = \"pi/8\"\n",
-    ))
-    .unwrap_err();
-    assert_eq!(
-        d.hint.as_deref(),
-        Some("`cx` is, for example, `generator = \"II - ZI - IX + ZX\"` with `angle = \"pi/4\"`")
-    );
-    let others: &[(&str, &str, usize, usize)] = &[
-        // A generator needs the rotation implementation.
-        (
-            "[gates.cx]\np = 0.01\ngenerator = \"II - ZI - IX + ZX\"\nangle = \"pi/4\"\n",
-            "`generator` applies only to `implementation = \"rotation\"`",
-            3,
-            1,
-        ),
-        // ... and one gate.
-        (
-            "[gates.default]\np = 0.01\nimplementation = \"rotation\"\ngenerator = \"X\"\nangle = \"pi/2\"\n",
-            "`generator` describes one gate, not `gates.default`",
-            4,
-            1,
-        ),
-        // H to four digits is off by about 1e-5: refused, with the deviation.
-        (
-            "[gates.h]\np = 0.01\nimplementation = \"rotation\"\ngenerator = \"0.7071 X + 0.7071 Z\"\nangle = \"pi/2\"\n",
-            "differs from the gate by 1.5e-5",
-            4,
-            13,
-        ),
-        // Inside an override too.
-        (
-            "p = 0.01\n[gates.default]\n[[override]]\nrole = \"data\"\ngates.cz = { implementation = \"rotation\", generator = \"II - ZI - IX + ZX\", angle = \"pi/4\" }\n",
-            "this generator does not implement `cz`",
-            5,
-            55,
-        ),
-    ];
-    assert_refused(others);
-    // Eight digits of 1/√2 are close enough.
-    model("[gates.h]\np = 0.01\nimplementation = \"rotation\"\ngenerator = \"0.70710678 X + 0.70710678 Z\"\nangle = \"pi/2\"\n")
-        .unwrap_or_else(|d| panic!("{}", d.render()));
 }
 
 /// Every shipped model compiles onto every bundled circuit (overrides for roles a circuit does
@@ -1084,9 +696,54 @@ fn shipped_models_compile_onto_every_bundled_circuit() {
                 c.display()
             );
             let text = to_text(&compiled.circuit, &compiled.notes, &[]);
-            slant::load_source(&Source::new("compiled.slant", text), &[]).unwrap_or_else(|e| {
+            slant::ir::load_source(&Source::new("compiled.slant", text), &[]).unwrap_or_else(|e| {
                 panic!("{} on {}: {}", m.display(), c.display(), e[0].render())
             });
         }
+    }
+}
+
+/// Every subcommand that writes a model file into a circuit shows the model's warnings, and the
+/// same way: `compare` (which once printed none) says exactly what `distance` says.
+#[test]
+fn model_warnings_are_shown_by_every_study() {
+    let dir = tempfile::tempdir().unwrap();
+    let m = dir.path().join("m.toml");
+    std::fs::write(
+        &m,
+        "p = 0.001\n[gates.default]\n[[override]]\nrole = \"nosuchrole\"\nmeasure = { flip = 0.1 }\n",
+    )
+    .unwrap();
+    let m = m.to_str().unwrap();
+    let circuit = concat!(env!("CARGO_MANIFEST_DIR"), "/circuits/repetition_d3.slant");
+    let stderr = |args: &[&str]| -> String {
+        let out = slant().args(args).run();
+        assert!(
+            out.status.success(),
+            "{args:?}: {}",
+            String::from_utf8_lossy(&out.stderr)
+        );
+        String::from_utf8(out.stderr).unwrap()
+    };
+    let distance = stderr(&["distance", circuit, "--noise", m]);
+    assert!(
+        distance.starts_with("warning: this override matches no qubit"),
+        "{distance}"
+    );
+    assert!(distance.contains(&format!("{m}:4:8")), "{distance}");
+    assert_eq!(distance.matches("warning:").count(), 1, "{distance}");
+    let others: [&[&str]; 7] = [
+        &["compare", circuit, "--noise", m],
+        &["bias", circuit, "--noise", m],
+        &["compile", circuit, "--noise", m],
+        &["graph", circuit, "--noise", m, "--format", "text"],
+        &["trace", circuit, "--noise", m, "--edge", "0"],
+        &["estimate", circuit, "--noise", m, "--shots", "64"],
+        &[
+            "shots", circuit, "--noise", m, "--shots", "4", "--format", "bits",
+        ],
+    ];
+    for args in others {
+        assert_eq!(stderr(args), distance, "{args:?}");
     }
 }

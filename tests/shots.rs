@@ -4,22 +4,15 @@
 //! enumeration in `support::statevector`, within 5 binomial standard deviations at a fixed seed.
 
 use std::path::Path;
-use std::process::Command;
 
 use rand::{Rng, SeedableRng};
-use slant::ir::{Basis, Circuit, Gate, Layer, Op, OpKind, Pauli, Qubit, Record};
-use slant::lang::{Source, Span};
+use slant::base::{Basis, Gate, Pauli, Source, Span};
+use slant::ir::{Circuit, Layer, Op, OpKind, Qubit, Record};
 use slant::noise::{self, NoiseSpec};
 use slant::sim::{reference_run, Outputs, Sampler};
 
 use crate::support::statevector;
-
-fn load(text: &str) -> Circuit {
-    match slant::load_source(&Source::new("t.slant", text), &[]) {
-        Ok(c) => c,
-        Err(d) => panic!("{}", d.iter().map(|d| d.render()).collect::<String>()),
-    }
-}
+use crate::support::{load, slant, Runner};
 
 fn with_noise(c: &Circuit, spec: &str) -> Circuit {
     let spec = NoiseSpec::parse(spec).unwrap_or_else(|d| panic!("{}", d.render()));
@@ -156,9 +149,9 @@ layer { sx c ; cz a b ; y e }
 layer { cx e a ; z b }
 noise pauli x=0.02 y=0.03 z=0.04 a
 noise dephasing p=0.05 b
-noise depolarizing2 p=0.06 c e
-noise pauli2 zz=0.03 xy=0.02 ix=0.02 a b
-noise correlated p=0.04 x a * y c * z e
+noise pair_depolarizing p=0.06 c e
+noise pauli zz=0.03 xy=0.02 ix=0.02 a b
+noise joint p=0.04 x a * y c * z e
 layer { cx e a ; z b }
 layer { sxdg c ; cz a b ; y e }
 layer { swap b e ; sdg a ; x c }
@@ -195,15 +188,15 @@ observable bell = zz
 /// state-vector enumeration (independent method) agree with sampling within 5σ.
 #[test]
 fn sampled_statistics_match_exact_enumeration() {
-    compare_with_exact(&load(REPETITION_NOISY), 200_000, 11);
-    compare_with_exact(&load(ALL_CHANNELS), 200_000, 12);
-    let preset = with_noise(&load(BELL_FOR_PRESET), "circuit p=0.05 bias=3");
+    compare_with_exact(&load("t.slant", REPETITION_NOISY), 200_000, 11);
+    compare_with_exact(&load("t.slant", ALL_CHANNELS), 200_000, 12);
+    let preset = with_noise(&load("t.slant", BELL_FOR_PRESET), "circuit p=0.05 bias=3");
     compare_with_exact(&preset, 200_000, 13);
     let phen = with_noise(
-        &load(REPETITION_NOISY),
+        &load("t.slant", REPETITION_NOISY),
         "phenomenological p=0.02 q=0.04 bias=2",
     );
-    let capacity = with_noise(&load(REPETITION_NOISY), "capacity p=0.03");
+    let capacity = with_noise(&load("t.slant", REPETITION_NOISY), "capacity p=0.03");
     compare_with_exact(&phen, 100_000, 14);
     compare_with_exact(&capacity, 100_000, 15);
 }
@@ -214,7 +207,7 @@ fn sampled_statistics_match_exact_enumeration() {
 #[test]
 fn repetition_code_majority_vote_fails_at_3p2_minus_2p3() {
     let p: f64 = 0.1;
-    let c = load(&format!(
+    let c = load("t.slant", &format!(
         "qubit q[0..3] role data\nreset z q[0..3]\nnoise bitflip p={p} q[0..3]\nmeasure z q[0..3] -> f[0..3]\n"
     ));
     let shots = 400_000;
@@ -242,10 +235,13 @@ fn repetition_code_majority_vote_fails_at_3p2_minus_2p3() {
 #[test]
 fn bell_pair_correlations_under_depolarizing() {
     let p = 0.15;
-    let c = load(&format!(
-        "qubit a\nqubit b\nh a\ncx a b\nnoise depolarizing p={p} a\nmeasure z a * z b -> zz\n\
+    let c = load(
+        "t.slant",
+        &format!(
+            "qubit a\nqubit b\nh a\ncx a b\nnoise depolarizing p={p} a\nmeasure z a * z b -> zz\n\
          measure x a * x b -> xx\ndetector = zz\ndetector = xx\n"
-    ));
+        ),
+    );
     let k = sample_counts(&c, 400_000, 3);
     for d in 0..2 {
         let f = k.det[d] as f64 / k.shots as f64;
@@ -264,9 +260,9 @@ fn bell_pair_correlations_under_depolarizing() {
 #[test]
 fn noiseless_circuits_have_no_detection_events() {
     let mut circuits = vec![
-        load(REPETITION_NOISY),
-        load(ALL_CHANNELS),
-        load(BELL_FOR_PRESET),
+        load("t.slant", REPETITION_NOISY),
+        load("t.slant", ALL_CHANNELS),
+        load("t.slant", BELL_FOR_PRESET),
     ];
     let dir = Path::new(env!("CARGO_MANIFEST_DIR")).join("circuits");
     for entry in std::fs::read_dir(&dir).into_iter().flatten().flatten() {
@@ -275,7 +271,7 @@ fn noiseless_circuits_have_no_detection_events() {
             // Loading checks every detector and observable is deterministic (common practice
             // for memory experiments): every bundled circuit must pass.
             let text = std::fs::read_to_string(&path).unwrap();
-            let c = slant::load_source(&Source::new(path.display().to_string(), text), &[])
+            let c = slant::ir::load_source(&Source::new(path.display().to_string(), text), &[])
                 .unwrap_or_else(|e| panic!("{}: {}", path.display(), e[0].render()));
             circuits.push(c);
         }
@@ -430,7 +426,10 @@ impl With for OpKind {
 /// Presets need roles and rounds; their errors say so.
 #[test]
 fn round_presets_need_data_roles_and_rounds() {
-    let c = load("qubit a\nqubit b\nh a\ncx a b\nmeasure z a * z b -> zz\ndetector = zz\n");
+    let c = load(
+        "t.slant",
+        "qubit a\nqubit b\nh a\ncx a b\nmeasure z a * z b -> zz\ndetector = zz\n",
+    );
     for name in ["capacity", "phenomenological"] {
         let spec = NoiseSpec::parse(&format!("{name} p=0.01")).unwrap();
         let errs = noise::apply(&c, &spec).unwrap_err();
@@ -444,7 +443,7 @@ fn round_presets_need_data_roles_and_rounds() {
 /// qubits and flips on measurements, each pointing at its source statement.
 #[test]
 fn circuit_preset_placement() {
-    let c = load(BELL_FOR_PRESET);
+    let c = load("t.slant", BELL_FOR_PRESET);
     let noisy = with_noise(&c, "circuit p=0.01");
     let src = &noisy.source.text;
     let at = |op: &Op| src[op.span.start as usize..op.span.end as usize].to_string();
@@ -472,7 +471,7 @@ fn circuit_preset_placement() {
     assert!(at(idle).contains("h d"), "{}", at(idle));
     assert_eq!(
         idle.kind,
-        OpKind::Noise(slant::ir::Channel::Depolarizing1(0.01))
+        OpKind::Noise(slant::ir::Channel::Depolarizing(0.01))
     );
     for (_, op) in noisy.ops() {
         if let OpKind::Measure { flip, .. } = op.kind {
@@ -483,12 +482,8 @@ fn circuit_preset_placement() {
 
 // ---- the command line ------------------------------------------------------------------------
 
-fn slant(args: &[&str], threads: &str) -> std::process::Output {
-    Command::new(env!("CARGO_BIN_EXE_slant"))
-        .args(args)
-        .env("RAYON_NUM_THREADS", threads)
-        .output()
-        .expect("run slant")
+fn run_threads(args: &[&str], threads: &str) -> std::process::Output {
+    slant().args(args).env("RAYON_NUM_THREADS", threads).run()
 }
 
 /// Parses an `.npy` v1.0 header as NumPy documents it; returns (descr, shape, data).
@@ -540,7 +535,7 @@ fn cli_same_seed_same_bytes_for_any_thread_count() {
     let mut outputs = Vec::new();
     for threads in ["1", "2"] {
         let out = dir.path().join(format!("t{threads}"));
-        let o = slant(
+        let o = run_threads(
             &[
                 "shots",
                 &file,
@@ -569,7 +564,7 @@ fn cli_same_seed_same_bytes_for_any_thread_count() {
 }
 
 /// The files parse as NumPy .npy, the packed variant unpacks to the unpacked one (little-endian
-/// bit order), and `--format 01` prints the same rows.
+/// bit order), and `--format bits` prints the same rows.
 #[test]
 fn cli_npy_packed_and_01_agree() {
     let dir = tempfile::tempdir().unwrap();
@@ -590,13 +585,13 @@ fn cli_npy_packed_and_01_agree() {
     let run = |extra: &[&str]| {
         let mut args: Vec<&str> = common.to_vec();
         args.extend_from_slice(extra);
-        let o = slant(&args, "2");
+        let o = run_threads(&args, "2");
         assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
         o
     };
     run(&["--out", plain.to_str().unwrap()]);
     run(&["--out", packed.to_str().unwrap(), "--packed"]);
-    let lines = String::from_utf8(run(&["--format", "01"]).stdout).unwrap();
+    let lines = String::from_utf8(run(&["--format", "bits"]).stdout).unwrap();
     let (descr, (rows, cols), data) = read_npy(&plain.join("detectors.npy"));
     assert_eq!(descr, "|u1");
     assert_eq!((rows, cols), (1500, 6));
@@ -636,7 +631,7 @@ fn cli_npy_packed_and_01_agree() {
 fn cli_bad_noise_spec_points_into_the_option() {
     let dir = tempfile::tempdir().unwrap();
     let file = write_circuit(dir.path(), BELL_FOR_PRESET);
-    let o = slant(
+    let o = run_threads(
         &[
             "shots",
             &file,
@@ -645,7 +640,7 @@ fn cli_bad_noise_spec_points_into_the_option() {
             "--shots",
             "10",
             "--format",
-            "01",
+            "bits",
         ],
         "1",
     );
@@ -716,7 +711,7 @@ fn generated_families_have_no_detection_events_without_noise() {
     for spec in generated_specs() {
         let line = spec.command_line().unwrap_or_else(|e| panic!("{e}"));
         let text = slant::gen::generate(&spec).unwrap_or_else(|e| panic!("{line}: {e}"));
-        let c = load(&text);
+        let c = load("t.slant", &text);
         assert!(
             !c.detectors.is_empty() && !c.observables.is_empty(),
             "{line}"

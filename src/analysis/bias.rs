@@ -21,8 +21,8 @@
 //! following a gate or reset; classes come from the [`Note`]s, which presets and model files
 //! write alike), before and after the gate
 //! implementations; the effective bias at the data per round; the share of fault-graph
-//! probability in mechanisms made only of high-rate faults (classes as tagged by
-//! [`crate::faults`]); and the structure of the graph of mechanisms with a high-rate contributor:
+//! probability in edges made only of high-rate faults (classes as tagged by
+//! [`crate::faults`]); and the structure of the graph of edges with a high-rate contributor:
 //! connected components of detectors (each boundary edge ends at its own boundary node) and
 //! whether each is a chain (every detector of degree ≤ 2, no cycle, no hyperedge), the structure
 //! that makes the XZZX code decode as repetition codes under pure Z noise ("The XZZX surface
@@ -32,10 +32,11 @@ use std::collections::{BTreeMap, HashMap};
 
 use serde::Serialize;
 
+use crate::base::{Gate, Pauli};
 use crate::faults::{ClassSet, ExtractOptions};
-use crate::ir::{Circuit, Gate, OpKind, Pauli};
-use crate::noise::compile::Note;
-use crate::noise::implement::{mid_gate_fault_with, Implementation};
+use crate::ir::{Circuit, OpKind};
+use crate::noise::Note;
+use crate::noise::{mid_gate_fault_with, Implementation};
 
 /// Bias of one operation class.
 #[derive(Clone, Debug, PartialEq, Serialize)]
@@ -89,9 +90,15 @@ impl RoundBias {
 pub struct Converter {
     /// `file:line:col` of the operation.
     pub location: String,
+    /// File of the operation.
+    pub file: String,
+    /// Line of the operation (1-based).
+    pub line: usize,
+    /// Column of the operation (1-based).
+    pub column: usize,
     /// The gate (or `mid-gate cx (rotation)` for conversions inside a gate).
     pub what: String,
-    /// Summed probability of the high-rate faults it converted.
+    /// Expected number of high-rate faults it converts per shot (their summed probability).
     pub probability: f64,
     /// Number of elementary faults converted.
     pub faults: usize,
@@ -123,11 +130,11 @@ pub struct BiasReport {
     pub high_probability: f64,
     /// Summed probability of high-rate faults reaching the data with X or Y.
     pub converted_probability: f64,
-    /// Share of fault-graph probability in high-rate-only mechanisms.
+    /// Share of fault-graph probability in high-rate-only edges.
     pub high_only_share: f64,
-    /// Components of the graph of mechanisms with a high-rate contributor.
+    /// Components of the graph of edges with a high-rate contributor.
     pub components: Vec<Component>,
-    /// Hyperedges (more than two detectors) among those mechanisms.
+    /// Hyperedges (more than two detectors) among those edges.
     pub hyperedges: usize,
     /// Number of `round` blocks the circuit executes; without any, `rounds` is empty because
     /// there is nothing to report per round, not because no fault reached the data.
@@ -140,6 +147,11 @@ impl BiasReport {
     /// Whether every component of the high-rate graph is a chain.
     pub fn all_chains(&self) -> bool {
         self.components.iter().all(|c| c.chain) && self.hyperedges == 0
+    }
+
+    /// Whether no high-rate fault reaches the data as X or Y (no converter).
+    pub fn kept(&self) -> bool {
+        self.converters.is_empty()
     }
 
     /// One line: `bias kept`, or `bias lost at FILE:LINE:COL (GATE)` naming the top converter.
@@ -169,7 +181,7 @@ pub fn analyze(noisy: &Circuit, notes: &[Note]) -> BiasReport {
     let mut rounds: BTreeMap<u32, RoundBias> = BTreeMap::new();
     let mut converters: HashMap<(u32, String), Converter> = HashMap::new();
     let (mut high_faults, mut high_p, mut converted_p) = (0usize, 0.0, 0.0);
-    let loc = |span: crate::lang::Span| {
+    let loc = |span: crate::base::Span| {
         let (l, c) = noisy.source.line_col(span.start);
         format!("{}:{}:{}", noisy.source.name, l, c)
     };
@@ -298,8 +310,12 @@ pub fn analyze(noisy: &Circuit, notes: &[Note]) -> BiasReport {
                             if let Some((start, what)) = converter {
                                 let c =
                                     converters.entry((start, what.clone())).or_insert_with(|| {
+                                        let (line, column) = noisy.source.line_col(start);
                                         Converter {
-                                            location: loc(crate::lang::Span { start, end: start }),
+                                            location: loc(crate::base::Span { start, end: start }),
+                                            file: noisy.source.name.clone(),
+                                            line,
+                                            column,
                                             what,
                                             probability: 0.0,
                                             faults: 0,
@@ -407,15 +423,15 @@ fn propagate(
     }
 }
 
-/// High-only share and component structure of the graph of high-rate mechanisms.
+/// High-only share and component structure of the graph of high-rate edges.
 fn graph_structure(noisy: &Circuit) -> (f64, Vec<Component>, usize) {
     let graph = crate::faults::extract(noisy, &ExtractOptions::default());
-    let total: f64 = graph.mechanisms.iter().map(|m| m.probability).sum();
+    let total: f64 = graph.edges.iter().map(|m| m.probability).sum();
     let high: f64 = graph
-        .mechanisms
+        .edges
         .iter()
         .filter(|m| m.classes == ClassSet::High)
-        // A fold from +0.0: `Sum` for floats starts at −0.0, so with no high-only mechanism the
+        // A fold from +0.0: `Sum` for floats starts at −0.0, so with no high-only edge the
         // share would be −0.0 and print as `-0.0000`.
         .fold(0.0, |a, m| a + m.probability);
     let nd = graph.detectors.len();
@@ -432,7 +448,7 @@ fn graph_structure(noisy: &Circuit) -> (f64, Vec<Component>, usize) {
     let mut hyper_nodes: Vec<u32> = Vec::new();
     let mut hyperedges = 0;
     let mut used = vec![false; nd];
-    for m in graph.mechanisms.iter().filter(|m| m.classes.has_high()) {
+    for m in graph.edges.iter().filter(|m| m.classes.has_high()) {
         for &d in &m.detectors {
             used[d as usize] = true;
         }
@@ -503,4 +519,44 @@ fn graph_structure(noisy: &Circuit) -> (f64, Vec<Component>, usize) {
         components,
         hyperedges,
     )
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::base::Source;
+
+    fn report(text: &str) -> BiasReport {
+        let c = crate::ir::load_source(&Source::new("t.slant", text), &[])
+            .unwrap_or_else(|d| panic!("{}", d[0].render()));
+        analyze(&c, &[])
+    }
+
+    #[test]
+    fn a_hadamard_on_the_data_turns_dephasing_into_bit_flips() {
+        // Z H = H X: a phase flip before a Hadamard reaches the data as a bit flip.
+        let lost = report("qubit q role data\nround {\n    noise dephasing p=0.01 q\n    h q\n}\n");
+        assert_eq!(lost.converters.len(), 1);
+        assert_eq!(lost.converters[0].location, "t.slant:4:5");
+        assert_eq!(lost.verdict(), "bias lost at t.slant:4:5 (h)");
+        assert_eq!(lost.high_faults, 1);
+        assert!((lost.converted_probability - 0.01).abs() < 1e-15);
+        // A CZ commutes with Z on both qubits: the bias is kept.
+        let kept = report(
+            "qubit q role data\nqubit r role data\nround {\n    noise dephasing p=0.01 q\n    \
+             cz q r\n}\n",
+        );
+        assert!(kept.converters.is_empty());
+        assert_eq!(kept.verdict(), "bias kept");
+        assert_eq!(kept.converted_probability, 0.0);
+    }
+
+    #[test]
+    fn channel_classes_and_bias_are_summed() {
+        let r = report("qubit q role data\nround {\n    noise pauli x=0.001 y=0.001 z=0.02 q\n}\n");
+        let c = r.classes.iter().find(|c| c.class == "noise").unwrap();
+        assert!((c.input_high - 0.02).abs() < 1e-15);
+        assert!((c.input_low - 0.002).abs() < 1e-15);
+        assert!((c.input_eta() - 10.0).abs() < 1e-9);
+    }
 }

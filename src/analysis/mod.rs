@@ -1,11 +1,14 @@
-//! Analyses of fault graphs: circuit-level distances by fault class ([`distance`]) and
-//! side-by-side comparison of circuits or generated variants ([`compare`]).
+//! Analyses of noisy circuits and their fault graphs: where the high-rate faults end up
+//! ([`analyze_bias`]) and circuit-level distances by fault class ([`distances`]).
 //!
-//! In: [`crate::faults::FaultGraph`] values (and, for comparisons, the circuits they came from).
-//! Out: plain report values; rendering belongs to `cli`.
+//! In: a circuit with explicit noise and the compiler's notes, or a
+//! [`crate::faults::FaultGraph`]. Out: plain report values; rendering belongs to `cli`.
 
-pub mod bias;
-pub mod compare;
-pub mod distance;
+mod bias;
+mod distance;
 
-pub use distance::{distances, DistanceOptions, DistanceReport};
+pub use bias::{analyze as analyze_bias, BiasReport, ClassBias, Component, Converter, RoundBias};
+pub use distance::{
+    distances, symptom, Count, DistanceOptions, DistanceReport, Lexicographic, LogicalError,
+    Method, Unproven, Unresolved, Weighted, EXHAUSTIVE_DEPTH,
+};

@@ -1,13 +1,35 @@
 //! `slant bias`: where the high-rate (Z-type) faults of a noisy circuit end up.
 //!
-//! Always exits 0 when the inputs are valid: the verdict is a report, not a yes/no answer.
+//! A yes/no report: exits 0 when the bias is kept and 3 (`EXIT_NO`) when some high-rate fault
+//! reaches the data as X or Y, after printing the whole report either way.
 
-use crate::analysis::bias::{analyze, BiasReport};
+use crate::analysis::{analyze_bias, BiasReport};
+use crate::base::count;
 use crate::cli::common::CircuitArgs;
 use crate::cli::CliError;
 
+const AFTER_HELP: &str = "\
+Exit code: 0 when the bias is kept (no high-rate fault reaches the data as X or Y), 3 when it is
+lost; 1 when the input is rejected.
+
+Columns and lines (expected counts are sums of probabilities: the expected number per shot):
+  class           the operation a channel follows (`cx`, `h`, `reset`, `idle`, `round-start`,
+                  `noise` for channels written in the circuit)
+  exp. Z-type     expected count of Z-type faults (only Z and I factors) as the model writes them
+  exp. other      expected count of the other faults as written
+  eta in          exp. Z-type / exp. other
+  Z share out     Z-type share after the gate implementations (mid-gate faults moved through)
+  round lines     expected count per round of faults reaching the data as pure Z, and as X/Y
+                  (of which from high-rate faults); eta = Z / (X/Y)
+  converting operations: file:line:col, gate, expected count of high-rate faults it turns into
+                  X/Y at the data, and how many elementary faults that is
+
+JSON (`--json`, format `slant-bias`, version 2): the report's fields, plus `kept` (boolean),
+`lost_at` (one entry per converting operation: `file`, `line`, `column`, `gate`) and `verdict`.";
+
 /// Arguments of `slant bias`.
 #[derive(Debug, clap::Args)]
+#[command(after_help = AFTER_HELP)]
 pub struct Args {
     /// The circuit.
     #[command(flatten)]
@@ -24,22 +46,49 @@ pub struct Args {
     pub top: usize,
 }
 
-/// Runs `slant bias`.
+/// Version of the `--json` document (version 1 had no `format`, `version`, `kept` or
+/// `lost_at`).
+const JSON_VERSION: u32 = 2;
+
+/// Runs `slant bias`: exit 0 when the bias is kept, [`CliError::No`] (exit 3) when it is lost.
 pub fn run(args: Args) -> Result<(), CliError> {
-    let circuit = args.circuit.load()?;
-    let (noisy, notes) = crate::cli::compile::compile_spec(&circuit, &args.noise)?;
-    let report = analyze(&noisy, &notes);
+    let pipeline = args.circuit.load_noisy(Some(&args.noise))?;
+    let report = analyze_bias(pipeline.noisy(), pipeline.notes());
     if args.json {
         #[derive(serde::Serialize)]
+        struct Place<'a> {
+            file: &'a str,
+            line: usize,
+            column: usize,
+            gate: &'a str,
+        }
+        #[derive(serde::Serialize)]
         struct Out<'a> {
+            format: &'static str,
+            version: u32,
+            kept: bool,
+            lost_at: Vec<Place<'a>>,
+            verdict: String,
             #[serde(flatten)]
             report: &'a BiasReport,
-            verdict: String,
             all_chains: bool,
         }
         let out = Out {
-            report: &report,
+            format: "slant-bias",
+            version: JSON_VERSION,
+            kept: report.kept(),
+            lost_at: report
+                .converters
+                .iter()
+                .map(|c| Place {
+                    file: &c.file,
+                    line: c.line,
+                    column: c.column,
+                    gate: &c.what,
+                })
+                .collect(),
             verdict: report.verdict(),
+            report: &report,
             all_chains: report.all_chains(),
         };
         let text =
@@ -48,7 +97,11 @@ pub fn run(args: Args) -> Result<(), CliError> {
     } else {
         print!("{}", render(&report, args.top));
     }
-    Ok(())
+    if report.kept() {
+        Ok(())
+    } else {
+        Err(CliError::No)
+    }
 }
 
 fn eta(x: f64) -> String {
@@ -73,12 +126,12 @@ pub fn render(r: &BiasReport, top: usize) -> String {
     }
     let _ = writeln!(
         s,
-        "input bias per operation class (eta = pZ-type / pother):"
+        "input bias per operation class (expected faults per shot; eta = Z-type / other):"
     );
     let _ = writeln!(
         s,
         "  {:<12} {:>12} {:>12} {:>10} {:>14}",
-        "class", "p Z-type", "p other", "eta in", "Z share out"
+        "class", "exp. Z-type", "exp. other", "eta in", "Z share out"
     );
     for c in &r.classes {
         let _ = writeln!(
@@ -97,7 +150,10 @@ pub fn render(r: &BiasReport, top: usize) -> String {
             "effective bias at the data per round: not reported, the circuit has no `round {{ }}` blocks"
         );
     } else {
-        let _ = writeln!(s, "effective bias at the data per round (eta = pZ / pX,Y):");
+        let _ = writeln!(
+            s,
+            "effective bias at the data per round (expected faults reaching the data; eta = Z / X,Y):"
+        );
     }
     if r.circuit_rounds > 0 && r.rounds.is_empty() {
         let _ = writeln!(s, "  no fault reaches the data inside a round");
@@ -115,7 +171,7 @@ pub fn render(r: &BiasReport, top: usize) -> String {
     }
     let _ = writeln!(
         s,
-        "high-rate faults: {} (total probability {:.4e}); reaching the data with X/Y: {:.4e}",
+        "high-rate faults: {} (expected {:.4e} per shot); reaching the data with X/Y: {:.4e}",
         r.high_faults, r.high_probability, r.converted_probability
     );
     if r.converters.is_empty() {
@@ -123,13 +179,16 @@ pub fn render(r: &BiasReport, top: usize) -> String {
     } else {
         let _ = writeln!(
             s,
-            "operations converting Z into X/Y (by converted probability):"
+            "operations converting Z into X/Y (by expected converted faults per shot):"
         );
         for c in r.converters.iter().take(top) {
             let _ = writeln!(
                 s,
-                "  {:<28} {:<24} {:.4e} ({} faults)",
-                c.location, c.what, c.probability, c.faults
+                "  {:<28} {:<24} {:.4e} ({})",
+                c.location,
+                c.what,
+                c.probability,
+                count(c.faults, "fault")
             );
         }
         if r.converters.len() > top {
@@ -138,16 +197,16 @@ pub fn render(r: &BiasReport, top: usize) -> String {
     }
     let _ = writeln!(
         s,
-        "fault-graph probability in high-rate-only mechanisms: {:.4}",
+        "fault-graph probability in high-rate-only edges: {:.4}",
         r.high_only_share
     );
     let chains = r.components.iter().filter(|c| c.chain).count();
     let _ = writeln!(
         s,
-        "high-rate fault graph: {} components, {} chains, {} hyperedges{}",
-        r.components.len(),
-        chains,
-        r.hyperedges,
+        "high-rate fault graph: {}, {}, {}{}",
+        count(r.components.len(), "component"),
+        count(chains, "chain"),
+        count(r.hyperedges, "hyperedge"),
         if r.all_chains() { " (all chains)" } else { "" }
     );
     let _ = writeln!(s, "verdict: {}", r.verdict());

@@ -4,11 +4,10 @@ use std::collections::BTreeMap;
 
 use serde::Serialize;
 
+use crate::base::{Diagnostic, Severity};
 use crate::cli::common::CircuitArgs;
 use crate::cli::CliError;
 use crate::ir::{Circuit, OpKind};
-use crate::lang::diagnostic::Severity;
-use crate::lang::Diagnostic;
 
 /// Arguments of `slant check`.
 #[derive(Debug, clap::Args)]
@@ -128,8 +127,9 @@ impl Summary {
         }
         out += &format!("  qubits        {} ({})\n", self.qubits, list(&self.roles));
         out += &format!(
-            "  layers        {} in {} round(s)\n",
-            self.layers, self.rounds
+            "  layers        {} in {}\n",
+            self.layers,
+            crate::base::count(self.rounds as usize, "round")
         );
         out += &format!("  operations    {}\n", list(&self.operations));
         out += &format!("  measurements  {}\n", self.measurements);
@@ -146,8 +146,8 @@ impl Summary {
 
 /// Runs `slant check`.
 pub fn run(args: Args) -> Result<(), CliError> {
-    let circuit = match args.circuit.load() {
-        Ok(c) => c,
+    let pipeline = match args.circuit.load() {
+        Ok(p) => p,
         Err(diags) => {
             if args.json {
                 // Machines get the refusal on stdout too; people still read stderr.
@@ -164,7 +164,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
             return Err(CliError::Rejected(diags));
         }
     };
-    let summary = Summary::of(&circuit);
+    let summary = Summary::of(pipeline.circuit());
     if args.json {
         let mut v =
             serde_json::to_value(&summary).map_err(|e| CliError::Internal(e.to_string()))?;

@@ -3,8 +3,9 @@
 use std::path::PathBuf;
 use std::sync::Arc;
 
-use crate::ir::Circuit;
-use crate::lang::{Diagnostic, Source};
+use crate::base::{Diagnostic, Source};
+use crate::ir::Limits;
+use crate::study::Pipeline;
 
 /// A circuit file and its parameter overrides.
 #[derive(Debug, clap::Args)]
@@ -17,18 +18,26 @@ pub struct CircuitArgs {
     /// Refuse circuits that expand to more items, or whose loops take more steps. Items are
     /// weighted by memory: a qubit 4, an operation 2 plus 1 per target, a result 2, a detector
     /// or observable 3 plus 1 per term, a layer, coordinate or role 1.
-    #[arg(long, value_name = "N", default_value_t = crate::ir::expand::Limits::default().max_items)]
+    #[arg(long, value_name = "N", default_value_t = Limits::default().max_items)]
     pub max_items: u64,
 }
 
 impl CircuitArgs {
-    /// Reads, parses, expands and checks the circuit.
-    pub fn load(&self) -> Result<Circuit, Vec<Diagnostic>> {
+    /// Reads, parses, expands and checks the circuit: a pipeline without `--noise` yet.
+    pub fn load(&self) -> Result<Pipeline, Vec<Diagnostic>> {
         let source = read_source(&self.file).map_err(|d| vec![d])?;
-        let limits = crate::ir::expand::Limits {
+        let limits = Limits {
             max_items: self.max_items,
         };
-        crate::load_source_with(&source, &self.set, &limits)
+        Pipeline::load(&source, &self.set, &limits)
+    }
+
+    /// [`CircuitArgs::load`] with the noise of `noise` written in (`None`: as the file writes
+    /// it). The noise model's warnings are printed on standard error at once.
+    pub fn load_noisy(&self, noise: Option<&str>) -> Result<Pipeline, Vec<Diagnostic>> {
+        let pipeline = self.load()?.noised(noise)?;
+        print_warnings(pipeline.warnings());
+        Ok(pipeline)
     }
 }
 
@@ -43,13 +52,10 @@ pub struct NoiseArgs {
     pub noise: Option<String>,
 }
 
-impl NoiseArgs {
-    /// Returns the circuit with the requested noise written in (unchanged without `--noise`).
-    pub fn apply(&self, circuit: Circuit) -> Result<Circuit, Vec<Diagnostic>> {
-        let Some(text) = &self.noise else {
-            return Ok(circuit);
-        };
-        crate::cli::compile::compile_spec(&circuit, text).map(|(noisy, _)| noisy)
+/// Prints warnings (e.g. a noise model's) on standard error.
+pub fn print_warnings(warnings: &[Diagnostic]) {
+    for w in warnings {
+        eprint!("{}", w.render());
     }
 }
 
@@ -95,5 +101,5 @@ pub fn read_source(path: &std::path::Path) -> Result<Arc<Source>, Diagnostic> {
     } else {
         std::fs::read(path).map_err(|e| Diagnostic::bare(format!("cannot read `{name}`: {e}")))?
     };
-    crate::lang::source_from_bytes(name, bytes)
+    crate::base::source_from_bytes(name, bytes)
 }

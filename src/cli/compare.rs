@@ -5,12 +5,12 @@
 //! fixed `--with` options, so every `slant new` option can be varied and is validated the same
 //! way.
 //!
-//! With `--p LIST` every variant is also sampled and decoded ([`crate::decode::run`]) at each
+//! With `--p LIST` every variant is also sampled and decoded ([`crate::study::rates`]) at each
 //! physical error rate: the `p=` of the `--noise` preset text is replaced by each value (other
 //! keys, including an explicit `q=`, stay as written). A model file has many rates of its own and
 //! no single `p` to replace, so `--p` with a `.toml` model is refused. The distances and the bias
 //! columns always use `--noise` as written. `--plot FILE.svg|FILE.png` draws the per-round rates against
-//! `p`, one curve per variant ([`crate::decode::plot`]).
+//! `p`, one curve per variant ([`crate::study::render_for`]).
 
 use std::fmt::Write as _;
 use std::path::PathBuf;
@@ -18,30 +18,47 @@ use std::path::PathBuf;
 use clap::Parser;
 use serde_json::json;
 
-use crate::analysis::compare::{self, Column, RatePoint, Row};
-use crate::analysis::distance::{Count, DistanceOptions, Unproven};
-use crate::cli::common::{parse_setting, read_source, NoiseArgs};
-use crate::cli::output::write_atomic;
+use crate::analysis::{Count, DistanceOptions, Unproven};
+use crate::base::{write_atomic, Diagnostic, Source};
+use crate::cli::common::{parse_setting, print_warnings, read_source, NoiseArgs};
 use crate::cli::{distance::count_text, new, CliError};
-use crate::decode::plot::{Curve, Panel};
-use crate::decode::run::{Experiment, RunOptions};
-use crate::decode::stats::{Estimate, Z95};
 use crate::decode::DecoderKind;
 use crate::faults::ExtractOptions;
-use crate::lang::{Diagnostic, Source};
+use crate::ir::Limits;
 use crate::noise::NoiseSpec;
+use crate::study::{self, at_p, Column, Curve, Estimate, Panel, Pipeline, Row, RunOptions};
+
+/// The legend of the table's columns, printed under the table and in `--help`.
+macro_rules! legend {
+    () => {
+        "qubits, layers = circuit size (layers = time steps); duration = total gate, measurement and \
+reset time under the model, in its `time_unit` (- when the model gives no durations); \
+detectors; edges = fault-graph edges, hyperedges included; hyper = share of edges with more than \
+two detectors; hyper-after = share left unsplit for matching; distance = fewest edges forming an \
+undetected logical error; high-rate = the same with high-rate (Z-type) edges only (none = no such \
+logical error exists); low-rate = low-rate edges / all edges of the logical error with the \
+fewest low-rate ones; weighted = least total weight ln((1-p)/p) of a logical error; bias = \
+kept if no high-rate fault reaches the data as X or Y, else lost; data-eta = expected Z / \
+expected X,Y faults reaching the data; * = best in column"
+    };
+}
 
 /// Arguments of `slant compare`.
 #[derive(Debug, clap::Args)]
-#[command(
-    after_help = "Examples:\n  slant compare a.slant b.slant --noise 'circuit p=0.001'\n  \
+#[command(after_help = concat!(
+    "Examples:\n  slant compare a.slant b.slant --noise 'circuit p=0.001'\n  \
 slant compare --family surface --with distance=5 --vary order=hook-safe,hook-aligned \
 --noise 'circuit p=0.001' --p 0.002,0.004 --plot orders.svg\n  slant compare --family xzzx \
 --with distance=3 --vary entangler=native,cx --noise 'circuit p=0.001 bias=100 \
-cx=bias-preserving' --csv\n\
+cx=bias-preserving' --csv\n\n\
 A `*` marks the best value of a column when the rows differ; a logical error rate is marked only \
-when its 95% interval lies below every other row's. Rates are per round: 1 - (1 - p_shot)^(1/R)."
-)]
+when its 95% interval lies below every other row's. Rates are per round: 1 - (1 - p_shot)^(1/R), \
+with failures/shots the shots whose decoded observables were wrong.\n\nColumns: ",
+    legend!(),
+    "\n\nWith `--family`, locations name each variant's circuit by the `slant new` command that \
+writes it, e.g. `<slant new xzzx --distance 3 --entangler cx>:126:25`, so the file can be \
+reproduced. JSON (`--json`): format `slant-compare`, version 2."
+))]
 pub struct Args {
     /// Circuit files to compare.
     #[arg(conflicts_with = "family")]
@@ -84,9 +101,9 @@ pub struct Args {
     #[arg(long, value_name = "N", default_value_t = 10_000,
           value_parser = clap::value_parser!(u64).range(1..))]
     pub shots: u64,
-    /// Stop a point once this many logical errors have been seen.
+    /// Stop a point once this many shots have failed.
     #[arg(long, value_name = "K", value_parser = clap::value_parser!(u64).range(1..))]
-    pub max_errors: Option<u64>,
+    pub until_failures: Option<u64>,
     /// Decoder: `mwpm` or `uf`.
     #[arg(long, value_name = "D", default_value = "mwpm", value_parser = |s: &str| s.parse::<DecoderKind>())]
     pub decoder: DecoderKind,
@@ -113,8 +130,8 @@ fn option_args(kv: &str) -> Vec<String> {
     }
 }
 
-/// The named circuits to compare, loaded and checked.
-fn sources(args: &Args) -> Result<Vec<(String, crate::ir::Circuit)>, CliError> {
+/// The named circuits to compare, loaded and checked (without `--noise` yet).
+fn sources(args: &Args) -> Result<Vec<(String, Pipeline)>, CliError> {
     let mut out = Vec::new();
     if let Some(family) = &args.family {
         let vary = args.vary.as_deref().unwrap_or_default();
@@ -146,8 +163,13 @@ fn sources(args: &Args) -> Result<Vec<(String, crate::ir::Circuit)>, CliError> {
             let text = crate::gen::generate(&spec)
                 .map_err(|e| Diagnostic::bare(format!("variant `{key}={v}`: {e}")))?;
             let name = format!("{key}={v}");
-            let circuit = crate::load_source(&Source::new(name.clone(), text), &[])?;
-            out.push((name, circuit));
+            // Locations name the circuit by the command that writes it, so a user can
+            // reproduce the file a location points into.
+            let command = spec
+                .command_line()
+                .map_err(|e| Diagnostic::bare(format!("variant `{key}={v}`: {e}")))?;
+            let source = Source::new(format!("<{command}>"), text);
+            out.push((name, Pipeline::load(&source, &[], &Limits::default())?));
         }
     } else {
         if args.files.is_empty() {
@@ -157,80 +179,9 @@ fn sources(args: &Args) -> Result<Vec<(String, crate::ir::Circuit)>, CliError> {
         }
         for f in &args.files {
             let source = read_source(f)?;
-            let circuit = crate::load_source(&source, &args.set)?;
-            out.push((f.display().to_string(), circuit));
+            let pipeline = Pipeline::load(&source, &args.set, &Limits::default())?;
+            out.push((f.display().to_string(), pipeline));
         }
-    }
-    Ok(out)
-}
-
-/// The `--noise` text with its `p=` replaced by `p`. Refused for model files, which have no single
-/// `p`, and for texts without a `p=` key.
-fn at_p(text: &str, p: f64) -> Result<String, Diagnostic> {
-    if text.trim().ends_with(".toml") {
-        return Err(Diagnostic::bare(format!(
-            "`--p` re-runs a preset at each physical error rate, but `{}` is a model file with \
-             rates of its own",
-            text.trim()
-        ))
-        .with_hint(
-            "compare under the model without `--p`, or write one model file per rate and run \
-             `slant estimate` on each",
-        ));
-    }
-    let mut found = false;
-    let out: Vec<String> = text
-        .split_whitespace()
-        .map(|t| {
-            if t.starts_with("p=") {
-                found = true;
-                format!("p={p}")
-            } else {
-                t.to_string()
-            }
-        })
-        .collect();
-    if !found {
-        return Err(Diagnostic::bare(format!(
-            "`--p` replaces the `p=` of the noise preset, but `{text}` has none"
-        )));
-    }
-    Ok(out.join(" "))
-}
-
-/// Samples and decodes `circuit` under the `--noise` text at every `--p`.
-fn rates(
-    args: &Args,
-    text: &str,
-    circuit: &crate::ir::Circuit,
-) -> Result<Vec<RatePoint>, CliError> {
-    let mut out = Vec::new();
-    for &p in &args.p {
-        let spec = NoiseSpec::parse(&at_p(text, p)?)?;
-        let noisy = crate::noise::apply(circuit, &spec)?;
-        let exp = Experiment::new(&noisy, args.decoder).map_err(|e| {
-            CliError::Internal(format!(
-                "the extracted matching graph is not decodable: {e}"
-            ))
-        })?;
-        let counts = exp.run(
-            &RunOptions {
-                shots: args.shots,
-                max_errors: args.max_errors,
-                seed: args.seed,
-            },
-            |_| {},
-        );
-        let e = Estimate::wilson(counts.errors, counts.shots, Z95).per_round(exp.rounds);
-        out.push(RatePoint {
-            p,
-            shots: counts.shots,
-            errors: counts.errors,
-            rounds: exp.rounds,
-            rate: e.rate,
-            low: e.low,
-            high: e.high,
-        });
     }
     Ok(out)
 }
@@ -267,19 +218,28 @@ pub fn run(args: Args) -> Result<(), CliError> {
         }
         None => None,
     };
+    let run = RunOptions {
+        shots: args.shots,
+        until_failures: args.until_failures,
+        seed: args.seed,
+    };
     let mut rows = Vec::new();
     for (name, circuit) in sources(&args)? {
-        if !args.p.is_empty() && circuit.observables.is_empty() {
+        if !args.p.is_empty() && circuit.circuit().observables.is_empty() {
             return Err(Diagnostic::bare(format!(
                 "`{name}` declares no observable, so there is no logical error rate to estimate"
             ))
             .into());
         }
-        let noisy = compare::with_noise(circuit.clone(), spec.as_ref())?;
-        let mut row = compare::evaluate(name, &noisy, &extract, &DistanceOptions::default())
+        let noisy = match &spec {
+            Some(spec) => circuit.noised_spec(spec)?,
+            None => circuit.clone(),
+        };
+        print_warnings(noisy.warnings());
+        let mut row = study::evaluate(name, &noisy, &extract, &DistanceOptions::default())
             .map_err(CliError::Internal)?;
         if let Some(text) = &args.noise.noise {
-            row.rates = rates(&args, text, &circuit)?;
+            row.rates = study::rates(&circuit, text, &args.p, args.decoder, &run)?;
         }
         rows.push(row);
     }
@@ -312,15 +272,19 @@ pub fn run(args: Args) -> Result<(), CliError> {
                 .collect(),
             marker: None,
         };
-        let bytes = crate::decode::plot::render_for(path, &[panel]).map_err(CliError::Internal)?;
+        let bytes = study::render_for(path, &[panel]).map_err(CliError::Internal)?;
         write_atomic(path, &bytes)?;
     }
+    let unit = match &spec {
+        Some(NoiseSpec::Model(m)) => m.time_unit,
+        _ => None,
+    };
     let text = if args.json {
-        json_text(&rows)?
+        json_text(&rows, unit)?
     } else if args.csv {
         csv_text(&rows)
     } else {
-        table_text(&rows)
+        table_text(&rows, unit)
     };
     print!("{text}");
     if let Some(path) = &args.plot {
@@ -335,7 +299,7 @@ const HEADERS: [&str; 14] = [
     "layers",
     "duration",
     "detectors",
-    "mechanisms",
+    "edges",
     "hyper",
     "hyper-after",
     "distance",
@@ -350,7 +314,7 @@ fn eta_text(x: Option<f64>) -> String {
     match x {
         None => "-".into(),
         Some(x) if x.is_infinite() => "inf".into(),
-        Some(x) => format!("{}", compare::significant(x, 2)),
+        Some(x) => format!("{}", study::significant(x, 2)),
     }
 }
 
@@ -373,11 +337,11 @@ fn cells(r: &Row) -> Vec<String> {
         r.layers.to_string(),
         // Sums of decimal durations leave binary rounding residue; six figures is plenty.
         r.duration
-            .map_or("-".into(), |d| format!("{}", compare::significant(d, 6))),
+            .map_or("-".into(), |d| format!("{}", study::significant(d, 6))),
         r.detectors.to_string(),
-        r.mechanisms.to_string(),
+        r.edges.to_string(),
         format!("{:.1}%", 100.0 * r.hyperedge_share),
-        format!("{:.1}%", 100.0 * r.undecomposed_share),
+        format!("{:.1}%", 100.0 * r.unsplit_share),
         count_text(r.report.distance.as_ref(), r.report.unresolved.distance),
         count_text(r.report.high_rate.as_ref(), r.report.unresolved.high_rate),
         low,
@@ -393,7 +357,7 @@ fn cell_index(c: Column) -> Option<usize> {
         Column::Qubits => 1,
         Column::Layers => 2,
         Column::Duration => 3,
-        Column::Undecomposed => 7,
+        Column::Unsplit => 7,
         Column::Distance => 8,
         Column::HighRate => 9,
         Column::LowRate => 10,
@@ -442,11 +406,34 @@ fn aligned(header: &[String], grid: &[Vec<String>]) -> String {
     s
 }
 
-fn table_text(rows: &[Row]) -> String {
-    let header: Vec<String> = HEADERS.iter().map(|s| s.to_string()).collect();
+/// The legend, its `; `-separated items packed into lines of at most 100 characters.
+fn legend_lines() -> String {
+    let mut out = String::new();
+    let mut line = String::new();
+    for item in legend!().split("; ") {
+        if !line.is_empty() && line.len() + 2 + item.len() > 100 {
+            out.push_str(&line);
+            out.push_str(";\n");
+            line.clear();
+        }
+        if !line.is_empty() {
+            line.push_str("; ");
+        }
+        line.push_str(item);
+    }
+    out.push_str(&line);
+    out.push('\n');
+    out
+}
+
+fn table_text(rows: &[Row], unit: Option<&str>) -> String {
+    let mut header: Vec<String> = HEADERS.iter().map(|s| s.to_string()).collect();
+    if let Some(u) = unit {
+        header[3] = format!("duration ({u})");
+    }
     let mut grid: Vec<Vec<String>> = rows.iter().map(cells).collect();
     for c in Column::FIXED {
-        let marks = compare::best(rows, c);
+        let marks = study::best(rows, c);
         let Some(k) = cell_index(c) else { continue };
         for (row, m) in grid.iter_mut().zip(marks) {
             if m {
@@ -455,16 +442,13 @@ fn table_text(rows: &[Row]) -> String {
         }
     }
     let mut s = aligned(&header, &grid);
-    s.push_str(
-        "low-rate = low-rate mechanisms / total in the logical error with the fewest low-rate \
-         ones; data-eta = pZ / pX,Y reaching the data; * = best in column\n",
-    );
+    s.push_str(&legend_lines());
     if rows
         .iter()
         .any(|r| r.report.unresolved != Default::default())
     {
         s.push_str(
-            "> k = no logical error of at most k mechanisms (larger ones not searched); \
+            "> k = no logical error of at most k edges (larger ones not searched); \
              ? = the search could not decide (see `slant distance`)\n",
         );
     }
@@ -482,20 +466,20 @@ fn table_text(rows: &[Row]) -> String {
                     .chain(r.rates.iter().map(|x| {
                         format!(
                             "{:.2e} [{:.2e}, {:.2e}] {}/{}",
-                            x.rate, x.low, x.high, x.errors, x.shots
+                            x.rate, x.low, x.high, x.failures, x.shots
                         )
                     }))
                     .collect()
             })
             .collect();
         for i in 0..n {
-            for (row, m) in grid.iter_mut().zip(compare::best(rows, Column::Rate(i))) {
+            for (row, m) in grid.iter_mut().zip(study::best(rows, Column::Rate(i))) {
                 if m {
                     row[i + 1].push('*');
                 }
             }
         }
-        s.push_str("\nlogical error rate per round [95% Wilson interval] errors/shots:\n");
+        s.push_str("\nlogical error rate per round [95% Wilson interval] failures/shots:\n");
         s.push_str(&aligned(&header, &grid));
     }
     s
@@ -503,14 +487,14 @@ fn table_text(rows: &[Row]) -> String {
 
 fn csv_text(rows: &[Row]) -> String {
     let mut s = String::from(
-        "circuit,qubits,layers,detectors,mechanisms,hyperedge_share,hyperedge_share_after,\
+        "circuit,qubits,layers,detectors,edges,hyperedge_share,hyperedge_share_after,\
          distance,distance_lower,high_rate_distance,low_rate_count,low_rate_total,weighted,\
          duration,bias_kept,bias_verdict,data_eta",
     );
     if let Some(r) = rows.first() {
         for x in &r.rates {
             let p = x.p;
-            let _ = write!(s, ",rate_p{p},low_p{p},high_p{p},errors_p{p},shots_p{p}");
+            let _ = write!(s, ",rate_p{p},low_p{p},high_p{p},failures_p{p},shots_p{p}");
         }
     }
     s.push_str(",best\n");
@@ -536,9 +520,9 @@ fn csv_text(rows: &[Row]) -> String {
             r.qubits,
             r.layers,
             r.detectors,
-            r.mechanisms,
+            r.edges,
             r.hyperedge_share,
-            r.undecomposed_share,
+            r.unsplit_share,
             opt(r.report.distance.as_ref(), r.report.unresolved.distance),
             r.report
                 .distance
@@ -566,13 +550,13 @@ fn csv_text(rows: &[Row]) -> String {
             let _ = write!(
                 s,
                 ",{},{},{},{},{}",
-                x.rate, x.low, x.high, x.errors, x.shots
+                x.rate, x.low, x.high, x.failures, x.shots
             );
         }
         // The columns where this row holds the best value, as the table's `*` marks them.
         let best: Vec<String> = columns
             .iter()
-            .filter(|&&c| compare::best(rows, c)[i])
+            .filter(|&&c| study::best(rows, c)[i])
             .map(|&c| column_name(rows, c))
             .collect();
         let _ = writeln!(s, ",{}", best.join(";"));
@@ -580,7 +564,10 @@ fn csv_text(rows: &[Row]) -> String {
     s
 }
 
-fn json_text(rows: &[Row]) -> Result<String, CliError> {
+/// Version of the `--json` document (version 1 was a bare array and used earlier key names).
+const JSON_VERSION: u32 = 2;
+
+fn json_text(rows: &[Row], unit: Option<&str>) -> Result<String, CliError> {
     let count = |c: Option<&Count>, u: Option<Unproven>| match (c, u) {
         (Some(c), _) => json!({"value": c.value, "lower": c.lower, "method": c.method.name()}),
         (None, Some(u)) => json!({"value": null, "unproven": u.describe()}),
@@ -593,7 +580,7 @@ fn json_text(rows: &[Row]) -> Result<String, CliError> {
         .map(|(i, r)| {
             let best: Vec<String> = columns
                 .iter()
-                .filter(|&&c| compare::best(rows, c)[i])
+                .filter(|&&c| study::best(rows, c)[i])
                 .map(|&c| column_name(rows, c))
                 .collect();
             // JSON has no infinity: an infinite data bias is written as the string "inf".
@@ -610,9 +597,9 @@ fn json_text(rows: &[Row]) -> Result<String, CliError> {
                 "layers": r.layers,
                 "duration": r.duration,
                 "detectors": r.detectors,
-                "mechanisms": r.mechanisms,
+                "edges": r.edges,
                 "hyperedge_share": r.hyperedge_share,
-                "hyperedge_share_after": r.undecomposed_share,
+                "hyperedge_share_after": r.unsplit_share,
                 "distance": count(r.report.distance.as_ref(), r.report.unresolved.distance),
                 "high_rate_distance": count(
                     r.report.high_rate.as_ref(),
@@ -626,7 +613,7 @@ fn json_text(rows: &[Row]) -> Result<String, CliError> {
                 "rates": r.rates.iter().map(|x| json!({
                     "p": x.p,
                     "shots": x.shots,
-                    "errors": x.errors,
+                    "failures": x.failures,
                     "rounds": x.rounds,
                     "per_round": {"rate": x.rate, "low": x.low, "high": x.high},
                     "confidence": 0.95,
@@ -635,8 +622,14 @@ fn json_text(rows: &[Row]) -> Result<String, CliError> {
             })
         })
         .collect();
+    let doc = json!({
+        "format": "slant-compare",
+        "version": JSON_VERSION,
+        "time_unit": unit,
+        "rows": list,
+    });
     let mut s =
-        serde_json::to_string_pretty(&list).map_err(|e| CliError::Internal(e.to_string()))?;
+        serde_json::to_string_pretty(&doc).map_err(|e| CliError::Internal(e.to_string()))?;
     s.push('\n');
     Ok(s)
 }

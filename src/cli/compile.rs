@@ -2,12 +2,10 @@
 
 use std::path::PathBuf;
 
+use crate::base::write_atomic;
 use crate::cli::common::CircuitArgs;
-use crate::cli::{output, CliError};
-use crate::ir::Circuit;
-use crate::lang::Diagnostic;
-use crate::noise::compile::Note;
-use crate::noise::NoiseSpec;
+use crate::cli::CliError;
+use crate::noise::to_text;
 
 /// Arguments of `slant compile`.
 #[derive(Debug, clap::Args)]
@@ -24,24 +22,10 @@ pub struct Args {
     pub output: Option<PathBuf>,
 }
 
-/// Writes the noise of `spec` into `circuit`, with the notes saying what produced each
-/// inserted channel; the model's warnings go to standard error.
-pub fn compile_spec(
-    circuit: &Circuit,
-    text: &str,
-) -> Result<(Circuit, Vec<Note>), Vec<Diagnostic>> {
-    let spec = NoiseSpec::parse(text).map_err(|d| vec![d])?;
-    let compiled = crate::noise::apply_noted(circuit, &spec)?;
-    for w in &compiled.warnings {
-        eprint!("{}", w.render());
-    }
-    Ok((compiled.circuit, compiled.notes))
-}
-
 /// Runs `slant compile`.
 pub fn run(args: Args) -> Result<(), CliError> {
-    let circuit = args.circuit.load()?;
-    let (noisy, notes) = compile_spec(&circuit, &args.noise)?;
+    let pipeline = args.circuit.load_noisy(Some(&args.noise))?;
+    let circuit = pipeline.circuit();
     let header = vec![
         format!(
             "compiled by slant from `{}` with --noise `{}`",
@@ -50,9 +34,9 @@ pub fn run(args: Args) -> Result<(), CliError> {
         ),
         "every noise channel is explicit; comments say what produced each one".to_string(),
     ];
-    let text = crate::noise::compile::to_text(&noisy, &notes, &header);
+    let text = to_text(pipeline.noisy(), pipeline.notes(), &header);
     match args.output.as_deref() {
-        Some(p) if p.as_os_str() != "-" => output::write_atomic(p, text.as_bytes())?,
+        Some(p) if p.as_os_str() != "-" => write_atomic(p, text.as_bytes())?,
         _ => print!("{text}"),
     }
     Ok(())

@@ -5,9 +5,8 @@ use std::fmt::Write as _;
 
 use serde_json::{json, Value};
 
-use crate::analysis::distance::{
-    self, Count, DistanceOptions, DistanceReport, LogicalError, Unproven,
-};
+use crate::analysis::{distances, Count, DistanceOptions, DistanceReport, LogicalError, Unproven};
+use crate::base::count as plural_count;
 use crate::cli::common::{CircuitArgs, NoiseArgs};
 use crate::cli::CliError;
 use crate::faults::{ExtractOptions, FaultGraph};
@@ -15,13 +14,19 @@ use crate::ir::Circuit;
 
 /// Arguments of `slant distance`.
 #[derive(Debug, clap::Args)]
-#[command(
-    after_help = "A mechanism counts as high-rate when a high-rate fault (pure Z at \
-injection, or a measurement flip with --high-rate-flips) alone produces it. `none` means no \
-undetected logical error of that kind exists (proven); `> k` means none with at most k \
-mechanisms exists and larger ones were not searched; `unknown` means the search could not \
-decide (the report says why)."
-)]
+#[command(after_help = "Lines of the report:\n  \
+distance            fewest fault-graph edges whose detectors cancel and that flip an observable \
+(an undetected logical error), with the method that found it\n  \
+high-rate distance  the same using only edges a high-rate fault (pure Z at injection, or a \
+measurement flip with --high-rate-flips) alone produces\n  \
+low-rate count      fewest low-rate edges any logical error needs, and the size of that error\n  \
+weighted distance   least total weight ln((1-p)/p) of a logical error (its probability product)\n\
+Each logical error found is listed edge by edge (e.g. `edge 4`, or `hyperedge 9` for more than \
+two detectors) with the circuit faults behind it.\n\n\
+`none` means no undetected logical error of that kind exists (proven); `> k` means none with at \
+most k edges exists and larger ones were not searched; `unknown` means the search could not \
+decide (the report says why). `≤ a (≥ b)` gives bounds when the search could not close the \
+gap.\n\nJSON (`--json`): format `slant-distance`, version 2.")]
 pub struct Args {
     /// The circuit.
     #[command(flatten)]
@@ -39,21 +44,20 @@ pub struct Args {
 
 /// Runs `slant distance`.
 pub fn run(args: Args) -> Result<(), CliError> {
-    let circuit = args.circuit.load()?;
-    let circuit = args.noise.apply(circuit)?;
+    let pipeline = args.circuit.load_noisy(args.noise.noise.as_deref())?;
+    let circuit = pipeline.noisy();
     let opts = ExtractOptions {
         high_rate_flips: args.high_rate_flips,
     };
-    let graph = crate::faults::extract(&circuit, &opts);
-    let report =
-        distance::distances(&graph, &DistanceOptions::default()).map_err(CliError::Internal)?;
+    let graph = pipeline.graph(&opts);
+    let report = distances(&graph, &DistanceOptions::default()).map_err(CliError::Internal)?;
     let text = if args.json {
-        let mut s = serde_json::to_string_pretty(&to_json(&report, &graph, &circuit))
+        let mut s = serde_json::to_string_pretty(&to_json(&report, &graph, circuit))
             .map_err(|e| CliError::Internal(e.to_string()))?;
         s.push('\n');
         s
     } else {
-        render(&report, &graph, &circuit)
+        render(&report, &graph, circuit)
     };
     print!("{text}");
     Ok(())
@@ -100,8 +104,9 @@ pub fn render(r: &DistanceReport, graph: &FaultGraph, circuit: &Circuit) -> Stri
         Some(l) => {
             let _ = writeln!(
                 s,
-                "low-rate count       {} (in a logical error of {} mechanisms)",
-                l.low, l.total
+                "low-rate count       {} (in a logical error of {})",
+                l.low,
+                plural_count(l.total as usize, "edge")
             );
         }
         None => {
@@ -116,10 +121,10 @@ pub fn render(r: &DistanceReport, graph: &FaultGraph, circuit: &Circuit) -> Stri
         Some(w) => {
             let _ = writeln!(
                 s,
-                "weighted distance    {:.3} (probability product {:.3e}, {} mechanisms)",
+                "weighted distance    {:.3} (probability product {:.3e}, {})",
                 w.weight,
                 w.probability,
-                w.error.mechanisms.len()
+                plural_count(w.error.edges.len(), "edge")
             );
         }
         None => {
@@ -133,9 +138,8 @@ pub fn render(r: &DistanceReport, graph: &FaultGraph, circuit: &Circuit) -> Stri
     if r.hyperedges > 0 {
         let _ = writeln!(
             s,
-            "note: {} hyperedges; the low-rate count and weighted distance use graphlike \
-             mechanisms only",
-            r.hyperedges
+            "note: {}; the low-rate count and weighted distance use matchable edges only",
+            plural_count(r.hyperedges, "hyperedge")
         );
     }
     if graph.observables.is_empty() {
@@ -166,12 +170,12 @@ fn write_error(s: &mut String, name: &str, e: &LogicalError, g: &FaultGraph, c: 
         .collect();
     let _ = writeln!(
         s,
-        "{name} logical error: {} mechanisms, flips {}",
-        e.mechanisms.len(),
+        "{name} logical error: {}, flips {}",
+        plural_count(e.edges.len(), "edge"),
         obs.join(", ")
     );
-    for &m in &e.mechanisms {
-        let mech = &g.mechanisms[m as usize];
+    for &m in &e.edges {
+        let mech = &g.edges[m as usize];
         let dets: Vec<String> = mech
             .detectors
             .iter()
@@ -179,7 +183,12 @@ fn write_error(s: &mut String, name: &str, e: &LogicalError, g: &FaultGraph, c: 
             .collect();
         let _ = writeln!(
             s,
-            "  mechanism {m}  p={:.3e}  {}  detectors [{}]",
+            "  {} {m}  p={:.3e}  {}  detectors [{}]",
+            if mech.detectors.len() > 2 {
+                "hyperedge"
+            } else {
+                "edge"
+            },
             mech.probability,
             mech.classes.name(),
             dets.join(" ")
@@ -204,7 +213,13 @@ fn write_error(s: &mut String, name: &str, e: &LogicalError, g: &FaultGraph, c: 
             );
         }
         if all.len() > SHOWN {
-            let _ = writeln!(s, "    … and {} more contributors", all.len() - SHOWN);
+            let more = all.len() - SHOWN;
+            let noun = if more == 1 {
+                "contributor"
+            } else {
+                "contributors"
+            };
+            let _ = writeln!(s, "    … and {more} more {noun}");
         }
     }
 }
@@ -238,10 +253,10 @@ fn count_json(c: Option<&Count>, g: &FaultGraph, circuit: &Circuit) -> Value {
 
 fn error_json(e: &LogicalError, g: &FaultGraph, c: &Circuit) -> Value {
     let mechs: Vec<Value> = e
-        .mechanisms
+        .edges
         .iter()
         .map(|&m| {
-            let mech = &g.mechanisms[m as usize];
+            let mech = &g.edges[m as usize];
             let contributors: Vec<Value> = g
                 .contributors(m as usize)
                 .iter()
@@ -269,13 +284,16 @@ fn error_json(e: &LogicalError, g: &FaultGraph, c: &Circuit) -> Value {
     json!({
         "observables": e.observables.iter().map(|&o| g.observables[o as usize].clone())
             .collect::<Vec<_>>(),
-        "mechanisms": mechs,
+        "edges": mechs,
     })
 }
 
 /// The report as JSON.
 pub fn to_json(r: &DistanceReport, g: &FaultGraph, c: &Circuit) -> Value {
     json!({
+        "format": "slant-distance",
+        // Version 1 had no `format` or `version` and used an earlier name for an error.s edges.
+        "version": 2,
         "distance": count_json(r.distance.as_ref(), g, c),
         "high_rate_distance": count_json(r.high_rate.as_ref(), g, c),
         "lexicographic": r.lexicographic.as_ref().map(|l| json!({

@@ -1,19 +1,17 @@
 //! `slant estimate`: logical error rate of a noisy circuit by sampling and decoding.
 //!
 //! Loads the circuit, writes `--noise` into it, extracts its fault graph, builds the decoder and
-//! runs [`crate::decode::run`]: shots in batches on the rayon pool, stopping early after
-//! `--max-errors` failures. Reports the rate per shot and per round with 95% Wilson intervals
-//! ([`crate::decode::stats`]), as text or as one JSON object (`--json`). A progress bar appears on
-//! stderr only when stderr is a terminal.
+//! runs the Monte Carlo loop ([`crate::study::run`]): shots in batches on the rayon pool,
+//! stopping early after `--until-failures` failures. Reports the rate per shot and per round with 95%
+//! Wilson intervals ([`crate::study::Estimate`]), as text or as one JSON object (`--json`). A
+//! progress bar appears on stderr only when stderr is a terminal.
 
-use std::io::IsTerminal;
-
+use crate::base::{count, Diagnostic};
 use crate::cli::common::{CircuitArgs, NoiseArgs};
+use crate::cli::progress::Progress;
 use crate::cli::CliError;
-use crate::decode::run::{Counts, Experiment, RunOptions};
-use crate::decode::stats::{Estimate, Z95};
 use crate::decode::DecoderKind;
-use crate::lang::Diagnostic;
+use crate::study::{Counts, Estimate, RunOptions, StudyError, Z95};
 
 const AFTER_HELP: &str = "\
 A shot fails when the decoder's predicted observable flips differ from the sampled ones (or it
@@ -36,9 +34,9 @@ pub struct Args {
     /// Maximum number of shots.
     #[arg(long, value_name = "N", value_parser = clap::value_parser!(u64).range(1..))]
     pub shots: u64,
-    /// Stop once this many logical errors have been seen (checked every 4096 shots).
+    /// Stop once this many shots have failed (a logical error: predicted and sampled observable flips differ) (checked every 4096 shots).
     #[arg(long, value_name = "K", value_parser = clap::value_parser!(u64).range(1..))]
-    pub max_errors: Option<u64>,
+    pub until_failures: Option<u64>,
     /// Decoder: `mwpm` (minimum-weight perfect matching) or `uf` (union-find).
     #[arg(long, value_name = "D", default_value = "mwpm", value_parser = |s: &str| s.parse::<DecoderKind>())]
     pub decoder: DecoderKind,
@@ -53,6 +51,8 @@ pub struct Args {
 /// The machine-readable report (`--json`).
 #[derive(Debug, serde::Serialize)]
 struct Report<'a> {
+    format: &'static str,
+    version: u32,
     circuit: String,
     noise: &'a str,
     decoder: &'static str,
@@ -62,7 +62,7 @@ struct Report<'a> {
     edges: usize,
     rounds: u32,
     shots: u64,
-    errors: u64,
+    failures: u64,
     unmatched: u64,
     stopped_early: bool,
     confidence: f64,
@@ -76,36 +76,29 @@ const MODEL_NOTE: &str =
 
 /// Runs `slant estimate`.
 pub fn run(args: Args) -> Result<(), CliError> {
-    let circuit = args.circuit.load()?;
-    let circuit = args.noise.apply(circuit)?;
-    if circuit.observables.is_empty() {
+    let pipeline = args.circuit.load_noisy(args.noise.noise.as_deref())?;
+    if pipeline.noisy().observables.is_empty() {
         return Err(Diagnostic::bare(format!(
             "`{}` declares no observable, so there is no logical error to estimate",
             args.circuit.file.display()
         ))
         .into());
     }
-    let exp = Experiment::new(&circuit, args.decoder).map_err(|e| {
-        CliError::Internal(format!(
-            "the extracted matching graph is not decodable: {e}"
-        ))
-    })?;
+    let exp = pipeline
+        .experiment(args.decoder)
+        .map_err(|e| CliError::from(StudyError::Undecodable(e)))?;
     let opts = RunOptions {
         shots: args.shots,
-        max_errors: args.max_errors,
+        until_failures: args.until_failures,
         seed: args.seed,
     };
-    let bar = progress_bar(args.shots);
+    let mut progress = Progress::new(args.shots, "shots");
     let counts = exp.run(&opts, |c: Counts| {
-        if let Some(b) = &bar {
-            b.set_position(c.shots);
-            b.set_message(format!("{} errors", c.errors));
-        }
+        progress.set_message(format!("{} failures", c.failures));
+        progress.set_position(c.shots);
     });
-    if let Some(b) = bar {
-        b.finish_and_clear();
-    }
-    let per_shot = Estimate::wilson(counts.errors, counts.shots, Z95);
+    progress.finish();
+    let per_shot = Estimate::wilson(counts.failures, counts.shots, Z95);
     let per_round = per_shot.per_round(exp.rounds);
     let noise = args
         .noise
@@ -115,6 +108,9 @@ pub fn run(args: Args) -> Result<(), CliError> {
     let stopped_early = counts.shots < args.shots;
     if args.json {
         let report = Report {
+            format: "slant-estimate",
+            // Version 1 had no `format` or `version` and named `failures` `errors`.
+            version: 2,
             circuit: args.circuit.file.display().to_string(),
             noise,
             decoder: args.decoder.name(),
@@ -124,7 +120,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
             edges: exp.edges,
             rounds: exp.rounds,
             shots: counts.shots,
-            errors: counts.errors,
+            failures: counts.failures,
             unmatched: counts.unmatched,
             stopped_early,
             confidence: 0.95,
@@ -139,25 +135,25 @@ pub fn run(args: Args) -> Result<(), CliError> {
     }
     let mut out = String::new();
     out += &format!(
-        "circuit: {} ({} detectors, {} observables, {} rounds)\n",
+        "circuit: {} ({}, {}, {})\n",
         args.circuit.file.display(),
-        exp.detectors,
-        exp.observables,
-        exp.rounds
+        count(exp.detectors, "detector"),
+        count(exp.observables, "observable"),
+        count(exp.rounds as usize, "round")
     );
     out += &format!("noise: {noise}\n");
     out += &format!(
-        "decoder: {} on {} matching-graph edges\n",
+        "decoder: {} on {}\n",
         args.decoder.name(),
-        exp.edges
+        count(exp.edges, "matching-graph edge")
     );
     let s = &exp.graph_stats;
-    if !s.undecomposed.is_empty() || !s.undetectable_logical.is_empty() {
+    if !s.unsplit.is_empty() || !s.silent_logical.is_empty() {
         out += &format!(
-            "note: the matching graph leaves out {} undecomposable hyperedges and {} undetectable \
-             logical faults; the sampler still produces them\n",
-            s.undecomposed.len(),
-            s.undetectable_logical.len()
+            "note: the matching graph leaves out {} unsplit hyperedges and {} silent logical \
+             errors; the sampler still produces them\n",
+            s.unsplit.len(),
+            s.silent_logical.len()
         );
     }
     out += &format!("seed: {}\n", args.seed);
@@ -165,12 +161,12 @@ pub fn run(args: Args) -> Result<(), CliError> {
         "shots: {}{}\n",
         counts.shots,
         if stopped_early {
-            format!(" (stopped after {} logical errors)", counts.errors)
+            format!(" (stopped after {} failures)", counts.failures)
         } else {
             String::new()
         }
     );
-    out += &format!("logical errors: {}", counts.errors);
+    out += &format!("failures: {}", counts.failures);
     if counts.unmatched > 0 {
         out += &format!(
             " ({} with detection events the decoder could not pair)",
@@ -191,18 +187,4 @@ fn show(e: Estimate) -> String {
         "{:.4e}  (95% Wilson interval {:.4e} .. {:.4e})",
         e.rate, e.low, e.high
     )
-}
-
-/// A progress bar on stderr, or `None` when stderr is not a terminal.
-fn progress_bar(total: u64) -> Option<indicatif::ProgressBar> {
-    if !std::io::stderr().is_terminal() {
-        return None;
-    }
-    let bar = indicatif::ProgressBar::new(total);
-    if let Ok(style) = indicatif::ProgressStyle::with_template(
-        "{elapsed_precise} [{bar:40}] {pos}/{len} shots, {msg} (eta {eta})",
-    ) {
-        bar.set_style(style.progress_chars("=> "));
-    }
-    Some(bar)
 }

@@ -2,8 +2,8 @@
 
 use std::path::PathBuf;
 
+use crate::base::write_atomic;
 use crate::cli::common::read_source;
-use crate::cli::output::write_atomic;
 use crate::cli::CliError;
 
 /// Arguments of `slant fmt`.
@@ -39,7 +39,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
                 continue;
             }
         };
-        let text = crate::lang::print::print(&ast);
+        let text = crate::lang::print(&ast);
         // The canonical form has no byte-order mark: `--check` flags one, `--write` drops it.
         let canonical = text == source.text && !source.had_bom();
         if args.check {

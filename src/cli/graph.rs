@@ -4,12 +4,10 @@ use std::io::Write;
 use std::path::{Path, PathBuf};
 use std::time::{Duration, Instant};
 
+use crate::base::{write_atomic, write_atomic_with, Diagnostic};
 use crate::cli::common::{CircuitArgs, NoiseArgs};
-use crate::cli::{output, CliError};
-use crate::faults::export::{self, Format, View};
-use crate::faults::{ExtractOptions, FaultGraph};
-use crate::ir::Circuit;
-use crate::lang::Diagnostic;
+use crate::cli::CliError;
+use crate::faults::{render, write_one, ExtractOptions, FaultGraph, Format, View};
 
 /// Arguments of `slant graph`.
 #[derive(Debug, clap::Args)]
@@ -24,9 +22,9 @@ pub struct Args {
     #[arg(long, value_enum)]
     pub format: Format,
     /// Export the matching graph (hyperedges split, parallel edges merged) instead of every
-    /// mechanism.
+    /// edge.
     #[arg(long)]
-    pub graphlike: bool,
+    pub matching: bool,
     /// Tag measurement flips as high-rate faults.
     #[arg(long)]
     pub high_rate_flips: bool,
@@ -39,26 +37,21 @@ pub struct Args {
     pub output: Option<PathBuf>,
 }
 
-/// Loads the circuit named by `circuit` and writes in the noise of `--noise`, if given.
-pub fn load_noisy(circuit: &CircuitArgs, noise: &NoiseArgs) -> Result<Circuit, CliError> {
-    Ok(noise.apply(circuit.load()?)?)
-}
-
 /// Runs `slant graph`.
 pub fn run(args: Args) -> Result<(), CliError> {
     let clock = Instant::now();
-    let circuit = load_noisy(&args.circuit, &args.noise)?;
+    let pipeline = args.circuit.load_noisy(args.noise.noise.as_deref())?;
     let loaded = clock.elapsed();
     let opts = ExtractOptions {
         high_rate_flips: args.high_rate_flips,
     };
     let cpu_before = thread_cpu();
-    let graph = crate::faults::extract(&circuit, &opts);
+    let graph = pipeline.graph(&opts);
     let extracted = clock.elapsed();
     let extract_cpu = thread_cpu()
         .zip(cpu_before)
         .map(|(b, a)| b.saturating_sub(a));
-    let (rendered, written) = write(&graph, args.format, args.graphlike, args.output.as_deref())?;
+    let (rendered, written) = write(&graph, args.format, args.matching, args.output.as_deref())?;
     if args.timings {
         // On a shared machine wall time includes waiting for a core; the thread's own CPU
         // time is what the extractor costs.
@@ -66,12 +59,12 @@ pub fn run(args: Args) -> Result<(), CliError> {
             format!(" (cpu {:.6} s)", c.as_secs_f64())
         });
         eprintln!(
-            "timings: load {:.6} s, extract {:.6} s{cpu}, render {:.6} s, write {:.6} s; {} mechanisms, {} faults",
+            "timings: load {:.6} s, extract {:.6} s{cpu}, render {:.6} s, write {:.6} s; {} edges, {} faults",
             loaded.as_secs_f64(),
             (extracted - loaded).as_secs_f64(),
             rendered.as_secs_f64(),
             written.as_secs_f64(),
-            graph.mechanisms.len(),
+            graph.edges.len(),
             graph.provenance.len() + graph.silent.count,
         );
     }
@@ -100,14 +93,14 @@ fn thread_cpu() -> Option<Duration> {
 fn write(
     graph: &FaultGraph,
     format: Format,
-    graphlike: bool,
+    matchable: bool,
     out: Option<&Path>,
 ) -> Result<(Duration, Duration), CliError> {
     let clock = Instant::now();
     let matching;
-    let view = if graphlike {
-        matching = graph.graphlike();
-        View::Graphlike(graph, &matching.0, &matching.1)
+    let view = if matchable {
+        matching = graph.matching_graph();
+        View::Matching(graph, &matching.0, &matching.1)
     } else {
         View::Full(graph)
     };
@@ -117,17 +110,17 @@ fn write(
         // is never held in memory as one string. Render and write are then one phase.
         match out {
             Some(path) if !to_stdout => {
-                output::write_atomic_with(path, |w| export::write_one(&view, format, w).map(drop))?
+                write_atomic_with(path, |w| write_one(&view, format, w).map(drop))?
             }
             _ => {
                 let mut stdout = std::io::BufWriter::new(std::io::stdout().lock());
                 // A closed pipe (e.g. `| head`) is not an error worth reporting.
-                let _ = export::write_one(&view, format, &mut stdout).and_then(|_| stdout.flush());
+                let _ = write_one(&view, format, &mut stdout).and_then(|_| stdout.flush());
             }
         }
         return Ok((Duration::ZERO, clock.elapsed()));
     }
-    let files = export::render(&view, format);
+    let files = render(&view, format);
     let rendered = clock.elapsed();
     let dir = out.filter(|_| !to_stdout).ok_or_else(|| {
         Diagnostic::bare("`--format mtx` writes a directory: give it with `-o DIR`")
@@ -135,7 +128,7 @@ fn write(
     std::fs::create_dir_all(dir)
         .map_err(|e| Diagnostic::bare(format!("cannot create `{}`: {e}", dir.display())))?;
     for (name, bytes) in &files {
-        output::write_atomic(&dir.join(name), bytes)?;
+        write_atomic(&dir.join(name), bytes)?;
     }
     Ok((rendered, clock.elapsed() - rendered))
 }

@@ -1,15 +1,14 @@
 //! `slant merge`: combine results stores (e.g. of the shards of a sweep) into one.
 //!
 //! Rows are read from every store in the order given; a `(task, chunk)` seen before is dropped
-//! (see [`crate::decode::sweep::merge_rows`]). The output is written atomically, so it may also be
+//! (see [`crate::study::merge_rows`]). The output is written atomically, so it may also be
 //! one of the inputs.
 
 use std::path::PathBuf;
 
-use crate::cli::output::write_atomic;
+use crate::base::{write_atomic, Diagnostic};
 use crate::cli::CliError;
-use crate::decode::sweep::{merge_rows, read_store};
-use crate::lang::Diagnostic;
+use crate::study::{merge_rows, read_store};
 
 /// Arguments of `slant merge`.
 #[derive(Debug, clap::Args)]

@@ -1,7 +1,7 @@
 //! Command-line front end: argument parsing, dispatch and exit codes.
 //!
 //! Each subcommand lives in its own file with an `Args` struct and a `run` function returning
-//! [`CliError`] on failure. Only this module prints diagnostics and chooses exit codes.
+//! `CliError` on failure. Only this module prints diagnostics and chooses exit codes.
 //!
 //! Exit codes (also in `--help` and the README):
 //!
@@ -10,31 +10,32 @@
 //! | 0 | success |
 //! | 1 | input rejected: a diagnostic was printed |
 //! | 2 | usage error (bad flags) |
-//! | 3 | the answer is "no" (e.g. `fmt --check` found a file that is not canonical) |
+//! | 3 | the answer is "no" (`fmt --check` found a file that is not canonical; `bias` found the bias lost) |
 //! | 4 | internal error: a bug, please report it |
 
-pub mod bias;
-pub mod check;
-pub mod common;
-pub mod compare;
-pub mod compile;
-pub mod distance;
-pub mod estimate;
-pub mod fmt;
-pub mod graph;
-pub mod merge;
-pub mod new;
-pub mod output;
-pub mod plot;
-pub mod shots;
-pub mod sweep;
-pub mod trace;
+mod bias;
+mod check;
+mod common;
+mod compare;
+mod compile;
+mod distance;
+mod estimate;
+mod fmt;
+mod graph;
+mod merge;
+mod new;
+mod plot;
+mod progress;
+mod shots;
+mod sweep;
+mod trace;
 
 use std::io::IsTerminal;
 
 use clap::{Parser, Subcommand};
 
-use crate::lang::Diagnostic;
+use crate::base::Diagnostic;
+use crate::study::StudyError;
 
 /// Exit code: success.
 pub const EXIT_OK: i32 = 0;
@@ -48,20 +49,20 @@ pub const EXIT_NO: i32 = 3;
 pub const EXIT_INTERNAL: i32 = 4;
 
 const EXIT_TABLE: &str = "Exit codes: 0 success, 1 input rejected (a diagnostic was printed), \
-2 usage error, 3 the answer is no (e.g. `fmt --check` found changes), 4 internal error (please report).";
+2 usage error, 3 the answer is no (`fmt --check` found changes, `bias` found the bias lost), 4 internal error (please report).";
 
 /// slant: syndrome-extraction circuits under biased noise.
 #[derive(Debug, Parser)]
 #[command(name = "slant", version, about, after_help = EXIT_TABLE)]
-pub struct Cli {
+struct Cli {
     /// What to do.
     #[command(subcommand)]
-    pub command: Command,
+    command: Command,
 }
 
 /// The subcommands.
 #[derive(Debug, Subcommand)]
-pub enum Command {
+enum Command {
     /// Report where the high-rate (Z-type) faults end up: kept Z, or converted to X/Y.
     Bias(bias::Args),
     /// Parse, expand and verify a circuit; print a summary.
@@ -88,13 +89,13 @@ pub enum Command {
     Shots(shots::Args),
     /// Run a threshold sweep from a TOML spec into a resumable results store.
     Sweep(sweep::Args),
-    /// Show which circuit faults make up a fault-graph mechanism.
+    /// Show which circuit faults make up a fault-graph edge.
     Trace(trace::Args),
 }
 
 /// Why a subcommand failed.
 #[derive(Debug)]
-pub enum CliError {
+enum CliError {
     /// Input rejected with located diagnostics.
     Rejected(Vec<Diagnostic>),
     /// A yes/no command answered no; the message has been printed already.
@@ -112,6 +113,17 @@ impl From<Vec<Diagnostic>> for CliError {
 impl From<Diagnostic> for CliError {
     fn from(d: Diagnostic) -> CliError {
         CliError::Rejected(vec![d])
+    }
+}
+
+impl From<StudyError> for CliError {
+    fn from(e: StudyError) -> CliError {
+        match e {
+            StudyError::Rejected(d) => CliError::Rejected(d),
+            StudyError::Undecodable(e) => CliError::Internal(format!(
+                "the extracted matching graph is not decodable: {e}"
+            )),
+        }
     }
 }
 

@@ -5,10 +5,9 @@
 
 use std::path::PathBuf;
 
-use crate::cli::output::write_atomic;
+use crate::base::{write_atomic, Diagnostic};
 use crate::cli::CliError;
 use crate::gen::{Entangler, Family, Flip, GenSpec, LogicalBasis, Order, Style, MAX_DISTANCE};
-use crate::lang::Diagnostic;
 
 /// Arguments of `slant new`.
 #[derive(Debug, clap::Args)]

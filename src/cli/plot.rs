@@ -1,22 +1,21 @@
 //! `slant plot`: logical against physical error rate from a results store, with the threshold.
 //!
 //! Reads a store written by `slant sweep` (or `slant merge`), sums its chunks per task
-//! ([`crate::decode::sweep::aggregate`]) and draws one log-log panel per curve group (label,
+//! ([`crate::study::aggregate`]) and draws one log-log panel per curve group (label,
 //! decoder, bias): one line per distance, 95% Wilson error bars, and a dashed vertical line at
-//! the threshold estimate ([`crate::decode::threshold`]). The estimates and the scaling fit are
-//! printed on stdout. Output is SVG (drawn by [`crate::decode::plot`]), written
+//! the threshold estimate ([`crate::study::threshold`]). The estimates and the scaling fit are
+//! printed on stdout. Output is SVG (drawn by [`crate::study::render_for`]), written
 //! atomically.
 
 use std::collections::BTreeMap;
 use std::path::PathBuf;
 
-use crate::cli::output::write_atomic;
+use crate::base::{write_atomic, Diagnostic};
 use crate::cli::CliError;
-use crate::decode::plot::{Curve, Marker, Panel};
-use crate::decode::stats::{Estimate, Z95};
-use crate::decode::sweep::{aggregate, read_store, Point};
-use crate::decode::threshold::{crossings, scaling_fit, threshold};
-use crate::lang::Diagnostic;
+use crate::study::{
+    aggregate, crossings, read_store, render_for, scaling_fit, threshold, Curve, Estimate, Marker,
+    Panel, Point, Z95,
+};
 
 /// Arguments of `slant plot`.
 #[derive(Debug, clap::Args)]
@@ -29,8 +28,9 @@ pub struct Args {
     /// Plot and fit the per-round rate `1 - (1 - p_shot)^(1/R)` instead of the per-shot rate.
     #[arg(long)]
     pub per_round: bool,
-    /// Only plot curve groups whose name contains this text.
-    #[arg(long, value_name = "TEXT")]
+    /// Only plot the curve groups of this label (the sweep grid's `label`), or the one group of
+    /// this whole name as `slant plot` prints it (`LABEL (DECODER)`). Matches whole names only.
+    #[arg(long, value_name = "LABEL")]
     pub only: Option<String>,
 }
 
@@ -59,16 +59,37 @@ pub fn run(args: Args) -> Result<(), CliError> {
     let mut groups: BTreeMap<String, Vec<Point>> = BTreeMap::new();
     for mut pt in aggregate(&rows) {
         if args.per_round {
-            // Rescale the failure count so errors/shots is the per-round rate; the fits and
+            // Rescale the failure count so failures/shots is the per-round rate; the fits and
             // crossings then work on per-round rates unchanged.
-            let r = Estimate::wilson(pt.errors, pt.shots, Z95)
+            let r = Estimate::wilson(pt.failures, pt.shots, Z95)
                 .per_round(pt.rounds)
                 .rate;
-            pt.errors = (r * pt.shots as f64).round() as u64;
+            pt.failures = (r * pt.shots as f64).round() as u64;
         }
         groups.entry(pt.group()).or_default().push(pt);
     }
-    groups.retain(|g, _| args.only.as_deref().is_none_or(|o| g.contains(o)));
+    if let Some(only) = args.only.as_deref() {
+        let labels: std::collections::BTreeSet<String> = groups
+            .values()
+            .flat_map(|pts| pts.iter().map(|p| p.label.clone()))
+            .collect();
+        let all: Vec<String> = labels.iter().cloned().collect();
+        groups.retain(|g, pts| g == only || pts.iter().any(|p| p.label == only));
+        if groups.is_empty() && !all.is_empty() {
+            return Err(
+                Diagnostic::bare(format!("`--only {only}`: no label matches"))
+                    .with_hint(format!(
+                        "the labels in `{}`: {}",
+                        args.store.display(),
+                        all.iter()
+                            .map(|l| format!("`{l}`"))
+                            .collect::<Vec<_>>()
+                            .join(", ")
+                    ))
+                    .into(),
+            );
+        }
+    }
     if groups.is_empty() {
         return Err(Diagnostic::bare(format!(
             "`{}` holds no results to plot",
@@ -110,7 +131,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
     Ok(())
 }
 
-/// Draws all groups, one panel each ([`crate::decode::plot`]): one curve per distance and the
+/// Draws all groups, one panel each ([`crate::study::render_for`]): one curve per distance and the
 /// threshold estimate as a dashed marker.
 fn draw(
     groups: &BTreeMap<String, Vec<Point>>,
@@ -124,7 +145,7 @@ fn draw(
             for p in pts {
                 by_d.entry(p.distance)
                     .or_default()
-                    .push((p.p, Estimate::wilson(p.errors, p.shots, Z95)));
+                    .push((p.p, Estimate::wilson(p.failures, p.shots, Z95)));
             }
             Panel {
                 title: name.clone(),
@@ -143,5 +164,5 @@ fn draw(
             }
         })
         .collect();
-    crate::decode::plot::render_for(output, &panels).map_err(CliError::Internal)
+    render_for(output, &panels).map_err(CliError::Internal)
 }

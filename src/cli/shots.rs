@@ -1,34 +1,37 @@
 //! `slant shots`: sample detection events, observable flips and measurement results.
 //!
 //! Loads the circuit, writes `--noise` into it, runs the noiseless reference and streams batches
-//! from the Pauli-frame sampler ([`crate::sim::frame`]) to `.npy` files (or to stdout with
-//! `--format 01`). Files are filled through temporary siblings and renamed into place only when
+//! from the Pauli-frame sampler ([`crate::sim::Sampler`]) to `.npy` files (or to stdout with
+//! `--format bits`). Files are filled through temporary siblings and renamed into place only when
 //! every batch is written, so a killed run leaves no partial `.npy` behind. Memory stays bounded:
 //! a few batches per thread are held at once, whatever `--shots` is.
 
 use std::fs;
-use std::io::{BufWriter, IsTerminal, Write};
-use std::path::{Path, PathBuf};
-use std::time::{Duration, Instant};
+use std::io::{BufWriter, Write};
+use std::path::PathBuf;
+use std::time::Instant;
 
+use crate::base::{npy_header, AtomicFile, Diagnostic};
 use crate::cli::common::{CircuitArgs, NoiseArgs};
+use crate::cli::progress::Progress;
 use crate::cli::CliError;
-use crate::lang::Diagnostic;
-use crate::sim::bits::{append_shot_rows, row_bytes};
-use crate::sim::frame::{xor_baseline, Batch, BitTable, Outputs, Sampler, BATCH_SHOTS};
-use crate::sim::npy;
+use crate::ir::Circuit;
+use crate::sim::reference_run;
+use crate::sim::{
+    append_shot_rows, row_bytes, xor_baseline, Batch, BitTable, Outputs, Sampler, BATCH_SHOTS,
+};
 
 const AFTER_HELP: &str = "\
 Output (`--format npy`, the default): DIR/detectors.npy and DIR/observables.npy, NumPy .npy
 version 1.0, dtype uint8, shape (shots, count); `--measurements` adds DIR/measurements.npy
-(shape (shots, records), the raw results: 1 = eigenvalue -1). A detection event is 1 when the
+(shape (shots, results), the raw results: 1 = eigenvalue -1). A detection event is 1 when the
 detector's parity differs from its noiseless value; an observable entry is 1 when it flipped.
 
 With `--packed`, each row is packed into ceil(count/8) bytes, item k at bit k%8 of byte k/8
 (little-endian bit order): `np.unpackbits(np.load(f), axis=1, bitorder='little')[:, :count]`
 recovers the unpacked array.
 
-`--format 01` prints one shot per line to stdout instead: detector bits, a space, observable
+`--format bits` prints one shot per line to stdout instead: detector bits, a space, observable
 bits (and, with `--measurements`, a space and the measurement bits).
 
 The same `--seed` gives the same bytes for any number of threads (RAYON_NUM_THREADS).";
@@ -39,8 +42,7 @@ pub enum Format {
     /// NumPy `.npy` files in `--out`.
     Npy,
     /// One line of `0`/`1` per shot on stdout.
-    #[value(name = "01")]
-    ZeroOne,
+    Bits,
 }
 
 /// Arguments of `slant shots`.
@@ -78,19 +80,19 @@ pub struct Args {
 
 /// Runs `slant shots`.
 pub fn run(args: Args) -> Result<(), CliError> {
-    if args.packed && args.format == Format::ZeroOne {
+    if args.packed && args.format == Format::Bits {
         return Err(Diagnostic::bare(
-            "`--packed` applies to .npy output; `--format 01` writes one character per bit",
+            "`--packed` applies to .npy output; `--format bits` writes one character per bit",
         )
         .into());
     }
-    let circuit = args.circuit.load()?;
-    let circuit = args.noise.apply(circuit)?;
+    let pipeline = args.circuit.load_noisy(args.noise.noise.as_deref())?;
+    let circuit = pipeline.noisy();
     if args.bench {
-        bench(&circuit, args.shots, args.seed);
+        bench(circuit, args.shots, args.seed);
         return Ok(());
     }
-    let sampler = Sampler::new(&circuit);
+    let sampler = pipeline.sampler();
     let what = Outputs {
         detectors: true,
         observables: true,
@@ -101,9 +103,9 @@ pub fn run(args: Args) -> Result<(), CliError> {
         circuit.observables.len(),
         circuit.records.len(),
     ];
-    let mut progress = Progress::new(args.shots);
+    let mut progress = Progress::new(args.shots, "shots");
     match args.format {
-        Format::ZeroOne => {
+        Format::Bits => {
             let stdout = std::io::stdout();
             let mut out = BufWriter::new(stdout.lock());
             let mut result = Ok(());
@@ -153,9 +155,9 @@ pub fn run(args: Args) -> Result<(), CliError> {
             let mut files = Vec::new();
             for (name, &count) in names.iter().zip(&counts) {
                 let path = args.out.join(name);
-                let mut f = TempFile::create(&path)?;
+                let mut f = AtomicFile::create(&path)?;
                 let cols = row_bytes(count, args.packed) as u64;
-                f.write(&npy::header(args.shots, cols))?;
+                f.write(&npy_header("|u1", &[args.shots, cols]))?;
                 files.push(f);
             }
             let mut failure: Option<Diagnostic> = None;
@@ -198,107 +200,6 @@ fn push_bits(b: &Batch, table: &BitTable, count: usize, shot: usize, line: &mut 
     line.extend((0..count).map(|k| if b.get(table, k, shot) { b'1' } else { b'0' }));
 }
 
-/// An output file written through a temporary sibling; removed unless committed.
-struct TempFile {
-    tmp: PathBuf,
-    dest: PathBuf,
-    writer: Option<BufWriter<fs::File>>,
-}
-
-impl TempFile {
-    fn create(dest: &Path) -> Result<TempFile, Diagnostic> {
-        let name = dest
-            .file_name()
-            .map_or_else(|| "out".into(), |n| n.to_string_lossy().into_owned());
-        let tmp = dest.with_file_name(format!(".{name}.tmp{}", std::process::id()));
-        let file = fs::File::create(&tmp)
-            .map_err(|e| Diagnostic::bare(format!("cannot write `{}`: {e}", dest.display())))?;
-        Ok(TempFile {
-            tmp,
-            dest: dest.to_path_buf(),
-            writer: Some(BufWriter::with_capacity(1 << 20, file)),
-        })
-    }
-
-    fn error(&self, e: std::io::Error) -> Diagnostic {
-        Diagnostic::bare(format!("cannot write `{}`: {e}", self.dest.display()))
-    }
-
-    fn write(&mut self, bytes: &[u8]) -> Result<(), Diagnostic> {
-        let result = match self.writer.as_mut() {
-            Some(w) => w.write_all(bytes),
-            None => Ok(()),
-        };
-        result.map_err(|e| self.error(e))
-    }
-
-    fn commit(mut self) -> Result<(), Diagnostic> {
-        let Some(w) = self.writer.take() else {
-            return Ok(());
-        };
-        let result = w
-            .into_inner()
-            .map_err(|e| e.into_error())
-            .and_then(|f| f.sync_all())
-            .and_then(|()| fs::rename(&self.tmp, &self.dest));
-        result.map_err(|e| self.error(e))
-    }
-}
-
-impl Drop for TempFile {
-    fn drop(&mut self) {
-        if self.writer.take().is_some() {
-            let _ = fs::remove_file(&self.tmp);
-        }
-    }
-}
-
-/// A progress bar on stderr, shown only on a terminal and only once the run has taken a second.
-struct Progress {
-    total: u64,
-    done: u64,
-    start: Instant,
-    bar: Option<indicatif::ProgressBar>,
-    enabled: bool,
-}
-
-impl Progress {
-    fn new(total: u64) -> Progress {
-        Progress {
-            total,
-            done: 0,
-            start: Instant::now(),
-            bar: None,
-            enabled: std::io::stderr().is_terminal(),
-        }
-    }
-
-    fn advance(&mut self, shots: u64) {
-        self.done += shots;
-        if !self.enabled {
-            return;
-        }
-        if self.bar.is_none() && self.start.elapsed() > Duration::from_secs(1) {
-            let bar = indicatif::ProgressBar::new(self.total);
-            if let Ok(style) = indicatif::ProgressStyle::with_template(
-                "{elapsed_precise} [{bar:40}] {pos}/{len} shots ({per_sec}, eta {eta})",
-            ) {
-                bar.set_style(style.progress_chars("=> "));
-            }
-            self.bar = Some(bar);
-        }
-        if let Some(bar) = &self.bar {
-            bar.set_position(self.done);
-        }
-    }
-
-    fn finish(&mut self) {
-        if let Some(bar) = self.bar.take() {
-            bar.finish_and_clear();
-        }
-    }
-}
-
 /// Single-thread benchmark: reference run time, sampling throughput (detection events and
 /// observable flips kept bit-packed, nothing written), and the sampler's word operations per
 /// second against a plain XOR loop over the same amount of memory.
@@ -311,9 +212,9 @@ impl Progress {
 /// words as one batch's frame, records and outputs (so both work sets live in the same cache
 /// level), repeated until it has done as many word operations as the sampler. The sampler's time
 /// includes everything (allocation, fault sampling, random fills, output assembly).
-fn bench(circuit: &crate::ir::Circuit, shots: u64, seed: u64) {
+fn bench(circuit: &Circuit, shots: u64, seed: u64) {
     let t0 = Instant::now();
-    let reference = crate::sim::reference_run(circuit);
+    let reference = reference_run(circuit);
     let reference_s = t0.elapsed().as_secs_f64();
     std::hint::black_box(&reference);
     let sampler = Sampler::new(circuit);
@@ -334,7 +235,7 @@ fn bench(circuit: &crate::ir::Circuit, shots: u64, seed: u64) {
     let rate = word_ops as f64 / sample_s;
     println!("qubits: {}", circuit.qubits.len());
     println!("operations: {}", circuit.op_count());
-    println!("records: {}", circuit.records.len());
+    println!("results: {}", circuit.records.len());
     println!("detectors: {}", circuit.detectors.len());
     println!("reference_seconds: {reference_s:.6}");
     println!("shots: {sampled}");

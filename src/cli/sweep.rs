@@ -1,16 +1,16 @@
 //! `slant sweep`: run a threshold sweep from a TOML spec into a resumable results store.
 //!
 //! The spec format, task keys, chunk seeds, store format and resumption rules are documented in
-//! [`crate::decode::sweep`]. This command picks the store path (`--store`, else the spec's
+//! [`crate::study::SweepSpec`] and [`crate::study::Store`]. This command picks the store path (`--store`, else the spec's
 //! `store`, relative to the spec's directory, else the spec path with extension `.jsonl`), sizes
 //! the thread pool (`--jobs`) and prints one line per finished task on stderr.
 
 use std::path::PathBuf;
 
+use crate::cli::common::print_warnings;
 use crate::cli::common::read_source;
 use crate::cli::CliError;
-use crate::decode::stats::{Estimate, Z95};
-use crate::decode::sweep::{run_sweep, Event, Shard, Store, SweepSpec};
+use crate::study::{run_sweep, Estimate, Event, Shard, Store, SweepSpec, Z95};
 
 const AFTER_HELP: &str = "\
 Each finished chunk of a task is appended to the store (JSON Lines) with one write and an fsync.
@@ -70,12 +70,13 @@ pub fn run(args: Args) -> Result<(), CliError> {
         .filter(|(i, _)| args.shard.is_none_or(|s| s.has(*i)))
         .count();
     let finished = std::sync::atomic::AtomicUsize::new(0);
-    let on_event = |e: Event| {
-        if let Event::TaskDone(task, shots, errors) = e {
+    let on_event = |e: Event| match e {
+        Event::Warnings(_, warnings) => print_warnings(warnings),
+        Event::TaskDone(task, shots, failures) => {
             let n = finished.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
-            let est = Estimate::wilson(errors, shots, Z95);
+            let est = Estimate::wilson(failures, shots, Z95);
             eprintln!(
-                "[{n}/{total}] {} d={} {} {}: {errors}/{shots} = {:.3e}",
+                "[{n}/{total}] {} d={} {} {}: {failures}/{shots} = {:.3e}",
                 task.label,
                 task.distance,
                 task.noise,
@@ -83,6 +84,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
                 est.rate
             );
         }
+        Event::Chunk(..) => {}
     };
     pool.install(|| run_sweep(&spec, args.shard, &store, &recorded, &on_event))?;
     eprintln!("results in `{}`", store_path.display());

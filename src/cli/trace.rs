@@ -1,15 +1,15 @@
-//! `slant trace`: which circuit faults make up a fault-graph mechanism.
+//! `slant trace`: which circuit faults make up a fault-graph edge.
 
 use std::fmt::Write;
 
+use crate::base::{count, Diagnostic};
 use crate::cli::common::{CircuitArgs, NoiseArgs};
 use crate::cli::CliError;
 use crate::faults::{ExtractOptions, FaultGraph};
-use crate::lang::Diagnostic;
 
 /// Arguments of `slant trace`.
 #[derive(Debug, clap::Args)]
-#[command(group(clap::ArgGroup::new("which").required(true).args(["mechanism", "detectors"])))]
+#[command(group(clap::ArgGroup::new("which").required(true).args(["edge", "detectors"])))]
 pub struct Args {
     /// The circuit.
     #[command(flatten)]
@@ -17,28 +17,33 @@ pub struct Args {
     /// Noise written into the circuit before extraction.
     #[command(flatten)]
     pub noise: NoiseArgs,
-    /// Index of the mechanism (as in `slant graph --format text`).
+    /// Index of the edge (as in `slant graph --format text`).
     #[arg(long)]
-    pub mechanism: Option<usize>,
-    /// The mechanisms with exactly these detectors, e.g. `3,7` (one detector: a boundary edge).
+    pub edge: Option<usize>,
+    /// The edges with exactly these detectors, e.g. `3,7` (one detector: a boundary edge).
     #[arg(long, value_delimiter = ',')]
     pub detectors: Option<Vec<u32>>,
 }
 
-/// Renders the contributors of mechanism `k`, naming qubits by `names` (indices if absent).
+/// Renders the contributors of edge `k`, naming qubits by `names` (indices if absent).
 pub fn describe(graph: &FaultGraph, k: usize, names: &[&str]) -> String {
-    let m = &graph.mechanisms[k];
+    let m = &graph.edges[k];
     let list = |v: &[u32]| v.iter().map(u32::to_string).collect::<Vec<_>>().join(",");
     let mut s = String::new();
     let _ = writeln!(
         s,
-        "mechanism {k}: p={:.6e} weight={:.4} class={} detectors=[{}] observables=[{}], {} fault(s)",
+        "{} {k}: p={:.6e} weight={:.4} class={} detectors=[{}] observables=[{}], {}",
+        if m.detectors.len() > 2 {
+            "hyperedge"
+        } else {
+            "edge"
+        },
         m.probability,
         m.weight(),
         m.classes.name(),
         list(&m.detectors),
         list(&m.observables),
-        m.provenance.len()
+        count(m.provenance.len(), "fault")
     );
     for c in graph.contributors(k) {
         let qubits: Vec<String> = c
@@ -50,8 +55,8 @@ pub fn describe(graph: &FaultGraph, k: usize, names: &[&str]) -> String {
                     .map_or(format!("#{q}"), |n| n.to_string())
             })
             .collect();
-        let what = match c.record {
-            Some(r) => format!("flip of record {r} measured on {}", qubits.join(" ")),
+        let what = match c.result {
+            Some(r) => format!("flip of result {r} measured on {}", qubits.join(" ")),
             None => format!("{} on {}", c.term_text(), qubits.join(" ")),
         };
         let _ = writeln!(
@@ -69,16 +74,17 @@ pub fn describe(graph: &FaultGraph, k: usize, names: &[&str]) -> String {
 
 /// Runs `slant trace`.
 pub fn run(args: Args) -> Result<(), CliError> {
-    let circuit = crate::cli::graph::load_noisy(&args.circuit, &args.noise)?;
-    let graph = crate::faults::extract(&circuit, &ExtractOptions::default());
+    let pipeline = args.circuit.load_noisy(args.noise.noise.as_deref())?;
+    let graph = pipeline.graph(&ExtractOptions::default());
+    let circuit = pipeline.noisy();
     let names: Vec<&str> = circuit.qubits.iter().map(|q| q.name.as_str()).collect();
-    let ks: Vec<usize> = match (args.mechanism, &args.detectors) {
+    let ks: Vec<usize> = match (args.edge, &args.detectors) {
         (Some(k), _) => {
-            if k >= graph.mechanisms.len() {
+            if k >= graph.edges.len() {
                 return Err(Diagnostic::bare(format!(
-                    "there is no mechanism {k}: the graph has {} (0..{})",
-                    graph.mechanisms.len(),
-                    graph.mechanisms.len()
+                    "there is no edge {k}: the graph has {} (0..{})",
+                    graph.edges.len(),
+                    graph.edges.len()
                 ))
                 .into());
             }
@@ -91,9 +97,9 @@ pub fn run(args: Args) -> Result<(), CliError> {
             let found = graph.find_by_detectors(&dets);
             if found.is_empty() {
                 return Err(Diagnostic::bare(format!(
-                    "no mechanism flips exactly the detectors {dets:?}"
+                    "no edge flips exactly the detectors {dets:?}"
                 ))
-                .with_hint("list the mechanisms with `slant graph FILE --format text`")
+                .with_hint("list the edges with `slant graph FILE --format text`")
                 .into());
             }
             found
@@ -110,6 +116,6 @@ pub fn run(args: Args) -> Result<(), CliError> {
 
 fn unreachable_group() -> Result<Vec<usize>, CliError> {
     Err(CliError::Internal(
-        "clap should require `--mechanism` or `--detectors`".into(),
+        "clap should require `--edge` or `--detectors`".into(),
     ))
 }

@@ -1,4 +1,4 @@
-//! Decoders for graphlike fault graphs: minimum-weight perfect matching and union-find.
+//! Decoders for matchable fault graphs: minimum-weight perfect matching and union-find.
 //!
 //! In: a [`MatchingGraph`] (detectors `0..num_detectors`, edges touching one detector and the
 //! boundary or two detectors, each with a probability and the observables it flips). Out: a
@@ -20,22 +20,22 @@
 //! - decoders are `Send + Sync` and keep per-call scratch space in a small pool, so one decoder
 //!   can be shared by rayon threads.
 
-pub mod matching;
-pub mod plot;
-pub mod run;
-pub mod sparse;
-pub mod stats;
-pub mod sweep;
-pub mod threshold;
-pub mod unionfind;
+mod matching;
+mod radix_heap;
+mod sparse;
+mod sparse_graph;
+mod unionfind;
 
 use std::collections::HashMap;
 use std::fmt;
 use std::sync::Mutex;
 
+// The decoders (`matching`, `sparse`, `unionfind`, and new ones beside them) take these as `super::…`.
+use crate::base::{odd_parity, odd_parity_in_place};
+
 pub use crate::faults::{MatchingEdge, MatchingGraph};
 
-pub use matching::ReferenceMwpm;
+pub use matching::{ReferenceMwpm, ReferenceMwpmOptions};
 pub use sparse::Mwpm;
 pub use unionfind::UnionFind;
 
@@ -318,31 +318,6 @@ impl Prepared {
     }
 }
 
-/// The values occurring an odd number of times, sorted.
-pub(crate) fn odd_parity(mut v: Vec<u32>) -> Vec<u32> {
-    odd_parity_in_place(&mut v);
-    v
-}
-
-/// Keeps the values occurring an odd number of times, sorted.
-pub(crate) fn odd_parity_in_place(v: &mut Vec<u32>) {
-    v.sort_unstable();
-    let mut kept = 0;
-    let mut i = 0;
-    while i < v.len() {
-        let mut j = i;
-        while j < v.len() && v[j] == v[i] {
-            j += 1;
-        }
-        if (j - i) % 2 == 1 {
-            v[kept] = v[i];
-            kept += 1;
-        }
-        i = j;
-    }
-    v.truncate(kept);
-}
-
 /// A pool of reusable scratch values so that `&self` decoders can run on many threads without
 /// allocating per shot. Each call takes a value out (or makes one) and puts it back afterwards.
 #[derive(Debug, Default)]
@@ -381,12 +356,6 @@ mod tests {
             p,
             observables: obs.to_vec(),
         }
-    }
-
-    #[test]
-    fn odd_parity_keeps_odd_counts() {
-        assert_eq!(odd_parity(vec![3, 1, 3, 2, 3, 1]), vec![2, 3]);
-        assert_eq!(odd_parity(vec![]), Vec::<u32>::new());
     }
 
     #[test]

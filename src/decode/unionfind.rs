@@ -34,8 +34,8 @@
 //! completely: as in [`super::Mwpm`], its highest-numbered event is left out beforehand and
 //! counted in [`Decoded::unmatched`], so no cluster ever floods a whole component in vain.
 
-use super::sparse::graph::{SparseGraph, RESOLUTION_BITS};
-use super::sparse::queue::RadixHeap;
+use super::radix_heap::RadixHeap;
+use super::sparse_graph::{SparseGraph, RESOLUTION_BITS};
 use super::{odd_parity_in_place, BuildError, Decoded, Decoder, MatchingGraph, Pool, Prepared};
 
 const NONE: u32 = u32::MAX;

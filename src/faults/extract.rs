@@ -1,9 +1,9 @@
 //! Extraction: one backward sensitivity sweep turns every noise term and measurement flip into an
-//! elementary fault, and faults with equal symptoms merge into mechanisms.
+//! elementary fault, and faults with equal symptoms merge into edges.
 //!
-//! In: a [`Circuit`] and [`ExtractOptions`]. Out: a [`FaultGraph`] (before decomposition, which
-//! [`crate::faults::decompose`] adds). The symptom of a Pauli fault is the XOR of the
-//! sensitivities ([`crate::ir::sensitivity`]) of its X and Z parts on each qubit at the point of
+//! In: a [`Circuit`] and [`ExtractOptions`]. Out: a [`FaultGraph`] (hyperedges not yet split; the
+//! `split` step does that). The symptom of a Pauli fault is the XOR of the
+//! sensitivities ([`crate::ir::sensitivity_sweep`]) of its X and Z parts on each qubit at the point of
 //! injection; the symptom of a measurement flip is the set of detectors and observables that
 //! contain the record. Nothing is simulated per fault: the cost is one sweep plus a few short
 //! sorted-set XORs and one table lookup per fault.
@@ -11,19 +11,19 @@
 //! Layout (for speed at a million faults): each distinct channel is converted to independent
 //! terms once (`Table`); symptoms are interned in one flat arena, found through a table placed
 //! by first detector so that the sweep's lookups stay cache-local (`Interner`); a fault is a fixed-size record of indices
-//! (mechanism, layer, op, application, term), turned into a [`Contributor`] only once, in final
-//! order; the atoms that decomposition needs live in one flat arena too. Nothing is allocated
+//! (edge, layer, op, application, term), turned into a [`Contributor`] only once, in final
+//! order; the atoms that split needs live in one flat arena too. The interner is in
+//! `intern.rs`. Nothing is allocated
 //! per fault during the sweep.
 
-use std::collections::HashMap;
-use std::hash::{BuildHasherDefault, Hasher};
-
+use crate::base::{xor_into, xor_prob, Pauli};
 use crate::faults::graph::{
-    ClassSet, Contributor, DetectorInfo, FaultClass, FaultGraph, HyperedgeStats, Mechanism, Silent,
+    ClassSet, Contributor, DetectorInfo, FaultClass, FaultEdge, FaultGraph, HyperedgeStats, Silent,
     Small,
 };
-use crate::ir::sensitivity::{self, xor_into, Point, Sensitivity};
-use crate::ir::{Channel, Circuit, OpKind, Pauli};
+use crate::faults::intern::Interner;
+use crate::ir::{sensitivity_sweep, Sensitivity, SweepPoint};
+use crate::ir::{Channel, Circuit, OpKind};
 
 /// Options of [`crate::faults::extract()`].
 #[derive(Clone, Debug, Default)]
@@ -40,7 +40,7 @@ pub struct IndependentTerm {
     pub paulis: Vec<Pauli>,
     /// Probability of the term in the channel as written (0 for terms the exact conversion adds).
     pub term_probability: f64,
-    /// Probability of the independent mechanism.
+    /// Probability of the independent edge.
     pub probability: f64,
 }
 
@@ -65,7 +65,7 @@ pub fn independent_terms(channel: &Channel) -> (Vec<IndependentTerm>, bool) {
     let terms = channel.terms();
     let n = channel.arity();
     if n > 2 || terms.len() <= 1 {
-        // One term (or a correlated product): already a single independent event.
+        // One term (or a joint product): already a single independent event.
         let out = terms
             .into_iter()
             .map(|(p, paulis)| IndependentTerm {
@@ -140,200 +140,6 @@ pub fn independent_terms(channel: &Channel) -> (Vec<IndependentTerm>, bool) {
     (out, exact)
 }
 
-/// FxHash (the rustc hasher): symptoms are short lists of small integers, where SipHash's
-/// DoS resistance buys nothing and costs most of the lookup time.
-#[derive(Default)]
-pub(crate) struct FxHasher(u64);
-
-impl Hasher for FxHasher {
-    fn write(&mut self, bytes: &[u8]) {
-        let mut chunks = bytes.chunks_exact(8);
-        for c in &mut chunks {
-            self.write_u64(u64::from_le_bytes(c.try_into().expect("8 bytes")));
-        }
-        for &b in chunks.remainder() {
-            self.write_u64(u64::from(b));
-        }
-    }
-    fn write_u32(&mut self, v: u32) {
-        self.write_u64(u64::from(v));
-    }
-    fn write_usize(&mut self, v: usize) {
-        self.write_u64(v as u64);
-    }
-    fn write_u64(&mut self, v: u64) {
-        self.0 = (self.0.rotate_left(5) ^ v).wrapping_mul(0x51_7c_c1_b7_27_22_0a_95);
-    }
-    fn finish(&self) -> u64 {
-        // The multiply leaves the low bits poorly mixed, and hashbrown picks buckets by the low
-        // bits: finish with the murmur3 64-bit mixer so structured keys do not collide.
-        let mut x = self.0;
-        x ^= x >> 33;
-        x = x.wrapping_mul(0xff51_afd7_ed55_8ccd);
-        x ^= x >> 33;
-        x = x.wrapping_mul(0xc4ce_b9fe_1a85_ec53);
-        x ^ (x >> 33)
-    }
-}
-
-pub(crate) type FxMap<K, V> = HashMap<K, V, BuildHasherDefault<FxHasher>>;
-
-/// 64-bit hash of a symptom.
-fn hash_ids(ids: &[u32]) -> u64 {
-    let mut h = FxHasher(ids.len() as u64);
-    for &x in ids {
-        h.write_u32(x);
-    }
-    h.finish()
-}
-
-/// Symptoms stored once each in a flat arena, found through an open-addressing table of ids.
-///
-/// The table is placed by *first id* rather than by hash alone: detectors are numbered in time
-/// order and the backward sweep produces symptoms whose first detector drifts slowly down, so
-/// lookups made close together in the sweep touch neighbouring slots and neighbouring arena
-/// entries. A plain hash table scatters them over the whole graph, and at a million faults every
-/// lookup then misses the cache. A 32-bit tag per slot (more hash bits) keeps mismatches from
-/// touching the arena; the arena is compared before any match is accepted, so a collision costs a
-/// probe, never a wrong merge. Should the ids cluster badly (say every symptom shares its first
-/// detector), the long probes are noticed and the table is rebuilt with plain hash placement.
-pub(crate) struct Interner {
-    ids: Vec<u32>,
-    /// `ids[start[k]..start[k + 1]]` is symptom `k`.
-    start: Vec<u32>,
-    /// Symptom id + 1 in each slot (0 = empty); length a power of two, at most half full.
-    slots: Vec<u32>,
-    /// High hash bits of the symptom in each occupied slot.
-    tags: Vec<u32>,
-    /// Ids are below this (detectors + observables): scales first ids to table positions.
-    universe: u64,
-    /// Place by first id (true) or by hash (after clustering was detected).
-    local: bool,
-    /// Probe steps and lookups so far, to detect clustering.
-    steps: u64,
-    lookups: u64,
-}
-
-/// Mean probe length (slots past a symptom's home) above which placement by first id counts as
-/// degenerate.
-const MAX_MEAN_PROBE: u64 = 8;
-
-impl Interner {
-    /// An empty interner for symptoms whose ids are below `universe`, sized for `expected`.
-    fn new(universe: u32, expected: usize) -> Interner {
-        // At least two slots per id, so that placement by first id never crowds a region while
-        // the table as a whole is still mostly empty.
-        let cap = (2 * expected.max(universe as usize).max(8)).next_power_of_two();
-        Interner {
-            ids: Vec::with_capacity(4 * expected),
-            start: {
-                let mut v = Vec::with_capacity(expected + 1);
-                v.push(0);
-                v
-            },
-            slots: vec![0; cap],
-            tags: vec![0; cap],
-            universe: u64::from(universe.max(1)),
-            local: true,
-            steps: 0,
-            lookups: 0,
-        }
-    }
-
-    /// Number of symptoms.
-    pub(crate) fn len(&self) -> usize {
-        self.start.len() - 1
-    }
-
-    /// Symptom `k`.
-    pub(crate) fn get(&self, k: u32) -> &[u32] {
-        &self.ids[self.start[k as usize] as usize..self.start[k as usize + 1] as usize]
-    }
-
-    fn home(&self, sym: &[u32], hash: u64) -> usize {
-        let cap = self.slots.len();
-        if self.local {
-            // Spread each first id's symptoms over its whole region (by hash), so equal first
-            // ids do not all start probing at one slot.
-            let per_id = (cap as u64 / self.universe).max(16) as usize;
-            let region = (u64::from(sym[0]) * cap as u64 / self.universe) as usize;
-            (region + (hash as usize & (per_id.next_power_of_two() - 1))) & (cap - 1)
-        } else {
-            hash as usize & (cap - 1)
-        }
-    }
-
-    /// The id of `sym`, or the empty slot where it would go, and the probe steps taken.
-    fn probe(&self, sym: &[u32], hash: u64) -> (Result<u32, usize>, u64) {
-        let mask = self.slots.len() - 1;
-        let tag = (hash >> 32) as u32;
-        let mut i = self.home(sym, hash);
-        let mut steps = 0;
-        loop {
-            let s = self.slots[i];
-            if s == 0 {
-                return (Err(i), steps);
-            }
-            if self.tags[i] == tag && self.get(s - 1) == sym {
-                return (Ok(s - 1), steps);
-            }
-            i = (i + 1) & mask;
-            steps += 1;
-        }
-    }
-
-    /// The id of `sym`, if interned.
-    pub(crate) fn find(&self, sym: &[u32]) -> Option<u32> {
-        if sym.is_empty() {
-            return None;
-        }
-        self.probe(sym, hash_ids(sym)).0.ok()
-    }
-
-    /// The id of `sym` (not empty) and whether it is new.
-    fn intern(&mut self, sym: &[u32]) -> (u32, bool) {
-        let hash = hash_ids(sym);
-        let (found, steps) = self.probe(sym, hash);
-        self.steps += steps;
-        self.lookups += 1;
-        let slot = match found {
-            Ok(k) => return (k, false),
-            Err(slot) => slot,
-        };
-        let k = self.len() as u32;
-        self.ids.extend_from_slice(sym);
-        self.start.push(self.ids.len() as u32);
-        self.slots[slot] = k + 1;
-        self.tags[slot] = (hash >> 32) as u32;
-        let full = 2 * self.len() > self.slots.len();
-        // The constant keeps a few long probes early on from deciding.
-        let clustered = self.local && self.steps > MAX_MEAN_PROBE * self.lookups + 4096;
-        if clustered {
-            self.local = false;
-        }
-        if full || clustered {
-            self.rebuild(if full { 2 } else { 1 });
-        }
-        (k, true)
-    }
-
-    /// Re-places every symptom in a table `factor` times larger.
-    fn rebuild(&mut self, factor: usize) {
-        let cap = self.slots.len() * factor;
-        self.slots = vec![0; cap];
-        self.tags = vec![0; cap];
-        for k in 0..self.len() as u32 {
-            let sym = self.get(k);
-            let hash = hash_ids(sym);
-            let Err(slot) = self.probe(sym, hash).0 else {
-                unreachable!("symptoms are interned once each")
-            };
-            self.slots[slot] = k + 1;
-            self.tags[slot] = (hash >> 32) as u32;
-        }
-    }
-}
-
 /// The independent terms of one distinct channel, converted once per extraction.
 struct Table {
     channel: Channel,
@@ -367,7 +173,7 @@ pub(crate) struct Candidate {
     pub first: u32,
     /// Number of atoms.
     pub len: u32,
-    /// Next candidate of the same mechanism, or `u32::MAX`.
+    /// Next candidate of the same edge, or `u32::MAX`.
     next: u32,
 }
 
@@ -387,21 +193,21 @@ impl Atoms {
     }
 }
 
-/// What the sweep produces before decomposition.
+/// What the sweep produces before split.
 pub(crate) struct Extracted {
     pub graph: FaultGraph,
-    /// Every symptom of the graph, by sweep-order mechanism id.
+    /// Every symptom of the graph, by sweep-order edge id.
     pub symptoms: Interner,
-    /// `rank[k]`: index in [`FaultGraph::mechanisms`] of sweep-order mechanism `k`.
+    /// `rank[k]`: index in [`FaultGraph::edges`] of sweep-order edge `k`.
     pub rank: Vec<u32>,
     /// Atoms of up to [`ATOM_CANDIDATES`] contributors of each hyperedge.
     pub atoms: Atoms,
-    /// First candidate of each sweep-order mechanism (`u32::MAX` for none).
+    /// First candidate of each sweep-order edge (`u32::MAX` for none).
     pub first_candidate: Vec<u32>,
 }
 
 impl Extracted {
-    /// Candidates of final mechanism with sweep-order id `k`, in sweep order.
+    /// Candidates of final edge with sweep-order id `k`, in sweep order.
     pub(crate) fn candidates(&self, k: u32) -> impl Iterator<Item = Candidate> + '_ {
         let mut c = self.first_candidate[k as usize];
         std::iter::from_fn(move || {
@@ -412,7 +218,7 @@ impl Extracted {
     }
 }
 
-/// How many contributors of one hyperedge keep their atoms for decomposition.
+/// How many contributors of one hyperedge keep their atoms for split.
 const ATOM_CANDIDATES: u8 = 3;
 
 struct Builder<'c> {
@@ -422,7 +228,7 @@ struct Builder<'c> {
     symptoms: Interner,
     probability: Vec<f64>,
     classes: Vec<ClassSet>,
-    /// Candidates kept per mechanism, and the last one (to append in order).
+    /// Candidates kept per edge, and the last one (to append in order).
     n_candidates: Vec<u8>,
     first_candidate: Vec<u32>,
     last_candidate: Vec<u32>,
@@ -447,7 +253,7 @@ impl Builder<'_> {
     ) {
         if symptom.is_empty() {
             self.silent.count += 1;
-            self.silent.probability = super::graph::xor_prob(self.silent.probability, probability);
+            self.silent.probability = xor_prob(self.silent.probability, probability);
             return;
         }
         let (k, new) = self.symptoms.intern(symptom);
@@ -459,7 +265,7 @@ impl Builder<'_> {
             self.last_candidate.push(u32::MAX);
         } else {
             let p = &mut self.probability[k as usize];
-            *p = super::graph::xor_prob(*p, probability);
+            *p = xor_prob(*p, probability);
             let c = &mut self.classes[k as usize];
             *c = c.with(class);
         }
@@ -577,8 +383,8 @@ impl Builder<'_> {
     }
 }
 
-/// Runs the sweep and merges faults into mechanisms (sorted by symptom), without decomposition.
-pub(crate) fn extract_mechanisms(circuit: &Circuit, opts: &ExtractOptions) -> Extracted {
+/// Runs the sweep and merges faults into edges (sorted by symptom), without split.
+pub(crate) fn extract_edges(circuit: &Circuit, opts: &ExtractOptions) -> Extracted {
     let mut b = Builder {
         circuit,
         opts,
@@ -611,7 +417,7 @@ pub(crate) fn extract_mechanisms(circuit: &Circuit, opts: &ExtractOptions) -> Ex
         }
     }
     b.faults.reserve(expected);
-    // Roughly a third of the faults open a new mechanism in circuit-level noise.
+    // Roughly a third of the faults open a new edge in circuit-level noise.
     let universe = (circuit.detectors.len() + circuit.observables.len()) as u32;
     b.symptoms = Interner::new(universe, expected / 3 + 16);
     let flip_class = if opts.high_rate_flips {
@@ -619,8 +425,8 @@ pub(crate) fn extract_mechanisms(circuit: &Circuit, opts: &ExtractOptions) -> Ex
     } else {
         FaultClass::Low
     };
-    sensitivity::sweep(circuit, |point, s| {
-        let Point::After { layer, index, op } = point else {
+    sensitivity_sweep(circuit, |point, s| {
+        let SweepPoint::After { layer, index, op } = point else {
             return;
         };
         match &op.kind {
@@ -666,9 +472,9 @@ fn contributor(
             layer: f.layer,
             op: f.op,
             span: op.span,
-            term: Small::default(),
-            qubits: Small::from(op.targets.as_slice()),
-            record: Some(record),
+            term: Small::new(),
+            qubits: Small::from_slice(&op.targets),
+            result: Some(record),
             term_probability: flip,
             probability: flip,
             class: flip_class,
@@ -682,9 +488,9 @@ fn contributor(
         layer: f.layer,
         op: f.op,
         span: op.span,
-        term: Small::from(t.paulis.as_slice()),
-        qubits: Small::from(&op.targets[start..start + arity]),
-        record: None,
+        term: Small::from_slice(&t.paulis),
+        qubits: Small::from_slice(&op.targets[start..start + arity]),
+        result: None,
         term_probability: t.term_probability,
         probability: t.probability,
         class: table.classes[f.term as usize],
@@ -699,8 +505,8 @@ fn finish(circuit: &Circuit, b: Builder<'_>) -> Extracted {
         .map(|k| b.symptoms.get(k).partition_point(|&x| x < d) as u32)
         .collect();
     let split = |k: u32| b.symptoms.get(k).split_at(cut[k as usize] as usize);
-    // Sort mechanisms by (detectors, observables) so output does not depend on sweep order.
-    // A counting sort on the first detector comes first: buckets hold a few dozen mechanisms, so
+    // Sort edges by (detectors, observables) so output does not depend on sweep order.
+    // A counting sort on the first detector comes first: buckets hold a few dozen edges, so
     // the comparison sort inside them costs O(n) instead of O(n log n) cache-missing compares.
     let bucket = |k: u32| split(k).0.first().map_or(0, |&v| v as usize + 1);
     let mut bucket_start = vec![0usize; d as usize + 2];
@@ -724,7 +530,7 @@ fn finish(circuit: &Circuit, b: Builder<'_>) -> Extracted {
     for (new, &old) in order.iter().enumerate() {
         rank[old as usize] = new as u32;
     }
-    // Group contributors by mechanism (counting sort), in circuit order within each group: the
+    // Group contributors by edge (counting sort), in circuit order within each group: the
     // sweep saw them backwards.
     let mut starts = vec![0u32; n + 1];
     for f in &b.faults {
@@ -751,12 +557,12 @@ fn finish(circuit: &Circuit, b: Builder<'_>) -> Extracted {
         .map(|&i| contributor(circuit, &b.tables, flip_class, &b.faults[i as usize]))
         .collect();
     drop(slot_of);
-    let mechanisms: Vec<Mechanism> = order
+    let edges: Vec<FaultEdge> = order
         .iter()
         .enumerate()
         .map(|(new, &old)| {
             let (dets, obs) = split(old);
-            Mechanism {
+            FaultEdge {
                 probability: b.probability[old as usize],
                 detectors: dets.to_vec(),
                 observables: obs.iter().map(|&x| x - d).collect(),
@@ -765,7 +571,7 @@ fn finish(circuit: &Circuit, b: Builder<'_>) -> Extracted {
             }
         })
         .collect();
-    let hyper = mechanisms.iter().filter(|m| m.detectors.len() > 2).count();
+    let hyper = edges.iter().filter(|m| m.detectors.len() > 2).count();
     let graph = FaultGraph {
         source: circuit.source.clone(),
         detectors: circuit
@@ -777,10 +583,10 @@ fn finish(circuit: &Circuit, b: Builder<'_>) -> Extracted {
             })
             .collect(),
         observables: circuit.observables.iter().map(|o| o.name.clone()).collect(),
-        mechanisms,
+        edges,
         provenance,
         silent: b.silent,
-        decompositions: Vec::new(),
+        splits: Vec::new(),
         hyperedges: HyperedgeStats {
             hyperedges: hyper,
             ..HyperedgeStats::default()
@@ -839,9 +645,9 @@ mod tests {
     #[test]
     fn exact_conversions_reproduce_the_channel() {
         let channels = [
-            Channel::Depolarizing1(0.03),
-            Channel::Depolarizing2(0.05),
-            Channel::Pauli1 {
+            Channel::Depolarizing(0.03),
+            Channel::PairDepolarizing(0.05),
+            Channel::Pauli {
                 px: 0.01,
                 py: 0.02,
                 pz: 0.05,
@@ -859,51 +665,11 @@ mod tests {
         }
     }
 
-    /// Interns `syms` twice (second pass in reverse) and checks ids are stable and distinct.
-    fn check_interning(int: &mut Interner, syms: &[Vec<u32>]) {
-        let ids: Vec<u32> = syms
-            .iter()
-            .map(|s| {
-                let (k, new) = int.intern(s);
-                assert!(new, "{s:?} interned twice");
-                k
-            })
-            .collect();
-        for (s, &k) in syms.iter().zip(&ids).rev() {
-            assert_eq!(int.intern(s), (k, false));
-            assert_eq!(int.find(s), Some(k));
-            assert_eq!(int.get(k), s.as_slice());
-        }
-        assert_eq!(int.find(&[u32::MAX - 1]), None);
-    }
-
-    #[test]
-    fn interner_grows_and_survives_clustered_ids() {
-        // Spread first ids (the sweep's usual case), starting from a tiny table so it grows.
-        let mut int = Interner::new(3000, 4);
-        let spread: Vec<Vec<u32>> = (0..6000u32)
-            .map(|i| vec![i % 2990, 2990 + i / 2990, 2995 + i % 5])
-            .collect();
-        check_interning(&mut int, &spread);
-        assert!(
-            int.local,
-            "spread ids should keep placement by first id: {} steps {} lookups",
-            int.steps, int.lookups
-        );
-        // Every symptom shares its first id: placement by first id degenerates into one long
-        // probe run, which must be noticed (plain hash placement) without changing any answer.
-        let mut int = Interner::new(3000, 4);
-        let clustered: Vec<Vec<u32>> = (0..2000u32).map(|i| vec![0, 1 + i]).collect();
-        check_interning(&mut int, &clustered);
-        assert!(!int.local, "clustered ids should switch to hash placement");
-        check_interning(&mut int, &spread);
-    }
-
     #[test]
     fn depolarizing_closed_form() {
         // q = (1 - sqrt(1 - 4p/3)) / 2 for each of X, Y, Z (derivation in `independent_terms`).
         let p: f64 = 0.03;
-        let (terms, _) = independent_terms(&Channel::Depolarizing1(p));
+        let (terms, _) = independent_terms(&Channel::Depolarizing(p));
         assert_eq!(terms.len(), 3);
         let q = (1.0 - (1.0 - 4.0 * p / 3.0).sqrt()) / 2.0;
         for t in terms {
@@ -914,7 +680,7 @@ mod tests {
     #[test]
     fn x_and_z_without_y_falls_back() {
         // X and Z exclusive with no Y needs anti-correlated events: no exact independent form.
-        let (terms, exact) = independent_terms(&Channel::Pauli1 {
+        let (terms, exact) = independent_terms(&Channel::Pauli {
             px: 0.1,
             py: 0.0,
             pz: 0.1,

@@ -1,32 +1,25 @@
-//! The fault graph: mechanisms with their symptoms, classes and provenance, and the graphlike
+//! The fault graph: edges with their symptoms, classes and provenance, and the matchable
 //! view matching decoders read.
 //!
-//! In: elementary faults from [`crate::faults::extract()`]. Out: a [`FaultGraph`] (every mechanism,
-//! hyperedges included) and, through [`FaultGraph::graphlike`], a [`MatchingGraph`] whose edges
+//! In: elementary faults from [`crate::faults::extract()`]. Out: a [`FaultGraph`] (every edge,
+//! hyperedges included) and, through [`FaultGraph::matching_graph`], a [`MatchingGraph`] whose edges
 //! touch one or two detectors.
 //!
 //! Conventions:
 //! - detector ids are `0..num_detectors`, observable ids `0..num_observables` (their own range,
 //!   not offset by the detector count);
 //! - every id list is sorted and free of repeats;
-//! - probabilities are of independent mechanisms; two independent mechanisms with the same
+//! - probabilities are of independent edges; two independent edges with the same
 //!   symptom combine as `p ⊕ q = p(1−q) + q(1−p)` (the probability that exactly one fires, i.e.
 //!   that their common symptom is flipped);
-//! - the weight of a mechanism is `ln((1−p)/p)`: the log-likelihood ratio a minimum-weight
+//! - the weight of a edge is `ln((1−p)/p)`: the log-likelihood ratio a minimum-weight
 //!   decoder adds up along a path ("Topological quantum memory", J. Math. Phys. 43, 4452 (2002)).
 
 use std::collections::HashMap;
 use std::ops::Range;
 use std::sync::Arc;
 
-use crate::ir::Pauli;
-use crate::lang::{Source, Span};
-
-/// `p ⊕ q`: the probability that exactly one of two independent events happens, which is the
-/// probability that their common symptom is flipped.
-pub fn xor_prob(p: f64, q: f64) -> f64 {
-    p * (1.0 - q) + q * (1.0 - p)
-}
+use crate::base::{xor_prob, Pauli, Source, Span};
 
 /// The matching weight `ln((1−p)/p)` of an event of probability `p`.
 pub fn weight_of(p: f64) -> f64 {
@@ -52,7 +45,7 @@ pub struct MatchingEdge {
     pub a: u32,
     /// Second detector, or `None` for an edge to the boundary.
     pub b: Option<u32>,
-    /// Probability that the edge's mechanism fires (independent of every other edge).
+    /// Probability that the edge's edge fires (independent of every other edge).
     pub p: f64,
     /// Observables flipped when it fires, sorted.
     pub observables: Vec<u32>,
@@ -70,13 +63,13 @@ type EdgeAcc = (f64, Vec<u32>);
 
 /// What happens to a [`MatchingGraph`] while parallel edges are merged and hyperedges split.
 #[derive(Clone, Debug, Default, PartialEq)]
-pub struct GraphlikeStats {
-    /// Mechanisms with more than two detectors that were split into existing edges.
-    pub decomposed: usize,
-    /// Mechanisms with more than two detectors that could not be split; they are left out.
-    pub undecomposed: Vec<u32>,
-    /// Mechanisms with observables but no detectors: undetectable logical errors, left out.
-    pub undetectable_logical: Vec<u32>,
+pub struct MatchingStats {
+    /// Edges with more than two detectors that were split into existing edges.
+    pub split: usize,
+    /// Edges with more than two detectors that could not be split; they are left out.
+    pub unsplit: Vec<u32>,
+    /// Edges with observables but no detectors: silent logical errors, left out.
+    pub silent_logical: Vec<u32>,
     /// Parallel edges whose observable sets differed; the more likely one was kept.
     pub observable_conflicts: usize,
 }
@@ -101,7 +94,7 @@ impl FaultClass {
     }
 }
 
-/// Which classes contributed to a mechanism.
+/// Which classes contributed to a edge.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
 pub enum ClassSet {
     /// Only high-rate contributors.
@@ -150,91 +143,10 @@ impl ClassSet {
     }
 }
 
-/// A short list that reads as a slice: up to [`Small::INLINE`] entries are stored in place, longer
-/// ones on the heap. A graph holds one contributor per elementary fault (a million at distance
-/// 25), nearly all with one or two qubits, so per-fault heap lists would dominate extraction.
-#[derive(Clone)]
-pub struct Small<T: Copy>(Store<T>);
-
-const INLINE: usize = 4;
-
-#[derive(Clone)]
-enum Store<T: Copy> {
-    Inline(u8, [T; INLINE]),
-    Heap(Vec<T>),
-}
-
-impl<T: Copy> Small<T> {
-    /// Longest list kept in place.
-    pub const INLINE: usize = INLINE;
-}
-
-impl<T: Copy> Default for Small<T> {
-    fn default() -> Self {
-        Small(Store::Heap(Vec::new()))
-    }
-}
-
-impl<T: Copy> From<&[T]> for Small<T> {
-    fn from(s: &[T]) -> Self {
-        match s.first() {
-            Some(&first) if s.len() <= Self::INLINE => {
-                let mut buf = [first; INLINE];
-                buf[..s.len()].copy_from_slice(s);
-                Small(Store::Inline(s.len() as u8, buf))
-            }
-            _ => Small(Store::Heap(s.to_vec())),
-        }
-    }
-}
-
-impl<T: Copy> From<Vec<T>> for Small<T> {
-    fn from(v: Vec<T>) -> Self {
-        Small::from(v.as_slice())
-    }
-}
-
-impl<T: Copy> std::ops::Deref for Small<T> {
-    type Target = [T];
-    fn deref(&self) -> &[T] {
-        match &self.0 {
-            Store::Inline(n, buf) => &buf[..*n as usize],
-            Store::Heap(v) => v,
-        }
-    }
-}
-
-impl<'a, T: Copy> IntoIterator for &'a Small<T> {
-    type Item = &'a T;
-    type IntoIter = std::slice::Iter<'a, T>;
-    fn into_iter(self) -> Self::IntoIter {
-        self.iter()
-    }
-}
-
-impl<T: Copy + std::fmt::Debug> std::fmt::Debug for Small<T> {
-    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        f.debug_list().entries(self.iter()).finish()
-    }
-}
-
-impl<T: Copy + PartialEq> PartialEq for Small<T> {
-    fn eq(&self, other: &Self) -> bool {
-        **self == **other
-    }
-}
-
-impl<T: Copy + PartialEq> PartialEq<[T]> for Small<T> {
-    fn eq(&self, other: &[T]) -> bool {
-        **self == *other
-    }
-}
-
-impl<T: Copy + PartialEq> PartialEq<Vec<T>> for Small<T> {
-    fn eq(&self, other: &Vec<T>) -> bool {
-        **self == **other
-    }
-}
+/// A short list that reads as a slice: up to four entries are stored in place, longer ones on
+/// the heap. A graph holds one contributor per elementary fault (a million at distance 25),
+/// nearly all with one or two qubits, so per-fault heap lists would dominate extraction.
+pub type Small<T> = smallvec::SmallVec<[T; 4]>;
 
 /// Where an elementary fault comes from.
 #[derive(Clone, Debug, PartialEq)]
@@ -249,13 +161,13 @@ pub struct Contributor {
     pub term: Small<Pauli>,
     /// Qubits the term acts on; for a measurement flip, the measured qubits.
     pub qubits: Small<u32>,
-    /// For a measurement flip, the record; `None` for a Pauli fault.
-    pub record: Option<u32>,
+    /// For a measurement flip, the index of its result; `None` for a Pauli fault.
+    pub result: Option<u32>,
     /// Probability of the term in the channel as written (terms of one channel are mutually
     /// exclusive).
     pub term_probability: f64,
-    /// Probability of the equivalent independent mechanism (see the module docs of
-    /// [`crate::faults`]); this is what the mechanism's probability combines.
+    /// Probability of the equivalent independent edge (see the module docs of
+    /// [`crate::faults`]); this is what the edge's probability combines.
     pub probability: f64,
     /// High or low rate.
     pub class: FaultClass,
@@ -264,7 +176,7 @@ pub struct Contributor {
 impl Contributor {
     /// The Pauli term as text, e.g. `ZY`, or `flip` for a measurement flip.
     pub fn term_text(&self) -> String {
-        if self.record.is_some() {
+        if self.result.is_some() {
             "flip".to_string()
         } else {
             self.term.iter().map(|p| p.letter()).collect()
@@ -283,7 +195,7 @@ pub struct DetectorInfo {
 
 /// A set of elementary faults with one symptom, acting as one independent event.
 #[derive(Clone, Debug, PartialEq)]
-pub struct Mechanism {
+pub struct FaultEdge {
     /// Probability that the symptom is flipped (the ⊕ of the contributors' probabilities).
     pub probability: f64,
     /// Detectors flipped, sorted.
@@ -292,11 +204,11 @@ pub struct Mechanism {
     pub observables: Vec<u32>,
     /// Classes of the contributors.
     pub classes: ClassSet,
-    /// Range of [`FaultGraph::provenance`] holding this mechanism's contributors.
+    /// Range of [`FaultGraph::provenance`] holding this edge's contributors.
     pub provenance: Range<u32>,
 }
 
-impl Mechanism {
+impl FaultEdge {
     /// Matching weight `ln((1−p)/p)`.
     pub fn weight(&self) -> f64 {
         weight_of(self.probability)
@@ -314,23 +226,23 @@ pub struct Silent {
 
 /// How a hyperedge (more than two detectors) was split for matching.
 #[derive(Clone, Debug, PartialEq)]
-pub struct Decomposition {
-    /// The mechanism split.
-    pub mechanism: u32,
-    /// Its graphlike parts: indices of existing mechanisms with one or two detectors, whose
+pub struct Split {
+    /// The edge split.
+    pub edge: u32,
+    /// Its matchable parts: indices of existing edges with one or two detectors, whose
     /// symptoms XOR to the whole symptom ([`FaultGraph::parts`] reads them).
     pub parts: Vec<u32>,
 }
 
-/// Summary of hyperedges and their decomposition.
+/// Summary of hyperedges and their split.
 #[derive(Clone, Debug, Default, PartialEq)]
 pub struct HyperedgeStats {
-    /// Mechanisms with more than two detectors.
+    /// Edges with more than two detectors.
     pub hyperedges: usize,
-    /// Of those, how many were split into existing graphlike mechanisms.
-    pub decomposed: usize,
-    /// Mechanisms that could not be split.
-    pub undecomposed: Vec<u32>,
+    /// Of those, how many were split into existing matchable edges.
+    pub split: usize,
+    /// Edges that could not be split.
+    pub unsplit: Vec<u32>,
 }
 
 /// The weighted fault graph of a noisy circuit.
@@ -342,36 +254,36 @@ pub struct FaultGraph {
     pub detectors: Vec<DetectorInfo>,
     /// Observable names by index.
     pub observables: Vec<String>,
-    /// Mechanisms, sorted by `(detectors, observables)`.
-    pub mechanisms: Vec<Mechanism>,
-    /// Every contributing elementary fault, grouped by mechanism.
+    /// Edges, sorted by `(detectors, observables)`.
+    pub edges: Vec<FaultEdge>,
+    /// Every contributing elementary fault, grouped by edge.
     pub provenance: Vec<Contributor>,
     /// Faults that flip nothing.
     pub silent: Silent,
-    /// Hyperedge splits for matching, one per decomposed mechanism.
-    pub decompositions: Vec<Decomposition>,
+    /// Hyperedge splits for matching, one per split edge.
+    pub splits: Vec<Split>,
     /// Hyperedge summary.
     pub hyperedges: HyperedgeStats,
     /// Channel applications whose terms could not be converted exactly into independent
-    /// mechanisms and used the first-order conversion instead (see [`crate::faults`]).
+    /// edges and used the first-order conversion instead (see [`crate::faults`]).
     pub inexact_channels: usize,
 }
 
 impl FaultGraph {
-    /// The `(detectors, observables)` of each part of a decomposition.
+    /// The `(detectors, observables)` of each part of a split.
     pub fn parts<'g>(
         &'g self,
-        d: &'g Decomposition,
+        d: &'g Split,
     ) -> impl ExactSizeIterator<Item = (&'g [u32], &'g [u32])> + 'g {
         d.parts.iter().map(|&r| {
-            let m = &self.mechanisms[r as usize];
+            let m = &self.edges[r as usize];
             (m.detectors.as_slice(), m.observables.as_slice())
         })
     }
 
-    /// The contributors of mechanism `k`.
+    /// The contributors of edge `k`.
     pub fn contributors(&self, k: usize) -> &[Contributor] {
-        let r = &self.mechanisms[k].provenance;
+        let r = &self.edges[k].provenance;
         &self.provenance[r.start as usize..r.end as usize]
     }
 
@@ -387,9 +299,9 @@ impl FaultGraph {
         text.lines().next().unwrap_or("").trim().to_string()
     }
 
-    /// Index of the mechanism with exactly these detectors (and any observables), if unique.
+    /// Index of the edge with exactly these detectors (and any observables), if unique.
     pub fn find_by_detectors(&self, detectors: &[u32]) -> Vec<usize> {
-        self.mechanisms
+        self.edges
             .iter()
             .enumerate()
             .filter(|(_, m)| m.detectors == detectors)
@@ -397,15 +309,15 @@ impl FaultGraph {
             .collect()
     }
 
-    /// The graphlike view for matching decoders: mechanisms with one or two detectors become
-    /// edges, decomposed hyperedges add their probability to each of their parts' edges, and
-    /// parallel edges merge with `⊕`. Mechanisms that cannot enter a matching graph (no
+    /// The matchable view for matching decoders: edges with one or two detectors become
+    /// edges, split hyperedges add their probability to each of their parts' edges, and
+    /// parallel edges merge with `⊕`. Edges that cannot enter a matching graph (no
     /// detectors, or an unsplittable hyperedge) are counted in the returned stats.
-    pub fn graphlike(&self) -> (MatchingGraph, GraphlikeStats) {
-        let mut stats = GraphlikeStats::default();
+    pub fn matching_graph(&self) -> (MatchingGraph, MatchingStats) {
+        let mut stats = MatchingStats::default();
         // Key (a, b) with b = u32::MAX for the boundary, so boundary edges sort first per a.
         let mut edges: HashMap<(u32, u32), EdgeAcc> = HashMap::new();
-        let mut add = |dets: &[u32], obs: &[u32], p: f64, stats: &mut GraphlikeStats| {
+        let mut add = |dets: &[u32], obs: &[u32], p: f64, stats: &mut MatchingStats| {
             let key = match *dets {
                 [a] => (a, u32::MAX),
                 [a, b] => (a.min(b), a.max(b)),
@@ -424,26 +336,26 @@ impl FaultGraph {
                 }
             }
         };
-        let mut decomposed = vec![None; self.mechanisms.len()];
-        for (i, d) in self.decompositions.iter().enumerate() {
-            decomposed[d.mechanism as usize] = Some(i);
+        let mut split = vec![None; self.edges.len()];
+        for (i, d) in self.splits.iter().enumerate() {
+            split[d.edge as usize] = Some(i);
         }
-        for (k, m) in self.mechanisms.iter().enumerate() {
+        for (k, m) in self.edges.iter().enumerate() {
             match m.detectors.len() {
                 0 => {
                     if !m.observables.is_empty() {
-                        stats.undetectable_logical.push(k as u32);
+                        stats.silent_logical.push(k as u32);
                     }
                 }
                 1 | 2 => add(&m.detectors, &m.observables, m.probability, &mut stats),
-                _ => match decomposed[k] {
+                _ => match split[k] {
                     Some(i) => {
-                        stats.decomposed += 1;
-                        for (dets, obs) in self.parts(&self.decompositions[i]) {
+                        stats.split += 1;
+                        for (dets, obs) in self.parts(&self.splits[i]) {
                             add(dets, obs, m.probability, &mut stats);
                         }
                     }
-                    None => stats.undecomposed.push(k as u32),
+                    None => stats.unsplit.push(k as u32),
                 },
             }
         }
@@ -474,10 +386,22 @@ mod tests {
     use super::*;
 
     #[test]
-    fn xor_prob_is_odd_parity() {
-        // Two independent events: P(exactly one) = p(1-q) + q(1-p).
-        assert!((xor_prob(0.1, 0.2) - (0.1 * 0.8 + 0.2 * 0.9)).abs() < 1e-15);
-        assert_eq!(xor_prob(0.0, 0.3), 0.3);
+    fn short_lists_cost_no_more_than_a_vec() {
+        // One contributor per elementary fault: the inline lists must not grow it.
+        assert_eq!(
+            std::mem::size_of::<Small<u32>>(),
+            std::mem::size_of::<Vec<u32>>()
+        );
+        assert_eq!(
+            std::mem::size_of::<Small<Pauli>>(),
+            std::mem::size_of::<Vec<u32>>()
+        );
+        let long = Small::from_slice(&[1u32, 2, 3, 4, 5]);
+        assert!(long.spilled() && long[..] == [1, 2, 3, 4, 5]);
+    }
+
+    #[test]
+    fn even_odds_weigh_nothing() {
         assert!((weight_of(0.5)).abs() < 1e-15);
     }
 

@@ -24,7 +24,7 @@
 //!
 //! The text goes through the parser and the canonical printer of [`crate::lang`] before it is
 //! returned, so generated files are in `slant fmt` form. The generators do not otherwise check
-//! their output: tests run every generated circuit through [`crate::load_source`] (determinism)
+//! their output: tests run every generated circuit through [`crate::ir::load_source`] (determinism)
 //! and verify the codes independently of the generator.
 
 mod repetition;
@@ -535,14 +535,14 @@ pub fn generate(spec: &GenSpec) -> Result<String, GenError> {
 /// Passes the text through the parser and the canonical printer, so generated files are already
 /// in `slant fmt` form (byte-stable under `fmt --check`). A parse failure here is a generator bug.
 fn canonical(text: String) -> Result<String, GenError> {
-    let source = crate::lang::Source::new("generated.slant", text);
+    let source = crate::base::Source::new("generated.slant", text);
     let ast = crate::lang::parse(&source).map_err(|diags| {
         let first = diags.first().map(|d| d.render()).unwrap_or_default();
         GenError(format!(
             "internal error: the generator wrote text the parser rejects (please report):\n{first}"
         ))
     })?;
-    Ok(crate::lang::print::print(&ast))
+    Ok(crate::lang::print(&ast))
 }
 
 fn gcd(a: u32, b: u32) -> u32 {

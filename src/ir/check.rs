@@ -1,7 +1,7 @@
 //! Verification of an expanded circuit: every detector and observable must be deterministic
 //! without noise.
 //!
-//! Method: the backward sensitivity sweep ([`crate::ir::sensitivity`]). In a noiseless stabilizer
+//! Method: the backward sensitivity sweep ([`crate::ir::sensitivity_sweep`]). In a noiseless stabilizer
 //! circuit, all randomness of measurement outcomes can be attributed to *gauge* Paulis that leave
 //! the state unchanged: the measured Pauli right after a measurement, the reset basis right after
 //! a reset, and Z on every qubit at the start (all qubits start in |0>). Inserting such a Pauli
@@ -10,12 +10,12 @@
 //! it, and when one does, that gauge location names the measurement or reset that randomises it.
 //! The stabilizer tableau in `sim` computes the reference values. A property test checks this
 //! verdict on random Clifford circuits against two independent ones: noiseless Pauli-frame
-//! sampling, and the tableau run down random branches of the outcome tree
-//! ([`crate::sim::tableau::branch_run`]).
+//! sampling, and the tableau run down random branches of the outcome tree (`branch_run` in
+//! `sim`, a later stage, which is why this is not a link).
 
-use crate::ir::sensitivity::{sweep, Point};
+use crate::base::{Diagnostic, Span};
+use crate::ir::sensitivity::{sensitivity_sweep, SweepPoint};
 use crate::ir::{Circuit, OpKind};
-use crate::lang::{Diagnostic, Span};
 
 /// What made a parity random.
 #[derive(Clone, Copy, Debug)]
@@ -37,8 +37,8 @@ pub fn check(c: &Circuit) -> Result<(), Vec<Diagnostic>> {
             culprit[id as usize].get_or_insert(who);
         }
     };
-    sweep(c, |point, s| match point {
-        Point::After { op, .. } => match &op.kind {
+    sensitivity_sweep(c, |point, s| match point {
+        SweepPoint::After { op, .. } => match &op.kind {
             OpKind::Measure { .. } => {
                 let ids = s.of_product(op.paulis.iter().copied().zip(op.targets.iter().copied()));
                 mark(
@@ -62,7 +62,7 @@ pub fn check(c: &Circuit) -> Result<(), Vec<Diagnostic>> {
             }
             _ => {}
         },
-        Point::Start => {
+        SweepPoint::Start => {
             for q in 0..c.qubits.len() {
                 mark(&s.z[q], Culprit::Start { qubit: q as u32 });
             }
@@ -112,9 +112,12 @@ pub fn check(c: &Circuit) -> Result<(), Vec<Diagnostic>> {
                 ),
             ),
         };
-        errors.push(diag.with_hint(
-            "a detector compares results whose parity is fixed without noise; check the bases and which round it compares",
-        ));
+        errors.push(diag.with_hint(if kind == "detector" {
+            "a detector compares results whose parity is fixed without noise; check the bases and which round it compares"
+        } else {
+            "an observable is the parity of results that read out one logical operator: measure \
+             its qubits in the basis it was prepared in, and include every qubit of the logical"
+        }));
     }
     if errors.is_empty() {
         Ok(())

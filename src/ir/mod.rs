@@ -2,12 +2,12 @@
 //!
 //! In: an [`crate::lang::Ast`] plus parameter overrides (see [`expand`]). Out: a [`Circuit`] with
 //! loops unrolled and parameters substituted. Invariants a back end may rely on once
-//! [`check::check`] has passed:
+//! [`check()`] has passed:
 //!
 //! - qubits are numbered `0..qubits.len()`; every target index is in range;
 //! - within one [`Layer`], gates, resets and measurements touch disjoint qubits; noise
 //!   operations in a layer act at their textual position relative to the other operations;
-//! - measurement records are numbered in execution order (`0..records.len()`), and each
+//! - measurement results are numbered in execution order (`0..records.len()`), and each
 //!   [`OpKind::Measure`] writes exactly one record;
 //! - detectors and observables refer only to records that exist, and are deterministic in the
 //!   noiseless circuit.
@@ -15,17 +15,19 @@
 //! Every qubit, operation, record, detector and observable keeps the [`Span`] it came from, so
 //! later stages can report `file:line:column`.
 
-pub mod check;
-pub mod clifford;
-pub mod expand;
-pub mod pauli;
-pub mod sensitivity;
+mod check;
+mod expand;
+mod load;
+mod sensitivity;
+
+pub use check::check;
+pub use expand::{cost, expand, Limits};
+pub use load::{load_source, load_source_with};
+pub use sensitivity::{record_symptoms, sensitivity_sweep, Sensitivity, SweepPoint, SymSet};
 
 use std::sync::Arc;
 
-use crate::lang::span::{Source, Span};
-
-pub use pauli::Pauli;
+use crate::base::{Basis, ChannelKind, Gate, Pauli, Source, Span};
 
 /// A qubit with its name, optional coordinates and roles.
 #[derive(Clone, Debug, PartialEq)]
@@ -47,139 +49,29 @@ impl Qubit {
     }
 }
 
-/// Single-qubit and two-qubit Clifford gates.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, PartialOrd, Ord)]
-pub enum Gate {
-    /// Controlled-X (first target controls).
-    Cx,
-    /// Controlled-Y.
-    Cy,
-    /// Controlled-Z.
-    Cz,
-    /// Hadamard.
-    H,
-    /// Identity (an explicit idle slot).
-    I,
-    /// Phase gate, `diag(1, i)`.
-    S,
-    /// Inverse phase gate.
-    Sdg,
-    /// Swap.
-    Swap,
-    /// Square root of X.
-    Sx,
-    /// Inverse square root of X.
-    Sxdg,
-    /// Pauli X.
-    X,
-    /// Pauli Y.
-    Y,
-    /// Pauli Z.
-    Z,
-}
-
-impl Gate {
-    /// Every gate, for name lookup and suggestions.
-    pub const ALL: [Gate; 13] = [
-        Gate::I,
-        Gate::X,
-        Gate::Y,
-        Gate::Z,
-        Gate::H,
-        Gate::S,
-        Gate::Sdg,
-        Gate::Sx,
-        Gate::Sxdg,
-        Gate::Cx,
-        Gate::Cy,
-        Gate::Cz,
-        Gate::Swap,
-    ];
-
-    /// The name used in the language.
-    pub fn name(self) -> &'static str {
-        match self {
-            Gate::Cx => "cx",
-            Gate::Cy => "cy",
-            Gate::Cz => "cz",
-            Gate::H => "h",
-            Gate::I => "i",
-            Gate::S => "s",
-            Gate::Sdg => "sdg",
-            Gate::Swap => "swap",
-            Gate::Sx => "sx",
-            Gate::Sxdg => "sxdg",
-            Gate::X => "x",
-            Gate::Y => "y",
-            Gate::Z => "z",
-        }
-    }
-
-    /// Looks a gate up by its language name.
-    pub fn from_name(name: &str) -> Option<Gate> {
-        Gate::ALL.into_iter().find(|g| g.name() == name)
-    }
-
-    /// Number of qubits the gate acts on.
-    pub fn arity(self) -> usize {
-        match self {
-            Gate::Cx | Gate::Cy | Gate::Cz | Gate::Swap => 2,
-            _ => 1,
-        }
-    }
-}
-
-/// A single-qubit measurement or reset basis.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
-pub enum Basis {
-    /// Eigenbasis of X.
-    X,
-    /// Eigenbasis of Y.
-    Y,
-    /// Eigenbasis of Z (computational).
-    Z,
-}
-
-impl Basis {
-    /// The Pauli whose eigenbasis this is.
-    pub fn pauli(self) -> Pauli {
-        match self {
-            Basis::X => Pauli::X,
-            Basis::Y => Pauli::Y,
-            Basis::Z => Pauli::Z,
-        }
-    }
-
-    /// Lower-case name as written in the language.
-    pub fn name(self) -> &'static str {
-        match self {
-            Basis::X => "x",
-            Basis::Y => "y",
-            Basis::Z => "z",
-        }
-    }
-}
-
 /// A noise channel as written in the language. Terms of one channel are mutually exclusive.
 #[derive(Clone, Debug, PartialEq)]
 pub enum Channel {
     /// X with probability `p` on each target.
     BitFlip(f64),
+    /// Z with probability `p` on each target.
+    Dephasing(f64),
+    /// Each of X, Y, Z with probability `p/3` on each target.
+    Depolarizing(f64),
     /// One Pauli product fault with probability `p`; factor `k` acts on target `k` of the op.
-    Correlated {
+    Joint {
         /// Probability that the product fires.
         p: f64,
         /// The factors, one per target qubit.
         paulis: Vec<Pauli>,
     },
-    /// Z with probability `p` on each target.
-    Dephasing(f64),
-    /// Each of X, Y, Z with probability `p/3` on each target.
-    Depolarizing1(f64),
     /// Each of the 15 non-identity two-qubit Paulis with probability `p/15` on each pair.
-    Depolarizing2(f64),
+    PairDepolarizing(f64),
+    /// A two-qubit Pauli channel on each pair; index `4*a + b - 1` for the Pauli pair `(a, b)`
+    /// with `I=0, X=1, Y=2, Z=3` (so `IX` is 0 and `ZZ` is 14).
+    PairPauli(Box<[f64; 15]>),
     /// A single-qubit Pauli channel on each target.
-    Pauli1 {
+    Pauli {
         /// Probability of X.
         px: f64,
         /// Probability of Y.
@@ -187,18 +79,15 @@ pub enum Channel {
         /// Probability of Z.
         pz: f64,
     },
-    /// A two-qubit Pauli channel on each pair; index `4*a + b - 1` for the Pauli pair `(a, b)`
-    /// with `I=0, X=1, Y=2, Z=3` (so `IX` is 0 and `ZZ` is 14).
-    Pauli2(Box<[f64; 15]>),
 }
 
 impl Channel {
-    /// Number of qubits one application acts on (the correlated fault counts as one application
+    /// Number of qubits one application acts on (a joint fault counts as one application
     /// over its own product).
     pub fn arity(&self) -> usize {
         match self {
-            Channel::Depolarizing2(_) | Channel::Pauli2(_) => 2,
-            Channel::Correlated { paulis, .. } => paulis.len(),
+            Channel::PairDepolarizing(_) | Channel::PairPauli(_) => 2,
+            Channel::Joint { paulis, .. } => paulis.len(),
             _ => 1,
         }
     }
@@ -215,27 +104,27 @@ impl Channel {
         match self {
             Channel::BitFlip(p) => push(*p, vec![Pauli::X]),
             Channel::Dephasing(p) => push(*p, vec![Pauli::Z]),
-            Channel::Depolarizing1(p) => {
+            Channel::Depolarizing(p) => {
                 for q in [Pauli::X, Pauli::Y, Pauli::Z] {
                     push(p / 3.0, vec![q]);
                 }
             }
-            Channel::Pauli1 { px, py, pz } => {
+            Channel::Pauli { px, py, pz } => {
                 push(*px, vec![Pauli::X]);
                 push(*py, vec![Pauli::Y]);
                 push(*pz, vec![Pauli::Z]);
             }
-            Channel::Depolarizing2(p) => {
+            Channel::PairDepolarizing(p) => {
                 for k in 1..16 {
                     push(p / 15.0, Pauli::pair_from_index(k));
                 }
             }
-            Channel::Pauli2(probs) => {
+            Channel::PairPauli(probs) => {
                 for (k, &p) in probs.iter().enumerate() {
                     push(p, Pauli::pair_from_index(k + 1));
                 }
             }
-            Channel::Correlated { p, paulis } => push(*p, paulis.clone()),
+            Channel::Joint { p, paulis } => push(*p, paulis.clone()),
         }
         out
     }
@@ -245,17 +134,22 @@ impl Channel {
         self.terms().iter().map(|t| t.0).sum()
     }
 
+    /// The kind of the channel.
+    pub fn kind(&self) -> ChannelKind {
+        match self {
+            Channel::BitFlip(_) => ChannelKind::BitFlip,
+            Channel::Joint { .. } => ChannelKind::Joint,
+            Channel::Dephasing(_) => ChannelKind::Dephasing,
+            Channel::Depolarizing(_) => ChannelKind::Depolarizing,
+            Channel::PairDepolarizing(_) => ChannelKind::PairDepolarizing,
+            Channel::Pauli { .. } => ChannelKind::Pauli,
+            Channel::PairPauli(_) => ChannelKind::PairPauli,
+        }
+    }
+
     /// The language keyword of the channel.
     pub fn keyword(&self) -> &'static str {
-        match self {
-            Channel::BitFlip(_) => "bitflip",
-            Channel::Correlated { .. } => "correlated",
-            Channel::Dephasing(_) => "dephasing",
-            Channel::Depolarizing1(_) => "depolarizing",
-            Channel::Depolarizing2(_) => "depolarizing2",
-            Channel::Pauli1 { .. } => "pauli",
-            Channel::Pauli2(_) => "pauli2",
-        }
+        self.kind().name()
     }
 }
 
@@ -273,7 +167,7 @@ pub enum OpKind {
         flip: f64,
     },
     /// A noise channel applied to each target (pairs for two-qubit channels; the qubits of the
-    /// product for a correlated fault).
+    /// product for a joint fault).
     Noise(Channel),
     /// Reset of each target to the +1 eigenstate of the basis.
     Reset(Basis),
@@ -350,7 +244,7 @@ pub struct Circuit {
     pub qubits: Vec<Qubit>,
     /// Time layers in order.
     pub layers: Vec<Layer>,
-    /// Measurement records by index.
+    /// Measurement results by index.
     pub records: Vec<Record>,
     /// Detectors by index.
     pub detectors: Vec<Detector>,

@@ -2,8 +2,7 @@
 
 use std::sync::Arc;
 
-use crate::ir::{Basis, Pauli};
-use crate::lang::span::{Source, Span};
+use crate::base::{Basis, Pauli, Source, Span};
 
 /// A parsed file.
 #[derive(Clone, Debug)]
@@ -146,7 +145,7 @@ pub struct Outcome {
 pub enum NoiseTargets {
     /// Comma-separated groups of qubits (one or two per group).
     Groups(Vec<Vec<Ref>>),
-    /// A Pauli product (`correlated` only).
+    /// A Pauli product (`joint` only).
     Product(Vec<(Pauli, Ref)>),
 }
 

@@ -8,7 +8,7 @@
 
 use std::fmt::Write;
 
-use crate::ir::Pauli;
+use crate::base::Pauli;
 use crate::lang::ast::{Ast, Expr, ExprKind, Ident, Index, NoiseTargets, Ref, Stmt, StmtKind};
 
 /// Prints a whole file.

@@ -18,32 +18,11 @@
 
 use std::fmt::Write as _;
 
-use crate::ir::{Basis, Channel, Circuit, Gate, Op, OpKind, Pauli};
-use crate::lang::Diagnostic;
-use crate::noise::implement::{effective_channel_with, Generator, Implementation};
+use crate::base::{xor_prob, Basis, ChannelKind, Diagnostic, Gate, Pauli};
+use crate::ir::{Channel, Circuit, Op, OpKind};
+use crate::noise::implement::{effective_channel_with, Implementation};
 use crate::noise::model::NoiseModel;
-
-/// What produced one inserted channel.
-#[derive(Clone, Debug, PartialEq)]
-pub struct Note {
-    /// Layer of the inserted operation in the compiled circuit.
-    pub layer: usize,
-    /// Position of the inserted operation in its layer.
-    pub op: usize,
-    /// Operation class: a gate name, `reset` or `idle` (and `round-start` for the data channel
-    /// of the `capacity` and `phenomenological` presets).
-    pub class: String,
-    /// The gate it follows, if any.
-    pub gate: Option<Gate>,
-    /// How that gate is implemented.
-    pub implementation: Implementation,
-    /// The model's own rotation generator for that gate, if it gives one.
-    pub generator: Option<Generator>,
-    /// The channel as the model writes it, before mid-gate faults are transformed.
-    pub input: Channel,
-    /// Human-readable origin, used as the comment in [`to_text`].
-    pub text: String,
-}
+use crate::noise::note::Note;
 
 /// A circuit with the model's noise written in.
 #[derive(Clone, Debug)]
@@ -59,10 +38,6 @@ pub struct Compiled {
     pub warnings: Vec<Diagnostic>,
 }
 
-fn combine(a: f64, b: f64) -> f64 {
-    a + b - 2.0 * a * b
-}
-
 /// Writes the model's noise into a copy of `circuit`.
 pub fn compile(circuit: &Circuit, model: &NoiseModel) -> Result<Compiled, Vec<Diagnostic>> {
     let n = circuit.qubits.len();
@@ -71,7 +46,7 @@ pub fn compile(circuit: &Circuit, model: &NoiseModel) -> Result<Compiled, Vec<Di
     let (mut errors, warnings): (Vec<Diagnostic>, Vec<Diagnostic>) = model
         .unmatched_overrides(circuit)
         .into_iter()
-        .partition(|d| d.severity == crate::lang::diagnostic::Severity::Error);
+        .partition(|d| d.severity == crate::base::Severity::Error);
     let mut missing: Vec<Gate> = Vec::new();
     let mut total = 0.0;
     let mut touched = vec![false; n];
@@ -191,7 +166,7 @@ pub fn compile(circuit: &Circuit, model: &NoiseModel) -> Result<Compiled, Vec<Di
                         .collect();
                     let m = model.measure_for(&qs);
                     duration = duration.max(m.duration.unwrap_or(0.0));
-                    *flip = combine(*flip, m.flip);
+                    *flip = xor_prob(*flip, m.flip);
                 }
             }
             if !matches!(op.kind, OpKind::Noise(_)) {
@@ -285,16 +260,18 @@ fn num(x: f64) -> String {
 }
 
 fn channel_text(ch: &Channel) -> String {
+    let name = ch.keyword();
     match ch {
-        Channel::BitFlip(p) => format!("bitflip p={}", num(*p)),
-        Channel::Dephasing(p) => format!("dephasing p={}", num(*p)),
-        Channel::Depolarizing1(p) => format!("depolarizing p={}", num(*p)),
-        Channel::Depolarizing2(p) => format!("depolarizing2 p={}", num(*p)),
-        Channel::Pauli1 { px, py, pz } => {
-            format!("pauli x={} y={} z={}", num(*px), num(*py), num(*pz))
+        Channel::BitFlip(p)
+        | Channel::Dephasing(p)
+        | Channel::Depolarizing(p)
+        | Channel::PairDepolarizing(p)
+        | Channel::Joint { p, .. } => format!("{name} p={}", num(*p)),
+        Channel::Pauli { px, py, pz } => {
+            format!("{name} x={} y={} z={}", num(*px), num(*py), num(*pz))
         }
-        Channel::Pauli2(t) => {
-            let mut s = "pauli2".to_string();
+        Channel::PairPauli(t) => {
+            let mut s = name.to_string();
             for (k, &p) in t.iter().enumerate() {
                 if p > 0.0 {
                     let v = Pauli::pair_from_index(k + 1);
@@ -307,7 +284,6 @@ fn channel_text(ch: &Channel) -> String {
             }
             s
         }
-        Channel::Correlated { p, .. } => format!("correlated p={}", num(*p)),
     }
 }
 
@@ -383,14 +359,19 @@ pub fn to_text(circuit: &Circuit, notes: &[Note], header: &[String]) -> String {
                     }
                     l
                 }
-                OpKind::Noise(Channel::Correlated { p, paulis }) => {
+                OpKind::Noise(Channel::Joint { p, paulis }) => {
                     let product: Vec<String> = op
                         .targets
                         .iter()
                         .zip(paulis)
                         .map(|(&q, p)| format!("{} {}", p.letter().to_ascii_lowercase(), name(q)))
                         .collect();
-                    format!("noise correlated p={} {}", num(*p), product.join(" * "))
+                    format!(
+                        "noise {} p={} {}",
+                        ChannelKind::Joint.name(),
+                        num(*p),
+                        product.join(" * ")
+                    )
                 }
                 OpKind::Noise(ch) => {
                     let groups: Vec<String> = op

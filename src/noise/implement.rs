@@ -37,7 +37,8 @@
 //! Convention: the Pauli on the gate's first target is the left factor, `ZY` = Z on the control
 //! and Y on the target of a `cx`.
 
-use crate::ir::{Channel, Gate, Pauli};
+use crate::base::{Gate, Pauli};
+use crate::ir::Channel;
 
 /// Number of Simpson panels used to integrate over the fault time (even), per π of winding
 /// (see [`Generator::winding`]).
@@ -693,8 +694,8 @@ pub fn mid_gate_fault_with(
 
 /// The effective channel of `gate` under `implementation` when the noise model puts `channel`
 /// on it: the Z-type terms are moved through the rest of the gate ([`mid_gate_fault`]), the
-/// others stay. Returns a one-qubit `pauli` channel for one-qubit gates and a `pauli2` channel
-/// for two-qubit gates; terms below 1e-15 (integration noise) are dropped. Under
+/// others stay. Returns a one-qubit `pauli` channel for one-qubit gates and a two-qubit `pauli`
+/// channel for two-qubit gates; terms below 1e-15 (integration noise) are dropped. Under
 /// [`Implementation::Ideal`] the channel is returned unchanged.
 pub fn effective_channel(gate: Gate, implementation: Implementation, channel: &Channel) -> Channel {
     effective_channel_with(gate, implementation, None, channel)
@@ -727,7 +728,7 @@ pub fn effective_channel_with(
     }
     if gate.arity() == 1 {
         // Index 4a for a one-qubit Pauli a on the first factor: X=4, Y=8, Z=12.
-        Channel::Pauli1 {
+        Channel::Pauli {
             px: probs[4],
             py: probs[8],
             pz: probs[12],
@@ -735,7 +736,7 @@ pub fn effective_channel_with(
     } else {
         let mut two = [0.0; 15];
         two.copy_from_slice(&probs[1..]);
-        Channel::Pauli2(Box::new(two))
+        Channel::PairPauli(Box::new(two))
     }
 }
 
@@ -851,7 +852,7 @@ mod tests {
 
     #[test]
     fn ideal_keeps_channel() {
-        let ch = Channel::Pauli1 {
+        let ch = Channel::Pauli {
             px: 0.1,
             py: 0.0,
             pz: 0.2,

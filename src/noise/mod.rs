@@ -1,12 +1,12 @@
 //! Noise specifications and the pass that writes them into a circuit as explicit channels.
 //!
-//! In: a [`Circuit`] (roles and rounds marked) and a [`NoiseSpec`] parsed from the `--noise`
-//! option. Out: a new [`Circuit`] with [`OpKind::Noise`](crate::ir::OpKind::Noise) operations
+//! In: a [`Circuit`](crate::ir::Circuit) (roles and rounds marked) and a [`NoiseSpec`] parsed from the `--noise`
+//! option. Out: a new circuit with [`OpKind::Noise`](crate::ir::OpKind::Noise) operations
 //! and measurement flip probabilities added; everything else is unchanged, so the simulators and
 //! the fault-graph extractor only ever see explicit channels. Inserted operations carry the span of
 //! the operation or layer they belong to, so fault provenance points at the source.
 //!
-//! Presets (see [`preset`] for the exact placement rules), written exactly as
+//! Presets (the exact placement rules are in `src/noise/preset.rs`), written exactly as
 //! `NAME key=value ...`:
 //!
 //! | preset | keys | meaning |
@@ -27,66 +27,25 @@
 //! The enum grows with new kinds of specification (noise-model files, gate implementations);
 //! callers match on it only through [`apply`].
 
-pub mod compile;
-pub mod implement;
-pub mod model;
-pub mod preset;
+mod compile;
+mod implement;
+mod model;
+mod note;
+mod preset;
+mod reader;
+mod spec;
 
-use std::sync::Arc;
-
-use crate::ir::Circuit;
-use crate::lang::{Diagnostic, Source};
-
+pub use compile::{compile, to_text, Compiled};
+pub use implement::{
+    angle_text, effective_channel, effective_channel_with, mid_gate_fault, mid_gate_fault_with,
+    parse_angle, parse_polynomial, Generator, Implementation, Terms, GATE_TOLERANCE, MAX_WINDING,
+    RESOLUTION,
+};
+pub use model::{
+    canonical_qubit_name, cat_idle, twirled_decoherence, GateNoise, IdleNoise, MeasureNoise,
+    NoiseModel, Override, Rate, ResetNoise, Selector, TIME_UNITS,
+};
+pub use note::Note;
 pub use preset::{Preset, PresetKind};
-
-/// A parsed `--noise` value.
-#[derive(Clone, Debug, PartialEq)]
-pub enum NoiseSpec {
-    /// A hardware model: a model file (`--noise FILE.toml`) or a `circuit` preset with a
-    /// non-ideal `cx=` implementation (see [`model`] and [`implement`]).
-    Model(Box<model::NoiseModel>),
-    /// A standard preset (`capacity`, `phenomenological`, `circuit`).
-    Preset(Preset),
-}
-
-impl NoiseSpec {
-    /// Parses the text of a `--noise` option. Diagnostics point into the option text, shown as a
-    /// source named `--noise`.
-    pub fn parse(text: &str) -> Result<NoiseSpec, Diagnostic> {
-        let source = Source::new("--noise", text);
-        NoiseSpec::parse_source(&source)
-    }
-
-    /// Parses a specification held in a [`Source`].
-    pub fn parse_source(source: &Arc<Source>) -> Result<NoiseSpec, Diagnostic> {
-        if let Some(spec) = model::parse_extension(source) {
-            return spec;
-        }
-        Preset::parse(source).map(NoiseSpec::Preset)
-    }
-}
-
-/// Returns a copy of `circuit` with the noise of `spec` written in as explicit operations.
-pub fn apply(circuit: &Circuit, spec: &NoiseSpec) -> Result<Circuit, Vec<Diagnostic>> {
-    apply_noted(circuit, spec).map(|c| c.circuit)
-}
-
-/// Like [`apply`], with one [`compile::Note`] per inserted channel saying what produced it and
-/// its operation class (presets and model files class channels alike). Presets give no
-/// durations, so their total duration is 0.
-pub fn apply_noted(
-    circuit: &Circuit,
-    spec: &NoiseSpec,
-) -> Result<compile::Compiled, Vec<Diagnostic>> {
-    match spec {
-        NoiseSpec::Model(m) => compile::compile(circuit, m),
-        NoiseSpec::Preset(p) => p
-            .apply_noted(circuit)
-            .map(|(circuit, notes)| compile::Compiled {
-                circuit,
-                notes,
-                duration: 0.0,
-                warnings: Vec::new(),
-            }),
-    }
-}
+pub use reader::MODEL_KEYS;
+pub use spec::{apply, apply_noted, NoiseSpec};

@@ -1,8 +1,9 @@
-//! Hardware noise-model files (TOML): schema, parsing and validation.
+//! Hardware noise models: the schema of a model file (TOML), the types it is read into and what
+//! they mean for a circuit's qubits.
 //!
-//! In: the text of a model file in a [`Source`]. Out: a [`NoiseModel`], or a [`Diagnostic`] at
-//! `file:line:col` (unknown key with a suggestion, value of the wrong type or out of range,
-//! `t2 > 2·t1`, missing rate). Gates the circuit uses but the model does not describe are
+//! In: a model file, read by `reader.rs` into a [`NoiseModel`] ([`NoiseModel::parse`]; a bad file
+//! gives a [`Diagnostic`] at `file:line:col`). Out: the noise of each gate, measurement, reset
+//! and idle qubit, overrides applied. Gates the circuit uses but the model does not describe are
 //! reported when the model is compiled into a circuit ([`crate::noise::compile`]).
 //!
 //! # Schema
@@ -64,10 +65,10 @@
 //!
 //! `generator` (with `angle`, in the section of one gate whose `implementation` is `rotation`)
 //! replaces [`Generator::default_for`]: terms `[COEFFICIENT[*]]PAULIS` joined by `+`/`-`, a
-//! missing coefficient meaning 1 (see [`parse_polynomial`]). Coefficients are real and finite,
+//! missing coefficient meaning 1 (see [`crate::noise::implement::parse_polynomial`]). Coefficients are real and finite,
 //! so `G` is Hermitian and the rotation unitary. The file is refused, at the `generator` value,
 //! unless `exp(i·angle·G)` equals the gate up to a global phase (largest matrix entry within
-//! [`GATE_TOLERANCE`], so write irrational coefficients to at least eight digits). Generators
+//! [`crate::noise::implement::GATE_TOLERANCE`], so write irrational coefficients to at least eight digits). Generators
 //! that implement the same gate can still differ in what a mid-gate fault becomes: that is the
 //! point of giving one.
 //!
@@ -84,15 +85,9 @@
 
 use std::sync::Arc;
 
-use toml_edit::{ImDocument, Item, TableLike, Value};
-
-use crate::ir::{Channel, Gate, Pauli};
-use crate::lang::diagnostic::did_you_mean;
-use crate::lang::{Diagnostic, Source, Span};
-use crate::noise::implement::{
-    angle_text, parse_angle, parse_polynomial, Generator, Implementation, GATE_TOLERANCE,
-    MAX_WINDING,
-};
+use crate::base::{did_you_mean, Diagnostic, Gate, Severity, Source, Span};
+use crate::ir::{Channel, Circuit, Qubit};
+use crate::noise::implement::{Generator, Implementation};
 use crate::noise::preset::{Preset, PresetKind};
 
 /// A channel as the model writes it.
@@ -107,7 +102,7 @@ pub enum Rate {
         /// `pZ/(pX+pY)`; infinite for pure Z.
         bias: Option<f64>,
     },
-    /// Explicit two-qubit Pauli probabilities in the order of [`Channel::Pauli2`].
+    /// Explicit two-qubit Pauli probabilities in the order of [`Channel::PairPauli`].
     Two(Box<[f64; 15]>),
 }
 
@@ -124,7 +119,7 @@ impl Rate {
     /// The channel on one qubit (`None` for a two-qubit rate).
     pub fn one(&self) -> Option<Channel> {
         match self {
-            Rate::One(px, py, pz) => Some(Channel::Pauli1 {
+            Rate::One(px, py, pz) => Some(Channel::Pauli {
                 px: *px,
                 py: *py,
                 pz: *pz,
@@ -137,7 +132,7 @@ impl Rate {
     /// The channel on a pair (`None` for a one-qubit rate).
     pub fn two(&self) -> Option<Channel> {
         match self {
-            Rate::Two(t) => Some(Channel::Pauli2(t.clone())),
+            Rate::Two(t) => Some(Channel::PairPauli(t.clone())),
             Rate::Total { p, bias } => Some(Rate::preset(*p, *bias).two_qubit(*p)),
             Rate::One(..) => None,
         }
@@ -227,10 +222,10 @@ impl IdleNoise {
             IdleNoise::Decoherence { t1, t2 } => twirled_decoherence(t, *t1, *t2),
             IdleNoise::Cat { t_bitflip, t2 } => cat_idle(t, *t_bitflip, *t2),
         };
-        Some(Channel::Pauli1 { px, py, pz })
+        Some(Channel::Pauli { px, py, pz })
     }
 
-    fn needs_durations(&self) -> bool {
+    pub(crate) fn needs_durations(&self) -> bool {
         matches!(self, IdleNoise::Decoherence { .. } | IdleNoise::Cat { .. })
     }
 }
@@ -321,73 +316,8 @@ impl NoiseModel {
         }
     }
 
-    /// Parses a model file.
-    pub fn parse(source: &Arc<Source>) -> Result<NoiseModel, Diagnostic> {
-        let doc = ImDocument::parse(source.text.clone()).map_err(|e| {
-            let span = e.span().unwrap_or(0..0);
-            let msg = e.message().lines().next().unwrap_or("invalid TOML").trim();
-            Diagnostic::error(
-                source,
-                Span::new(span.start, span.end.max(span.start + 1)),
-                format!("invalid TOML: {msg}"),
-            )
-        })?;
-        let p = Parser { source };
-        let root = doc.as_table();
-        let whole = Span::new(0, source.text.len());
-        p.known_keys(
-            root,
-            &[
-                "bias",
-                "gates",
-                "idle",
-                "measure",
-                "override",
-                "p",
-                "reset",
-                "time_unit",
-            ],
-            "the top level",
-        )?;
-        let time_unit = p.time_unit(root)?;
-        let base = p.base_rate(root, None)?;
-        let gates = match root.get("gates") {
-            None => Vec::new(),
-            Some(item) => p.gates(item, &base)?,
-        };
-        let measure = p.measure(root.get("measure"), &base, None, whole)?;
-        let reset = p.reset(root.get("reset"), &base, None, whole)?;
-        let idle = match root.get("idle") {
-            None => IdleNoise::None,
-            Some(item) => p.idle(item, &base)?,
-        };
-        let mut overrides = Vec::new();
-        if let Some(item) = root.get("override") {
-            let Some(array) = item.as_array_of_tables() else {
-                return Err(p.err(
-                    item.span(),
-                    "`override` must be an array of tables, written `[[override]]`",
-                ));
-            };
-            for t in array.iter() {
-                overrides.push(p.override_table(t, &base, &measure, &reset)?);
-            }
-        }
-        let model = NoiseModel {
-            source: source.clone(),
-            gates,
-            measure,
-            reset,
-            idle,
-            overrides,
-            time_unit,
-        };
-        p.check_durations(&model, root)?;
-        Ok(model)
-    }
-
     /// The gate section for `gate` (the override for `qubits` if one matches), if any.
-    pub fn gate<'a>(&'a self, gate: Gate, qubits: &[&crate::ir::Qubit]) -> Option<&'a GateNoise> {
+    pub fn gate<'a>(&'a self, gate: Gate, qubits: &[&Qubit]) -> Option<&'a GateNoise> {
         let find = |list: &'a [(Option<Gate>, GateNoise)]| {
             list.iter()
                 .find(|(g, _)| *g == Some(gate))
@@ -405,7 +335,7 @@ impl NoiseModel {
     }
 
     /// Measurement noise for a product on `qubits`.
-    pub fn measure_for(&self, qubits: &[&crate::ir::Qubit]) -> &MeasureNoise {
+    pub fn measure_for(&self, qubits: &[&Qubit]) -> &MeasureNoise {
         self.overrides
             .iter()
             .rev()
@@ -415,7 +345,7 @@ impl NoiseModel {
     }
 
     /// Reset noise for `qubit`.
-    pub fn reset_for(&self, qubit: &crate::ir::Qubit) -> &ResetNoise {
+    pub fn reset_for(&self, qubit: &Qubit) -> &ResetNoise {
         self.overrides
             .iter()
             .rev()
@@ -430,7 +360,7 @@ impl NoiseModel {
     /// silently compile the wrong noise. A role the circuit simply does not use (an `ancilla`
     /// override applied to a product-measurement circuit) is a warning: one hardware model must
     /// serve every circuit written for that hardware.
-    pub fn unmatched_overrides(&self, circuit: &crate::ir::Circuit) -> Vec<Diagnostic> {
+    pub fn unmatched_overrides(&self, circuit: &Circuit) -> Vec<Diagnostic> {
         let mut out = Vec::new();
         for o in &self.overrides {
             if circuit.qubits.iter().any(|q| o.selector.matches(q)) {
@@ -463,7 +393,7 @@ impl NoiseModel {
             );
             let suggestion = did_you_mean(name, candidates.iter().copied());
             if what == "role" && suggestion.is_none() {
-                d.severity = crate::lang::diagnostic::Severity::Warning;
+                d.severity = Severity::Warning;
                 d.message.push_str("; the override is skipped");
             }
             d = match suggestion {
@@ -487,7 +417,7 @@ impl NoiseModel {
     }
 
     /// Idle noise for `qubit`.
-    pub fn idle_for(&self, qubit: &crate::ir::Qubit) -> &IdleNoise {
+    pub fn idle_for(&self, qubit: &Qubit) -> &IdleNoise {
         self.overrides
             .iter()
             .rev()
@@ -530,771 +460,10 @@ pub fn canonical_qubit_name(text: &str) -> Option<String> {
 
 impl Selector {
     /// Whether the selector picks `qubit`.
-    pub fn matches(&self, qubit: &crate::ir::Qubit) -> bool {
+    pub fn matches(&self, qubit: &Qubit) -> bool {
         match self {
             Selector::Qubit(n) => &qubit.name == n,
             Selector::Role(r) => qubit.has_role(r),
         }
     }
-}
-
-/// Base `p` and `bias` inherited by sections that give none.
-#[derive(Clone, Debug, Default)]
-struct Base {
-    p: Option<f64>,
-    bias: Option<f64>,
-}
-
-struct Parser<'a> {
-    source: &'a Arc<Source>,
-}
-
-fn span_of(r: Option<std::ops::Range<usize>>) -> Option<Span> {
-    r.map(|r| Span::new(r.start, r.end))
-}
-
-/// Keys of every gate section; one-qubit gates add `x`, `y`, `z`, two-qubit gates the 15 term
-/// names.
-const GATE_KEYS: [&str; 6] = [
-    "angle",
-    "bias",
-    "duration",
-    "generator",
-    "implementation",
-    "p",
-];
-
-impl Parser<'_> {
-    fn err(&self, span: Option<std::ops::Range<usize>>, msg: impl Into<String>) -> Diagnostic {
-        let s = span_of(span).unwrap_or(Span::new(0, 0));
-        Diagnostic::error(self.source, s, msg)
-    }
-
-    fn key_span(&self, t: &dyn TableLike, key: &str) -> Option<std::ops::Range<usize>> {
-        t.key(key)
-            .and_then(|k| k.span())
-            .or_else(|| t.get(key).and_then(|i| i.span()))
-    }
-
-    fn known_keys(&self, t: &dyn TableLike, keys: &[&str], what: &str) -> Result<(), Diagnostic> {
-        for (k, _) in t.iter() {
-            if !keys.contains(&k) {
-                let mut d = self.err(self.key_span(t, k), format!("unknown key `{k}` in {what}"));
-                d = match did_you_mean(k, keys.iter().copied()) {
-                    Some(s) => d.with_hint(format!("did you mean `{s}`?")),
-                    None => d.with_hint(format!(
-                        "{what} takes {}",
-                        keys.iter()
-                            .map(|k| format!("`{k}`"))
-                            .collect::<Vec<_>>()
-                            .join(", ")
-                    )),
-                };
-                return Err(d);
-            }
-        }
-        Ok(())
-    }
-
-    fn number(&self, t: &dyn TableLike, key: &str) -> Result<Option<f64>, Diagnostic> {
-        let Some(item) = t.get(key) else {
-            return Ok(None);
-        };
-        let v = match item.as_value() {
-            Some(Value::Float(f)) => *f.value(),
-            Some(Value::Integer(i)) => *i.value() as f64,
-            Some(Value::String(s)) if s.value() == "inf" => f64::INFINITY,
-            _ => return Err(self.err(item.span(), format!("`{key}` must be a number"))),
-        };
-        if v.is_nan() {
-            return Err(self.err(item.span(), format!("`{key}` must be a number")));
-        }
-        Ok(Some(v))
-    }
-
-    fn time_unit(&self, t: &dyn TableLike) -> Result<Option<&'static str>, Diagnostic> {
-        let Some(item) = t.get("time_unit") else {
-            return Ok(None);
-        };
-        let units = TIME_UNITS
-            .iter()
-            .map(|u| format!("`{u}`"))
-            .collect::<Vec<_>>()
-            .join(", ");
-        let Some(s) = item.as_str() else {
-            return Err(self
-                .err(item.span(), "`time_unit` must be a string")
-                .with_hint(format!(
-                    "write e.g. `time_unit = \"ns\"`; units are {units}"
-                )));
-        };
-        match TIME_UNITS.iter().find(|u| **u == s) {
-            Some(u) => Ok(Some(*u)),
-            // No did-you-mean: edit distance would offer `s` for `µs`.
-            None => Err(self
-                .err(item.span(), format!("unknown time unit `{s}`"))
-                .with_hint(format!(
-                    "units are {units} (`us` for microseconds); write every duration and time in it"
-                ))),
-        }
-    }
-
-    fn probability(&self, t: &dyn TableLike, key: &str) -> Result<Option<f64>, Diagnostic> {
-        let v = self.number(t, key)?;
-        if let Some(x) = v {
-            if !(0.0..=1.0).contains(&x) {
-                return Err(self.err(
-                    t.get(key).and_then(|i| i.span()),
-                    format!("`{key}` = {x} is outside [0, 1]"),
-                ));
-            }
-        }
-        Ok(v)
-    }
-
-    fn positive(
-        &self,
-        t: &dyn TableLike,
-        key: &str,
-        allow_zero: bool,
-    ) -> Result<Option<f64>, Diagnostic> {
-        let v = self.number(t, key)?;
-        if let Some(x) = v {
-            if x < 0.0 || (!allow_zero && x == 0.0) || (x.is_infinite() && key == "duration") {
-                let what = if allow_zero {
-                    "non-negative and finite"
-                } else {
-                    "positive"
-                };
-                return Err(self.err(
-                    t.get(key).and_then(|i| i.span()),
-                    format!("`{key}` = {x} must be {what}"),
-                ));
-            }
-        }
-        Ok(v)
-    }
-
-    fn base_rate(&self, t: &dyn TableLike, inherit: Option<&Base>) -> Result<Base, Diagnostic> {
-        let p = self.probability(t, "p")?;
-        let bias = self.positive(t, "bias", false)?;
-        let inherit = inherit.cloned().unwrap_or_default();
-        Ok(Base {
-            p: p.or(inherit.p),
-            bias: bias.or(inherit.bias),
-        })
-    }
-
-    fn table<'b>(&self, item: &'b Item, name: &str) -> Result<&'b dyn TableLike, Diagnostic> {
-        item.as_table_like()
-            .ok_or_else(|| self.err(item.span(), format!("`{name}` must be a table")))
-    }
-
-    /// A rate: explicit terms, or `p` + `bias` (inheriting the base).
-    fn rate(
-        &self,
-        t: &dyn TableLike,
-        base: &Base,
-        two: bool,
-        at: Span,
-        what: &str,
-    ) -> Result<Rate, Diagnostic> {
-        if two {
-            let mut terms = [0.0; 15];
-            let mut any = false;
-            for k in 1..16 {
-                let v = Pauli::pair_from_index(k);
-                let name: String = v.iter().map(|p| p.letter().to_ascii_lowercase()).collect();
-                if let Some(x) = self.probability(t, &name)? {
-                    terms[k - 1] = x;
-                    any = true;
-                }
-            }
-            if any {
-                if t.contains_key("p") {
-                    return Err(self.err(
-                        self.key_span(t, "p"),
-                        format!("{what} gives both `p` and named terms"),
-                    ));
-                }
-                if terms.iter().sum::<f64>() > 1.0 {
-                    return Err(Diagnostic::error(
-                        self.source,
-                        at,
-                        format!("the terms of {what} add up to more than 1"),
-                    ));
-                }
-                return Ok(Rate::Two(Box::new(terms)));
-            }
-        } else {
-            let (x, y, z) = (
-                self.probability(t, "x")?,
-                self.probability(t, "y")?,
-                self.probability(t, "z")?,
-            );
-            if x.is_some() || y.is_some() || z.is_some() {
-                if t.contains_key("p") {
-                    return Err(self.err(
-                        self.key_span(t, "p"),
-                        format!("{what} gives both `p` and `x`/`y`/`z`"),
-                    ));
-                }
-                let (x, y, z) = (x.unwrap_or(0.0), y.unwrap_or(0.0), z.unwrap_or(0.0));
-                if x + y + z > 1.0 {
-                    return Err(Diagnostic::error(
-                        self.source,
-                        at,
-                        format!("`x + y + z` of {what} is more than 1"),
-                    ));
-                }
-                return Ok(Rate::One(x, y, z));
-            }
-        }
-        let b = self.base_rate(t, Some(base))?;
-        let Some(p) = b.p else {
-            return Err(
-                Diagnostic::error(self.source, at, format!("{what} has no error rate"))
-                    .with_hint("give `p = ...` here or at the top level of the model"),
-            );
-        };
-        Ok(Rate::Total { p, bias: b.bias })
-    }
-
-    fn gates(
-        &self,
-        item: &Item,
-        base: &Base,
-    ) -> Result<Vec<(Option<Gate>, GateNoise)>, Diagnostic> {
-        let t = self.table(item, "gates")?;
-        let mut out = Vec::new();
-        let names: Vec<&str> = Gate::ALL
-            .iter()
-            .map(|g| g.name())
-            .chain(["default"])
-            .collect();
-        for (name, sub) in t.iter() {
-            let gate = match Gate::from_name(name) {
-                Some(g) => Some(g),
-                None if name == "default" => None,
-                None => {
-                    let mut d = self.err(
-                        self.key_span(t, name),
-                        format!("unknown gate `{name}` in `gates`"),
-                    );
-                    if let Some(s) = did_you_mean(name, names.iter().copied()) {
-                        d = d.with_hint(format!("did you mean `{s}`?"));
-                    }
-                    return Err(d);
-                }
-            };
-            out.push((gate, self.gate(sub, name, gate, base)?));
-        }
-        Ok(out)
-    }
-
-    fn gate(
-        &self,
-        item: &Item,
-        name: &str,
-        gate: Option<Gate>,
-        base: &Base,
-    ) -> Result<GateNoise, Diagnostic> {
-        let t = self.table(item, &format!("gates.{name}"))?;
-        let at = span_of(item.span())
-            .or_else(|| span_of(self.key_span(t, "p")))
-            .unwrap_or(Span::new(0, 0));
-        let two = gate.is_some_and(|g| g.arity() == 2);
-        let mut keys: Vec<&str> = GATE_KEYS.to_vec();
-        let pair_names: Vec<String> = (1..16)
-            .map(|k| {
-                Pauli::pair_from_index(k)
-                    .iter()
-                    .map(|p| p.letter().to_ascii_lowercase())
-                    .collect()
-            })
-            .collect();
-        if two {
-            keys.extend(pair_names.iter().map(|s| s.as_str()));
-        } else if gate.is_some() {
-            keys.extend(["x", "y", "z"]);
-        }
-        self.known_keys(t, &keys, &format!("`gates.{name}`"))?;
-        let implementation = match t.get("implementation") {
-            None => Implementation::Ideal,
-            Some(i) => {
-                let s = i.as_str().unwrap_or("");
-                Implementation::from_name(s).ok_or_else(|| {
-                    let mut d = self.err(i.span(), format!("unknown implementation `{s}`"));
-                    d = d.with_hint(
-                        match did_you_mean(s, Implementation::ALL.iter().map(|i| i.name())) {
-                            Some(x) => format!("did you mean `{x}`?"),
-                            None => "implementations are `ideal`, `rotation` and `bias-preserving`"
-                                .into(),
-                        },
-                    );
-                    d
-                })?
-            }
-        };
-        Ok(GateNoise {
-            duration: self.positive(t, "duration", true)?,
-            rate: self.rate(t, base, two, at, &format!("`gates.{name}`"))?,
-            implementation,
-            generator: self.generator(t, name, gate, implementation)?,
-            span: at,
-        })
-    }
-
-    /// The span of `range` (byte offsets into the string value of `item`) in the file. Offsets
-    /// map one to one only when the value is written literally between one-character quotes
-    /// with no escapes; otherwise the whole value is the best place to point at.
-    fn in_string(&self, item: &Item, range: std::ops::Range<usize>) -> Span {
-        let Some(span) = item.span() else {
-            return Span::new(0, 0);
-        };
-        let raw = &self.source.text[span.clone()];
-        let literal = item
-            .as_str()
-            .is_some_and(|v| raw.len() == v.len() + 2 && &raw[1..raw.len() - 1] == v);
-        if literal {
-            let start = span.start + 1 + range.start;
-            Span::new(start, (span.start + 1 + range.end).max(start + 1))
-        } else {
-            Span::new(span.start, span.end)
-        }
-    }
-
-    /// `generator` and `angle` of a gate section: a rotation `exp(i·angle·G)` replacing the
-    /// default generator. Refused unless it belongs to one gate implemented as a rotation, parses,
-    /// and its rotation is the gate up to a global phase.
-    fn generator(
-        &self,
-        t: &dyn TableLike,
-        name: &str,
-        gate: Option<Gate>,
-        implementation: Implementation,
-    ) -> Result<Option<Generator>, Diagnostic> {
-        let (g_item, a_item) = (t.get("generator"), t.get("angle"));
-        let given = if g_item.is_some() {
-            "generator"
-        } else {
-            "angle"
-        };
-        if g_item.is_none() && a_item.is_none() {
-            return Ok(None);
-        }
-        let Some(gate) = gate else {
-            return Err(self
-                .err(
-                    self.key_span(t, given),
-                    format!("`{given}` describes one gate, not `gates.default`"),
-                )
-                .with_hint("give it in the section of the gate it implements, e.g. `[gates.cx]`"));
-        };
-        let example = Generator::default_for(gate);
-        let example = format!(
-            "`{}` is, for example, `generator = \"{}\"` with `angle = \"{}\"`",
-            gate.name(),
-            example.text(gate.arity()),
-            angle_text(example.theta)
-        );
-        if implementation != Implementation::Rotation {
-            return Err(self
-                .err(
-                    self.key_span(t, given),
-                    format!(
-                        "`{given}` applies only to `implementation = \"rotation\"`, and `gates.{name}` is `{}`",
-                        implementation.name()
-                    ),
-                )
-                .with_hint("set `implementation = \"rotation\"` or remove the generator"));
-        }
-        let (Some(g_item), Some(a_item)) = (g_item, a_item) else {
-            let (has, lacks) = if g_item.is_some() {
-                ("generator", "angle")
-            } else {
-                ("angle", "generator")
-            };
-            return Err(self
-                .err(
-                    self.key_span(t, has),
-                    format!("`{has}` needs `{lacks}` in `gates.{name}`: the gate is exp(i·angle·generator)"),
-                )
-                .with_hint(example));
-        };
-        let Some(text) = g_item.as_str() else {
-            return Err(self
-                .err(g_item.span(), "`generator` must be a string")
-                .with_hint(example));
-        };
-        let terms = parse_polynomial(text, gate.arity()).map_err(|(range, msg)| {
-            Diagnostic::error(self.source, self.in_string(g_item, range), msg).with_hint(
-                "write a sum of Pauli strings with real coefficients, e.g. `II - ZI - IX + ZX` or `0.5 XX + 0.5 YY`",
-            )
-        })?;
-        let angle_hint =
-            "write radians as a number, or a multiple of pi such as `\"pi/4\"` or `\"-3*pi/4\"`";
-        let theta = match a_item.as_value() {
-            Some(Value::Float(f)) if f.value().is_finite() => *f.value(),
-            Some(Value::Integer(i)) => *i.value() as f64,
-            Some(Value::String(s)) => parse_angle(s.value()).ok_or_else(|| {
-                self.err(a_item.span(), format!("`{}` is not an angle", s.value()))
-                    .with_hint(angle_hint)
-            })?,
-            _ => {
-                return Err(self
-                    .err(
-                        a_item.span(),
-                        "`angle` must be a finite number or a multiple of pi",
-                    )
-                    .with_hint(angle_hint))
-            }
-        };
-        let generator = Generator { terms, theta };
-        let winding = generator.winding();
-        if winding > MAX_WINDING {
-            return Err(self
-                .err(
-                    a_item.span(),
-                    format!(
-                        "the rotation winds too far: |angle|·Σ|coefficients| = {winding:.3}·pi is more than {MAX_WINDING}·pi"
-                    ),
-                )
-                .with_hint(example));
-        }
-        let deviation = generator.deviation_from(gate);
-        if deviation.is_nan() || deviation > GATE_TOLERANCE {
-            return Err(self
-                .err(
-                    g_item.span(),
-                    format!(
-                        "this generator does not implement `{}`: exp(i·angle·G) differs from the gate by {deviation:.1e} (largest matrix entry, up to a global phase)",
-                        gate.name()
-                    ),
-                )
-                .with_label(
-                    self.source,
-                    span_of(a_item.span()).unwrap_or(Span::new(0, 0)),
-                    "with this angle",
-                )
-                .with_hint(example));
-        }
-        Ok(Some(generator))
-    }
-
-    fn measure(
-        &self,
-        item: Option<&Item>,
-        base: &Base,
-        inherit: Option<&MeasureNoise>,
-        at: Span,
-    ) -> Result<MeasureNoise, Diagnostic> {
-        let Some(item) = item else {
-            return match (inherit, base.p) {
-                (Some(m), _) => Ok(m.clone()),
-                (None, p) => Ok(MeasureNoise {
-                    duration: None,
-                    flip: p.unwrap_or(0.0),
-                }),
-            };
-        };
-        let t = self.table(item, "measure")?;
-        self.known_keys(t, &["duration", "flip"], "`measure`")?;
-        let flip = self.probability(t, "flip")?;
-        let duration = self.positive(t, "duration", true)?;
-        let fallback = inherit.map(|m| m.flip).or(base.p);
-        let Some(flip) = flip.or(fallback) else {
-            return Err(Diagnostic::error(
-                self.source,
-                span_of(item.span()).unwrap_or(at),
-                "`measure` has no `flip` probability",
-            )
-            .with_hint("give `flip = ...` or a base `p` at the top level"));
-        };
-        Ok(MeasureNoise {
-            duration: duration.or(inherit.and_then(|m| m.duration)),
-            flip,
-        })
-    }
-
-    fn reset(
-        &self,
-        item: Option<&Item>,
-        base: &Base,
-        inherit: Option<&ResetNoise>,
-        at: Span,
-    ) -> Result<ResetNoise, Diagnostic> {
-        let Some(item) = item else {
-            return match (inherit, base.p) {
-                (Some(r), _) => Ok(r.clone()),
-                (None, p) => Ok(ResetNoise {
-                    duration: None,
-                    p: p.unwrap_or(0.0),
-                }),
-            };
-        };
-        let t = self.table(item, "reset")?;
-        self.known_keys(t, &["duration", "p"], "`reset`")?;
-        let p = self.probability(t, "p")?;
-        let duration = self.positive(t, "duration", true)?;
-        let Some(p) = p.or(inherit.map(|r| r.p)).or(base.p) else {
-            return Err(Diagnostic::error(
-                self.source,
-                span_of(item.span()).unwrap_or(at),
-                "`reset` has no error probability `p`",
-            ));
-        };
-        Ok(ResetNoise {
-            duration: duration.or(inherit.and_then(|r| r.duration)),
-            p,
-        })
-    }
-
-    fn idle(&self, item: &Item, base: &Base) -> Result<IdleNoise, Diagnostic> {
-        let t = self.table(item, "idle")?;
-        self.known_keys(
-            t,
-            &["bias", "p", "t1", "t2", "t_bitflip", "x", "y", "z"],
-            "`idle`",
-        )?;
-        let t1 = self.positive(t, "t1", false)?;
-        let t2 = self.positive(t, "t2", false)?;
-        let tb = self.positive(t, "t_bitflip", false)?;
-        let timed = t1.is_some() || t2.is_some() || tb.is_some();
-        if timed {
-            for k in ["p", "bias", "x", "y", "z"] {
-                if t.contains_key(k) {
-                    return Err(self.err(self.key_span(t, k), format!("`idle` gives both times and the rate `{k}`"))
-                        .with_hint("idle noise comes either from `t1`/`t2` (or `t_bitflip`/`t2`) or from a rate"));
-                }
-            }
-            let at = span_of(item.span()).unwrap_or(Span::new(0, 0));
-            let Some(t2v) = t2 else {
-                return Err(Diagnostic::error(
-                    self.source,
-                    at,
-                    "`idle` needs `t2` with `t1` or `t_bitflip`",
-                ));
-            };
-            return match (t1, tb) {
-                (Some(_), Some(_)) => Err(self.err(self.key_span(t, "t_bitflip"), "`idle` gives both `t1` and `t_bitflip`")
-                    .with_hint("`t_bitflip` describes cat-like qubits, whose bit flips do not come from T1")),
-                (Some(t1v), None) => {
-                    if t2v > 2.0 * t1v {
-                        return Err(self.err(t.get("t2").and_then(|i| i.span()), format!("`t2` = {t2v} is more than 2·`t1` = {}", 2.0 * t1v))
-                            .with_hint("physical qubits have T2 ≤ 2·T1 (pure dephasing only shortens T2)"));
-                    }
-                    Ok(IdleNoise::Decoherence { t1: t1v, t2: t2v })
-                }
-                (None, Some(tbv)) => Ok(IdleNoise::Cat { t_bitflip: tbv, t2: t2v }),
-                (None, None) => Err(Diagnostic::error(self.source, at, "`idle` gives `t2` without `t1` or `t_bitflip`")),
-            };
-        }
-        let at = span_of(item.span()).unwrap_or(Span::new(0, 0));
-        let r = self.rate(t, base, false, at, "`idle`")?;
-        Ok(IdleNoise::Rate(r))
-    }
-
-    fn override_table(
-        &self,
-        t: &toml_edit::Table,
-        base: &Base,
-        measure: &MeasureNoise,
-        reset: &ResetNoise,
-    ) -> Result<Override, Diagnostic> {
-        self.known_keys(
-            t,
-            &["gates", "idle", "measure", "qubit", "reset", "role"],
-            "`override`",
-        )?;
-        let at = span_of(t.span()).unwrap_or(Span::new(0, 0));
-        let str_of = |k: &str| -> Result<Option<String>, Diagnostic> {
-            match t.get(k) {
-                None => Ok(None),
-                Some(i) => i
-                    .as_str()
-                    .map(|s| Some(s.to_string()))
-                    .ok_or_else(|| self.err(i.span(), format!("`{k}` must be a string"))),
-            }
-        };
-        let selector = match (str_of("qubit")?, str_of("role")?) {
-            (Some(q), None) => Selector::Qubit(canonical_qubit_name(&q).ok_or_else(|| {
-                self.err(
-                    t.get("qubit").and_then(|i| i.span()),
-                    format!("`{q}` is not a qubit name"),
-                )
-                .with_hint("write the name as the circuit does, e.g. `a[0]` or `d[1, 2]`")
-            })?),
-            (None, Some(r)) => Selector::Role(r),
-            (Some(_), Some(_)) => {
-                return Err(self.err(
-                    self.key_span(t, "role"),
-                    "an override selects by `qubit` or by `role`, not both",
-                ))
-            }
-            (None, None) => {
-                return Err(Diagnostic::error(
-                    self.source,
-                    at,
-                    "an override needs `qubit = \"NAME\"` or `role = \"ROLE\"`",
-                ))
-            }
-        };
-        let selector_span = span_of(
-            t.get("qubit")
-                .or_else(|| t.get("role"))
-                .and_then(|i| i.span()),
-        )
-        .unwrap_or(at);
-        Ok(Override {
-            selector,
-            selector_span,
-            gates: match t.get("gates") {
-                None => Vec::new(),
-                Some(i) => self.gates(i, base)?,
-            },
-            measure: match t.get("measure") {
-                None => None,
-                Some(i) => Some(self.measure(Some(i), base, Some(measure), at)?),
-            },
-            reset: match t.get("reset") {
-                None => None,
-                Some(i) => Some(self.reset(Some(i), base, Some(reset), at)?),
-            },
-            idle: match t.get("idle") {
-                None => None,
-                Some(i) => Some(self.idle(i, base)?),
-            },
-            span: at,
-        })
-    }
-
-    /// Idle noise from times needs every duration.
-    fn check_durations(&self, m: &NoiseModel, root: &toml_edit::Table) -> Result<(), Diagnostic> {
-        let timed = m.idle.needs_durations()
-            || m.overrides
-                .iter()
-                .any(|o| o.idle.as_ref().is_some_and(|i| i.needs_durations()));
-        if !timed {
-            return Ok(());
-        }
-        let all_gates = m
-            .gates
-            .iter()
-            .chain(m.overrides.iter().flat_map(|o| o.gates.iter()));
-        for (g, n) in all_gates {
-            if n.duration.is_none() {
-                let name = g.map_or("default", |g| g.name());
-                return Err(Diagnostic::error(
-                    self.source,
-                    n.span,
-                    format!("`gates.{name}` has no `duration`"),
-                )
-                .with_hint("idle noise from `t1`/`t2` needs the duration of every operation"));
-            }
-        }
-        for (name, d) in [("measure", m.measure.duration), ("reset", m.reset.duration)] {
-            if d.is_none() {
-                let at = span_of(root.get(name).and_then(|i| i.span())).unwrap_or(Span::new(0, 0));
-                return Err(Diagnostic::error(
-                    self.source,
-                    at,
-                    format!("`{name}` has no `duration`"),
-                )
-                .with_hint("idle noise from `t1`/`t2` needs the duration of every operation"));
-            }
-        }
-        Ok(())
-    }
-}
-
-/// The extensions of `--noise` beyond the plain presets: the path of a model file, or a
-/// `circuit` preset with a `cx=ideal|rotation|bias-preserving` key. Returns `None` when the text
-/// is neither (it is then a plain preset). `cx=ideal` gives the plain preset.
-///
-/// The text is a path when it ends in `.toml`, or is one word containing `/` (no preset
-/// contains one). A path that names no file is reported as such, not as an unknown preset.
-pub fn parse_extension(
-    source: &Arc<Source>,
-) -> Option<Result<crate::noise::NoiseSpec, Diagnostic>> {
-    use crate::noise::NoiseSpec;
-    let text = source.text.as_str();
-    let trimmed = text.trim();
-    let one_word = !trimmed.contains(char::is_whitespace);
-    if trimmed.ends_with(".toml") || (one_word && trimmed.contains('/')) {
-        let path = std::path::Path::new(trimmed);
-        let start = text.find(trimmed).unwrap_or(0);
-        let at = Span::new(start, start + trimmed.len());
-        return Some(match std::fs::read_to_string(path) {
-            Ok(body) => NoiseModel::parse(&Source::new(trimmed, body))
-                .map(|m| NoiseSpec::Model(Box::new(m))),
-            Err(e) if e.kind() == std::io::ErrorKind::NotFound => Err(Diagnostic::error(
-                source,
-                at,
-                format!("the noise model file `{trimmed}` does not exist"),
-            )
-            .with_hint(
-                "`--noise` takes the path of a model file or a preset such as `circuit p=0.001`",
-            )),
-            Err(e) => Err(Diagnostic::error(
-                source,
-                at,
-                format!("cannot read the noise model `{trimmed}`: {e}"),
-            )),
-        });
-    }
-    // Find a `cx=` token at a token boundary.
-    let mut at = None;
-    let mut offset = 0;
-    for tok in text.split(char::is_whitespace) {
-        if tok.starts_with("cx=") {
-            at = Some((offset, tok));
-        }
-        offset += tok.len() + 1;
-    }
-    let (start, tok) = at?;
-    let value = &tok[3..];
-    let vspan = Span::new(start + 3, start + tok.len().max(4));
-    let Some(implementation) = Implementation::from_name(value) else {
-        let mut d = Diagnostic::error(
-            source,
-            vspan,
-            format!("unknown cx implementation `{value}`"),
-        );
-        d = d.with_hint(
-            match did_you_mean(value, Implementation::ALL.iter().map(|i| i.name())) {
-                Some(s) => format!("did you mean `{s}`?"),
-                None => "`cx=` takes `ideal`, `rotation` or `bias-preserving`".into(),
-            },
-        );
-        return Some(Err(d));
-    };
-    // Blank the token out so the preset parser's columns still point into the original text.
-    let mut rest = text.to_string();
-    rest.replace_range(start..start + tok.len(), &" ".repeat(tok.len()));
-    let preset = match Preset::parse(&Source::new(source.name.clone(), rest)) {
-        Ok(p) => p,
-        Err(e) => return Some(Err(e)),
-    };
-    if preset.kind != PresetKind::Circuit {
-        return Some(Err(Diagnostic::error(
-            source,
-            Span::new(start, start + 2),
-            format!(
-                "`cx=` applies to the `circuit` preset, not `{}`",
-                preset.kind.name()
-            ),
-        )
-        .with_hint(
-            "the `capacity` and `phenomenological` presets have no gate noise",
-        )));
-    }
-    if implementation == Implementation::Ideal {
-        return Some(Ok(NoiseSpec::Preset(preset)));
-    }
-    Some(Ok(NoiseSpec::Model(Box::new(NoiseModel::from_preset(
-        &preset,
-        implementation,
-        source,
-    )))))
 }

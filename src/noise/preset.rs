@@ -20,11 +20,10 @@
 
 use std::sync::Arc;
 
-use crate::ir::{Basis, Channel, Circuit, Gate, Layer, Op, OpKind, Pauli};
-use crate::lang::diagnostic::did_you_mean;
-use crate::lang::{Diagnostic, Source, Span};
-use crate::noise::compile::Note;
+use crate::base::{did_you_mean, xor_prob, Basis, Diagnostic, Gate, Pauli, Source, Span};
+use crate::ir::{Channel, Circuit, Layer, Op, OpKind};
 use crate::noise::implement::Implementation;
+use crate::noise::note::Note;
 
 /// Which preset.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -214,7 +213,7 @@ impl Preset {
     /// The single-qubit channel of total probability `p` (depolarizing, or biased).
     pub fn one_qubit(&self, p: f64) -> Channel {
         match self.bias {
-            None => Channel::Depolarizing1(p),
+            None => Channel::Depolarizing(p),
             Some(eta) => {
                 // PRL 120, 050505 (2018): eta = pZ / (pX + pY).
                 let high = if eta.is_infinite() {
@@ -222,7 +221,7 @@ impl Preset {
                 } else {
                     eta / (eta + 1.0)
                 };
-                Channel::Pauli1 {
+                Channel::Pauli {
                     px: p * (1.0 - high) / 2.0,
                     py: p * (1.0 - high) / 2.0,
                     pz: p * high,
@@ -235,7 +234,7 @@ impl Preset {
     /// `p·eta/(eta+1)` and the other twelve terms sharing `p/(eta+1)`.
     pub fn two_qubit(&self, p: f64) -> Channel {
         match self.bias {
-            None => Channel::Depolarizing2(p),
+            None => Channel::PairDepolarizing(p),
             Some(eta) => {
                 let high = if eta.is_infinite() {
                     1.0
@@ -247,7 +246,7 @@ impl Preset {
                     let k = Pauli::pair_index(name).unwrap_or(1);
                     probs[k - 1] = p * high / 3.0;
                 }
-                Channel::Pauli2(Box::new(probs))
+                Channel::PairPauli(Box::new(probs))
             }
         }
     }
@@ -354,7 +353,7 @@ impl Preset {
             if layer.round.is_some() && flip > 0.0 {
                 for op in &mut layer.ops {
                     if let OpKind::Measure { flip: f, .. } = &mut op.kind {
-                        *f = combine(*f, flip);
+                        *f = xor_prob(*f, flip);
                     }
                 }
             }
@@ -390,7 +389,7 @@ impl Preset {
                     OpKind::Reset(Basis::X) => Some(Channel::Dephasing(p)),
                     OpKind::Reset(_) => Some(Channel::BitFlip(p)),
                     OpKind::Measure { flip, .. } => {
-                        *flip = combine(*flip, p);
+                        *flip = xor_prob(*flip, p);
                         None
                     }
                 };
@@ -436,11 +435,6 @@ impl Preset {
     }
 }
 
-/// Probability that exactly one of two independent flips happens.
-fn combine(a: f64, b: f64) -> f64 {
-    a + b - 2.0 * a * b
-}
-
 fn key_list(kind: PresetKind) -> String {
     kind.keys()
         .iter()
@@ -452,14 +446,10 @@ fn key_list(kind: PresetKind) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::noise::NoiseSpec;
 
+    /// Parses as `--noise` does for a plain preset (the same source name).
     fn parse(text: &str) -> Result<Preset, Diagnostic> {
-        NoiseSpec::parse(text).map(|s| match s {
-            NoiseSpec::Preset(p) => p,
-            #[allow(unreachable_patterns)]
-            other => panic!("expected a preset, got {other:?}"),
-        })
+        Preset::parse(&Source::new("--noise", text))
     }
 
     #[test]
@@ -528,19 +518,19 @@ mod tests {
     #[test]
     fn bias_split() {
         let p = parse("circuit p=0.03 bias=100").unwrap();
-        let Channel::Pauli1 { px, py, pz } = p.one_qubit(0.03) else {
+        let Channel::Pauli { px, py, pz } = p.one_qubit(0.03) else {
             panic!("expected a Pauli channel")
         };
         assert!((pz / (px + py) - 100.0).abs() < 1e-9);
         assert!((px + py + pz - 0.03).abs() < 1e-15);
         let half = parse("circuit p=0.03 bias=0.5").unwrap();
-        let Channel::Pauli1 { px, py, pz } = half.one_qubit(0.03) else {
+        let Channel::Pauli { px, py, pz } = half.one_qubit(0.03) else {
             panic!("expected a Pauli channel")
         };
         assert!(
             (px - 0.01).abs() < 1e-15 && (py - 0.01).abs() < 1e-15 && (pz - 0.01).abs() < 1e-15
         );
-        let Channel::Pauli2(probs) = p.two_qubit(0.03) else {
+        let Channel::PairPauli(probs) = p.two_qubit(0.03) else {
             panic!("expected a two-qubit Pauli channel")
         };
         let high: f64 = ["zi", "iz", "zz"]

@@ -9,7 +9,7 @@
 //! A shot's state is the noiseless state times a Pauli *frame*. We track the frame's X and Z bits
 //! per qubit for [`BATCH_SHOTS`] shots at once, 64 shots per `u64` word (shot `s` of a batch is bit
 //! `s % 64` of word `s / 64`), and push it through the circuit with word-level loops: gates conjugate
-//! the frame ([`crate::ir::clifford`] images), a measurement of a Pauli product `Q` records whether
+//! the frame ([`crate::base::Gate::heisenberg`] images), a measurement of a Pauli product `Q` records whether
 //! the frame anticommutes with `Q` (a *flip* relative to the reference run), noise XORs Paulis into
 //! the shots where it fires.
 //!
@@ -43,7 +43,8 @@ use rand::{Rng, RngCore, SeedableRng};
 use rand_xoshiro::Xoshiro256PlusPlus;
 use rayon::prelude::*;
 
-use crate::ir::{Basis, Circuit, Gate, OpKind, Pauli};
+use crate::base::{Basis, Gate, Pauli};
+use crate::ir::{Circuit, OpKind};
 use crate::sim::tableau::{reference_run, Reference};
 
 /// Shots per batch: 64 words of 64 shots. Fixed, because the per-batch seeds depend on it.
@@ -190,6 +191,10 @@ fn ziggurat() -> &'static Ziggurat {
 
 /// A standard exponential variate by the ziggurat method: one `u64` and two multiplications in
 /// ~99% of the calls, exact (up to double rounding) in all of them.
+///
+/// Not `rand_distr`'s `Exp1`, which uses the same method: its draws consume the generator
+/// differently, so every seed would give other shots than the ones slant has always given (and
+/// that tests, stores and published numbers were made with).
 #[inline]
 fn exp1(zig: &Ziggurat, rng: &mut Xoshiro256PlusPlus) -> f64 {
     loop {

@@ -7,12 +7,12 @@
 //!
 //! Conventions shared by both simulators: every qubit starts in |0>; a measurement result `0`
 //! means eigenvalue +1 of the measured Pauli product; a reset prepares the +1 eigenstate of its
-//! basis; gate semantics are those of [`crate::ir::clifford`] (tests compare against it).
+//! basis; gate semantics are those of [`crate::base::Gate::heisenberg`] (tests compare against it).
 
-pub mod bits;
-pub mod frame;
-pub mod npy;
-pub mod tableau;
+mod bits;
+mod frame;
+mod tableau;
 
-pub use frame::{sample, Batch, Outputs, Sampler};
-pub use tableau::{reference_run, Reference};
+pub use bits::{append_shot_rows, row_bytes};
+pub use frame::{sample, xor_baseline, Batch, BitTable, Outputs, Sampler, BATCH_SHOTS};
+pub use tableau::{branch_run, reference_run, Measured, Reference, Tableau};

@@ -1,6 +1,6 @@
 //! Stabilizer tableau: the noiseless reference run of a circuit.
 //!
-//! In: a [`Circuit`]. Out: a [`Reference`] with the noiseless value of every measurement record,
+//! In: a [`Circuit`]. Out: a [`Reference`] with the noiseless value of every measurement result,
 //! detector and observable. Noise operations and measurement flip probabilities are ignored.
 //!
 //! # Method
@@ -28,12 +28,13 @@
 //!
 //! Resets are a measurement of the basis Pauli followed by a Pauli that flips a `1` result.
 
-use crate::ir::{Basis, Circuit, Gate, OpKind, Pauli};
+use crate::base::{Basis, Gate, Pauli};
+use crate::ir::{Circuit, OpKind};
 
 /// The noiseless values of a circuit's records, detectors and observables.
 #[derive(Clone, Debug, PartialEq, Eq)]
 pub struct Reference {
-    /// Value of every measurement record (`true` = 1 = eigenvalue −1). Random outcomes are 0.
+    /// Value of every measurement result (`true` = 1 = eigenvalue −1). Random outcomes are 0.
     pub measurements: Vec<bool>,
     /// Whether each record's noiseless outcome was random (resolved as 0).
     pub random: Vec<bool>,
@@ -72,8 +73,10 @@ pub fn branch_run(circuit: &Circuit, mut choose: impl FnMut() -> bool) -> Refere
                 random[*record as usize] = m.random;
             }
             OpKind::Reset(basis) => {
+                // A reset of an entangled qubit measures it first: a branch point too, or the
+                // qubits entangled with it would never vary between branches.
                 for &q in &op.targets {
-                    t.reset(q, *basis);
+                    t.reset_resolving(q, *basis, &mut choose);
                 }
             }
             OpKind::Noise(_) => {}
@@ -449,7 +452,13 @@ impl Tableau {
 
     /// Resets a qubit to the +1 eigenstate of `basis`.
     pub fn reset(&mut self, q: u32, basis: Basis) {
-        let m = self.measure(&[(q, basis.pauli())]);
+        self.reset_resolving(q, basis, || false);
+    }
+
+    /// Resets a qubit; when it is entangled, the outcome of the measurement the reset performs
+    /// (which decides what happens to the qubits entangled with it) is `resolve()`.
+    pub fn reset_resolving(&mut self, q: u32, basis: Basis, resolve: impl FnOnce() -> bool) {
+        let m = self.measure_resolving(&[(q, basis.pauli())], resolve);
         if m.outcome {
             // A Pauli anticommuting with the basis Pauli maps the −1 eigenstate to the +1 one.
             let fix = if basis == Basis::X { Gate::Z } else { Gate::X };
@@ -469,6 +478,18 @@ mod tests {
             .filter(|(_, &p)| p != I)
             .map(|(q, &p)| (q as u32, p))
             .collect()
+    }
+
+    /// A reset of an entangled qubit measures it: after H, CX and a reset of the target, the
+    /// control is |0> or |1> with equal chance, so branches must be able to disagree on it.
+    #[test]
+    fn branches_split_at_the_reset_of_an_entangled_qubit() {
+        let text = "qubit a\nqubit b\nh a\ncx a b\nreset z b\nmeasure z a -> m\n";
+        let c = crate::ir::load_source(&crate::base::Source::new("t", text), &[]).unwrap();
+        assert!(!reference_run(&c).measurements[0]);
+        // The only random choice is the reset's; the measurement then follows it.
+        let taken = branch_run(&c, || true);
+        assert!(taken.measurements[0] && !taken.random[0]);
     }
 
     /// Bell state (|00> + |11>)/√2 from H and CX: stabilizers +XX, +ZZ, hence YY = −XX·ZZ has

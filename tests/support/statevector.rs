@@ -14,7 +14,8 @@
 
 #![allow(dead_code)]
 
-use slant::ir::{Basis, Circuit, Gate, OpKind, Pauli};
+use slant::base::{Basis, Gate, Pauli};
+use slant::ir::{Circuit, OpKind};
 
 #[derive(Clone, Copy, Debug, PartialEq)]
 struct C {
@@ -207,7 +208,7 @@ fn steps(circuit: &Circuit, noisy: bool) -> Vec<Step> {
                 }
                 OpKind::Noise(ch) if noisy => {
                     let groups: Vec<&[u32]> = match ch {
-                        slant::ir::Channel::Correlated { .. } => vec![&op.targets[..]],
+                        slant::ir::Channel::Joint { .. } => vec![&op.targets[..]],
                         _ => op.targets.chunks(ch.arity()).collect(),
                     };
                     for g in groups {

@@ -8,7 +8,7 @@
 //!
 //! A root left unmatched would hold an odd number of events with no boundary to absorb one;
 //! the caller removes one event from every such component beforehand
-//! ([`super::graph::SparseGraph::drop_unpairable`]), so it does not happen. Should it, the root
+//! (`SparseGraph::drop_unpairable`), so it does not happen. Should it, the root
 //! is counted unmatched and paired inside from its first child, the tree root it grew from.
 
 use super::region::{Edge, BOUNDARY, NONE};

@@ -18,9 +18,9 @@
 //! growing nodes next to it. When a slope goes down, events only get later, and the stale
 //! early events simply re-scan their node when they fire (or are dropped if it stopped growing).
 
-use super::graph::SparseGraph;
 use super::region::{Edge, BOUNDARY, NONE};
 use super::solver::{Solver, NEVER, REGION_EVENT};
+use crate::decode::sparse_graph::{Adj, SparseGraph};
 
 impl Solver {
     /// The earliest time at which owned node `v` interacts along one of its edges, and the
@@ -104,7 +104,7 @@ impl Solver {
         let rv = self.nodes[v as usize].wrapped + rad.at(t);
         let adj = g.neighbours(v);
         let h = self.nodes[v as usize].hint as usize;
-        let due = |a: &super::graph::Adj| {
+        let due = |a: &Adj| {
             let tu = self.top[a.node as usize];
             if a.node == boundary {
                 a.len() == rv

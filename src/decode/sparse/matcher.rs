@@ -21,9 +21,9 @@
 //! Blossoms store only their cycle; which children are paired inside is decided when the
 //! blossom is shattered or the final matching is read out, from where its outside edge enters.
 
-use super::graph::SparseGraph;
 use super::region::{Edge, Kind, Radius, BOUNDARY, NONE};
 use super::solver::{Solver, NEVER};
+use crate::decode::sparse_graph::SparseGraph;
 
 impl Solver {
     fn add_child(&mut self, p: u32, c: u32) {

@@ -18,10 +18,11 @@
 //! distances between events are ever computed: a contact records only the two events it joins,
 //! the path length and the XOR of observables along it (each node remembers the mask of the
 //! path back to the event it was reached from). The work is proportional to the area the
-//! regions cover, so it grows about linearly with the number of events. Files: `graph.rs`
-//! (integer weights, adjacency), `queue.rs` (radix heap), `region.rs` (regions, compressed
-//! edges), `flooder.rs` (growth on the graph), `matcher.rs` (trees, blossoms, augmentation),
-//! `extract.rs` (reading out the pairs), `solver.rs` (per-shot state and the event loop).
+//! regions cover, so it grows about linearly with the number of events. Files: `region.rs`
+//! (regions, compressed edges), `flooder.rs` (growth on the graph), `matcher.rs` (trees,
+//! blossoms, augmentation), `extract.rs` (reading out the pairs), `solver.rs` (per-shot state and
+//! the event loop); beside this directory, shared with union-find: `sparse_graph.rs` (integer
+//! weights, adjacency) and `radix_heap.rs` (the event queue).
 //!
 //! # Weights and exactness
 //! Weights `ln((1−p)/p)` are rounded once per graph to integers: the heaviest edge maps to
@@ -50,20 +51,18 @@
 
 mod extract;
 mod flooder;
-pub(crate) mod graph;
 mod matcher;
-pub(crate) mod queue;
 mod region;
 mod solver;
 #[cfg(test)]
 mod tests;
 
+use super::sparse_graph::SparseGraph;
 use super::{odd_parity_in_place, BuildError, Decoded, Decoder, MatchingGraph, Pool, Prepared};
-use graph::SparseGraph;
 use region::BOUNDARY;
 use solver::Solver;
 
-pub use graph::RESOLUTION_BITS;
+pub use super::sparse_graph::RESOLUTION_BITS;
 
 /// A sparse minimum-weight perfect matching decoder, built once per graph.
 #[derive(Debug)]

@@ -10,9 +10,9 @@
 //! through the list of touched nodes, so a shot costs time proportional to the area its
 //! regions covered, not to the graph.
 
-use super::graph::SparseGraph;
-use super::queue::RadixHeap;
 use super::region::{Edge, Kind, Radius, Region, NONE};
+use crate::decode::radix_heap::RadixHeap;
+use crate::decode::sparse_graph::SparseGraph;
 
 /// Time value meaning "never".
 pub(crate) const NEVER: i64 = i64::MAX;

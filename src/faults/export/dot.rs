@@ -3,8 +3,9 @@
 //! Detectors are nodes pinned at their first two coordinates (`pos="x,y!"`, for `neato -n` or
 //! `fdp`); when a detector has a third coordinate (the round), its x is shifted by
 //! `round × (width of the layout + 2)` so rounds sit side by side instead of on top of each
-//! other. A node `B` is the boundary. Edges carry their weight `ln((1−p)/p)` as label. In the
-//! full view a hyperedge is drawn as a small point node joined to each of its detectors.
+//! other. Node ids are `det0`, `det1`, … and `boundary`; every edge has the id `edgeK` (`K` its
+//! index in the view's list) and its weight `ln((1−p)/p)` as label. In the full view a hyperedge
+//! is drawn as a small point node `edgeK` joined to each of its detectors.
 
 use std::fmt::Write;
 
@@ -32,7 +33,7 @@ fn layout(g: &FaultGraph) -> Vec<(f64, f64)> {
 /// Renders a view as a Graphviz `graph`.
 pub fn render(view: &View<'_>) -> String {
     let g = match view {
-        View::Full(g) | View::Graphlike(g, _, _) => g,
+        View::Full(g) | View::Matching(g, _, _) => g,
     };
     let mut s = String::new();
     s.push_str("graph faults {\n  node [shape=circle, fontsize=8];\n");
@@ -41,44 +42,47 @@ pub fn render(view: &View<'_>) -> String {
     for (i, (d, (x, y))) in g.detectors.iter().zip(&pos).enumerate() {
         let _ = writeln!(
             s,
-            "  D{i} [label=\"{}\", pos=\"{x},{y}!\"];",
+            "  det{i} [label=\"{}\", pos=\"{x},{y}!\"];",
             d.name.replace('"', "'")
         );
     }
     let _ = writeln!(
         s,
-        "  B [label=\"boundary\", shape=box, pos=\"{},0!\"];",
+        "  boundary [label=\"boundary\", shape=box, pos=\"{},0!\"];",
         min_x - 2.0
     );
-    let edge = |s: &mut String, a: u32, b: Option<u32>, p: f64, obs: &[u32]| {
-        let to = b.map_or("B".to_string(), |b| format!("D{b}"));
+    let edge = |s: &mut String, k: usize, a: u32, b: Option<u32>, p: f64, obs: &[u32]| {
+        let to = b.map_or("boundary".to_string(), |b| format!("det{b}"));
         let style = if obs.is_empty() { "" } else { ", color=red" };
         let w = crate::faults::graph::weight_of(p);
-        let _ = writeln!(s, "  D{a} -- {to} [label=\"{w:.2}\"{style}];");
+        let _ = writeln!(
+            s,
+            "  det{a} -- {to} [id=\"edge{k}\", label=\"{w:.2}\"{style}];"
+        );
     };
     match view {
         View::Full(g) => {
-            for (k, m) in g.mechanisms.iter().enumerate() {
+            for (k, m) in g.edges.iter().enumerate() {
                 match m.detectors[..] {
                     [] => {}
-                    [a] => edge(&mut s, a, None, m.probability, &m.observables),
-                    [a, b] => edge(&mut s, a, Some(b), m.probability, &m.observables),
+                    [a] => edge(&mut s, k, a, None, m.probability, &m.observables),
+                    [a, b] => edge(&mut s, k, a, Some(b), m.probability, &m.observables),
                     _ => {
                         let _ = writeln!(
                             s,
-                            "  H{k} [shape=point, label=\"\", xlabel=\"{:.2}\"];",
+                            "  edge{k} [shape=point, label=\"\", xlabel=\"{:.2}\"];",
                             m.weight()
                         );
                         for d in &m.detectors {
-                            let _ = writeln!(s, "  H{k} -- D{d} [style=dashed];");
+                            let _ = writeln!(s, "  edge{k} -- det{d} [style=dashed];");
                         }
                     }
                 }
             }
         }
-        View::Graphlike(_, mg, _) => {
-            for e in &mg.edges {
-                edge(&mut s, e.a, e.b, e.p, &e.observables);
+        View::Matching(_, mg, _) => {
+            for (k, e) in mg.edges.iter().enumerate() {
+                edge(&mut s, k, e.a, e.b, e.p, &e.observables);
             }
         }
     }

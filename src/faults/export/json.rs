@@ -1,40 +1,43 @@
 //! JSON export.
 //!
-//! Schema of the full graph (`format = "slant-fault-graph"`, `version = 1`):
+//! Schema of the full graph (`format = "slant-fault-graph"`, `version = 2`; version 1 used earlier
+//! names for the edges and the splits):
 //!
 //! ```text
 //! { "format", "version", "source": file name,
 //!   "detectors":   [{ "index", "name", "coords": [f64] }],
 //!   "observables": [{ "index", "name" }],
-//!   "mechanisms":  [{ "index", "probability", "weight", "detectors": [u32],
+//!   "edges":       [{ "index", "probability", "weight", "detectors": [u32],
 //!                     "observables": [u32], "class": "high"|"low"|"mixed",
 //!                     "provenance": [start, end] }],          // half-open range into "provenance"
 //!   "operations":  [{ "layer", "index", "location": "file:line:col", "text" }],
 //!   "provenance":  [{ "operation": index into "operations", "term": "ZY" | "flip",
-//!                     "qubits": [u32], "record": u32 | null, "term_probability",
+//!                     "qubits": [u32], "result": u32 | null, "term_probability",
 //!                     "probability", "class": "high"|"low" }],
 //!   "silent": { "count", "probability" },
-//!   "hyperedges": { "count", "decomposed", "undecomposed": [mechanism index] },
-//!   "decompositions": [{ "mechanism", "parts": [{ "detectors", "observables" }] }],
+//!   "hyperedges": { "count", "split", "unsplit": [edge index] },
+//!   "splits": [{ "edge", "parts": [{ "detectors", "observables" }] }],
 //!   "inexact_channels" }
 //! ```
 //!
-//! The graphlike view (`format = "slant-matching-graph"`, `version = 1`) has `detectors`,
-//! `observables`, `num_detectors`, `num_observables`, `edges: [{ "a", "b": u32 | null, "p",
-//! "weight", "observables" }]` and `stats: { "decomposed", "undecomposed",
-//! "undetectable_logical", "observable_conflicts" }`. Probabilities are independent-mechanism
-//! probabilities; `weight = ln((1−p)/p)`.
+//! An edge with more than two detectors is a hyperedge.
+//!
+//! The matchable view (`format = "slant-matching-graph"`, `version = 2`) has `source`,
+//! `detectors`, `observables` (the arrays above; their lengths are the counts), `edges: [{ "a",
+//! "b": u32 | null, "p", "weight", "observables" }]` and `stats: { "split", "unsplit",
+//! "silent_logical", "observable_conflicts" }`. Probabilities are of independent edges;
+//! `weight = ln((1−p)/p)`. `docs/reference.md` documents both for users.
 
 use std::io::{self, Write};
 
 use serde::Serialize;
 
 use crate::faults::export::View;
-use crate::faults::extract::FxMap;
 use crate::faults::graph::{Contributor, FaultGraph};
+use crate::faults::intern::FxMap;
 
 /// Schema version written in every file.
-pub const VERSION: u32 = 1;
+pub const VERSION: u32 = 2;
 
 #[derive(Serialize)]
 struct Det<'a> {
@@ -50,7 +53,7 @@ struct Obs<'a> {
 }
 
 #[derive(Serialize)]
-struct Mech<'a> {
+struct EdgeItem<'a> {
     index: usize,
     probability: f64,
     weight: f64,
@@ -74,7 +77,7 @@ struct TermText<'a>(&'a Contributor);
 impl Serialize for TermText<'_> {
     fn serialize<S: serde::Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
         let c = self.0;
-        if c.record.is_some() || c.term.len() > 32 {
+        if c.result.is_some() || c.term.len() > 32 {
             return s.serialize_str(&c.term_text());
         }
         let mut buf = [0u8; 32];
@@ -90,7 +93,7 @@ struct Prov<'a> {
     operation: u32,
     term: TermText<'a>,
     qubits: &'a [u32],
-    record: Option<u32>,
+    result: Option<u32>,
     term_probability: f64,
     probability: f64,
     class: &'static str,
@@ -103,8 +106,8 @@ struct Part<'a> {
 }
 
 #[derive(Serialize)]
-struct Decomp<'a> {
-    mechanism: u32,
+struct SplitItem<'a> {
+    edge: u32,
     parts: Vec<Part<'a>>,
 }
 
@@ -117,12 +120,12 @@ struct Silent {
 #[derive(Serialize)]
 struct Hyper<'a> {
     count: usize,
-    decomposed: usize,
-    undecomposed: &'a [u32],
+    split: usize,
+    unsplit: &'a [u32],
 }
 
 #[derive(Serialize)]
-struct Edge<'a> {
+struct MatchingItem<'a> {
     a: u32,
     b: Option<u32>,
     p: f64,
@@ -132,9 +135,9 @@ struct Edge<'a> {
 
 #[derive(Serialize)]
 struct Stats<'a> {
-    decomposed: usize,
-    undecomposed: &'a [u32],
-    undetectable_logical: &'a [u32],
+    split: usize,
+    unsplit: &'a [u32],
+    silent_logical: &'a [u32],
     observable_conflicts: usize,
 }
 
@@ -143,11 +146,9 @@ struct Matching<'a> {
     format: &'static str,
     version: u32,
     source: &'a str,
-    num_detectors: usize,
-    num_observables: usize,
     detectors: Vec<Det<'a>>,
     observables: Vec<Obs<'a>>,
-    edges: Vec<Edge<'a>>,
+    edges: Vec<MatchingItem<'a>>,
     stats: Stats<'a>,
 }
 
@@ -203,19 +204,17 @@ fn field<W: Write, T: Serialize + ?Sized>(w: &mut W, key: &str, value: &T) -> io
 pub fn write<W: Write>(view: &View<'_>, w: &mut W) -> io::Result<()> {
     match view {
         View::Full(g) => write_full(g, w)?,
-        View::Graphlike(g, mg, stats) => {
+        View::Matching(g, mg, stats) => {
             let doc = Matching {
                 format: "slant-matching-graph",
                 version: VERSION,
                 source: &g.source.name,
-                num_detectors: mg.num_detectors,
-                num_observables: mg.num_observables,
                 detectors: dets(g),
                 observables: obs(g),
                 edges: mg
                     .edges
                     .iter()
-                    .map(|e| Edge {
+                    .map(|e| MatchingItem {
                         a: e.a,
                         b: e.b,
                         p: e.p,
@@ -224,9 +223,9 @@ pub fn write<W: Write>(view: &View<'_>, w: &mut W) -> io::Result<()> {
                     })
                     .collect(),
                 stats: Stats {
-                    decomposed: stats.decomposed,
-                    undecomposed: &stats.undecomposed,
-                    undetectable_logical: &stats.undetectable_logical,
+                    split: stats.split,
+                    unsplit: &stats.unsplit,
+                    silent_logical: &stats.silent_logical,
                     observable_conflicts: stats.observable_conflicts,
                 },
             };
@@ -264,10 +263,10 @@ fn write_full<W: Write>(g: &FaultGraph, w: &mut W) -> io::Result<()> {
     seq(w, dets(g).into_iter())?;
     w.write_all(b",\"observables\":")?;
     seq(w, obs(g).into_iter())?;
-    w.write_all(b",\"mechanisms\":")?;
+    w.write_all(b",\"edges\":")?;
     seq(
         w,
-        g.mechanisms.iter().enumerate().map(|(index, m)| Mech {
+        g.edges.iter().enumerate().map(|(index, m)| EdgeItem {
             index,
             probability: m.probability,
             weight: m.weight(),
@@ -285,7 +284,7 @@ fn write_full<W: Write>(g: &FaultGraph, w: &mut W) -> io::Result<()> {
             operation,
             term: TermText(c),
             qubits: &c.qubits,
-            record: c.record,
+            result: c.result,
             term_probability: c.term_probability,
             probability: c.probability,
             class: c.class.name(),
@@ -304,15 +303,15 @@ fn write_full<W: Write>(g: &FaultGraph, w: &mut W) -> io::Result<()> {
         "hyperedges",
         &Hyper {
             count: g.hyperedges.hyperedges,
-            decomposed: g.hyperedges.decomposed,
-            undecomposed: &g.hyperedges.undecomposed,
+            split: g.hyperedges.split,
+            unsplit: &g.hyperedges.unsplit,
         },
     )?;
-    w.write_all(b",\"decompositions\":")?;
+    w.write_all(b",\"splits\":")?;
     seq(
         w,
-        g.decompositions.iter().map(|d| Decomp {
-            mechanism: d.mechanism,
+        g.splits.iter().map(|d| SplitItem {
+            edge: d.edge,
             parts: g
                 .parts(d)
                 .map(|(detectors, observables)| Part {

@@ -1,22 +1,21 @@
 //! Exports of the fault graph: JSON, Matrix Market + NumPy, Graphviz and plain text.
 //!
-//! In: a [`FaultGraph`] (or its [`crate::faults::MatchingGraph`] view with `graphlike`). Out:
+//! In: a [`FaultGraph`] (or its [`crate::faults::MatchingGraph`] view with `matchable`). Out:
 //! bytes; the CLI writes them atomically. Every format is parsed back by the tests into the same
 //! graph. Schemas:
 //! - [`json`]: `format = "slant-fault-graph"` or `"slant-matching-graph"`, `version = 1`;
 //! - [`mtx`]: `H.mtx` (detectors × columns), `L.mtx` (observables × columns) in Matrix Market
 //!   coordinate integer general format, `priors.npy` (float64, NumPy format 1.0); a column is a
-//!   mechanism, or an edge of the matching graph with `graphlike`;
+//!   edge, or an edge of the matching graph with `matchable`;
 //! - [`dot`]: Graphviz `graph`, detectors pinned at their first two coordinates;
-//! - [`text`]: one line per mechanism or edge.
+//! - [`text`]: one line per edge or edge.
 
-pub mod dot;
-pub mod json;
-pub mod mtx;
-pub mod npy;
-pub mod text;
+mod dot;
+mod json;
+mod mtx;
+mod text;
 
-use crate::faults::graph::{FaultGraph, GraphlikeStats, MatchingGraph};
+use crate::faults::graph::{FaultGraph, MatchingGraph, MatchingStats};
 
 /// An output format of `slant graph`.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
@@ -31,12 +30,12 @@ pub enum Format {
     Text,
 }
 
-/// What to export: every mechanism, or the graphlike view.
+/// What to export: every edge, or the matchable view.
 pub enum View<'g> {
-    /// Every mechanism of the graph, hyperedges included.
+    /// Every edge of the graph, hyperedges included.
     Full(&'g FaultGraph),
     /// The matching graph built from it, with the stats of building it.
-    Graphlike(&'g FaultGraph, &'g MatchingGraph, &'g GraphlikeStats),
+    Matching(&'g FaultGraph, &'g MatchingGraph, &'g MatchingStats),
 }
 
 /// Files of an export: `(name, bytes)`; a single unnamed entry for one-file formats.

@@ -3,12 +3,13 @@
 //!
 //! Format: "The Matrix Market Exchange Formats: Initial Design", NIST IR 5935 (1996) —
 //! `%%MatrixMarket matrix coordinate integer general`, then `rows cols entries`, then one
-//! one-based `row col 1` line per non-zero, column-major. Columns are mechanisms in
-//! [`crate::faults::FaultGraph::mechanisms`] order, or edges of the matching graph in order.
+//! one-based `row col 1` line per non-zero, column-major. Columns are edges in
+//! [`crate::faults::FaultGraph::edges`] order, or edges of the matching graph in order.
 
 use std::fmt::Write;
 
-use crate::faults::export::{npy, Files, View};
+use crate::base::npy_f64_vector;
+use crate::faults::export::{Files, View};
 
 /// A column: detectors, observables, probability.
 type Column<'a> = (Vec<u32>, &'a [u32], f64);
@@ -22,12 +23,12 @@ pub fn render(view: &View<'_>) -> Files {
         View::Full(g) => (
             g.detectors.len(),
             g.observables.len(),
-            g.mechanisms
+            g.edges
                 .iter()
                 .map(|m| (m.detectors.clone(), m.observables.as_slice(), m.probability))
                 .collect(),
         ),
-        View::Graphlike(_, mg, _) => (
+        View::Matching(_, mg, _) => (
             mg.num_detectors,
             mg.num_observables,
             mg.edges
@@ -61,6 +62,6 @@ pub fn render(view: &View<'_>) -> Files {
     vec![
         ("H.mtx".into(), h),
         ("L.mtx".into(), l),
-        ("priors.npy".into(), npy::f64_vector(&priors)),
+        ("priors.npy".into(), npy_f64_vector(&priors)),
     ]
 }

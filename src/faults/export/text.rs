@@ -1,14 +1,15 @@
-//! Plain-text export: a header, then one line per mechanism (or edge), stable for diffs.
+//! Plain-text export: a header, then one line per edge (`h` for a hyperedge), stable for diffs.
 //!
 //! ```text
-//! # slant fault graph of t.slant: 4 detectors, 1 observables, 7 mechanisms, 0 hyperedges (0 decomposed), 2 silent faults
-//! m 0 p=1.000000e-3 w=6.906755 class=low dets=0 obs=- faults=2
+//! # slant fault graph of t.slant: 4 detectors, 1 observable, 7 edges, 0 hyperedges (0 split), 2 silent faults, 0 inexact channels
+//! e 0 p=1.000000e-3 w=6.906755 class=low dets=0 obs=- faults=2
 //! ```
 //!
-//! For the graphlike view: `e A B|boundary p=… w=… obs=…`.
+//! For the matchable view: `e A B|boundary p=… w=… obs=…`.
 
 use std::fmt::Write;
 
+use crate::base::count;
 use crate::faults::export::View;
 
 fn ids(v: &[u32]) -> String {
@@ -26,20 +27,21 @@ pub fn render(view: &View<'_>) -> String {
         View::Full(g) => {
             let _ = writeln!(
                 s,
-                "# slant fault graph of {}: {} detectors, {} observables, {} mechanisms, {} hyperedges ({} decomposed), {} silent faults, {} inexact channels",
+                "# slant fault graph of {}: {}, {}, {}, {} ({} split), {}, {}",
                 g.source.name,
-                g.detectors.len(),
-                g.observables.len(),
-                g.mechanisms.len(),
-                g.hyperedges.hyperedges,
-                g.hyperedges.decomposed,
-                g.silent.count,
-                g.inexact_channels,
+                count(g.detectors.len(), "detector"),
+                count(g.observables.len(), "observable"),
+                count(g.edges.len(), "edge"),
+                count(g.hyperedges.hyperedges, "hyperedge"),
+                g.hyperedges.split,
+                count(g.silent.count, "silent fault"),
+                count(g.inexact_channels, "inexact channel"),
             );
-            for (k, m) in g.mechanisms.iter().enumerate() {
+            for (k, m) in g.edges.iter().enumerate() {
                 let _ = writeln!(
                     s,
-                    "m {k} p={:.6e} w={:.6} class={} dets={} obs={} faults={}",
+                    "{} {k} p={:.6e} w={:.6} class={} dets={} obs={} faults={}",
+                    if m.detectors.len() > 2 { "h" } else { "e" },
                     m.probability,
                     m.weight(),
                     m.classes.name(),
@@ -49,18 +51,18 @@ pub fn render(view: &View<'_>) -> String {
                 );
             }
         }
-        View::Graphlike(g, mg, st) => {
+        View::Matching(g, mg, st) => {
             let _ = writeln!(
                 s,
-                "# slant matching graph of {}: {} detectors, {} observables, {} edges, {} hyperedges decomposed, {} not decomposable, {} undetectable logical, {} observable conflicts",
+                "# slant matching graph of {}: {}, {}, {}, {} split, {} unsplit, {}, {}",
                 g.source.name,
-                mg.num_detectors,
-                mg.num_observables,
-                mg.edges.len(),
-                st.decomposed,
-                st.undecomposed.len(),
-                st.undetectable_logical.len(),
-                st.observable_conflicts,
+                count(mg.num_detectors, "detector"),
+                count(mg.num_observables, "observable"),
+                count(mg.edges.len(), "edge"),
+                count(st.split, "hyperedge"),
+                st.unsplit.len(),
+                count(st.silent_logical.len(), "silent logical error"),
+                count(st.observable_conflicts, "observable conflict"),
             );
             for e in &mg.edges {
                 let b = e.b.map_or("boundary".to_string(), |b| b.to_string());

@@ -1,0 +1,32 @@
+//! Studies: the one pipeline "circuit + noise → fault graph / samples → decoder → estimates",
+//! and what is built on it — Monte Carlo runs with Wilson intervals, comparisons of circuits,
+//! threshold sweeps with their resumable store, threshold fits and plots.
+//!
+//! In: circuit sources, noise texts (presets or model files), sweep specs, results stores. Out:
+//! report values, rows, points, fits and plot bytes; rendering text and writing files belongs to
+//! `cli`. Nothing here prints: the noise model's warnings come back as data
+//! ([`Pipeline::warnings`], [`Event::Warnings`]) and progress through callbacks.
+//!
+//! Every subcommand that studies a noisy circuit builds a [`Pipeline`]: it loads the circuit,
+//! writes the noise in, and hands out the fault graph, the matching graph, the sampler and the
+//! sampler paired with a decoder ([`Experiment`]). `decode` below knows only graphs and detection
+//! events.
+
+mod compare;
+mod montecarlo;
+mod pipeline;
+mod plot;
+mod stats;
+mod sweep;
+mod threshold;
+
+pub use compare::{at_p, best, evaluate, rates, significant, BiasSummary, Column, RatePoint, Row};
+pub use montecarlo::{decode_batch, run, Counts, Experiment, RunOptions};
+pub use pipeline::{Pipeline, StudyError};
+pub use plot::{render_for, Curve, Marker, Panel};
+pub use stats::{per_round, wilson, Estimate, Z95};
+pub use sweep::{
+    aggregate, chunk_seed, merge_rows, parse_rows, read_store, run_sweep, ChunkRow, Event, Point,
+    Shard, Store, SweepSpec, Task, DEFAULT_CHUNK, STORE_VERSION,
+};
+pub use threshold::{crossings, scaling_fit, threshold, Crossing, ScalingFit};

@@ -1,0 +1,177 @@
+//! Running a sweep: the tasks of a shard in parallel, the chunks of a task in order, each finished
+//! chunk appended to the store before the next one starts.
+
+use std::collections::{BTreeMap, HashMap};
+
+use rayon::prelude::*;
+
+use crate::base::{Diagnostic, Source};
+use crate::ir::Limits;
+use crate::study::montecarlo::{Experiment, RunOptions};
+use crate::study::pipeline::Pipeline;
+use crate::study::sweep::spec::{SweepSpec, Task};
+use crate::study::sweep::store::{ChunkRow, Store, STORE_VERSION};
+
+/// A `k/n` shard (1 ≤ k ≤ n).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct Shard {
+    /// This shard, from 1.
+    pub k: u64,
+    /// Number of shards.
+    pub n: u64,
+}
+
+impl Shard {
+    /// Whether task `index` belongs to this shard.
+    pub fn has(self, index: usize) -> bool {
+        index as u64 % self.n == self.k - 1
+    }
+}
+
+impl std::str::FromStr for Shard {
+    type Err = String;
+    fn from_str(s: &str) -> Result<Shard, String> {
+        let bad = || format!("expected `k/n` with 1 <= k <= n, found `{s}`");
+        let (k, n) = s.split_once('/').ok_or_else(bad)?;
+        let (k, n): (u64, u64) = (
+            k.trim().parse().map_err(|_| bad())?,
+            n.trim().parse().map_err(|_| bad())?,
+        );
+        if k == 0 || k > n {
+            return Err(bad());
+        }
+        Ok(Shard { k, n })
+    }
+}
+
+/// Progress of a sweep, reported to the caller's callback.
+#[derive(Clone, Debug)]
+pub enum Event<'a> {
+    /// A chunk finished and was recorded.
+    Chunk(&'a Task, &'a ChunkRow),
+    /// The noise model has warnings about the task's circuit (once per task run).
+    Warnings(&'a Task, &'a [Diagnostic]),
+    /// A task is complete (all shots, or enough failures): its totals.
+    TaskDone(&'a Task, u64, u64),
+}
+
+/// Runs the tasks of `spec` in `shard` (all when `None`), appending to `store`; `recorded` are
+/// the rows already in the store. Tasks run in parallel on the current rayon pool, the chunks of
+/// one task in order. `on_event` is called from worker threads.
+pub fn run_sweep(
+    spec: &SweepSpec,
+    shard: Option<Shard>,
+    store: &Store,
+    recorded: &[ChunkRow],
+    on_event: &(dyn Fn(Event) + Sync),
+) -> Result<(), Diagnostic> {
+    let mut done: HashMap<&str, BTreeMap<u64, &ChunkRow>> = HashMap::new();
+    for r in recorded {
+        done.entry(r.task.as_str())
+            .or_default()
+            .entry(r.chunk)
+            .or_insert(r);
+    }
+    let mine: Vec<&Task> = spec
+        .tasks
+        .iter()
+        .enumerate()
+        .filter(|(i, _)| shard.is_none_or(|s| s.has(*i)))
+        .map(|(_, t)| t)
+        .collect();
+    mine.par_iter().try_for_each(|task| {
+        let empty = BTreeMap::new();
+        let prior = done.get(task.key.as_str()).unwrap_or(&empty);
+        run_task(task, prior, store, on_event)
+    })
+}
+
+fn run_task(
+    task: &Task,
+    prior: &BTreeMap<u64, &ChunkRow>,
+    store: &Store,
+    on_event: &(dyn Fn(Event) + Sync),
+) -> Result<(), Diagnostic> {
+    let mut exp: Option<Experiment> = None;
+    let (mut shots, mut failures) = (0u64, 0u64);
+    for c in 0..task.chunks() {
+        if task.until_failures.is_some_and(|k| failures >= k) {
+            break;
+        }
+        if let Some(r) = prior.get(&c) {
+            shots += r.shots;
+            failures += r.failures;
+            continue;
+        }
+        if exp.is_none() {
+            exp = Some(build(task, on_event)?);
+        }
+        let Some(e) = &exp else { continue };
+        let n = task.chunk.min(task.shots - c * task.chunk);
+        let seed = task.chunk_seed(c);
+        let counts = e.run(
+            &RunOptions {
+                shots: n,
+                until_failures: None,
+                seed,
+            },
+            |_| {},
+        );
+        let row = ChunkRow {
+            version: STORE_VERSION,
+            task: task.key.clone(),
+            chunk: c,
+            shots: counts.shots,
+            failures: counts.failures,
+            seed,
+            label: task.label.clone(),
+            family: task.gen.family.name().to_string(),
+            distance: task.distance,
+            rounds: e.rounds,
+            p: task.p,
+            bias: task.bias.clone(),
+            noise: task.noise.clone(),
+            decoder: task.decoder.name().to_string(),
+        };
+        store.append(&row)?;
+        on_event(Event::Chunk(task, &row));
+        shots += counts.shots;
+        failures += counts.failures;
+    }
+    on_event(Event::TaskDone(task, shots, failures));
+    Ok(())
+}
+
+/// Generates, loads and noises the task's circuit and prepares sampler and decoder; the noise
+/// model's warnings go to `on_event`.
+fn build(task: &Task, on_event: &(dyn Fn(Event) + Sync)) -> Result<Experiment, Diagnostic> {
+    let text = crate::gen::generate(&task.gen)
+        .map_err(|e| Diagnostic::bare(format!("task `{}`: {e}", task.key)))?;
+    let source = Source::new(format!("{}.slant", task.gen.family.name()), text);
+    let first = |d: Vec<Diagnostic>| {
+        d.into_iter()
+            .next()
+            .unwrap_or_else(|| Diagnostic::bare("unknown error"))
+    };
+    let pipeline = Pipeline::load(&source, &[], &Limits::default())
+        .and_then(|p| p.noised(Some(&task.noise)))
+        .map_err(first)?;
+    if !pipeline.warnings().is_empty() {
+        on_event(Event::Warnings(task, pipeline.warnings()));
+    }
+    pipeline
+        .experiment(task.decoder)
+        .map_err(|e| Diagnostic::bare(format!("task `{}`: cannot decode: {e}", task.key)))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn shards_partition_the_tasks() {
+        let s: Shard = "2/3".parse().unwrap();
+        assert!(s.has(1) && s.has(4) && !s.has(0) && !s.has(2));
+        assert!("0/3".parse::<Shard>().is_err() && "4/3".parse::<Shard>().is_err());
+    }
+}

@@ -1,0 +1,349 @@
+//! Sweep specs: the TOML text of a sweep, and the [`Task`]s its grids expand to (the format is
+//! in the docs of `sweep/mod.rs`).
+
+use std::collections::HashSet;
+use std::sync::Arc;
+
+use crate::base::{Diagnostic, Source, Span};
+use crate::decode::DecoderKind;
+use crate::gen::{Entangler, Family, Flip, GenSpec, LogicalBasis, Order, Style};
+
+/// Default shots per chunk.
+pub const DEFAULT_CHUNK: u64 = 16_384;
+
+/// `rounds` in a grid: a number, or `"d"` for the distance.
+#[derive(Clone, Debug, serde::Deserialize)]
+#[serde(untagged)]
+enum Rounds {
+    Fixed(u32),
+    Name(String),
+}
+
+#[derive(Clone, Debug, serde::Deserialize)]
+#[serde(deny_unknown_fields)]
+struct GridToml {
+    basis: Option<String>,
+    bias: Option<Vec<f64>>,
+    chunk: Option<u64>,
+    decoders: Option<Vec<String>>,
+    distances: Vec<u32>,
+    entangler: Option<String>,
+    family: String,
+    flip: Option<String>,
+    label: Option<String>,
+    until_failures: Option<u64>,
+    noise: String,
+    order: Option<String>,
+    p: Vec<f64>,
+    #[serde(default)]
+    periodic: bool,
+    rounds: Option<Rounds>,
+    shots: Option<u64>,
+    style: Option<String>,
+}
+
+#[derive(Clone, Debug, serde::Deserialize)]
+#[serde(deny_unknown_fields)]
+struct SpecToml {
+    chunk: Option<u64>,
+    decoders: Option<Vec<String>>,
+    /// Spanned so that a mistake inside one grid points at that grid.
+    grid: Vec<toml::Spanned<GridToml>>,
+    until_failures: Option<u64>,
+    seed: Option<u64>,
+    shots: Option<u64>,
+    store: Option<String>,
+}
+
+/// One point of the grid: a circuit, a noise model and a decoder, sampled in chunks.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Task {
+    /// Canonical key (see module docs); chunk seeds derive from it.
+    pub key: String,
+    /// Curve label (plots group by label, decoder and bias).
+    pub label: String,
+    /// The generator spec.
+    pub gen: GenSpec,
+    /// Distance (`dz` of the generator spec; the repetition code's length).
+    pub distance: u32,
+    /// Physical error rate `p` of the noise preset.
+    pub p: f64,
+    /// Bias, as written in the noise text (`None`: the preset's default).
+    pub bias: Option<String>,
+    /// Full `--noise` text.
+    pub noise: String,
+    /// Decoder.
+    pub decoder: DecoderKind,
+    /// Shots to run at most.
+    pub shots: u64,
+    /// Early stop after this many failures.
+    pub until_failures: Option<u64>,
+    /// Shots per chunk.
+    pub chunk: u64,
+    /// Seed of the sweep.
+    pub seed: u64,
+}
+
+impl Task {
+    /// Number of chunks needed for all shots.
+    pub fn chunks(&self) -> u64 {
+        self.shots.div_ceil(self.chunk)
+    }
+
+    /// Seed of chunk `c`.
+    pub fn chunk_seed(&self, c: u64) -> u64 {
+        chunk_seed(&self.key, c)
+    }
+}
+
+/// A parsed sweep spec.
+#[derive(Clone, Debug, PartialEq)]
+pub struct SweepSpec {
+    /// Store path as written in the spec (relative to the spec's directory), if any.
+    pub store: Option<String>,
+    /// The expanded task list, in grid order.
+    pub tasks: Vec<Task>,
+}
+
+fn text_option<T>(
+    value: &Option<String>,
+    what: &str,
+    parse: impl Fn(&str) -> Option<T>,
+) -> Result<Option<T>, String> {
+    value
+        .as_deref()
+        .map(|s| parse(s).ok_or_else(|| format!("unknown {what} `{s}`")))
+        .transpose()
+}
+
+fn fmt_f64(x: f64) -> String {
+    if x.is_infinite() {
+        "inf".to_string()
+    } else {
+        format!("{x}")
+    }
+}
+
+impl SweepSpec {
+    /// Parses and expands a spec. Errors point into the TOML text.
+    pub fn parse(source: &Arc<Source>) -> Result<SweepSpec, Diagnostic> {
+        let whole = Span::new(0, source.text.as_str().len().min(1));
+        let raw: SpecToml = toml::from_str(source.text.as_str()).map_err(|e| {
+            let span = e
+                .span()
+                .map_or(whole, |r| Span::new(r.start, r.end.max(r.start)));
+            Diagnostic::error(source, span, e.message().to_string())
+        })?;
+        let err = |msg: String| Diagnostic::error(source, whole, msg);
+        let seed = raw.seed.unwrap_or(0);
+        let mut tasks = Vec::new();
+        for (gi, spanned) in raw.grid.iter().enumerate() {
+            let g = spanned.get_ref();
+            let grid_span = Span::new(spanned.span().start, spanned.span().end);
+            let at =
+                |m: String| Diagnostic::error(source, grid_span, format!("grid {}: {m}", gi + 1));
+            let family: Family = g.family.parse().map_err(at)?;
+            let shots = g
+                .shots
+                .or(raw.shots)
+                .ok_or_else(|| at("no `shots` (set it at the top or in the grid)".into()))?;
+            if shots == 0 {
+                return Err(at("`shots` must be at least 1".into()));
+            }
+            let chunk = g.chunk.or(raw.chunk).unwrap_or(DEFAULT_CHUNK);
+            if chunk == 0 {
+                return Err(at("`chunk` must be at least 1".into()));
+            }
+            let until_failures = g.until_failures.or(raw.until_failures);
+            let decoders = g
+                .decoders
+                .clone()
+                .or(raw.decoders.clone())
+                .unwrap_or_else(|| vec!["mwpm".into()]);
+            let decoders: Vec<DecoderKind> = decoders
+                .iter()
+                .map(|d| d.parse())
+                .collect::<Result<_, String>>()
+                .map_err(at)?;
+            let style = text_option(&g.style, "style", |s| match s {
+                "ancilla" => Some(Style::Ancilla),
+                "product" => Some(Style::Product),
+                _ => None,
+            })
+            .map_err(at)?;
+            let basis = text_option(&g.basis, "basis", |s| match s {
+                "x" => Some(LogicalBasis::X),
+                "z" => Some(LogicalBasis::Z),
+                _ => None,
+            })
+            .map_err(at)?;
+            let entangler = text_option(&g.entangler, "entangler", |s| match s {
+                "cx" => Some(Entangler::Cx),
+                "native" => Some(Entangler::Native),
+                _ => None,
+            })
+            .map_err(at)?;
+            let flip = text_option(&g.flip, "flip", |s| match s {
+                "x" => Some(Flip::X),
+                "z" => Some(Flip::Z),
+                _ => None,
+            })
+            .map_err(at)?;
+            let order = match &g.order {
+                None => None,
+                Some(o) => Some(o.parse::<Order>().map_err(at)?),
+            };
+            let biases: Vec<Option<f64>> = match &g.bias {
+                None => vec![None],
+                Some(b) => b.iter().map(|&x| Some(x)).collect(),
+            };
+            if g.distances.is_empty() || g.p.is_empty() {
+                return Err(at("`distances` and `p` must not be empty".into()));
+            }
+            let label = g.label.clone().unwrap_or_else(|| {
+                let preset = g.noise.split_whitespace().next().unwrap_or("");
+                format!("{} {preset}", family.name())
+            });
+            for &decoder in &decoders {
+                for bias in &biases {
+                    for &d in &g.distances {
+                        let mut gen = GenSpec::new(family, d);
+                        if g.periodic {
+                            gen.dx = d + 1;
+                        }
+                        gen.rounds = match &g.rounds {
+                            None => d,
+                            Some(Rounds::Fixed(r)) => *r,
+                            Some(Rounds::Name(n)) if n == "d" => d,
+                            Some(Rounds::Name(n)) => {
+                                return Err(at(format!(
+                                    "`rounds` must be a number or \"d\", found `{n}`"
+                                )))
+                            }
+                        };
+                        gen.style = style;
+                        gen.basis = basis;
+                        gen.entangler = entangler;
+                        gen.flip = flip;
+                        gen.order = order.clone();
+                        gen.periodic = g.periodic;
+                        let command = gen
+                            .command_line()
+                            .map_err(|e| at(format!("distance {d}: {e}")))?;
+                        for &p in &g.p {
+                            let mut noise = format!("{} p={}", g.noise.trim(), fmt_f64(p));
+                            if let Some(b) = bias {
+                                noise += &format!(" bias={}", fmt_f64(*b));
+                            }
+                            crate::noise::NoiseSpec::parse(&noise)
+                                .map_err(|e| at(format!("noise `{noise}`: {}", e.message)))?;
+                            let key = format!(
+                                "{label}|{command}|noise={noise}|decoder={}|chunk={chunk}|seed={seed}",
+                                decoder.name()
+                            );
+                            tasks.push(Task {
+                                key,
+                                label: label.clone(),
+                                gen: gen.clone(),
+                                distance: d,
+                                p,
+                                bias: bias.map(fmt_f64),
+                                noise,
+                                decoder,
+                                shots,
+                                until_failures,
+                                chunk,
+                                seed,
+                            });
+                        }
+                    }
+                }
+            }
+        }
+        let mut seen = HashSet::new();
+        for t in &tasks {
+            if !seen.insert(&t.key) {
+                return Err(err(format!("the grid lists task `{}` twice", t.key)));
+            }
+        }
+        Ok(SweepSpec {
+            store: raw.store,
+            tasks,
+        })
+    }
+}
+
+/// The seed of chunk `c` of the task with key `key`: FNV-1a of the key, mixed with the index by
+/// a SplitMix64 finaliser (stable across platforms and Rust versions, unlike `std`'s hasher).
+pub fn chunk_seed(key: &str, c: u64) -> u64 {
+    let mut h: u64 = 0xcbf2_9ce4_8422_2325;
+    for b in key.bytes() {
+        h ^= b as u64;
+        h = h.wrapping_mul(0x0100_0000_01b3);
+    }
+    let mut v = h ^ c.wrapping_mul(0x9e37_79b9_7f4a_7c15);
+    v = (v ^ (v >> 30)).wrapping_mul(0xbf58_476d_1ce4_e5b9);
+    v = (v ^ (v >> 27)).wrapping_mul(0x94d0_49bb_1331_11eb);
+    v ^ (v >> 31)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    const SPEC: &str = r#"
+shots = 1000
+chunk = 300
+[[grid]]
+family = "repetition"
+distances = [3, 5]
+noise = "phenomenological"
+p = [0.01, 0.02]
+bias = [inf]
+flip = "z"
+"#;
+
+    #[test]
+    fn spec_expands_in_grid_order_with_distinct_keys() {
+        let spec = SweepSpec::parse(&Source::new("s.toml", SPEC)).unwrap();
+        assert_eq!(spec.tasks.len(), 4);
+        let t = &spec.tasks[1];
+        assert_eq!((t.distance, t.p), (3, 0.02));
+        assert_eq!(t.noise, "phenomenological p=0.02 bias=inf");
+        assert_eq!(t.chunks(), 4);
+        assert_eq!(t.gen.rounds, 3);
+        assert!(t.key.contains("--flip z"), "{}", t.key);
+        assert_ne!(t.chunk_seed(0), t.chunk_seed(1));
+        assert_ne!(t.chunk_seed(0), spec.tasks[0].chunk_seed(0));
+    }
+
+    #[test]
+    fn spec_errors_point_into_the_toml() {
+        let bad = Source::new(
+            "s.toml",
+            "shots = 10\n[[grid]]\nfamily = \"surface\"\ndistance = [3]\n",
+        );
+        let d = SweepSpec::parse(&bad).unwrap_err();
+        assert!(d.render().contains("s.toml:4:1"), "{}", d.render());
+        let bad = Source::new(
+            "s.toml",
+            "shots = 10\n[[grid]]\nfamily = \"torus\"\ndistances = [3]\nnoise = \"capacity\"\np = [0.1]\n",
+        );
+        let text = SweepSpec::parse(&bad).unwrap_err().render();
+        assert!(text.contains("unknown family"), "{text}");
+        // Mistakes inside a grid point at that grid, not at the top of the file.
+        assert!(text.contains("s.toml:2:1"), "{text}");
+        let zero = Source::new(
+            "s.toml",
+            "shots = 10\n[[grid]]\nfamily = \"surface\"\ndistances = [3]\nnoise = \"capacity\"\n\
+             p = [0.1]\n\n[[grid]]\nfamily = \"surface\"\ndistances = [3]\nnoise = \"capacity\"\n\
+             p = [0.1]\nchunk = 0\n",
+        );
+        let text = SweepSpec::parse(&zero).unwrap_err().render();
+        assert!(
+            text.contains("grid 2: `chunk` must be at least 1"),
+            "{text}"
+        );
+        assert!(text.contains("s.toml:8:1"), "{text}");
+    }
+}

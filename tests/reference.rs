@@ -1,0 +1,204 @@
+//! `docs/reference.md` against the program: every key a table there lists is accepted (model
+//! files) or written (JSON outputs, store rows), and every key accepted or written is listed.
+
+use std::collections::BTreeSet;
+use std::path::Path;
+
+use crate::support::{slant, stdout_of};
+use serde_json::Value;
+
+fn reference() -> String {
+    std::fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join("docs/reference.md"))
+        .unwrap()
+}
+
+/// The keys of the table after `<!-- keys: NAME -->`: the first column's backticked text.
+fn documented(name: &str) -> BTreeSet<String> {
+    let doc = reference();
+    let marker = format!("<!-- keys: {name} -->");
+    let start = doc
+        .find(&marker)
+        .unwrap_or_else(|| panic!("no table `{name}`"))
+        + marker.len();
+    doc[start..]
+        .lines()
+        .skip_while(|l| l.trim().is_empty())
+        .take_while(|l| l.starts_with('|'))
+        .filter_map(|l| {
+            let cell = l.split('|').nth(1)?.trim();
+            cell.strip_prefix('`')?
+                .strip_suffix('`')
+                .map(str::to_string)
+        })
+        .collect()
+}
+
+/// Every key path of a JSON value: `a.b`, with `[]` for array elements.
+fn paths(v: &Value, prefix: &str, out: &mut BTreeSet<String>) {
+    match v {
+        Value::Object(map) => {
+            for (k, x) in map {
+                let p = if prefix.is_empty() {
+                    k.clone()
+                } else {
+                    format!("{prefix}.{k}")
+                };
+                out.insert(p.clone());
+                paths(x, &p, out);
+            }
+        }
+        Value::Array(items) => {
+            let p = format!("{prefix}[]");
+            for x in items {
+                paths(x, &p, out);
+            }
+        }
+        _ => {}
+    }
+}
+
+/// The leaf-or-object paths written, without the paths of arrays and objects that only hold
+/// listed keys (the tables list the keys inside them, not the containers).
+fn written(values: &[Value]) -> BTreeSet<String> {
+    let mut all = BTreeSet::new();
+    for v in values {
+        paths(v, "", &mut all);
+    }
+    let containers: BTreeSet<String> = all
+        .iter()
+        .filter(|p| {
+            let dot = format!("{p}.");
+            let arr = format!("{p}[].");
+            all.iter()
+                .any(|q| q.starts_with(&dot) || q.starts_with(&arr))
+        })
+        .cloned()
+        .collect();
+    all.difference(&containers).cloned().collect()
+}
+
+fn assert_same(name: &str, doc: &BTreeSet<String>, out: &BTreeSet<String>) {
+    let missing: Vec<_> = out.difference(doc).collect();
+    let stale: Vec<_> = doc.difference(out).collect();
+    assert!(
+        missing.is_empty() && stale.is_empty(),
+        "{name}: written but not documented {missing:?}; documented but not written {stale:?}"
+    );
+}
+
+fn json_of(args: &[&str]) -> Value {
+    let mut cmd = slant();
+    cmd.current_dir(env!("CARGO_MANIFEST_DIR")).args(args);
+    serde_json::from_slice(&stdout_of(&mut cmd)).unwrap()
+}
+
+#[test]
+fn model_file_keys_are_the_documented_ones() {
+    for (section, keys) in slant::noise::MODEL_KEYS {
+        let doc = documented(&format!("model {section}"));
+        let accepted: BTreeSet<String> = keys.iter().map(|k| k.to_string()).collect();
+        assert_same(section, &doc, &accepted);
+    }
+}
+
+#[test]
+fn fault_graph_keys_are_the_documented_ones() {
+    // A circuit with a hyperedge that splits, so `splits` has parts, and a measurement flip.
+    let full = json_of(&[
+        "graph",
+        "circuits/surface_d3_hook_safe.slant",
+        "--noise",
+        "circuit p=0.001",
+        "--format",
+        "json",
+    ]);
+    assert!(!full["splits"].as_array().unwrap().is_empty());
+    assert_same("fault graph", &documented("fault graph"), &written(&[full]));
+    let matching = json_of(&[
+        "graph",
+        "circuits/surface_d3_hook_safe.slant",
+        "--noise",
+        "circuit p=0.001",
+        "--format",
+        "json",
+        "--matching",
+    ]);
+    assert_same(
+        "matching graph",
+        &documented("matching graph"),
+        &written(&[matching]),
+    );
+}
+
+#[test]
+fn estimate_keys_are_the_documented_ones() {
+    let v = json_of(&[
+        "estimate",
+        "circuits/repetition_d3.slant",
+        "--noise",
+        "circuit p=0.01",
+        "--shots",
+        "4096",
+        "--json",
+    ]);
+    assert_same("estimate", &documented("estimate"), &written(&[v]));
+}
+
+#[test]
+fn compare_keys_are_the_documented_ones() {
+    // Rates at one p; a hyperedge-heavy product circuit (whose searches stop unproven) adds the
+    // `unproven` form of the distances.
+    let with_rates = json_of(&[
+        "compare",
+        "circuits/repetition_d3.slant",
+        "circuits/repetition_d5.slant",
+        "--noise",
+        "circuit p=0.001",
+        "--p",
+        "0.01",
+        "--shots",
+        "4096",
+        "--json",
+    ]);
+    // A bias-breaking schedule has a finite high-rate distance (the first run's are absent).
+    let high_rate = json_of(&[
+        "compare",
+        "circuits/xzzx_d3_cx.slant",
+        "--noise",
+        "circuit p=0.001 bias=100 cx=bias-preserving",
+        "--json",
+    ]);
+    assert!(high_rate["rows"][0]["high_rate_distance"]["value"].is_u64());
+    let doc = documented("compare");
+    let mut out = written(&[with_rates, high_rate]);
+    // The `unproven` form needs a search that cannot finish, which no small bundled circuit
+    // gives; it is written by the same code as `slant distance --json` (tested there).
+    for key in [
+        "rows[].distance.unproven",
+        "rows[].high_rate_distance.unproven",
+    ] {
+        out.insert(key.to_string());
+    }
+    assert_same("compare", &doc, &out);
+}
+
+#[test]
+fn store_row_keys_are_the_documented_ones() {
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::write(
+        dir.path().join("spec.toml"),
+        "shots = 4096\nchunk = 4096\n[[grid]]\nfamily = \"repetition\"\ndistances = [3]\n\
+         noise = \"phenomenological\"\np = [0.05]\nbias = [10]\n",
+    )
+    .unwrap();
+    let mut cmd = slant();
+    cmd.current_dir(dir.path())
+        .args(["sweep", "spec.toml", "--store", "s.jsonl", "--jobs", "1"]);
+    stdout_of(&mut cmd);
+    let text = std::fs::read_to_string(dir.path().join("s.jsonl")).unwrap();
+    let rows: Vec<Value> = text
+        .lines()
+        .map(|l| serde_json::from_str(l).unwrap())
+        .collect();
+    assert_same("store", &documented("store"), &written(&rows));
+}
