@@ -4,6 +4,7 @@
 mod architecture;
 mod codes;
 mod decode;
+mod decode_events;
 mod distance;
 mod estimate;
 mod gen;

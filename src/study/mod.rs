@@ -13,6 +13,7 @@
 //! events.
 
 mod compare;
+mod measured;
 mod montecarlo;
 mod pipeline;
 mod plot;
@@ -21,6 +22,7 @@ mod sweep;
 mod threshold;
 
 pub use compare::{at_p, best, evaluate, rates, significant, BiasSummary, Column, RatePoint, Row};
+pub use measured::{decode_measured, Layout, Measured, MeasuredEvents};
 pub use montecarlo::{decode_batch, run, Counts, Experiment, RunOptions};
 pub use pipeline::{Pipeline, StudyError};
 pub use plot::{render_for, Curve, Marker, Panel};
