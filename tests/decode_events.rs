@@ -187,8 +187,10 @@ fn wrong_dtype_is_refused() {
         npy("<f8", &[100, 24], &[0; 19200]),
     );
     refused(&events, "has dtype `<f8`; expected `uint8`");
-    let events = with_file(dir.path(), "detectors.npy", npy("|u1", &[1, 24], &[2; 24]));
-    refused(&events, "value 2; expected 0 or 1");
+    let mut data = vec![0u8; 2400];
+    data[24 * 7 + 5] = 2;
+    let events = with_file(dir.path(), "detectors.npy", npy("|u1", &[100, 24], &data));
+    refused(&events, "shot 7, column 5: value 2; expected 0 or 1");
 }
 
 #[test]
