@@ -5,6 +5,7 @@
 mod architecture;
 mod codes;
 mod decode;
+mod decode_events;
 mod distance;
 mod draw;
 mod estimate;

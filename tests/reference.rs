@@ -145,6 +145,29 @@ fn estimate_keys_are_the_documented_ones() {
 }
 
 #[test]
+fn decode_keys_are_the_documented_ones() {
+    let dir = tempfile::tempdir().unwrap();
+    let events = dir.path().to_str().unwrap();
+    let circuit = concat!(env!("CARGO_MANIFEST_DIR"), "/circuits/repetition_d3.slant");
+    let common = [circuit, "--noise", "circuit p=0.01"];
+    stdout_of(
+        slant()
+            .args(["shots"])
+            .args(common)
+            .args(["--shots", "100", "--out", events]),
+    );
+    let with_failures =
+        json_of(&[&["decode"][..], &common, &["--events", events, "--json"]].concat());
+    std::fs::remove_file(dir.path().join("observables.npy")).unwrap();
+    let without = json_of(&[&["decode"][..], &common, &["--events", events, "--json"]].concat());
+    assert_same(
+        "decode",
+        &documented("decode"),
+        &written(&[with_failures, without]),
+    );
+}
+
+#[test]
 fn compare_keys_are_the_documented_ones() {
     // Rates at one p; a hyperedge-heavy product circuit (whose searches stop unproven) adds the
     // `unproven` form of the distances.

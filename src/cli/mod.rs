@@ -18,6 +18,7 @@ mod check;
 mod common;
 mod compare;
 mod compile;
+mod decode;
 mod distance;
 mod draw;
 mod estimate;
@@ -72,6 +73,8 @@ enum Command {
     Compare(compare::Args),
     /// Write a circuit with every channel of a noise model explicit.
     Compile(compile::Args),
+    /// Decode measured detection events with the circuit's matching graph.
+    Decode(decode::Args),
     /// Circuit-level distances by fault class, with the logical error found.
     Distance(distance::Args),
     /// Draw the patch: layout and gate order, the layers of a round, or faults on the chip.
@@ -144,6 +147,7 @@ pub fn main() -> i32 {
         Command::Check(a) => check::run(a),
         Command::Compare(a) => compare::run(a),
         Command::Compile(a) => compile::run(a),
+        Command::Decode(a) => decode::run(a),
         Command::Distance(a) => distance::run(a),
         Command::Draw(a) => draw::run(a),
         Command::Estimate(a) => estimate::run(a),

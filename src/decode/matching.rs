@@ -1,6 +1,9 @@
-//! Exact minimum-weight perfect matching (MWPM) decoding.
+//! Exact minimum-weight perfect matching (MWPM) on a complete graph of events: the reference.
 //!
-//! In: a [`MatchingGraph`]. Out: an [`Mwpm`] decoder; per shot, the observables flipped along
+//! The default decoder is the sparse [`super::Mwpm`]; this one is kept as its test oracle and
+//! as the baseline of the decoder benchmark (it is much slower near threshold).
+//!
+//! In: a [`MatchingGraph`]. Out: a [`ReferenceMwpm`] decoder; per shot, the observables flipped along
 //! the paths of a minimum-weight matching of the detection events, where each event is matched
 //! either to another event (cost: the shortest-path distance between them) or to the boundary
 //! (cost: its distance to the nearest boundary edge's far end). This is the decoder of
@@ -9,7 +12,7 @@
 //! How a shot is decoded:
 //! 1. Distances. Built once: the distance and first step from every detector to the boundary
 //!    (one Dijkstra run from the boundary node), and, for graphs up to
-//!    [`MwpmOptions::all_pairs_limit`] detectors, all-pairs distances with a predecessor table
+//!    [`ReferenceMwpmOptions::all_pairs_limit`] detectors, all-pairs distances with a predecessor table
 //!    (one Dijkstra per detector). Larger graphs run a Dijkstra per event per shot, stopped once
 //!    it passes `d(i, B) + max_j d(j, B)`: a pair farther apart than that is never matched (see 2).
 //!    Paths never pass through the boundary node: going through it is the same as matching both
@@ -19,7 +22,7 @@
 //!    The events then fall into connected components of useful pairs, and each component is an
 //!    independent matching problem (they interact only through the boundary, which takes any
 //!    number of events). At low noise most components have one or two events.
-//! 3. Matching a component of `m` events. Up to [`MwpmOptions::subset_dp_limit`] events: exact
+//! 3. Matching a component of `m` events. Up to [`ReferenceMwpmOptions::subset_dp_limit`] events: exact
 //!    dynamic programming over subsets in `f64` (`O(2^m m)`). Larger: a perfect matching on the
 //!    `m` events (plus one virtual boundary vertex when `m` is odd) with pair weights
 //!    `min(d(i, j), d(i, B) + d(j, B))` — equivalent to the usual construction with one boundary
@@ -42,9 +45,9 @@ use super::{odd_parity, BuildError, Decoded, Decoder, MatchingGraph, Pool, Prepa
 
 const NONE: u32 = u32::MAX;
 
-/// Tuning knobs of [`Mwpm`]; the defaults suit graphs of a few thousand detectors.
+/// Tuning knobs of [`ReferenceMwpm`]; the defaults suit graphs of a few thousand detectors.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
-pub struct MwpmOptions {
+pub struct ReferenceMwpmOptions {
     /// Precompute all-pairs shortest paths when the graph has at most this many detectors
     /// (memory: 12 bytes per pair).
     pub all_pairs_limit: usize,
@@ -53,9 +56,9 @@ pub struct MwpmOptions {
     pub subset_dp_limit: usize,
 }
 
-impl Default for MwpmOptions {
+impl Default for ReferenceMwpmOptions {
     fn default() -> Self {
-        MwpmOptions {
+        ReferenceMwpmOptions {
             all_pairs_limit: 2048,
             subset_dp_limit: 8,
         }
@@ -64,14 +67,14 @@ impl Default for MwpmOptions {
 
 /// A minimum-weight perfect matching decoder, built once per graph.
 #[derive(Debug)]
-pub struct Mwpm {
+pub struct ReferenceMwpm {
     g: Prepared,
     /// Distance from each detector to the boundary (`inf` when unreachable).
     bdist: Vec<f64>,
     /// The edge leaving each detector towards the boundary on a shortest path.
     bstep: Vec<u32>,
     all_pairs: Option<AllPairs>,
-    options: MwpmOptions,
+    options: ReferenceMwpmOptions,
     pool: Pool<Search>,
 }
 
@@ -95,15 +98,22 @@ pub struct MatchingResult {
     pub decoded: Decoded,
 }
 
-impl Mwpm {
+impl ReferenceMwpm {
     /// Builds the decoder with default options.
-    pub fn new(graph: &MatchingGraph) -> Result<Mwpm, BuildError> {
-        Mwpm::with_options(graph, MwpmOptions::default())
+    pub fn new(graph: &MatchingGraph) -> Result<ReferenceMwpm, BuildError> {
+        ReferenceMwpm::with_options(graph, ReferenceMwpmOptions::default())
     }
 
     /// Builds the decoder with the given options.
-    pub fn with_options(graph: &MatchingGraph, options: MwpmOptions) -> Result<Mwpm, BuildError> {
-        let g = Prepared::new(graph)?;
+    pub fn with_options(
+        graph: &MatchingGraph,
+        options: ReferenceMwpmOptions,
+    ) -> Result<ReferenceMwpm, BuildError> {
+        Ok(ReferenceMwpm::from_prepared(Prepared::new(graph)?, options))
+    }
+
+    /// Builds the decoder from an already prepared graph (tests give it integer weights).
+    pub(crate) fn from_prepared(g: Prepared, options: ReferenceMwpmOptions) -> ReferenceMwpm {
         let n = g.n;
         let mut s = Search::new(n + 1);
         dijkstra(&g, &mut s, n as u32, f64::INFINITY, |_, _| false);
@@ -136,18 +146,18 @@ impl Mwpm {
                 );
             AllPairs { dist, pred }
         });
-        let options = MwpmOptions {
+        let options = ReferenceMwpmOptions {
             subset_dp_limit: options.subset_dp_limit.min(16),
             ..options
         };
-        Ok(Mwpm {
+        ReferenceMwpm {
             g,
             bdist,
             bstep,
             all_pairs,
             options,
             pool: Pool::new(),
-        })
+        }
     }
 
     /// Decodes one shot and reports the matching as well as the prediction.
@@ -344,7 +354,7 @@ impl Mwpm {
     }
 }
 
-impl Decoder for Mwpm {
+impl Decoder for ReferenceMwpm {
     fn decode(&self, events: &[u32]) -> Decoded {
         self.decode_matching(events).decoded
     }
@@ -694,16 +704,16 @@ mod tests {
     fn matches_brute_force_minimum_on_random_instances() {
         let mut rng = Xoshiro256PlusPlus::seed_from_u64(7);
         let configs = [
-            MwpmOptions::default(),
-            MwpmOptions {
+            ReferenceMwpmOptions::default(),
+            ReferenceMwpmOptions {
                 all_pairs_limit: 0,
                 subset_dp_limit: 8,
             },
-            MwpmOptions {
+            ReferenceMwpmOptions {
                 all_pairs_limit: 2048,
                 subset_dp_limit: 0,
             },
-            MwpmOptions {
+            ReferenceMwpmOptions {
                 all_pairs_limit: 0,
                 subset_dp_limit: 0,
             },
@@ -711,9 +721,9 @@ mod tests {
         let mut perfect = 0;
         for _ in 0..300 {
             let g = random_graph(&mut rng, 9);
-            let decoders: Vec<Mwpm> = configs
+            let decoders: Vec<ReferenceMwpm> = configs
                 .iter()
-                .map(|&o| Mwpm::with_options(&g, o).unwrap())
+                .map(|&o| ReferenceMwpm::with_options(&g, o).unwrap())
                 .collect();
             for _ in 0..5 {
                 let events: Vec<u32> = (0..g.num_detectors as u32)

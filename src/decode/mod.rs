@@ -21,18 +21,22 @@
 //!   can be shared by rayon threads.
 
 mod matching;
+mod radix_heap;
+mod sparse;
+mod sparse_graph;
 mod unionfind;
 
 use std::collections::HashMap;
 use std::fmt;
 use std::sync::Mutex;
 
-// The decoders (`matching`, `unionfind`, and new ones beside them) take these as `super::…`.
+// The decoders (`matching`, `sparse`, `unionfind`, and new ones beside them) take these as `super::…`.
 use crate::base::{odd_parity, odd_parity_in_place};
 
 pub use crate::faults::{MatchingEdge, MatchingGraph};
 
-pub use matching::Mwpm;
+pub use matching::{ReferenceMwpm, ReferenceMwpmOptions};
+pub use sparse::Mwpm;
 pub use unionfind::UnionFind;
 
 /// The result of decoding one shot.
@@ -54,7 +58,7 @@ pub trait Decoder: Send + Sync {
 /// Which decoder to build.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
 pub enum DecoderKind {
-    /// Exact minimum-weight perfect matching ([`Mwpm`]).
+    /// Exact minimum-weight perfect matching ([`Mwpm`], grown on the sparse graph).
     Mwpm,
     /// Weighted union-find with peeling ([`UnionFind`]).
     UnionFind,

@@ -15,6 +15,7 @@
 
 mod compare;
 pub mod draw;
+mod measured;
 mod montecarlo;
 mod pipeline;
 mod plot;
@@ -23,6 +24,7 @@ mod sweep;
 mod threshold;
 
 pub use compare::{at_p, best, evaluate, rates, significant, BiasSummary, Column, RatePoint, Row};
+pub use measured::{decode_measured, Layout, Measured, MeasuredEvents};
 pub use montecarlo::{decode_batch, run, Counts, Experiment, RunOptions};
 pub use pipeline::{Pipeline, StudyError};
 pub use plot::{render_for, Curve, Marker, Panel};
