@@ -4,6 +4,7 @@
 mod architecture;
 mod codes;
 mod decode;
+mod device;
 mod distance;
 mod estimate;
 mod gen;
