@@ -67,6 +67,15 @@ impl Progress {
         self.message = message;
     }
 
+    /// Runs `f` (which prints lines of its own on stderr) with the bar hidden, so the lines do
+    /// not tear it.
+    pub fn suspend<R>(&mut self, f: impl FnOnce() -> R) -> R {
+        match &self.bar {
+            Some(bar) => bar.suspend(f),
+            None => f(),
+        }
+    }
+
     /// Removes the bar.
     pub fn finish(&mut self) {
         if let Some(bar) = self.bar.take() {

@@ -50,4 +50,4 @@ pub use note::Note;
 pub use preset::{Preset, PresetKind};
 pub use reader::MODEL_KEYS;
 pub use settings::{split_settings, Setting, SCALE_KINDS};
-pub use spec::{apply, apply_noted, NoiseSpec};
+pub use spec::{apply, apply_noted, is_model_text, NoiseSpec};

@@ -38,6 +38,13 @@ impl NoiseSpec {
     }
 }
 
+/// Whether a noise text names a model file (its first word ends in `.toml` or contains `/`)
+/// rather than a preset.
+pub fn is_model_text(text: &str) -> bool {
+    let first = text.split_whitespace().next().unwrap_or("");
+    first.ends_with(".toml") || first.contains('/')
+}
+
 /// Returns a copy of `circuit` with the noise of `spec` written in as explicit operations.
 pub fn apply(circuit: &Circuit, spec: &NoiseSpec) -> Result<Circuit, Vec<Diagnostic>> {
     apply_noted(circuit, spec).map(|c| c.circuit)
@@ -68,7 +75,7 @@ pub fn apply_noted(circuit: &Circuit, spec: &NoiseSpec) -> Result<Compiled, Vec<
 fn parse_extension(source: &Arc<Source>) -> Option<Result<NoiseSpec, Diagnostic>> {
     let text = source.text.as_str();
     let first = text.split_whitespace().next().unwrap_or("");
-    if first.ends_with(".toml") || first.contains('/') {
+    if is_model_text(text) {
         let path = std::path::Path::new(first);
         let start = text.find(first).unwrap_or(0);
         let at = Span::new(start, start + first.len());
