@@ -1,7 +1,7 @@
 //! Device models in studies: biased and per-basis resets and measurements, durations only where
 //! used, and settings after a model file (scales, `p=`, model keys by path).
 
-use crate::support::load;
+use crate::support::{load, slant, Runner};
 use slant::base::{Basis, Source};
 use slant::faults::{ExtractOptions, FaultGraph};
 use slant::ir::{Channel, Circuit, OpKind};
@@ -243,5 +243,242 @@ fn durations_are_needed_only_where_used() {
         errs[0].hint.as_deref().unwrap().contains("`[measure.z]`"),
         "{:?}",
         errs[0].hint
+    );
+}
+
+/// A small cat-like model for end-to-end runs (scaled by the sweeps' and compares' `p`).
+const CAT: &str = "p = 0.001\nbias = 100\ntime_unit = \"us\"\n\
+[gates.default]\nduration = 0.1\n\
+[gates.cx]\nduration = 0.5\np = 0.002\nimplementation = \"bias-preserving\"\n\
+[gates.cz]\nduration = 0.5\np = 0.002\n\
+[measure]\nduration = 1.0\nflip = 0.002\nbias = 100\n\
+[reset]\nduration = 1.0\np = 0.001\nbias = 100\n\
+[idle]\nt_bitflip = 1e6\nt2 = 500.0\n";
+
+/// `(task, chunk, shots, failures)` of every row of a store, sorted.
+fn store_table(path: &std::path::Path) -> Vec<(String, u64, u64, u64)> {
+    let mut t: Vec<_> = slant::study::read_store(path)
+        .unwrap()
+        .into_iter()
+        .map(|r| (r.task, r.chunk, r.shots, r.failures))
+        .collect();
+    t.sort();
+    t
+}
+
+/// `(stdout, stderr)` of a run that must succeed.
+fn ok(cmd: &mut std::process::Command) -> (String, String) {
+    let out = cmd.run();
+    let (code, stdout, stderr) = crate::support::parts(&out);
+    assert_eq!(code, 0, "{stderr}");
+    (stdout, stderr)
+}
+
+/// A sweep on a model file (path relative to the spec) with a varied model key runs, resumes
+/// (saying which tasks it skipped), shards and merges to the single run's store, and plots
+/// the threshold against the varied key.
+#[test]
+fn model_sweep_resumes_merges_and_plots_against_the_varied_key() {
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::create_dir(dir.path().join("models")).unwrap();
+    model_file(&dir.path().join("models"), "cat.toml", CAT);
+    let spec = dir.path().join("spec.toml");
+    std::fs::write(
+        &spec,
+        "shots = 3000\nchunk = 1000\n[[grid]]\nlabel = \"xzzx cat\"\nfamily = \"xzzx\"\n\
+         basis = \"x\"\ndistances = [3, 5]\nnoise = \"models/cat.toml\"\np = [0.01, 0.03]\n\
+         [grid.vary]\n\"bias,reset.bias,measure.bias\" = [10, 1000]\n",
+    )
+    .unwrap();
+    let sweep = |store: &str, extra: &[&str]| {
+        ok(slant()
+            .current_dir(dir.path())
+            .args(["sweep", "spec.toml", "--store", store, "--jobs", "1"])
+            .args(extra))
+    };
+    sweep("whole.jsonl", &[]);
+    let whole = store_table(&dir.path().join("whole.jsonl"));
+    assert_eq!(
+        whole.len(),
+        8 * 3,
+        "2 biases × 2 distances × 2 p, 3 chunks each"
+    );
+    // The varied keys are part of the task key.
+    assert!(whole.iter().any(|r| r.0.contains("reset.bias=1000")));
+
+    // Shard 1 of 2, then the whole spec on the same store: the shard's tasks are skipped.
+    sweep("resumed.jsonl", &["--shard", "1/2"]);
+    std::fs::copy(
+        dir.path().join("resumed.jsonl"),
+        dir.path().join("s1.jsonl"),
+    )
+    .unwrap();
+    let (_, stderr) = sweep("resumed.jsonl", &[]);
+    assert!(
+        stderr.contains("skipped 4 of 8 tasks, complete in `resumed.jsonl`"),
+        "{stderr}"
+    );
+    assert_eq!(stderr.matches("  skipped task ").count(), 4, "{stderr}");
+    assert_eq!(store_table(&dir.path().join("resumed.jsonl")), whole);
+
+    // Shards merge to the single run's store.
+    sweep("s2.jsonl", &["--shard", "2/2"]);
+    ok(slant().current_dir(dir.path()).args([
+        "merge",
+        "s1.jsonl",
+        "s2.jsonl",
+        "-o",
+        "merged.jsonl",
+    ]));
+    assert_eq!(store_table(&dir.path().join("merged.jsonl")), whole);
+
+    // Plots: one panel per bias, and the threshold against the varied key.
+    let (stdout, _) = ok(slant().current_dir(dir.path()).args([
+        "plot",
+        "merged.jsonl",
+        "-o",
+        "rates.svg",
+        "--summary",
+        "summary.png",
+    ]));
+    assert!(
+        stdout.contains("threshold against bias,reset.bias,measure.bias"),
+        "{stdout}"
+    );
+    let svg = std::fs::read_to_string(dir.path().join("rates.svg")).unwrap();
+    assert!(svg.contains("physical error per operation"), "model x axis");
+    assert!(svg.contains("bias &amp; reset.bias &amp; measure.bias = 1000"));
+    let png = std::fs::read(dir.path().join("summary.png")).unwrap();
+    assert_eq!(&png[1..4], b"PNG");
+}
+
+/// `compare --p` on a model file scales it to each physical error per operation: the counts
+/// equal those of `estimate` on the model written scaled by hand (same seed); a model without
+/// a top-level `p` has no reference to scale from and is refused.
+#[test]
+fn compare_p_scales_a_model_file() {
+    let dir = tempfile::tempdir().unwrap();
+    let m = model_file(dir.path(), "cat.toml", CAT);
+    let scaled = model_file(
+        dir.path(),
+        "cat10.toml",
+        &CAT.replace("p = 0.001\n", "p = 0.01\n")
+            .replace("p = 0.002\n", "p = 0.02\n")
+            .replace("flip = 0.002\n", "flip = 0.02\n")
+            .replace("t_bitflip = 1e6\nt2 = 500.0", "t_bitflip = 1e5\nt2 = 50.0"),
+    );
+    let circuit = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/circuits/xzzx_d3_hook_safe.slant"
+    );
+    let (cmp, _) = ok(slant().args([
+        "compare", circuit, "--noise", &m, "--p", "0.01", "--shots", "3000", "--seed", "7",
+        "--json",
+    ]));
+    let cmp: serde_json::Value = serde_json::from_str(&cmp).unwrap();
+    let (est, _) = ok(slant().args([
+        "estimate", circuit, "--noise", &scaled, "--shots", "3000", "--seed", "7", "--json",
+    ]));
+    let est: serde_json::Value = serde_json::from_str(&est).unwrap();
+    let rate = &cmp["rows"][0]["rates"][0];
+    assert!(est["failures"].as_u64().unwrap() > 0);
+    assert_eq!(rate["failures"], est["failures"], "{rate} vs {est}");
+    assert_eq!(rate["shots"], est["shots"]);
+
+    let bare = model_file(
+        dir.path(),
+        "bare.toml",
+        &CAT.replacen("p = 0.001\nbias", "bias", 1)
+            .replace("duration = 0.1\n", "duration = 0.1\np = 0.001\n"),
+    );
+    let out = slant()
+        .args(["compare", circuit, "--noise", &bare, "--p", "0.01"])
+        .run();
+    let (code, _, stderr) = crate::support::parts(&out);
+    assert_eq!(code, 1, "{stderr}");
+    assert!(stderr.contains("top-level `p`"), "{stderr}");
+}
+
+/// Long commands draw no progress line when standard error is not a terminal (a log or a pipe
+/// stays clean), and do draw one, with the rate, the failures and an ETA, on a terminal (run
+/// under `script`, which gives the command a pseudo-terminal, where it is installed).
+#[test]
+fn progress_is_drawn_only_on_a_terminal() {
+    let dir = tempfile::tempdir().unwrap();
+    let circuit = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/circuits/surface_d3_hook_safe.slant"
+    );
+    let spec = dir.path().join("spec.toml");
+    std::fs::write(
+        &spec,
+        "shots = 8192\nchunk = 4096\n[[grid]]\nfamily = \"repetition\"\ndistances = [3]\n\
+         noise = \"phenomenological\"\np = [0.05]\n",
+    )
+    .unwrap();
+    let store = dir.path().join("s.jsonl");
+    let noise = ["--noise", "circuit p=0.005"];
+    let runs: Vec<Vec<&str>> = vec![
+        [&["estimate", circuit, "--shots", "20000"][..], &noise].concat(),
+        [
+            &["shots", circuit, "--shots", "20000", "--format", "bits"][..],
+            &noise,
+        ]
+        .concat(),
+        [&["distance", circuit][..], &noise].concat(),
+        [&["graph", circuit, "--format", "json"][..], &noise].concat(),
+        [
+            &[
+                "compare",
+                "--family",
+                "repetition",
+                "--vary",
+                "distance=3,5",
+            ][..],
+            &[
+                "--noise",
+                "circuit p=0.01",
+                "--p",
+                "0.01",
+                "--shots",
+                "8192",
+            ],
+        ]
+        .concat(),
+        vec![
+            "sweep",
+            spec.to_str().unwrap(),
+            "--store",
+            store.to_str().unwrap(),
+        ],
+    ];
+    for args in &runs {
+        let (_, stderr) = ok(slant().args(args));
+        assert!(
+            !stderr.contains('\r') && !stderr.contains('\u{1b}') && !stderr.contains("eta "),
+            "{args:?} drew progress into a pipe: {stderr:?}"
+        );
+    }
+    let script = std::path::Path::new("/usr/bin/script");
+    if !script.exists() {
+        eprintln!("no `script` here: the terminal half of this test is skipped");
+        return;
+    }
+    let command = format!(
+        "{} estimate {circuit} --noise 'circuit p=0.005' --shots 40000 > /dev/null",
+        env!("CARGO_BIN_EXE_slant")
+    );
+    let typescript = dir.path().join("typescript");
+    let out = std::process::Command::new(script)
+        .args(["-qec", &command])
+        .arg(&typescript)
+        .stdin(std::process::Stdio::null())
+        .output()
+        .unwrap();
+    assert!(out.status.success(), "{out:?}");
+    let seen = std::fs::read_to_string(&typescript).unwrap();
+    assert!(
+        seen.contains("/40,000 shots, ") && seen.contains("/s, eta ") && seen.contains(" failures"),
+        "{seen}"
     );
 }

@@ -231,7 +231,14 @@ pub fn run(args: Args) -> Result<(), CliError> {
         seed: args.seed,
     };
     let mut rows = Vec::new();
-    for (name, circuit) in sources(&args)? {
+    let sources = sources(&args)?;
+    // One line for the whole comparison: the shots of every row's rates, with the row and what
+    // it is doing (its distance searches, or the failures so far at one p) as the message.
+    let per_row = args.shots * args.p.len() as u64;
+    let mut bar = Progress::new(per_row * sources.len() as u64, "shots");
+    for (r, (name, circuit)) in sources.into_iter().enumerate() {
+        bar.set_position(r as u64 * per_row);
+        bar.set_message(format!("{name}: distances"));
         if !args.p.is_empty() && circuit.circuit().observables.is_empty() {
             return Err(Diagnostic::bare(format!(
                 "`{name}` declares no observable, so there is no logical error rate to estimate"
@@ -242,19 +249,21 @@ pub fn run(args: Args) -> Result<(), CliError> {
             Some(spec) => circuit.noised_spec(spec)?,
             None => circuit.clone(),
         };
-        print_warnings(noisy.warnings());
-        let mut row = study::evaluate(name, &noisy, &extract, &DistanceOptions::default())
+        bar.suspend(|| print_warnings(noisy.warnings()));
+        let mut row = study::evaluate(name.clone(), &noisy, &extract, &DistanceOptions::default())
             .map_err(CliError::Internal)?;
         if let Some(text) = &args.noise.noise {
-            let mut bar = Progress::new(args.shots * args.p.len() as u64, "shots");
             row.rates = study::rates(&circuit, text, &args.p, args.decoder, &run, |i, c| {
-                bar.set_message(format!("{} failures at p={}", c.failures, args.p[i]));
-                bar.set_position(i as u64 * args.shots + c.shots);
+                bar.set_message(format!(
+                    "{name}: {} failures at p={}",
+                    c.failures, args.p[i]
+                ));
+                bar.set_position(r as u64 * per_row + i as u64 * args.shots + c.shots);
             })?;
-            bar.finish();
         }
         rows.push(row);
     }
+    bar.finish();
     if let Some(path) = &args.plot {
         let noise = args.noise.noise.as_deref().unwrap_or_default();
         let base = study::without_p(noise);

@@ -239,23 +239,34 @@ pub fn run(args: Args) -> Result<(), CliError> {
             },
         );
     }
+    // One panel per group names the group's own parameter values instead of the list of
+    // what varies.
     let title = |params: Option<&str>| -> String {
         let base = args
             .title
             .clone()
-            .unwrap_or_else(|| default_title(&groups, true));
+            .unwrap_or_else(|| default_title(&groups, params.is_none()));
         match params {
             Some(p) if !p.is_empty() => format!("{base} | {p}"),
             _ => base,
         }
     };
-    let panels = if args.overlay {
+    let mut panels = if args.overlay {
         vec![overlay_panel(&fits, rate_name, &title(None))]
     } else {
         fits.values()
             .map(|f| group_panel(f, rate_name, &title(Some(&params_text(&f.points[0])))))
             .collect()
     };
+    if groups
+        .values()
+        .flatten()
+        .all(|p| crate::noise::is_model_text(&p.noise))
+    {
+        for panel in &mut panels {
+            panel.x_desc = MODEL_X.into();
+        }
+    }
     let bytes = render_for(&args.output, &panels).map_err(CliError::Internal)?;
     write_atomic(&args.output, &bytes)?;
     if let Some(path) = &args.summary {
@@ -275,6 +286,9 @@ pub fn run(args: Args) -> Result<(), CliError> {
     }
     Ok(())
 }
+
+/// The x axis of a sweep on a model file: its scale as a physical error per operation.
+const MODEL_X: &str = "physical error per operation p (model scaled by p / its p)";
 
 /// `bias 100, idle.t2 50`: what tells a group from the others of its label.
 fn params_text(p: &Point) -> String {

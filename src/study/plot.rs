@@ -252,23 +252,74 @@ fn log_ticks(lo: f64, hi: f64) -> Vec<f64> {
         return Vec::new();
     }
     let decades = (hi / lo).log10();
-    let mantissas: &[f64] = if decades <= 0.5 {
-        &[1.0, 2.0, 3.0, 4.0, 5.0, 6.0, 7.0, 8.0, 9.0]
-    } else if decades <= 1.2 {
-        &[1.0, 2.0, 3.0, 5.0]
-    } else if decades <= 3.0 {
-        &[1.0, 2.0, 5.0]
-    } else {
-        &[1.0]
-    };
-    let mut out = Vec::new();
-    for k in lo.log10().floor() as i32..=hi.log10().ceil() as i32 {
-        for &m in mantissas {
-            let v = m * 10f64.powi(k);
-            if v >= lo * (1.0 - 1e-9) && v <= hi * (1.0 + 1e-9) {
-                out.push(v);
+    let sets: [&[f64]; 4] = [
+        &[1.0],
+        &[1.0, 2.0, 5.0],
+        &[1.0, 2.0, 3.0, 5.0],
+        &[1.0, 2.0, 3.0, 4.0, 5.0, 6.0, 7.0, 8.0, 9.0],
+    ];
+    let within = |mantissas: &[f64]| -> Vec<f64> {
+        let mut out = Vec::new();
+        for k in lo.log10().floor() as i32..=hi.log10().ceil() as i32 {
+            for &m in mantissas {
+                // Divided for negative powers, so 9e-3 is 0.009 exactly as printed.
+                let v = if k < 0 {
+                    m / 10f64.powi(-k)
+                } else {
+                    m * 10f64.powi(k)
+                };
+                if v >= lo * (1.0 - 1e-9) && v <= hi * (1.0 + 1e-9) {
+                    out.push(v);
+                }
             }
         }
+        out
+    };
+    let first = if decades > 3.0 {
+        0
+    } else if decades > 1.2 {
+        1
+    } else if decades > 0.5 {
+        2
+    } else {
+        3
+    };
+    // Under a decade (a threshold axis, say) evenly spaced round values read best; otherwise
+    // the coarsest set from the one the span calls for that labels at least four values.
+    if decades < 1.0 {
+        let t = linear_ticks(lo, hi);
+        if t.len() >= 3 {
+            return t;
+        }
+    }
+    for set in &sets[first..] {
+        let t = within(set);
+        if t.len() >= 4 {
+            return t;
+        }
+    }
+    linear_ticks(lo, hi)
+}
+
+/// Round values 1, 2 or 5 × 10^k apart, about five of them, inside `[lo, hi]`.
+fn linear_ticks(lo: f64, hi: f64) -> Vec<f64> {
+    let raw = (hi - lo) / 5.0;
+    let e = raw.log10().floor();
+    let base = 10f64.powf(e);
+    let step = [1.0, 2.0, 5.0, 10.0]
+        .into_iter()
+        .map(|m| m * base)
+        .find(|&s| s >= raw)
+        .unwrap_or(10.0 * base);
+    let mut out = Vec::new();
+    let mut k = (lo / step).ceil();
+    while k * step <= hi * (1.0 + 1e-9) {
+        // Rounded to the step's decimals, so 0.012 is not 0.012000000000000002.
+        let v = k * step;
+        let decimals = (-(step.log10().floor()) as i32 + 1).max(0);
+        let scale = 10f64.powi(decimals);
+        out.push((v * scale).round() / scale);
+        k += 1.0;
     }
     out
 }
@@ -489,7 +540,7 @@ where
                 pts.sort_by(|a, b| a.0.total_cmp(&b.0));
                 let line: Vec<(f64, f64)> = pts
                     .iter()
-                    .filter(|(_, e)| !true || e.rate > 0.0)
+                    .filter(|(_, e)| e.rate > 0.0)
                     .map(|&(p, e)| (p, e.rate))
                     .collect();
                 if curve.dashed {
@@ -622,6 +673,16 @@ mod tests {
         assert_eq!(
             (f(&1e-5), f(&1e-3)),
             ("1e-5".to_string(), "1e-3".to_string())
+        );
+        // A narrow log axis still gets at least four labels.
+        assert_eq!(
+            log_ticks(0.0098, 0.018),
+            vec![0.01, 0.012, 0.014, 0.016, 0.018]
+        );
+        assert_eq!(log_ticks(0.007, 0.025), vec![0.01, 0.015, 0.02, 0.025]);
+        assert_eq!(
+            log_ticks(0.002, 0.6),
+            vec![0.002, 0.005, 0.01, 0.02, 0.05, 0.1, 0.2, 0.5]
         );
         // Crowded sampled values fall back to round ticks.
         let t = axis_ticks(&[0.010, 0.0101, 0.02], 0.009, 0.021, true);
