@@ -482,3 +482,39 @@ fn progress_is_drawn_only_on_a_terminal() {
         "{seen}"
     );
 }
+
+/// The cluster recipe's driver (`scripts/cluster/local.sh`: the job array's `shard.sh` for
+/// every shard as background processes, then `merge.sh`) ends with the store a single run
+/// writes.
+#[test]
+fn cluster_driver_run_locally_merges_to_the_single_run() {
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::write(
+        dir.path().join("spec.toml"),
+        "shots = 6000\nchunk = 2000\n[[grid]]\nfamily = \"repetition\"\nflip = \"z\"\n\
+         distances = [3, 5]\nnoise = \"phenomenological\"\np = [0.05, 0.08]\nbias = [inf]\n",
+    )
+    .unwrap();
+    ok(slant()
+        .current_dir(dir.path())
+        .args(["sweep", "spec.toml", "--store", "single.jsonl"]));
+    let script = concat!(env!("CARGO_MANIFEST_DIR"), "/scripts/cluster/local.sh");
+    let out = std::process::Command::new("bash")
+        .args([script, "spec.toml", "res", "3"])
+        .current_dir(dir.path())
+        .env("SLANT", env!("CARGO_BIN_EXE_slant"))
+        .stdin(std::process::Stdio::null())
+        .output()
+        .unwrap();
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    for k in 1..=3 {
+        assert!(dir.path().join(format!("res.{k}.jsonl")).exists());
+    }
+    let single = store_table(&dir.path().join("single.jsonl"));
+    assert_eq!(single.len(), 4 * 3);
+    assert_eq!(store_table(&dir.path().join("res.jsonl")), single);
+}
