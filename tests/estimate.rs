@@ -502,6 +502,7 @@ fn plot_marks_the_crossing_of_synthetic_power_laws() {
                 rounds: d,
                 p,
                 bias: None,
+                vary: Default::default(),
                 noise: format!("capacity p={p}"),
                 decoder: "mwpm".into(),
             };
@@ -519,17 +520,20 @@ fn plot_marks_the_crossing_of_synthetic_power_laws() {
     );
     assert!(report.contains("p_th ≈ 2.0000e-2"), "{report}");
     let image = std::fs::read_to_string(&svg).unwrap();
-    assert!(image.starts_with("<svg") && image.contains("threshold ≈ 2.000e-2"));
+    assert!(
+        image.starts_with("<svg") && image.contains("threshold 2.00%"),
+        "{image}"
+    );
     assert!(image.contains("d = 7"));
     // PNG: the same drawing rasterised with the bundled font; check the PNG signature and the
-    // image size in the header (820 × 520 per panel).
+    // image size in the header (1000 × 700 per panel).
     let png = dir.path().join("t.png");
     crate::support::stdout_of(slant().arg("plot").arg(&store).arg("-o").arg(&png));
     let bytes = std::fs::read(&png).unwrap();
     assert_eq!(&bytes[..8], b"\x89PNG\r\n\x1a\n");
-    assert_eq!(u32::from_be_bytes(bytes[16..20].try_into().unwrap()), 820);
+    assert_eq!(u32::from_be_bytes(bytes[16..20].try_into().unwrap()), 1000);
     assert_eq!(
-        u32::from_be_bytes(bytes[20..24].try_into().unwrap()) % 520,
+        u32::from_be_bytes(bytes[20..24].try_into().unwrap()) % 700,
         0
     );
     let bad = slant()

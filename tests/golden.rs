@@ -276,7 +276,7 @@ fn version_one_stores_still_merge_and_plot() {
         let o: serde_json::Value = serde_json::from_str(o).unwrap();
         let n: serde_json::Value = serde_json::from_str(n).unwrap();
         assert!(o.get("version").is_none() && o.get("failures").is_none());
-        assert_eq!(n["version"], 2);
+        assert_eq!(n["version"], slant::study::STORE_VERSION);
         assert_eq!(n["failures"], o["errors"]);
         assert!(n.get("errors").is_none());
         for key in ["task", "chunk", "shots", "seed", "p", "distance", "decoder"] {

@@ -6,6 +6,7 @@ mod architecture;
 mod codes;
 mod decode;
 mod decode_events;
+mod device;
 mod distance;
 mod draw;
 mod estimate;

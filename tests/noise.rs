@@ -320,27 +320,19 @@ fn cli_compile_and_bias() {
     assert!(stdout.contains("verdict: bias lost at"), "{stdout}");
 }
 
-/// An override that selects no qubit of the circuit is refused at its selector value, whether it
-/// names a qubit or a role; the CLI exits 1.
+/// An override whose role is close to one the circuit declares is a typo, refused at its
+/// selector value; a qubit the circuit lacks, or a role it does not use, is skipped with a located
+/// warning (one chip model serves circuits of every size); the CLI exits 1 only on the error.
 #[test]
 fn unmatched_overrides_are_located() {
     let circuit = load("one.slant", ONE_CX);
-    let cases: &[(&str, &str, usize, usize, Option<&str>)] = &[
-        (
-            "p = 0.01\n[gates.default]\n[[override]]\nqubit = \"zz[9]\"\nmeasure = { flip = 0.1 }\n",
-            "has no qubit `zz[9]`",
-            4,
-            9,
-            None,
-        ),
-        (
-            "p = 0.01\n[gates.default]\n\n[[override]]\n  role   =   \"dta\"\nidle = { p = 0.1 }\n",
-            "has no role `dta`",
-            5,
-            14,
-            Some("did you mean `data`?"),
-        ),
-    ];
+    let cases: &[(&str, &str, usize, usize, Option<&str>)] = &[(
+        "p = 0.01\n[gates.default]\n\n[[override]]\n  role   =   \"dta\"\nidle = { p = 0.1 }\n",
+        "has no role `dta`",
+        5,
+        14,
+        Some("did you mean `data`?"),
+    )];
     for &(text, msg, line, col, hint) in cases {
         let m = model(text).unwrap();
         let errs = compile(&circuit, &m).expect_err(text);
@@ -355,6 +347,19 @@ fn unmatched_overrides_are_located() {
             assert_eq!(errs[0].hint.as_deref(), Some(h), "{text}");
         }
     }
+    // A qubit the circuit lacks is skipped with a located warning.
+    let lacking =
+        "p = 0.01\n[gates.default]\n[[override]]\nqubit = \"zz[9]\"\nmeasure = { flip = 0.1 }\n";
+    let compiled = compile(&circuit, &model(lacking).unwrap()).expect("a warning only");
+    assert_eq!(compiled.warnings.len(), 1);
+    let w = &compiled.warnings[0];
+    assert!(w.message.contains("has no qubit `zz[9]`"), "{}", w.message);
+    assert!(
+        w.message.ends_with("the override is skipped"),
+        "{}",
+        w.message
+    );
+    assert_eq!(w.location().unwrap(), ("m.toml".to_string(), 4, 9));
     // A role the circuit does not use at all is skipped with a located warning: one hardware
     // model serves circuits with and without ancillas.
     let unused = "p = 0.01\n[gates.default]\n[[override]]\nrole = \"nosuchrole\"\nmeasure = { flip = 0.1 }\n";
@@ -383,7 +388,7 @@ fn unmatched_overrides_are_located() {
             ])
             .run()
     };
-    std::fs::write(&m, cases[1].0).unwrap();
+    std::fs::write(&m, cases[0].0).unwrap();
     let st = bias();
     assert_eq!(st.status.code(), Some(1));
     let stderr = String::from_utf8_lossy(&st.stderr);
@@ -420,8 +425,8 @@ fn override_qubit_names_are_normalised() {
             "p = 0.01\n[gates.default]\n[[override]]\nqubit = \"{written}\"\nmeasure = {{ flip = 0.25 }}\n"
         );
         let m = model(&text).unwrap_or_else(|d| panic!("{written}: {}", d.render()));
-        assert_eq!(m.measure_for(&[q]).flip, 0.25, "{written}");
-        assert_eq!(m.measure_for(&[&circuit.qubits[0]]).flip, 0.01, "{written}");
+        assert_eq!(m.measure_for(&[q]).p, 0.25, "{written}");
+        assert_eq!(m.measure_for(&[&circuit.qubits[0]]).p, 0.01, "{written}");
         compile(&circuit, &m).unwrap_or_else(|d| panic!("{written}: {}", d[0].render()));
     }
     for bad in ["a[1 2]", "a[1,]", "a[x]", "1a", "a[1"] {
@@ -687,10 +692,9 @@ fn shipped_models_compile_onto_every_bundled_circuit() {
                 panic!("{} on {}: {}", m.display(), c.display(), e[0].render())
             });
             assert!(
-                compiled
-                    .warnings
-                    .iter()
-                    .all(|w| w.message.contains("has no role")),
+                compiled.warnings.iter().all(
+                    |w| w.message.contains("has no role") || w.message.contains("has no qubit")
+                ),
                 "{} on {}",
                 m.display(),
                 c.display()

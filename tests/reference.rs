@@ -211,9 +211,12 @@ fn store_row_keys_are_the_documented_ones() {
     std::fs::write(
         dir.path().join("spec.toml"),
         "shots = 4096\nchunk = 4096\n[[grid]]\nfamily = \"repetition\"\ndistances = [3]\n\
-         noise = \"phenomenological\"\np = [0.05]\nbias = [10]\n",
+         noise = \"phenomenological\"\np = [0.05]\nbias = [10]\n\
+         [[grid]]\nfamily = \"repetition\"\ndistances = [3]\nnoise = \"m.toml\"\np = [0.02]\n\
+         [grid.vary]\nbias = [10]\n",
     )
     .unwrap();
+    std::fs::write(dir.path().join("m.toml"), "p = 0.01\n[gates.default]\n").unwrap();
     let mut cmd = slant();
     cmd.current_dir(dir.path())
         .args(["sweep", "spec.toml", "--store", "s.jsonl", "--jobs", "1"]);
@@ -223,7 +226,19 @@ fn store_row_keys_are_the_documented_ones() {
         .lines()
         .map(|l| serde_json::from_str(l).unwrap())
         .collect();
-    assert_same("store", &documented("store"), &written(&rows));
+    // `vary` maps each varied model key to its value: one documented entry for them all.
+    let keys: BTreeSet<String> = written(&rows)
+        .into_iter()
+        .map(|k| {
+            if k.starts_with("vary.") {
+                "vary.KEY".to_string()
+            } else {
+                k
+            }
+        })
+        .collect();
+    assert!(keys.contains("vary.KEY"), "a grid with `vary` writes it");
+    assert_same("store", &documented("store"), &keys);
 }
 
 #[test]

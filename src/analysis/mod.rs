@@ -9,6 +9,6 @@ mod distance;
 
 pub use bias::{analyze as analyze_bias, BiasReport, ClassBias, Component, Converter, RoundBias};
 pub use distance::{
-    distances, symptom, Count, DistanceOptions, DistanceReport, Lexicographic, LogicalError,
-    Method, Unproven, Unresolved, Weighted, EXHAUSTIVE_DEPTH,
+    distances, distances_reporting, symptom, Count, DistanceOptions, DistanceReport, Lexicographic,
+    LogicalError, Method, Unproven, Unresolved, Weighted, DISTANCE_SEARCHES, EXHAUSTIVE_DEPTH,
 };

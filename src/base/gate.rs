@@ -80,6 +80,27 @@ impl Gate {
         Gate::ALL.into_iter().find(|g| g.name() == name)
     }
 
+    /// The gate that a name common in other notations stands for (`cnot` → `cx`, `hadamard` →
+    /// `h`), for suggestions where edit distance finds nothing.
+    pub fn from_alias(name: &str) -> Option<Gate> {
+        const ALIASES: [(&str, Gate); 8] = [
+            ("cnot", Gate::Cx),
+            ("cphase", Gate::Cz),
+            ("hadamard", Gate::H),
+            ("identity", Gate::I),
+            ("not", Gate::X),
+            ("sdag", Gate::Sdg),
+            ("sqrt_x", Gate::Sx),
+            ("sqrtx", Gate::Sx),
+        ];
+        let lower = name.to_ascii_lowercase();
+        ALIASES
+            .iter()
+            .find(|(a, _)| *a == lower)
+            .map(|&(_, g)| g)
+            .or_else(|| Gate::from_name(&lower))
+    }
+
     /// Number of qubits the gate acts on.
     pub fn arity(self) -> usize {
         match self {
@@ -109,6 +130,19 @@ impl Basis {
             Basis::Z => Pauli::Z,
         }
     }
+
+    /// The basis of a Pauli (`None` for the identity).
+    pub fn of_pauli(p: Pauli) -> Option<Basis> {
+        match p {
+            Pauli::I => None,
+            Pauli::X => Some(Basis::X),
+            Pauli::Y => Some(Basis::Y),
+            Pauli::Z => Some(Basis::Z),
+        }
+    }
+
+    /// Every basis, in the order x, y, z.
+    pub const ALL: [Basis; 3] = [Basis::X, Basis::Y, Basis::Z];
 
     /// Lower-case name as written in the language.
     pub fn name(self) -> &'static str {

@@ -7,8 +7,9 @@
 //!
 //! With `--p LIST` every variant is also sampled and decoded ([`crate::study::rates`]) at each
 //! physical error rate: the `p=` of the `--noise` preset text is replaced by each value (other
-//! keys, including an explicit `q=`, stay as written). A model file has many rates of its own and
-//! no single `p` to replace, so `--p` with a `.toml` model is refused. The distances and the bias
+//! keys, including an explicit `q=`, stay as written); a model file is scaled to each value as
+//! its physical error per operation (`MODEL.toml p=P`: every probability times `P / p_ref`, every
+//! time constant divided by it, `p_ref` the model's top-level `p`; see `docs/reference.md`). The distances and the bias
 //! columns always use `--noise` as written. `--plot FILE.svg|FILE.png` draws the per-round rates against
 //! `p`, one curve per variant ([`crate::study::render_for`]).
 
@@ -21,6 +22,7 @@ use serde_json::json;
 use crate::analysis::{Count, DistanceOptions, Unproven};
 use crate::base::{write_atomic, Diagnostic, Source};
 use crate::cli::common::{parse_setting, print_warnings, read_source, NoiseArgs};
+use crate::cli::progress::Progress;
 use crate::cli::{distance::count_text, new, CliError};
 use crate::decode::DecoderKind;
 use crate::faults::ExtractOptions;
@@ -88,8 +90,9 @@ pub struct Args {
     /// Print CSV.
     #[arg(long)]
     pub csv: bool,
-    /// Also estimate the logical error rate at each of these physical error rates (replaces the
-    /// `p=` of the `--noise` preset), e.g. `0.002,0.004`.
+    /// Also estimate the logical error rate at each of these physical error rates, e.g.
+    /// `0.002,0.004`: replaces the `p=` of a preset; scales a model file to each physical error
+    /// per operation (`p / p_ref`, `p_ref` its top-level `p`).
     #[arg(
         long = "p",
         value_name = "P1,P2,...",
@@ -110,9 +113,13 @@ pub struct Args {
     /// Seed of the sampler (the same for every point); the same seed gives the same counts.
     #[arg(long, value_name = "S", default_value_t = 0)]
     pub seed: u64,
-    /// Draw the logical error rate per round against `p`, one curve per variant, to an SVG file.
+    /// Draw the logical error rate per round against `p`, one curve per variant (SVG, or PNG by
+    /// the file name).
     #[arg(long, value_name = "FILE.svg|FILE.png", requires = "p")]
     pub plot: Option<PathBuf>,
+    /// Title of the plot (default: the family and variants, and the noise without its `p`).
+    #[arg(long, value_name = "TEXT", requires = "plot")]
+    pub title: Option<String>,
 }
 
 #[derive(Parser)]
@@ -224,7 +231,14 @@ pub fn run(args: Args) -> Result<(), CliError> {
         seed: args.seed,
     };
     let mut rows = Vec::new();
-    for (name, circuit) in sources(&args)? {
+    let sources = sources(&args)?;
+    // One line for the whole comparison: the shots of every row's rates, with the row and what
+    // it is doing (its distance searches, or the failures so far at one p) as the message.
+    let per_row = args.shots * args.p.len() as u64;
+    let mut bar = Progress::new(per_row * sources.len() as u64, "shots");
+    for (r, (name, circuit)) in sources.into_iter().enumerate() {
+        bar.set_position(r as u64 * per_row);
+        bar.set_message(format!("{name}: distances"));
         if !args.p.is_empty() && circuit.circuit().observables.is_empty() {
             return Err(Diagnostic::bare(format!(
                 "`{name}` declares no observable, so there is no logical error rate to estimate"
@@ -235,43 +249,64 @@ pub fn run(args: Args) -> Result<(), CliError> {
             Some(spec) => circuit.noised_spec(spec)?,
             None => circuit.clone(),
         };
-        print_warnings(noisy.warnings());
-        let mut row = study::evaluate(name, &noisy, &extract, &DistanceOptions::default())
+        bar.suspend(|| print_warnings(noisy.warnings()));
+        let mut row = study::evaluate(name.clone(), &noisy, &extract, &DistanceOptions::default())
             .map_err(CliError::Internal)?;
         if let Some(text) = &args.noise.noise {
-            row.rates = study::rates(&circuit, text, &args.p, args.decoder, &run)?;
+            row.rates = study::rates(&circuit, text, &args.p, args.decoder, &run, |i, c| {
+                bar.set_message(format!(
+                    "{name}: {} failures at p={}",
+                    c.failures, args.p[i]
+                ));
+                bar.set_position(r as u64 * per_row + i as u64 * args.shots + c.shots);
+            })?;
         }
         rows.push(row);
     }
+    bar.finish();
     if let Some(path) = &args.plot {
-        let panel = Panel {
-            title: format!(
-                "{} (p varied along the x axis)",
-                args.noise.noise.as_deref().unwrap_or_default()
-            ),
-            y_desc: "logical error rate (per round)".into(),
-            curves: rows
-                .iter()
-                .map(|r| Curve {
-                    label: r.name.clone(),
-                    points: r
-                        .rates
-                        .iter()
-                        .map(|x| {
-                            (
-                                x.p,
-                                Estimate {
-                                    rate: x.rate,
-                                    low: x.low,
-                                    high: x.high,
-                                },
-                            )
-                        })
-                        .collect(),
+        let noise = args.noise.noise.as_deref().unwrap_or_default();
+        let base = study::without_p(noise);
+        let base = if crate::noise::is_model_text(&base) {
+            format!("{base} (scaled to p)")
+        } else {
+            base
+        };
+        let title = args.title.clone().unwrap_or_else(|| {
+            let what = match (&args.family, &args.vary) {
+                (Some(f), Some(v)) => format!("{f}, {}, {v}", args.with.join(", ")),
+                _ => "circuits compared".to_string(),
+            };
+            format!("{what}; {base}")
+        });
+        let panel = Panel::rates(
+            title,
+            "logical error rate (per round)",
+            rows.iter()
+                .enumerate()
+                .map(|(i, r)| {
+                    let mut c = Curve::new(
+                        r.name.clone(),
+                        r.rates
+                            .iter()
+                            .map(|x| {
+                                (
+                                    x.p,
+                                    Estimate {
+                                        rate: x.rate,
+                                        low: x.low,
+                                        high: x.high,
+                                    },
+                                )
+                            })
+                            .collect(),
+                        i,
+                    );
+                    c.shape = study::Shape::nth(i);
+                    c
                 })
                 .collect(),
-            marker: None,
-        };
+        );
         let bytes = study::render_for(path, &[panel]).map_err(CliError::Internal)?;
         write_atomic(path, &bytes)?;
     }

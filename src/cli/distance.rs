@@ -5,9 +5,13 @@ use std::fmt::Write as _;
 
 use serde_json::{json, Value};
 
-use crate::analysis::{distances, Count, DistanceOptions, DistanceReport, LogicalError, Unproven};
+use crate::analysis::{
+    distances_reporting, Count, DistanceOptions, DistanceReport, LogicalError, Unproven,
+    DISTANCE_SEARCHES,
+};
 use crate::base::count as plural_count;
 use crate::cli::common::{CircuitArgs, NoiseArgs};
+use crate::cli::progress::Progress;
 use crate::cli::CliError;
 use crate::faults::{ExtractOptions, FaultGraph};
 use crate::ir::Circuit;
@@ -49,8 +53,15 @@ pub fn run(args: Args) -> Result<(), CliError> {
     let opts = ExtractOptions {
         high_rate_flips: args.high_rate_flips,
     };
+    let steps = 1 + DISTANCE_SEARCHES.len() as u64;
+    let mut progress = Progress::steps(steps);
+    progress.step(1, "fault graph");
     let graph = pipeline.graph(&opts);
-    let report = distances(&graph, &DistanceOptions::default()).map_err(CliError::Internal)?;
+    let report = distances_reporting(&graph, &DistanceOptions::default(), |i, name| {
+        progress.step(2 + i as u64, name)
+    })
+    .map_err(CliError::Internal)?;
+    progress.finish();
     let text = if args.json {
         let mut s = serde_json::to_string_pretty(&to_json(&report, &graph, circuit))
             .map_err(|e| CliError::Internal(e.to_string()))?;

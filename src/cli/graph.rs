@@ -6,6 +6,7 @@ use std::time::{Duration, Instant};
 
 use crate::base::{write_atomic, write_atomic_with, Diagnostic};
 use crate::cli::common::{CircuitArgs, NoiseArgs};
+use crate::cli::progress::Progress;
 use crate::cli::CliError;
 use crate::faults::{render, write_one, ExtractOptions, FaultGraph, Format, View};
 
@@ -45,13 +46,21 @@ pub fn run(args: Args) -> Result<(), CliError> {
     let opts = ExtractOptions {
         high_rate_flips: args.high_rate_flips,
     };
+    let mut progress = Progress::steps(2);
+    progress.step(1, "fault graph");
     let cpu_before = thread_cpu();
     let graph = pipeline.graph(&opts);
     let extracted = clock.elapsed();
     let extract_cpu = thread_cpu()
         .zip(cpu_before)
         .map(|(b, a)| b.saturating_sub(a));
+    if args.output.as_deref().is_none_or(|p| p.as_os_str() == "-") {
+        // The graph goes to standard output, perhaps the same terminal: no line under it.
+        progress.finish();
+    }
+    progress.step(2, "writing");
     let (rendered, written) = write(&graph, args.format, args.matching, args.output.as_deref())?;
+    progress.finish();
     if args.timings {
         // On a shared machine wall time includes waiting for a core; the thread's own CPU
         // time is what the extractor costs.

@@ -1,24 +1,37 @@
-//! `slant plot`: logical against physical error rate from a results store, with the threshold.
+//! `slant plot`: logical against physical error rate from a results store, with thresholds and
+//! their uncertainty, and the threshold against a device parameter.
 //!
 //! Reads a store written by `slant sweep` (or `slant merge`), sums its chunks per task
-//! ([`crate::study::aggregate`]) and draws one log-log panel per curve group (label,
-//! decoder, bias): one line per distance, 95% Wilson error bars, and a dashed vertical line at
-//! the threshold estimate ([`crate::study::threshold`]). The estimates and the scaling fit are
-//! printed on stdout. Output is SVG (drawn by [`crate::study::render_for`]), written
-//! atomically.
+//! ([`crate::study::aggregate`]) and draws, per curve group (label, decoder, bias, varied model
+//! keys), one log-log panel with one line per distance, 95% Wilson error bars, and a dashed line
+//! at the threshold estimate with its bootstrap interval shaded ([`crate::study::threshold`],
+//! [`crate::study::bootstrap`]); `--overlay` draws every group in one panel (colour = distance,
+//! marker shape = group). It prints, per group, the crossing of every pair of distances or why
+//! a pair has none, the estimate (flagged when it lies in the grid's first or last interval),
+//! its 95% bootstrap interval and the share of resamples without a crossing, and the scaling
+//! fit. `--summary FILE` draws the threshold against the parameter the groups differ in (`bias`
+//! or a varied model key; `--against` picks one), marking parameter values whose curves do not
+//! cross inside the grid with a hollow triangle at the grid's edge. Output is SVG or PNG by the
+//! file name, written atomically.
 
-use std::collections::BTreeMap;
+use std::collections::{BTreeMap, BTreeSet};
 use std::path::PathBuf;
 
 use crate::base::{write_atomic, Diagnostic};
 use crate::cli::CliError;
 use crate::study::{
-    aggregate, crossings, read_store, render_for, scaling_fit, threshold, Curve, Estimate, Marker,
-    Panel, Point, Z95,
+    aggregate, bootstrap, pairs, read_store, render_for, scaling_fit, threshold, Bootstrap, Curve,
+    Estimate, LegendEntry, Marker, NoCrossing, Panel, Point, Shape, Z95,
 };
 
 /// Arguments of `slant plot`.
 #[derive(Debug, clap::Args)]
+#[command(after_help = "\
+Thresholds: every pair of distances is tried; the estimate is the crossing of the largest pair \
+that crosses, with a 95% interval from a parametric bootstrap over the stored counts (each \
+point's failures redrawn from a binomial with its shots and observed rate). A crossing in the \
+first or last interval of the grid is flagged, and the share of resamples with no crossing is \
+printed: extend the grid when either is reported.")]
 pub struct Args {
     /// The results store (JSON Lines).
     pub store: PathBuf,
@@ -29,9 +42,55 @@ pub struct Args {
     #[arg(long)]
     pub per_round: bool,
     /// Only plot the curve groups of this label (the sweep grid's `label`), or the one group of
-    /// this whole name as `slant plot` prints it (`LABEL (DECODER)`). Matches whole names only.
+    /// this whole name as `slant plot` prints it (`LABEL (DECODER, ...)`). Matches whole names.
     #[arg(long, value_name = "LABEL")]
     pub only: Option<String>,
+    /// Draw every group in one panel instead of one panel per group.
+    #[arg(long)]
+    pub overlay: bool,
+    /// Title of the figure (default: family, distances, noise model and what is varied).
+    #[arg(long, value_name = "TEXT")]
+    pub title: Option<String>,
+    /// Also draw the threshold against a parameter (`bias` or a varied model key) to this file.
+    #[arg(long, value_name = "FILE.svg|FILE.png")]
+    pub summary: Option<PathBuf>,
+    /// The parameter of `--summary` (default: the one parameter the groups differ in).
+    #[arg(long, value_name = "KEY", requires = "summary")]
+    pub against: Option<String>,
+    /// Bootstrap resamples per threshold.
+    #[arg(long, value_name = "N", default_value_t = 400)]
+    pub resamples: usize,
+}
+
+fn check_image_name(path: &std::path::Path) -> Result<(), CliError> {
+    if path
+        .extension()
+        .is_none_or(|e| !e.eq_ignore_ascii_case("svg") && !e.eq_ignore_ascii_case("png"))
+    {
+        return Err(Diagnostic::bare(format!(
+            "`{}`: plots are written as SVG or PNG",
+            path.display()
+        ))
+        .with_hint("name the output FILE.svg or FILE.png")
+        .into());
+    }
+    Ok(())
+}
+
+/// A percentage with three significant figures.
+fn pct(p: f64) -> String {
+    let v = 100.0 * p;
+    let decimals = (2 - v.abs().log10().floor() as i32).clamp(0, 6) as usize;
+    format!("{v:.decimals$}%")
+}
+
+/// Everything computed for one group.
+struct GroupFit {
+    points: Vec<Point>,
+    estimate: Option<crate::study::Crossing>,
+    boot: Bootstrap,
+    /// The largest pair's reason for having no crossing, when no pair crosses.
+    beyond: Option<NoCrossing>,
 }
 
 /// Runs `slant plot`.
@@ -43,17 +102,9 @@ pub fn run(args: Args) -> Result<(), CliError> {
         ))
         .into());
     }
-    if args
-        .output
-        .extension()
-        .is_none_or(|e| !e.eq_ignore_ascii_case("svg") && !e.eq_ignore_ascii_case("png"))
-    {
-        return Err(Diagnostic::bare(format!(
-            "`{}`: plots are written as SVG or PNG",
-            args.output.display()
-        ))
-        .with_hint("name the output FILE.svg or FILE.png")
-        .into());
+    check_image_name(&args.output)?;
+    if let Some(s) = &args.summary {
+        check_image_name(s)?;
     }
     let rows = read_store(&args.store)?;
     let mut groups: BTreeMap<String, Vec<Point>> = BTreeMap::new();
@@ -69,19 +120,19 @@ pub fn run(args: Args) -> Result<(), CliError> {
         groups.entry(pt.group()).or_default().push(pt);
     }
     if let Some(only) = args.only.as_deref() {
-        let labels: std::collections::BTreeSet<String> = groups
+        let labels: BTreeSet<String> = groups
             .values()
             .flat_map(|pts| pts.iter().map(|p| p.label.clone()))
             .collect();
-        let all: Vec<String> = labels.iter().cloned().collect();
         groups.retain(|g, pts| g == only || pts.iter().any(|p| p.label == only));
-        if groups.is_empty() && !all.is_empty() {
+        if groups.is_empty() && !labels.is_empty() {
             return Err(
                 Diagnostic::bare(format!("`--only {only}`: no label matches"))
                     .with_hint(format!(
                         "the labels in `{}`: {}",
                         args.store.display(),
-                        all.iter()
+                        labels
+                            .iter()
                             .map(|l| format!("`{l}`"))
                             .collect::<Vec<_>>()
                             .join(", ")
@@ -102,18 +153,65 @@ pub fn run(args: Args) -> Result<(), CliError> {
     } else {
         "per shot"
     };
+    let mut fits: BTreeMap<String, GroupFit> = BTreeMap::new();
     let mut report = String::new();
-    for (g, pts) in &groups {
+    for (i, (g, pts)) in groups.iter().enumerate() {
         report += &format!("{g}:\n");
-        for c in crossings(pts) {
-            report += &format!("  crossing d={} / d={}: p = {:.4e}\n", c.d1, c.d2, c.p);
+        let all = pairs(pts);
+        for pair in &all {
+            match pair.result {
+                Ok(c) => {
+                    report += &format!("  crossing d={} / d={}: p = {:.4e}", c.d1, c.d2, c.p);
+                    if c.at_edge {
+                        report += " (in the first or last interval of the grid)";
+                    }
+                    report += "\n";
+                }
+                Err(why) => {
+                    report += &format!(
+                        "  no crossing d={} / d={} in the grid: {}\n",
+                        pair.d1,
+                        pair.d2,
+                        why.describe()
+                    )
+                }
+            }
         }
-        match threshold(pts) {
+        let estimate = threshold(pts);
+        let boot = bootstrap(pts, args.resamples, 0x5eed + i as u64);
+        match estimate {
             Some(t) => {
                 report += &format!(
-                    "  threshold estimate ({rate_name}, crossing of d={} and d={}): p_th ≈ {:.4e}\n",
+                    "  threshold estimate ({rate_name}, crossing of d={} and d={}): p_th ≈ {:.4e}",
                     t.d1, t.d2, t.p
                 );
+                match boot.interval {
+                    Some((lo, hi)) => {
+                        report += &format!(
+                            ", 95% bootstrap interval [{lo:.4e}, {hi:.4e}] ({} resamples",
+                            boot.resamples
+                        )
+                    }
+                    None => report += &format!(" ({} resamples", boot.resamples),
+                }
+                if boot.no_crossing > 0.0 {
+                    report += &format!(", {:.0}% without a crossing", 100.0 * boot.no_crossing);
+                }
+                report += ")\n";
+                if t.at_edge || boot.no_crossing >= 0.05 {
+                    report += "  caution: this crossing is not a settled threshold; extend the grid of p around it and add shots\n";
+                }
+                let missing: Vec<String> = all
+                    .iter()
+                    .filter(|p| p.result.is_err())
+                    .map(|p| format!("d={}/{}", p.d1, p.d2))
+                    .collect();
+                if !missing.is_empty() {
+                    report += &format!(
+                        "  pairs without a crossing in the grid: {}\n",
+                        missing.join(", ")
+                    );
+                }
                 if let Some(f) = scaling_fit(pts, t.p) {
                     report += &format!(
                         "  fit below threshold: pL ≈ {:.3e} · (p / {:.4e})^((d+1)/2) over {} points\n",
@@ -121,48 +219,430 @@ pub fn run(args: Args) -> Result<(), CliError> {
                     );
                 }
             }
-            None => report += "  no crossing of successive distances in this range of p\n",
+            None => {
+                report +=
+                    "  no threshold estimate: no pair of distances crosses in this range of p\n"
+            }
+        }
+        let beyond = if estimate.is_none() {
+            all.last().and_then(|p| p.result.err())
+        } else {
+            None
+        };
+        fits.insert(
+            g.clone(),
+            GroupFit {
+                points: pts.clone(),
+                estimate,
+                boot,
+                beyond,
+            },
+        );
+    }
+    // One panel per group names the group's own parameter values instead of the list of
+    // what varies.
+    let title = |params: Option<&str>| -> String {
+        let base = args
+            .title
+            .clone()
+            .unwrap_or_else(|| default_title(&groups, params.is_none()));
+        match params {
+            Some(p) if !p.is_empty() => format!("{base} | {p}"),
+            _ => base,
+        }
+    };
+    let mut panels = if args.overlay {
+        vec![overlay_panel(&fits, rate_name, &title(None))]
+    } else {
+        fits.values()
+            .map(|f| group_panel(f, rate_name, &title(Some(&params_text(&f.points[0])))))
+            .collect()
+    };
+    if groups
+        .values()
+        .flatten()
+        .all(|p| crate::noise::is_model_text(&p.noise))
+    {
+        for panel in &mut panels {
+            panel.x_desc = MODEL_X.into();
         }
     }
-    let bytes = draw(&groups, rate_name, &args.output)?;
+    let bytes = render_for(&args.output, &panels).map_err(CliError::Internal)?;
     write_atomic(&args.output, &bytes)?;
+    if let Some(path) = &args.summary {
+        let base = args
+            .title
+            .clone()
+            .unwrap_or_else(|| default_title(&groups, false));
+        let (panel, text) = summary(&fits, args.against.as_deref(), &base)?;
+        report += &text;
+        let bytes = render_for(path, &[panel]).map_err(CliError::Internal)?;
+        write_atomic(path, &bytes)?;
+    }
     print!("{report}");
     println!("plot written to `{}`", args.output.display());
+    if let Some(path) = &args.summary {
+        println!("threshold summary written to `{}`", path.display());
+    }
     Ok(())
 }
 
-/// Draws all groups, one panel each ([`crate::study::render_for`]): one curve per distance and the
-/// threshold estimate as a dashed marker.
-fn draw(
-    groups: &BTreeMap<String, Vec<Point>>,
-    rate_name: &str,
-    output: &std::path::Path,
-) -> Result<Vec<u8>, CliError> {
-    let panels: Vec<Panel> = groups
+/// The x axis of a sweep on a model file: its scale as a physical error per operation.
+const MODEL_X: &str = "physical error per operation p (model scaled by p / its p)";
+
+/// `bias 100, idle.t2 50`: what tells a group from the others of its label.
+fn params_text(p: &Point) -> String {
+    p.parameters()
         .iter()
-        .map(|(name, pts)| {
-            let mut by_d: BTreeMap<u32, Vec<(f64, Estimate)>> = BTreeMap::new();
-            for p in pts {
-                by_d.entry(p.distance)
-                    .or_default()
-                    .push((p.p, Estimate::wilson(p.failures, p.shots, Z95)));
-            }
-            Panel {
-                title: name.clone(),
-                y_desc: format!("logical error rate ({rate_name})"),
-                curves: by_d
-                    .into_iter()
-                    .map(|(d, points)| Curve {
-                        label: format!("d = {d}"),
-                        points,
-                    })
-                    .collect(),
-                marker: threshold(pts).map(|t| Marker {
-                    p: t.p,
-                    label: format!("threshold ≈ {:.3e} (d={}/{})", t.p, t.d1, t.d2),
-                }),
+        .map(|(k, v)| format!("{} = {v}", key_name(k)))
+        .collect::<Vec<_>>()
+        .join("; ")
+}
+
+/// The noise text without `p=`, `bias=` and the varied keys: the model the groups share.
+fn noise_base(p: &Point) -> String {
+    p.noise
+        .split_whitespace()
+        .filter(|w| {
+            let key = w.split_once('=').map_or("", |(k, _)| k);
+            !(key == "p" || key == "bias" || p.vary.keys().any(|k| k.split(',').any(|x| x == key)))
+        })
+        .map(|w| {
+            // A model path shows its file name only.
+            if crate::noise::is_model_text(w) {
+                std::path::Path::new(w)
+                    .file_name()
+                    .map_or(w.to_string(), |f| f.to_string_lossy().into_owned())
+            } else {
+                w.to_string()
             }
         })
+        .collect::<Vec<_>>()
+        .join(" ")
+}
+
+/// Family, distances, noise model and (with `varied`) the parameters that vary, from the
+/// points themselves.
+fn default_title(groups: &BTreeMap<String, Vec<Point>>, with_varied: bool) -> String {
+    let all: Vec<&Point> = groups.values().flatten().collect();
+    let set = |f: &dyn Fn(&Point) -> String| -> Vec<String> {
+        let s: BTreeSet<String> = all.iter().map(|p| f(p)).collect();
+        s.into_iter().collect()
+    };
+    let families = set(&|p| p.family.clone());
+    let ds: BTreeSet<u32> = all.iter().map(|p| p.distance).collect();
+    let noises = set(&noise_base);
+    let mut varied: Vec<String> = Vec::new();
+    if set(&|p| p.bias.clone().unwrap_or_default()).len() > 1 {
+        varied.push("bias".into());
+    }
+    let keys: BTreeSet<String> = all.iter().flat_map(|p| p.vary.keys().cloned()).collect();
+    for k in keys {
+        if set(&|p| p.vary.get(&k).cloned().unwrap_or_default()).len() > 1 {
+            varied.push(k);
+        }
+    }
+    let mut t = format!(
+        "{}, d = {}, {}",
+        families.join("/"),
+        ds.iter().map(u32::to_string).collect::<Vec<_>>().join(", "),
+        noises.join(" / ")
+    );
+    if with_varied && !varied.is_empty() {
+        t += &format!(
+            "; varied: {}",
+            varied
+                .iter()
+                .map(|k| key_name(k))
+                .collect::<Vec<_>>()
+                .join("; ")
+        );
+    }
+    t
+}
+
+/// A parameter's name for people: keys set together (`a,b`) as `a & b`.
+fn key_name(key: &str) -> String {
+    key.replace(',', " & ")
+}
+
+/// Points of one group by distance, as curves: colour and shape per distance index.
+fn distance_curves(pts: &[Point], ds: &[u32], shape: Option<Shape>) -> Vec<Curve> {
+    let mut by_d: BTreeMap<u32, Vec<(f64, Estimate)>> = BTreeMap::new();
+    for p in pts {
+        by_d.entry(p.distance)
+            .or_default()
+            .push((p.p, Estimate::wilson(p.failures, p.shots, Z95)));
+    }
+    by_d.into_iter()
+        .map(|(d, points)| {
+            let i = ds.iter().position(|&x| x == d).unwrap_or(0);
+            let mut c = Curve::new(format!("d = {d}"), points, i);
+            c.shape = shape.unwrap_or(Shape::nth(i));
+            c
+        })
+        .collect()
+}
+
+fn threshold_marker(f: &GroupFit, shape: Option<Shape>, name: &str) -> Option<Marker> {
+    let t = f.estimate?;
+    let interval = f.boot.interval.map_or(String::new(), |(lo, hi)| {
+        format!(" [{}, {}]", pct(lo), pct(hi))
+    });
+    let edge = if t.at_edge { ", grid edge" } else { "" };
+    Some(Marker {
+        x: t.p,
+        label: format!(
+            "{name}threshold {}{interval} (d={}/{}{edge})",
+            pct(t.p),
+            t.d1,
+            t.d2
+        ),
+        band: f.boot.interval,
+        shape,
+    })
+}
+
+fn group_panel(f: &GroupFit, rate_name: &str, title: &str) -> Panel {
+    let ds: Vec<u32> = f
+        .points
+        .iter()
+        .map(|p| p.distance)
+        .collect::<BTreeSet<_>>()
+        .into_iter()
         .collect();
-    render_for(output, &panels).map_err(CliError::Internal)
+    let mut panel = Panel::rates(
+        title,
+        format!("logical error rate ({rate_name})"),
+        distance_curves(&f.points, &ds, None),
+    );
+    panel.markers.extend(threshold_marker(f, None, ""));
+    panel
+}
+
+fn overlay_panel(fits: &BTreeMap<String, GroupFit>, rate_name: &str, title: &str) -> Panel {
+    let ds: Vec<u32> = fits
+        .values()
+        .flat_map(|f| f.points.iter().map(|p| p.distance))
+        .collect::<BTreeSet<_>>()
+        .into_iter()
+        .collect();
+    let mut panel = Panel::rates(
+        title,
+        format!("logical error rate ({rate_name})"),
+        Vec::new(),
+    );
+    for (gi, f) in fits.values().enumerate() {
+        let shape = Shape::nth(gi);
+        let mut curves = distance_curves(&f.points, &ds, Some(shape));
+        for c in &mut curves {
+            c.label.clear();
+            c.dashed = gi % 2 == 1;
+        }
+        panel.curves.extend(curves);
+        let name = params_text(&f.points[0]);
+        let name = if name.is_empty() {
+            f.points[0].label.clone()
+        } else {
+            name
+        };
+        panel.legend.push(LegendEntry {
+            label: name.clone(),
+            colour: None,
+            shape: Some(shape),
+            line: Some(gi % 2 == 1),
+        });
+        panel
+            .markers
+            .extend(threshold_marker(f, Some(shape), &format!("{name}: ")));
+    }
+    for (i, d) in ds.iter().enumerate() {
+        panel.legend.push(LegendEntry {
+            label: format!("d = {d}"),
+            colour: Some(i),
+            shape: None,
+            line: Some(false),
+        });
+    }
+    for m in &panel.markers {
+        panel.legend.push(LegendEntry {
+            label: m.label.clone(),
+            colour: None,
+            shape: m.shape,
+            line: Some(true),
+        });
+    }
+    panel
+}
+
+/// The threshold against one parameter: a curve per series of groups that differ only in it.
+fn summary(
+    fits: &BTreeMap<String, GroupFit>,
+    against: Option<&str>,
+    title: &str,
+) -> Result<(Panel, String), CliError> {
+    // The parameters whose values differ between groups.
+    let mut values: BTreeMap<String, BTreeSet<String>> = BTreeMap::new();
+    for f in fits.values() {
+        for (k, v) in f.points[0].parameters() {
+            values.entry(k).or_default().insert(v);
+        }
+    }
+    let varying: Vec<String> = values
+        .iter()
+        .filter(|(_, v)| v.len() > 1)
+        .map(|(k, _)| k.clone())
+        .collect();
+    let key =
+        match against {
+            Some(k) if values.contains_key(k) => k.to_string(),
+            Some(k) => {
+                return Err(
+                    Diagnostic::bare(format!("`--against {k}`: no group sets `{k}`"))
+                        .with_hint(format!(
+                            "the parameters in this store: {}",
+                            values
+                                .keys()
+                                .map(|k| format!("`{k}`"))
+                                .collect::<Vec<_>>()
+                                .join(", ")
+                        ))
+                        .into(),
+                )
+            }
+            None => match varying.as_slice() {
+                [k] => k.clone(),
+                [] => return Err(Diagnostic::bare(
+                    "`--summary`: the groups do not differ in `bias` or a varied model key",
+                )
+                .with_hint(
+                    "sweep a `bias` list or a `[grid.vary]` key to plot the threshold against it",
+                )
+                .into()),
+                many => {
+                    return Err(Diagnostic::bare(format!(
+                        "`--summary`: the groups differ in {}; say which with `--against`",
+                        many.iter()
+                            .map(|k| format!("`{k}`"))
+                            .collect::<Vec<_>>()
+                            .join(", ")
+                    ))
+                    .into())
+                }
+            },
+        };
+    // Series: label, decoder and every other parameter.
+    let mut series: BTreeMap<String, Vec<(f64, &GroupFit)>> = BTreeMap::new();
+    for f in fits.values() {
+        let p0 = &f.points[0];
+        let params = p0.parameters();
+        let Some(value) = params.iter().find(|(k, _)| *k == key).map(|(_, v)| v) else {
+            continue;
+        };
+        let x: f64 = match value.parse::<f64>() {
+            Ok(x) if x > 0.0 && x.is_finite() => x,
+            _ => {
+                return Err(Diagnostic::bare(format!(
+                    "`--summary`: `{key}` = `{value}` is not a positive number, so it has no place on a log axis"
+                ))
+                .into())
+            }
+        };
+        let rest: Vec<String> = params
+            .iter()
+            .filter(|(k, _)| *k != key)
+            .map(|(k, v)| format!("{k} {v}"))
+            .collect();
+        let mut name = format!("{} ({})", p0.label, p0.decoder);
+        if !rest.is_empty() {
+            name += &format!(", {}", rest.join(", "));
+        }
+        series.entry(name).or_default().push((x, f));
+    }
+    let mut text = format!("threshold against {key}:\n");
+    let mut curves = Vec::new();
+    for (si, (name, mut list)) in series.into_iter().enumerate() {
+        list.sort_by(|a, b| a.0.total_cmp(&b.0));
+        text += &format!("  {name}:\n");
+        let mut curve = Curve::new(name.clone(), Vec::new(), si);
+        curve.shape = Shape::nth(si);
+        for (x, f) in list {
+            let grid: Vec<f64> = f.points.iter().map(|p| p.p).collect();
+            let (lo_p, hi_p) = (
+                grid.iter().copied().fold(f64::INFINITY, f64::min),
+                grid.iter().copied().fold(0.0, f64::max),
+            );
+            match f.estimate {
+                Some(t) => {
+                    let (lo, hi) = f.boot.interval.unwrap_or((t.p, t.p));
+                    curve.points.push((
+                        x,
+                        Estimate {
+                            rate: t.p,
+                            low: lo.min(t.p),
+                            high: hi.max(t.p),
+                        },
+                    ));
+                    text += &format!(
+                        "    {key} {x}: p_th ≈ {} [{}, {}] (d={}/{}{}{})\n",
+                        pct(t.p),
+                        pct(lo),
+                        pct(hi),
+                        t.d1,
+                        t.d2,
+                        if t.at_edge {
+                            ", in a grid-edge interval"
+                        } else {
+                            ""
+                        },
+                        if f.boot.no_crossing > 0.0 {
+                            format!(
+                                ", {:.0}% of resamples without a crossing",
+                                100.0 * f.boot.no_crossing
+                            )
+                        } else {
+                            String::new()
+                        }
+                    );
+                }
+                None => {
+                    let (y, above, what) = match f.beyond {
+                        Some(NoCrossing::Above) => (hi_p, true, format!("above {}", pct(hi_p))),
+                        Some(NoCrossing::Below) => (lo_p, false, format!("below {}", pct(lo_p))),
+                        _ => (hi_p, true, "unknown".to_string()),
+                    };
+                    curve.beyond.push((x, y, above));
+                    text += &format!("    {key} {x}: no crossing in the grid (threshold {what})\n");
+                }
+            }
+        }
+        curves.push(curve);
+    }
+    let mut panel = Panel {
+        title: format!("{title}: threshold against {}", key_name(&key)),
+        x_desc: key_name(&key),
+        y_desc: "threshold p_th (95% bootstrap interval)".into(),
+        curves,
+        markers: Vec::new(),
+        legend: Vec::new(),
+    };
+    if panel.curves.iter().any(|c| !c.beyond.is_empty()) {
+        panel.legend = panel
+            .curves
+            .iter()
+            .map(|c| LegendEntry {
+                label: c.label.clone(),
+                colour: Some(c.colour),
+                shape: Some(c.shape),
+                line: Some(false),
+            })
+            .chain(std::iter::once(LegendEntry {
+                label: "no crossing in the grid (triangle at its edge)".into(),
+                colour: None,
+                shape: Some(Shape::Triangle),
+                line: None,
+            }))
+            .collect();
+    }
+    Ok((panel, text))
 }

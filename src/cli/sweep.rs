@@ -3,14 +3,19 @@
 //! The spec format, task keys, chunk seeds, store format and resumption rules are documented in
 //! [`crate::study::SweepSpec`] and [`crate::study::Store`]. This command picks the store path (`--store`, else the spec's
 //! `store`, relative to the spec's directory, else the spec path with extension `.jsonl`), sizes
-//! the thread pool (`--jobs`) and prints one line per finished task on stderr.
+//! the thread pool (`--jobs`) and prints on stderr the tasks a resumed run skips, one line per
+//! finished task, each distinct model warning once, and a live progress bar (shots, shots/s,
+//! failures so far, ETA) when stderr is a terminal.
 
+use std::collections::HashSet;
 use std::path::PathBuf;
+use std::sync::Mutex;
 
 use crate::cli::common::print_warnings;
 use crate::cli::common::read_source;
+use crate::cli::progress::Progress;
 use crate::cli::CliError;
-use crate::study::{run_sweep, Estimate, Event, Shard, Store, SweepSpec, Z95};
+use crate::study::{plan, run_sweep, Estimate, Event, Shard, Store, SweepSpec, TaskState, Z95};
 
 const AFTER_HELP: &str = "\
 Each finished chunk of a task is appended to the store (JSON Lines) with one write and an fsync.
@@ -41,7 +46,7 @@ pub struct Args {
 /// Runs `slant sweep`.
 pub fn run(args: Args) -> Result<(), CliError> {
     let source = read_source(&args.spec)?;
-    let spec = SweepSpec::parse(&source)?;
+    let spec = SweepSpec::parse_in(&source, args.spec.parent())?;
     if args.list {
         for (i, t) in spec.tasks.iter().enumerate() {
             if args.shard.is_none_or(|s| s.has(i)) {
@@ -63,19 +68,68 @@ pub fn run(args: Args) -> Result<(), CliError> {
         .num_threads(args.jobs.unwrap_or(0))
         .build()
         .map_err(|e| CliError::Internal(format!("cannot start worker threads: {e}")))?;
-    let total = spec
-        .tasks
+    let states = plan(&spec, args.shard, &recorded);
+    let total = states.len();
+    let skipped: Vec<_> = states
         .iter()
-        .enumerate()
-        .filter(|(i, _)| args.shard.is_none_or(|s| s.has(*i)))
+        .filter(|(_, _, s)| matches!(s, TaskState::Complete { .. }))
+        .collect();
+    let partial = states
+        .iter()
+        .filter(|(_, _, s)| matches!(s, TaskState::Partial { .. }))
         .count();
-    let finished = std::sync::atomic::AtomicUsize::new(0);
+    if !skipped.is_empty() {
+        eprintln!(
+            "skipped {} of {total} tasks, complete in `{}`:",
+            skipped.len(),
+            store_path.display()
+        );
+        for (i, task, state) in &skipped {
+            if let TaskState::Complete { shots, failures } = state {
+                eprintln!(
+                    "  skipped task {i}: {} d={} {} {} ({failures}/{shots})",
+                    task.label,
+                    task.distance,
+                    task.noise,
+                    task.decoder.name()
+                );
+            }
+        }
+    }
+    if partial > 0 {
+        eprintln!("resuming {partial} tasks after their recorded chunks");
+    }
+    // The bar counts the shots still to run (an upper bound when `until_failures` stops a task).
+    let to_run: u64 = states
+        .iter()
+        .map(|(_, t, s)| match s {
+            TaskState::Fresh => t.shots,
+            TaskState::Partial { shots, .. } => t.shots.saturating_sub(*shots),
+            TaskState::Complete { .. } => 0,
+        })
+        .sum();
+    let progress = Mutex::new((Progress::new(to_run, "shots"), 0u64, 0u64));
+    let finished = std::sync::atomic::AtomicUsize::new(skipped.len());
+    // The same model warns the same way about every circuit of a grid: show each text once.
+    let shown: Mutex<HashSet<String>> = Mutex::new(HashSet::new());
     let on_event = |e: Event| match e {
-        Event::Warnings(_, warnings) => print_warnings(warnings),
+        Event::Warnings(_, warnings) => {
+            let fresh: Vec<_> = match shown.lock() {
+                Ok(mut seen) => warnings
+                    .iter()
+                    .filter(|w| seen.insert(w.render()))
+                    .cloned()
+                    .collect(),
+                Err(_) => warnings.to_vec(),
+            };
+            if let Ok(mut p) = progress.lock() {
+                p.0.suspend(|| print_warnings(&fresh));
+            }
+        }
         Event::TaskDone(task, shots, failures) => {
             let n = finished.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
             let est = Estimate::wilson(failures, shots, Z95);
-            eprintln!(
+            let line = format!(
                 "[{n}/{total}] {} d={} {} {}: {failures}/{shots} = {:.3e}",
                 task.label,
                 task.distance,
@@ -83,10 +137,25 @@ pub fn run(args: Args) -> Result<(), CliError> {
                 task.decoder.name(),
                 est.rate
             );
+            if let Ok(mut p) = progress.lock() {
+                p.0.suspend(|| eprintln!("{line}"));
+            }
         }
-        Event::Chunk(..) => {}
+        Event::Chunk(_, row) => {
+            if let Ok(mut p) = progress.lock() {
+                p.1 += row.shots;
+                p.2 += row.failures;
+                let (done, failures) = (p.1, p.2);
+                p.0.set_message(format!("{failures} failures"));
+                p.0.set_position(done);
+            }
+        }
     };
-    pool.install(|| run_sweep(&spec, args.shard, &store, &recorded, &on_event))?;
+    let result = pool.install(|| run_sweep(&spec, args.shard, &store, &recorded, &on_event));
+    if let Ok(mut p) = progress.lock() {
+        p.0.finish();
+    }
+    result?;
     eprintln!("results in `{}`", store_path.display());
     Ok(())
 }

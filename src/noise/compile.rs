@@ -47,10 +47,19 @@ pub fn compile(circuit: &Circuit, model: &NoiseModel) -> Result<Compiled, Vec<Di
         .unmatched_overrides(circuit)
         .into_iter()
         .partition(|d| d.severity == crate::base::Severity::Error);
+    // Idle noise from times needs the duration of every operation that shares a layer with an
+    // idling qubit; durations of operations the circuit does not use are never needed.
+    let timed = circuit
+        .qubits
+        .iter()
+        .any(|q| model.idle_for(q).needs_durations());
     let mut missing: Vec<Gate> = Vec::new();
     let mut total = 0.0;
     let mut touched = vec![false; n];
     let model_name = &model.source.name;
+    let missing_duration = |errors: &mut Vec<Diagnostic>, section: &str, what: &str, at| {
+        missing_duration_at(errors, circuit, model, section, what, at)
+    };
     for (li, layer) in out.layers.iter_mut().enumerate() {
         if layer
             .ops
@@ -80,6 +89,17 @@ pub fn compile(circuit: &Circuit, model: &NoiseModel) -> Result<Compiled, Vec<Di
                             }
                             continue;
                         };
+                        if timed && sec.duration.is_none() {
+                            let section = if model.gates.iter().any(|(k, _)| *k == Some(g)) {
+                                format!("`[gates.{}]`", g.name())
+                            } else {
+                                format!(
+                                    "`[gates.default]` (or a `[gates.{}]` of its own)",
+                                    g.name()
+                                )
+                            };
+                            missing_duration(&mut errors, &section, g.name(), op.span);
+                        }
                         duration = duration.max(sec.duration.unwrap_or(0.0));
                         let input = if g.arity() == 2 {
                             sec.rate.two()
@@ -134,11 +154,23 @@ pub fn compile(circuit: &Circuit, model: &NoiseModel) -> Result<Compiled, Vec<Di
                     let basis = *basis;
                     for &q in &op.targets {
                         let r = model.reset_for(&circuit.qubits[q as usize]);
-                        duration = duration.max(r.duration.unwrap_or(0.0));
+                        let d = r.duration_in(basis);
+                        if timed && d.is_none() {
+                            missing_duration(
+                                &mut errors,
+                                &format!("`[reset]` or `[reset.{}]`", basis.name()),
+                                "reset",
+                                op.span,
+                            );
+                        }
+                        duration = duration.max(d.unwrap_or(0.0));
+                        // Only the flip of the prepared state acts: X (or Y) after a z reset, Z
+                        // after an x reset, X after a y reset (see `SpamNoise`).
+                        let p = r.flip(basis);
                         let ch = if basis == Basis::X {
-                            Channel::Dephasing(r.p)
+                            Channel::Dephasing(p)
                         } else {
-                            Channel::BitFlip(r.p)
+                            Channel::BitFlip(p)
                         };
                         let text =
                             format!("{} reset error after `reset {}`", model_name, basis.name());
@@ -165,8 +197,21 @@ pub fn compile(circuit: &Circuit, model: &NoiseModel) -> Result<Compiled, Vec<Di
                         .map(|&q| &circuit.qubits[q as usize])
                         .collect();
                     let m = model.measure_for(&qs);
-                    duration = duration.max(m.duration.unwrap_or(0.0));
-                    *flip = xor_prob(*flip, m.flip);
+                    let d = m.product_duration(&op.paulis);
+                    if timed && d.is_none() {
+                        let basis = match op.paulis.as_slice() {
+                            [p] => Basis::of_pauli(*p).map_or("", |b| b.name()),
+                            _ => "",
+                        };
+                        let section = if basis.is_empty() {
+                            "`[measure]`".to_string()
+                        } else {
+                            format!("`[measure]` or `[measure.{basis}]`")
+                        };
+                        missing_duration(&mut errors, &section, "measure", op.span);
+                    }
+                    duration = duration.max(d.unwrap_or(0.0));
+                    *flip = xor_prob(*flip, m.product_flip(&op.paulis));
                 }
             }
             if !matches!(op.kind, OpKind::Noise(_)) {
@@ -250,6 +295,30 @@ pub fn compile(circuit: &Circuit, model: &NoiseModel) -> Result<Compiled, Vec<Di
         duration: total,
         warnings,
     })
+}
+
+/// Records, once per model section, that an operation of the circuit needs a duration the
+/// model does not give.
+fn missing_duration_at(
+    errors: &mut Vec<Diagnostic>,
+    circuit: &Circuit,
+    model: &NoiseModel,
+    section: &str,
+    what: &str,
+    at: crate::base::Span,
+) {
+    let message = format!(
+        "the noise model `{}` gives no `duration` for `{what}`",
+        model.source.name
+    );
+    if errors.iter().any(|e| e.message == message) {
+        return;
+    }
+    errors.push(
+        Diagnostic::error(&circuit.source, at, message).with_hint(format!(
+            "its idle noise comes from `t1`/`t2` (or `t_bitflip`), which needs the duration of every operation the circuit uses: add `duration` to {section}"
+        )),
+    );
 }
 
 /// A number as the language reads it: shortest round-trip decimal, never `NaN` or infinite.

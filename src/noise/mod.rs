@@ -33,6 +33,7 @@ mod model;
 mod note;
 mod preset;
 mod reader;
+mod settings;
 mod spec;
 
 pub use compile::{compile, to_text, Compiled};
@@ -42,10 +43,11 @@ pub use implement::{
     RESOLUTION,
 };
 pub use model::{
-    canonical_qubit_name, cat_idle, twirled_decoherence, GateNoise, IdleNoise, MeasureNoise,
-    NoiseModel, Override, Rate, ResetNoise, Selector, TIME_UNITS,
+    canonical_qubit_name, cat_idle, twirled_decoherence, BasisSpam, GateNoise, IdleNoise,
+    MeasureNoise, NoiseModel, Override, Rate, ResetNoise, Selector, SpamNoise, TIME_UNITS,
 };
 pub use note::Note;
 pub use preset::{Preset, PresetKind};
 pub use reader::MODEL_KEYS;
-pub use spec::{apply, apply_noted, NoiseSpec};
+pub use settings::{split_settings, Setting, SCALE_KINDS};
+pub use spec::{apply, apply_noted, is_model_text, NoiseSpec};

@@ -19,7 +19,7 @@
 //! time_unit = "ns"     # "s", "ms", "us" or "ns": names the unit, converts nothing
 //!
 //! [gates.cx]           # one table per gate name (`cx`, `cz`, `h`, ...) or `default`
-//! duration = 2.0       # needed when idle noise comes from t1/t2
+//! duration = 2.0       # needed when idle noise comes from t1/t2 and the circuit uses cx
 //! p = 0.002            # after-gate channel: p + bias, or
 //! # zz = 0.001, iz = 0.0005, ...   15 named two-qubit terms (one-qubit gates: x, y, z)
 //! implementation = "bias-preserving"   # ideal (default) | rotation | bias-preserving
@@ -32,9 +32,17 @@
 //! [measure]            # duration and flip probability (default p)
 //! duration = 5.0
 //! flip = 0.002
+//! # bias = 100         # flip is then the total of a biased Pauli channel before the readout
+//!
+//! [measure.z]          # one basis: its own flip probability and duration
+//! flip = 1e-5
 //!
 //! [reset]              # duration and error probability (default p): the orthogonal flip
 //! duration = 5.0
+//! # bias = 100         # p is then the total of a biased Pauli channel after the reset
+//!
+//! [reset.x]            # one basis: its own flip probability and duration
+//! p = 0.001
 //!
 //! [idle]               # qubits no operation touches in a layer, for the layer's duration
 //! t1 = 1000.0          # Pauli-twirled amplitude and phase damping, or
@@ -54,7 +62,11 @@
 //!   bias: depolarizing (see [`crate::noise`]). Convention of "Ultrahigh error threshold for
 //!   surface codes with biased noise", PRL 120, 050505 (2018).
 //! - Reset error: the flip orthogonal to the reset basis (X after a z or y reset, Z after an x
-//!   reset), as in the `circuit` preset.
+//!   reset), as in the `circuit` preset; measurement error: the result flipped. With `bias`, the
+//!   section's `p` (`flip`) is the total of a Pauli channel of that bias and only its terms that
+//!   flip the basis act (see [`SpamNoise`]); a basis table (`[reset.z]`, `[measure.x]`) gives one
+//!   basis its own flip probability and duration. The top-level `bias` does not reach resets and
+//!   measurements, so a model with the `circuit` preset's meaning stays equal to it.
 //! - Idle from `t1`, `t2` for a time `t` (Pauli-twirling approximation of amplitude and phase
 //!   damping, "Surface code with decoherence", PRA 86, 062318 (2012)):
 //!   `px = py = (1 − e^(−t/T1))/4`, `pz = (1 − e^(−t/T2))/2 − (1 − e^(−t/T1))/4`.
@@ -81,11 +93,12 @@
 //! Overrides apply to a qubit when its name equals `qubit` or it carries the role or tag `role`.
 //! Qubit names are compared in the form the circuit prints them, so `"d[1, 2]"` selects `d[1,2]`.
 //! A gate override applies when any of the gate's qubits matches. An override that selects no
-//! qubit of the circuit is an error when the model is compiled onto it.
+//! qubit of the circuit gives a located warning when the model is compiled onto it (an error
+//! only for a role name close to one the circuit declares: a typo).
 
 use std::sync::Arc;
 
-use crate::base::{did_you_mean, Diagnostic, Gate, Severity, Source, Span};
+use crate::base::{did_you_mean, xor_prob, Basis, Diagnostic, Gate, Pauli, Severity, Source, Span};
 use crate::ir::{Channel, Circuit, Qubit};
 use crate::noise::implement::{Generator, Implementation};
 use crate::noise::preset::{Preset, PresetKind};
@@ -155,22 +168,133 @@ pub struct GateNoise {
     pub span: Span,
 }
 
-/// Measurement noise.
+/// Error of a reset or a measurement in one basis, given by a basis table (`[reset.z]`,
+/// `[measure.x]`): the flip probability of that basis, and its duration.
 #[derive(Clone, Debug, PartialEq)]
-pub struct MeasureNoise {
-    /// Duration.
+pub struct BasisSpam {
+    /// Duration of a reset or measurement in this basis.
     pub duration: Option<f64>,
-    /// Probability of reporting the wrong result.
+    /// Probability that the prepared state (reset) or the result (measurement) is flipped.
     pub flip: f64,
 }
 
-/// Reset noise.
+/// Reset or measurement noise: one section of a model file (`[reset]` or `[measure]`).
+///
+/// Without `bias`, `p` is the flip probability in every basis (the `circuit` preset's meaning).
+/// With `bias` eta, `p` is the total of a Pauli channel with that bias
+/// (`pZ = p·eta/(eta+1)`, `pX = pY = p/(2(eta+1))`), of which only the terms that flip the
+/// state act: after a z reset (before a z measurement) `pX + pY`, in the x basis `pZ + pY`, in
+/// the y basis `pX + pZ`. A basis table replaces both for its basis.
 #[derive(Clone, Debug, PartialEq)]
-pub struct ResetNoise {
-    /// Duration.
+pub struct SpamNoise {
+    /// Duration, for bases without a table of their own.
     pub duration: Option<f64>,
-    /// Probability of the orthogonal flip after the reset.
+    /// Flip probability (no bias) or the total of the biased channel.
     pub p: f64,
+    /// Bias of the channel; `None`: `p` is the flip of every basis.
+    pub bias: Option<f64>,
+    /// Basis tables `[x, y, z]`.
+    pub bases: [Option<BasisSpam>; 3],
+}
+
+/// Measurement noise: results are flipped (a classical readout error; the qubit is not
+/// disturbed).
+pub type MeasureNoise = SpamNoise;
+
+/// Reset noise: the flip of the prepared state, right after the reset.
+pub type ResetNoise = SpamNoise;
+
+fn basis_index(b: Basis) -> usize {
+    match b {
+        Basis::X => 0,
+        Basis::Y => 1,
+        Basis::Z => 2,
+    }
+}
+
+impl SpamNoise {
+    /// A section with flip probability `p` in every basis and no duration.
+    pub fn flat(p: f64) -> SpamNoise {
+        SpamNoise {
+            duration: None,
+            p,
+            bias: None,
+            bases: [None, None, None],
+        }
+    }
+
+    /// The flip probability of the section's channel in `basis`, ignoring basis tables.
+    pub fn channel_flip(&self, basis: Basis) -> f64 {
+        let Some(eta) = self.bias else {
+            return self.p;
+        };
+        let (px, py, pz) = if eta.is_infinite() {
+            (0.0, 0.0, self.p)
+        } else {
+            let low = self.p / (2.0 * (eta + 1.0));
+            (low, low, self.p * eta / (eta + 1.0))
+        };
+        match basis {
+            Basis::X => pz + py,
+            Basis::Y => px + pz,
+            Basis::Z => px + py,
+        }
+    }
+
+    /// The flip probability in `basis`: its table's, else the section's channel's.
+    pub fn flip(&self, basis: Basis) -> f64 {
+        match &self.bases[basis_index(basis)] {
+            Some(t) => t.flip,
+            None => self.channel_flip(basis),
+        }
+    }
+
+    /// The duration in `basis`: its table's, else the section's.
+    pub fn duration_in(&self, basis: Basis) -> Option<f64> {
+        self.bases[basis_index(basis)]
+            .as_ref()
+            .and_then(|t| t.duration)
+            .or(self.duration)
+    }
+
+    /// The basis table of `basis`, if the section has one.
+    pub fn table(&self, basis: Basis) -> Option<&BasisSpam> {
+        self.bases[basis_index(basis)].as_ref()
+    }
+
+    /// Whether the flip depends on the basis (a bias or a basis table): measurements of
+    /// products then flip per measured qubit.
+    pub fn per_basis(&self) -> bool {
+        self.bias.is_some() || self.bases.iter().any(Option::is_some)
+    }
+
+    /// The flip of a measurement of the product of `factors` (one Pauli per measured qubit):
+    /// a plain `flip` once per result; with a bias or basis tables, each factor flips
+    /// independently in its own basis and the result flips when an odd number do.
+    pub fn product_flip(&self, factors: &[Pauli]) -> f64 {
+        if !self.per_basis() {
+            return self.p;
+        }
+        factors
+            .iter()
+            .filter_map(|&f| Basis::of_pauli(f))
+            .fold(0.0, |acc, b| xor_prob(acc, self.flip(b)))
+    }
+
+    /// The longest duration of a measurement of `factors` (a product waits for its slowest
+    /// factor).
+    pub fn product_duration(&self, factors: &[Pauli]) -> Option<f64> {
+        factors
+            .iter()
+            .filter_map(|&f| Basis::of_pauli(f))
+            .map(|b| self.duration_in(b))
+            .try_fold(0.0f64, |acc, d| d.map(|d| acc.max(d)))
+            .or(if factors.is_empty() {
+                self.duration
+            } else {
+                None
+            })
+    }
 }
 
 /// Idle noise on qubits no operation of a layer touches.
@@ -276,6 +400,8 @@ pub struct NoiseModel {
     pub overrides: Vec<Override>,
     /// The unit durations and times are written in (one of [`TIME_UNITS`]), for display only.
     pub time_unit: Option<&'static str>,
+    /// The top-level `p` (times any scale applied): the reference of `p=` settings.
+    pub base_p: Option<f64>,
 }
 
 /// The values `time_unit` accepts.
@@ -302,17 +428,12 @@ impl NoiseModel {
                 (None, gate(Implementation::Ideal)),
                 (Some(Gate::Cx), gate(cx)),
             ],
-            measure: MeasureNoise {
-                duration: None,
-                flip: preset.p,
-            },
-            reset: ResetNoise {
-                duration: None,
-                p: preset.p,
-            },
+            measure: SpamNoise::flat(preset.p),
+            reset: SpamNoise::flat(preset.p),
             idle: IdleNoise::Rate(rate.clone()),
             overrides: Vec::new(),
             time_unit: None,
+            base_p: Some(preset.p),
         }
     }
 
@@ -355,11 +476,12 @@ impl NoiseModel {
     }
 
     /// One diagnostic per override that selects no qubit of `circuit`, at the override's
-    /// selector value in the model file. A qubit name that matches nothing, or a role close to
-    /// one the circuit declares, is almost always a typo: an error, since ignoring it would
-    /// silently compile the wrong noise. A role the circuit simply does not use (an `ancilla`
-    /// override applied to a product-measurement circuit) is a warning: one hardware model must
-    /// serve every circuit written for that hardware.
+    /// selector value in the model file. A qubit the circuit does not have is a warning: one
+    /// hardware model serves every circuit written for a chip, and a small circuit lacks some
+    /// of its qubits (the hint suggests a close name, in case of a typo). A role the circuit does
+    /// not use is a warning too, unless it is close to one the circuit declares: role names are
+    /// few and shared by every circuit, so `dta` for `data` is a typo and an error, since
+    /// ignoring it would silently compile the wrong noise.
     pub fn unmatched_overrides(&self, circuit: &Circuit) -> Vec<Diagnostic> {
         let mut out = Vec::new();
         for o in &self.overrides {
@@ -392,7 +514,7 @@ impl NoiseModel {
                 ),
             );
             let suggestion = did_you_mean(name, candidates.iter().copied());
-            if what == "role" && suggestion.is_none() {
+            if what == "qubit" || suggestion.is_none() {
                 d.severity = Severity::Warning;
                 d.message.push_str("; the override is skipped");
             }
@@ -409,7 +531,9 @@ impl NoiseModel {
                         .collect::<Vec<_>>()
                         .join(", ")
                 )),
-                None => d.with_hint("write the name as the circuit declares it, e.g. `a[0]`"),
+                None => d.with_hint(
+                    "a model for a larger chip may name qubits a small circuit lacks; write names as the circuit declares them, e.g. `a[0]`",
+                ),
             };
             out.push(d);
         }

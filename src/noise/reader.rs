@@ -7,14 +7,14 @@ use std::sync::Arc;
 
 use toml_edit::{ImDocument, Item, TableLike, Value};
 
-use crate::base::{did_you_mean, Diagnostic, Gate, Pauli, Source, Span};
+use crate::base::{did_you_mean, Basis, Diagnostic, Gate, Pauli, Source, Span};
 use crate::noise::implement::{
     angle_text, parse_angle, parse_polynomial, Generator, Implementation, GATE_TOLERANCE,
     MAX_WINDING,
 };
 use crate::noise::model::{
-    canonical_qubit_name, GateNoise, IdleNoise, MeasureNoise, NoiseModel, Override, Rate,
-    ResetNoise, Selector, TIME_UNITS,
+    canonical_qubit_name, BasisSpam, GateNoise, IdleNoise, NoiseModel, Override, Rate, Selector,
+    SpamNoise, TIME_UNITS,
 };
 
 impl NoiseModel {
@@ -44,8 +44,8 @@ fn parse_model(source: &Arc<Source>) -> Result<NoiseModel, Diagnostic> {
         None => Vec::new(),
         Some(item) => p.gates(item, &base)?,
     };
-    let measure = p.measure(root.get("measure"), &base, None, whole)?;
-    let reset = p.reset(root.get("reset"), &base, None, whole)?;
+    let measure = p.spam(root.get("measure"), &base, None, whole, "measure")?;
+    let reset = p.spam(root.get("reset"), &base, None, whole, "reset")?;
     let idle = match root.get("idle") {
         None => IdleNoise::None,
         Some(item) => p.idle(item, &base)?,
@@ -70,8 +70,8 @@ fn parse_model(source: &Arc<Source>) -> Result<NoiseModel, Diagnostic> {
         idle,
         overrides,
         time_unit,
+        base_p: p.number(root, "p")?,
     };
-    p.check_durations(&model, root)?;
     Ok(model)
 }
 
@@ -102,9 +102,13 @@ const TOP_KEYS: [&str; 8] = [
     "time_unit",
 ];
 /// Keys of `[measure]`.
-const MEASURE_KEYS: [&str; 2] = ["duration", "flip"];
+const MEASURE_KEYS: [&str; 6] = ["bias", "duration", "flip", "x", "y", "z"];
 /// Keys of `[reset]`.
-const RESET_KEYS: [&str; 2] = ["duration", "p"];
+const RESET_KEYS: [&str; 6] = ["bias", "duration", "p", "x", "y", "z"];
+/// Keys of a measurement basis table (`[measure.x]`, `[measure.y]`, `[measure.z]`).
+const MEASURE_BASIS_KEYS: [&str; 2] = ["duration", "flip"];
+/// Keys of a reset basis table (`[reset.x]`, `[reset.y]`, `[reset.z]`).
+const RESET_BASIS_KEYS: [&str; 2] = ["duration", "p"];
 /// Keys of `[idle]`.
 const IDLE_KEYS: [&str; 8] = ["bias", "p", "t1", "t2", "t_bitflip", "x", "y", "z"];
 /// Keys of `[[override]]`.
@@ -113,11 +117,13 @@ const OVERRIDE_KEYS: [&str; 6] = ["gates", "idle", "measure", "qubit", "reset", 
 /// Every section of a model file with the keys it accepts, for the reference page's test.
 /// `gates.NAME` lists the keys of every gate; one-qubit gates add `x y z`, two-qubit gates the
 /// fifteen names `ix` … `zz`.
-pub const MODEL_KEYS: [(&str, &[&str]); 6] = [
+pub const MODEL_KEYS: [(&str, &[&str]); 8] = [
     ("top level", &TOP_KEYS),
     ("gates.NAME", &GATE_KEYS),
     ("measure", &MEASURE_KEYS),
+    ("measure.BASIS", &MEASURE_BASIS_KEYS),
     ("reset", &RESET_KEYS),
+    ("reset.BASIS", &RESET_BASIS_KEYS),
     ("idle", &IDLE_KEYS),
     ("override", &OVERRIDE_KEYS),
 ];
@@ -350,9 +356,16 @@ impl Parser<'_> {
                         self.key_span(t, name),
                         format!("unknown gate `{name}` in `gates`"),
                     );
-                    if let Some(s) = did_you_mean(name, names.iter().copied()) {
-                        d = d.with_hint(format!("did you mean `{s}`?"));
-                    }
+                    let suggestion = Gate::from_alias(name)
+                        .map(Gate::name)
+                        .or_else(|| did_you_mean(name, names.iter().copied()));
+                    d = d.with_hint(match suggestion {
+                        Some(s) => format!("did you mean `{s}`?"),
+                        None => format!(
+                            "gate sections are named as the circuit language names gates: {}, or `default`",
+                            Gate::ALL.iter().map(|g| format!("`{}`", g.name())).collect::<Vec<_>>().join(", ")
+                        ),
+                    });
                     return Err(d);
                 }
             };
@@ -551,72 +564,75 @@ impl Parser<'_> {
         Ok(Some(generator))
     }
 
-    fn measure(
+    /// A `[reset]` or `[measure]` section (`what`), its probability key `pkey` (`p` or `flip`).
+    /// Missing keys come from `inherit` (an override inherits the model's section per key), the
+    /// probability from the base `p` at the top level.
+    fn spam(
         &self,
         item: Option<&Item>,
         base: &Base,
-        inherit: Option<&MeasureNoise>,
+        inherit: Option<&SpamNoise>,
         at: Span,
-    ) -> Result<MeasureNoise, Diagnostic> {
-        let Some(item) = item else {
-            return match (inherit, base.p) {
-                (Some(m), _) => Ok(m.clone()),
-                (None, p) => Ok(MeasureNoise {
-                    duration: None,
-                    flip: p.unwrap_or(0.0),
-                }),
-            };
+        what: &str,
+    ) -> Result<SpamNoise, Diagnostic> {
+        let (keys, pkey, table_keys): (&[&str], &str, &[&str]) = if what == "measure" {
+            (&MEASURE_KEYS, "flip", &MEASURE_BASIS_KEYS)
+        } else {
+            (&RESET_KEYS, "p", &RESET_BASIS_KEYS)
         };
-        let t = self.table(item, "measure")?;
-        self.known_keys(t, &MEASURE_KEYS, "`measure`")?;
-        let flip = self.probability(t, "flip")?;
+        let Some(item) = item else {
+            return Ok(match inherit {
+                Some(s) => s.clone(),
+                None => SpamNoise::flat(base.p.unwrap_or(0.0)),
+            });
+        };
+        let t = self.table(item, what)?;
+        self.known_keys(t, keys, &format!("`{what}`"))?;
+        let p = self.probability(t, pkey)?;
+        let bias = self.positive(t, "bias", false)?;
         let duration = self.positive(t, "duration", true)?;
-        let fallback = inherit.map(|m| m.flip).or(base.p);
-        let Some(flip) = flip.or(fallback) else {
+        let Some(p) = p.or(inherit.map(|s| s.p)).or(base.p) else {
             return Err(Diagnostic::error(
                 self.source,
                 span_of(item.span()).unwrap_or(at),
-                "`measure` has no `flip` probability",
+                format!("`{what}` has no error probability `{pkey}`"),
             )
-            .with_hint("give `flip = ...` or a base `p` at the top level"));
+            .with_hint(format!(
+                "give `{pkey} = ...` here or a base `p` at the top level"
+            )));
         };
-        Ok(MeasureNoise {
-            duration: duration.or(inherit.and_then(|m| m.duration)),
-            flip,
-        })
-    }
-
-    fn reset(
-        &self,
-        item: Option<&Item>,
-        base: &Base,
-        inherit: Option<&ResetNoise>,
-        at: Span,
-    ) -> Result<ResetNoise, Diagnostic> {
-        let Some(item) = item else {
-            return match (inherit, base.p) {
-                (Some(r), _) => Ok(r.clone()),
-                (None, p) => Ok(ResetNoise {
-                    duration: None,
-                    p: p.unwrap_or(0.0),
-                }),
-            };
-        };
-        let t = self.table(item, "reset")?;
-        self.known_keys(t, &RESET_KEYS, "`reset`")?;
-        let p = self.probability(t, "p")?;
-        let duration = self.positive(t, "duration", true)?;
-        let Some(p) = p.or(inherit.map(|r| r.p)).or(base.p) else {
-            return Err(Diagnostic::error(
-                self.source,
-                span_of(item.span()).unwrap_or(at),
-                "`reset` has no error probability `p`",
-            ));
-        };
-        Ok(ResetNoise {
-            duration: duration.or(inherit.and_then(|r| r.duration)),
+        let mut out = SpamNoise {
+            duration: duration.or(inherit.and_then(|s| s.duration)),
             p,
-        })
+            bias: bias.or(inherit.and_then(|s| s.bias)),
+            bases: inherit.map_or([None, None, None], |s| s.bases.clone()),
+        };
+        for (k, basis) in Basis::ALL.into_iter().enumerate() {
+            let name = basis.name();
+            let Some(sub) = t.get(name) else { continue };
+            let section = format!("{what}.{name}");
+            let Some(st) = sub.as_table_like() else {
+                return Err(self
+                    .err(sub.span(), format!("`{section}` must be a table"))
+                    .with_hint(format!(
+                        "write the {what} noise of the {name} basis as `[{section}]` with `{pkey}` and `duration`"
+                    )));
+            };
+            self.known_keys(st, table_keys, &format!("`{section}`"))?;
+            let flip = self.probability(st, pkey)?;
+            let d = self.positive(st, "duration", true)?;
+            let inherited = inherit.and_then(|s| s.bases[k].clone());
+            out.bases[k] = Some(BasisSpam {
+                duration: d
+                    .or(inherited.as_ref().and_then(|b| b.duration))
+                    .or(out.duration),
+                // Without its own value the basis keeps the section's flip in that basis.
+                flip: flip
+                    .or(inherited.as_ref().map(|b| b.flip))
+                    .unwrap_or_else(|| out.channel_flip(basis)),
+            });
+        }
+        Ok(out)
     }
 
     fn idle(&self, item: &Item, base: &Base) -> Result<IdleNoise, Diagnostic> {
@@ -664,8 +680,8 @@ impl Parser<'_> {
         &self,
         t: &toml_edit::Table,
         base: &Base,
-        measure: &MeasureNoise,
-        reset: &ResetNoise,
+        measure: &SpamNoise,
+        reset: &SpamNoise,
     ) -> Result<Override, Diagnostic> {
         self.known_keys(t, &OVERRIDE_KEYS, "`override`")?;
         let at = span_of(t.span()).unwrap_or(Span::new(0, 0));
@@ -716,11 +732,11 @@ impl Parser<'_> {
             },
             measure: match t.get("measure") {
                 None => None,
-                Some(i) => Some(self.measure(Some(i), base, Some(measure), at)?),
+                Some(i) => Some(self.spam(Some(i), base, Some(measure), at, "measure")?),
             },
             reset: match t.get("reset") {
                 None => None,
-                Some(i) => Some(self.reset(Some(i), base, Some(reset), at)?),
+                Some(i) => Some(self.spam(Some(i), base, Some(reset), at, "reset")?),
             },
             idle: match t.get("idle") {
                 None => None,
@@ -728,44 +744,6 @@ impl Parser<'_> {
             },
             span: at,
         })
-    }
-
-    /// Idle noise from times needs every duration.
-    fn check_durations(&self, m: &NoiseModel, root: &toml_edit::Table) -> Result<(), Diagnostic> {
-        let timed = m.idle.needs_durations()
-            || m.overrides
-                .iter()
-                .any(|o| o.idle.as_ref().is_some_and(|i| i.needs_durations()));
-        if !timed {
-            return Ok(());
-        }
-        let all_gates = m
-            .gates
-            .iter()
-            .chain(m.overrides.iter().flat_map(|o| o.gates.iter()));
-        for (g, n) in all_gates {
-            if n.duration.is_none() {
-                let name = g.map_or("default", |g| g.name());
-                return Err(Diagnostic::error(
-                    self.source,
-                    n.span,
-                    format!("`gates.{name}` has no `duration`"),
-                )
-                .with_hint("idle noise from `t1`/`t2` needs the duration of every operation"));
-            }
-        }
-        for (name, d) in [("measure", m.measure.duration), ("reset", m.reset.duration)] {
-            if d.is_none() {
-                let at = span_of(root.get(name).and_then(|i| i.span())).unwrap_or(Span::new(0, 0));
-                return Err(Diagnostic::error(
-                    self.source,
-                    at,
-                    format!("`{name}` has no `duration`"),
-                )
-                .with_hint("idle noise from `t1`/`t2` needs the duration of every operation"));
-            }
-        }
-        Ok(())
     }
 }
 
@@ -805,7 +783,7 @@ mod tests {
         );
         // Measurement flips and reset errors default to the base `p`; no idle table, no idle
         // noise.
-        assert_eq!((m.measure.flip, m.reset.p), (0.002, 0.002));
+        assert_eq!((m.measure.p, m.reset.p), (0.002, 0.002));
         assert_eq!(m.idle, IdleNoise::None);
     }
 
@@ -854,8 +832,47 @@ mod tests {
         assert_eq!(l, 4);
         let (msg, ..) = refusal("[gates.cnot]\np = 0.1\n");
         assert_eq!(msg, "unknown gate `cnot` in `gates`");
+        let d = read("[gates.cnot]\np = 0.1\n").unwrap_err();
+        assert_eq!(d.hint.as_deref(), Some("did you mean `cx`?"));
+        let d = read("[gates.hadamard]\np = 0.1\n").unwrap_err();
+        assert_eq!(d.hint.as_deref(), Some("did you mean `h`?"));
         let (msg, ..) = refusal("[gates.h]\n");
         assert_eq!(msg, "`gates.h` has no error rate");
+    }
+
+    /// A biased reset or measurement acts with the part of its Pauli channel that flips the
+    /// basis (bias convention of PRL 120, 050505 (2018)); basis tables replace it per basis.
+    #[test]
+    fn biased_and_per_basis_spam() {
+        let m = read(
+            "p = 0.001\n[reset]\np = 0.002\nbias = 99\nduration = 3\n[reset.z]\np = 1e-6\n\
+             [measure]\nflip = 0.01\nbias = \"inf\"\n[measure.x]\nduration = 2\n",
+        )
+        .unwrap();
+        // eta = 99: pX = pY = 0.002/200 = 1e-5, pZ = 0.002·0.99 = 1.98e-3.
+        assert!((m.reset.flip(Basis::X) - (1.98e-3 + 1e-5)).abs() < 1e-15);
+        assert!((m.reset.flip(Basis::Y) - (1.98e-3 + 1e-5)).abs() < 1e-15);
+        assert_eq!(m.reset.flip(Basis::Z), 1e-6);
+        assert_eq!(m.reset.duration_in(Basis::Z), Some(3.0));
+        // Pure Z noise never flips a z measurement; the x table keeps the channel's flip.
+        assert_eq!(m.measure.flip(Basis::Z), 0.0);
+        assert_eq!(m.measure.flip(Basis::X), 0.01);
+        assert_eq!(m.measure.duration_in(Basis::X), Some(2.0));
+        assert_eq!(m.measure.duration_in(Basis::Z), None);
+        // A product flips when an odd number of its factors do.
+        let f = m.measure.product_flip(&[Pauli::X, Pauli::X]);
+        assert!((f - 2.0 * 0.01 * 0.99).abs() < 1e-15);
+        // No bias, no table: one flip per result, whatever is measured.
+        let plain = read("p = 0.003\n").unwrap();
+        assert_eq!(plain.measure.product_flip(&[Pauli::X, Pauli::Z]), 0.003);
+        assert_eq!(plain.reset.flip(Basis::X), 0.003);
+        let (msg, l, c) = refusal("[measure.q]\nflip = 0.1\n");
+        assert_eq!(
+            (msg.as_str(), l, c),
+            ("unknown key `q` in `measure`", 1, 10)
+        );
+        let (msg, ..) = refusal("[reset]\np = 0.1\nz = 0.2\n");
+        assert_eq!(msg, "`reset.z` must be a table");
     }
 
     #[test]
@@ -867,7 +884,7 @@ mod tests {
         .unwrap();
         assert_eq!(m.overrides.len(), 2);
         assert_eq!(m.overrides[0].selector, Selector::Qubit("d[1,2]".into()));
-        assert_eq!(m.overrides[0].measure.as_ref().unwrap().flip, 0.5);
+        assert_eq!(m.overrides[0].measure.as_ref().unwrap().p, 0.5);
         assert_eq!(m.overrides[1].selector, Selector::Role("ancilla".into()));
         assert_eq!(m.overrides[1].reset.as_ref().unwrap().p, 0.25);
         let (msg, ..) = refusal("[[override]]\nqubit = \"a\"\nrole = \"b\"\n");

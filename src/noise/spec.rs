@@ -9,6 +9,7 @@ use crate::noise::compile::{self, Compiled};
 use crate::noise::implement::Implementation;
 use crate::noise::model::NoiseModel;
 use crate::noise::preset::{Preset, PresetKind};
+use crate::noise::settings::{read_with_settings, split_settings};
 
 /// A parsed `--noise` value.
 #[derive(Clone, Debug, PartialEq)]
@@ -37,6 +38,13 @@ impl NoiseSpec {
     }
 }
 
+/// Whether a noise text names a model file (its first word ends in `.toml` or contains `/`)
+/// rather than a preset.
+pub fn is_model_text(text: &str) -> bool {
+    let first = text.split_whitespace().next().unwrap_or("");
+    first.ends_with(".toml") || first.contains('/')
+}
+
 /// Returns a copy of `circuit` with the noise of `spec` written in as explicit operations.
 pub fn apply(circuit: &Circuit, spec: &NoiseSpec) -> Result<Circuit, Vec<Diagnostic>> {
     apply_noted(circuit, spec).map(|c| c.circuit)
@@ -61,23 +69,27 @@ pub fn apply_noted(circuit: &Circuit, spec: &NoiseSpec) -> Result<Compiled, Vec<
 /// `circuit` preset with a `cx=ideal|rotation|bias-preserving` key. Returns `None` when the text
 /// is neither (it is then a plain preset). `cx=ideal` gives the plain preset.
 ///
-/// The text is a path when it ends in `.toml`, or is one word containing `/` (no preset
-/// contains one). A path that names no file is reported as such, not as an unknown preset.
+/// The text is a model file when its first word ends in `.toml` or contains `/` (no preset
+/// name does); the words after it are settings (`p=0.002`, `scale=2`, `idle.t2=50`: see
+/// `settings.rs`). A path that names no file is reported as such, not as an unknown preset.
 fn parse_extension(source: &Arc<Source>) -> Option<Result<NoiseSpec, Diagnostic>> {
     let text = source.text.as_str();
-    let trimmed = text.trim();
-    let one_word = !trimmed.contains(char::is_whitespace);
-    if trimmed.ends_with(".toml") || (one_word && trimmed.contains('/')) {
-        let path = std::path::Path::new(trimmed);
-        let start = text.find(trimmed).unwrap_or(0);
-        let at = Span::new(start, start + trimmed.len());
+    let first = text.split_whitespace().next().unwrap_or("");
+    if is_model_text(text) {
+        let path = std::path::Path::new(first);
+        let start = text.find(first).unwrap_or(0);
+        let at = Span::new(start, start + first.len());
+        let settings = match split_settings(source, start + first.len()) {
+            Ok(s) => s,
+            Err(e) => return Some(Err(e)),
+        };
         return Some(match std::fs::read_to_string(path) {
-            Ok(body) => NoiseModel::parse(&Source::new(trimmed, body))
+            Ok(body) => read_with_settings(source, first, body, &settings)
                 .map(|m| NoiseSpec::Model(Box::new(m))),
             Err(e) if e.kind() == std::io::ErrorKind::NotFound => Err(Diagnostic::error(
                 source,
                 at,
-                format!("the noise model file `{trimmed}` does not exist"),
+                format!("the noise model file `{first}` does not exist"),
             )
             .with_hint(
                 "`--noise` takes the path of a model file or a preset such as `circuit p=0.001`",
@@ -85,7 +97,7 @@ fn parse_extension(source: &Arc<Source>) -> Option<Result<NoiseSpec, Diagnostic>
             Err(e) => Err(Diagnostic::error(
                 source,
                 at,
-                format!("cannot read the noise model `{trimmed}`: {e}"),
+                format!("cannot read the noise model `{first}`: {e}"),
             )),
         });
     }

@@ -6,8 +6,9 @@
 //! bias at the data ([`crate::analysis::analyze_bias`]) — and, per [`Column`], which rows are best
 //! ([`best`]).
 //!
-//! Logical error rates ([`RatePoint`], from [`rates`]) re-run a preset at several physical error
-//! rates: the `p=` of the noise text is replaced by each value ([`at_p`]). A rate is marked best
+//! Logical error rates ([`RatePoint`], from [`rates`]) re-run the noise at several physical error
+//! rates: the `p=` of a preset is replaced by each value, and a model file is scaled to each
+//! physical error per operation ([`at_p`]). A rate is marked best
 //! only when its interval lies wholly below every other row's interval: with Monte Carlo
 //! estimates a lower point estimate alone is not evidence of a better circuit.
 
@@ -17,7 +18,7 @@ use crate::analysis::{
 use crate::base::Diagnostic;
 use crate::decode::DecoderKind;
 use crate::faults::{ExtractOptions, FaultGraph};
-use crate::study::montecarlo::RunOptions;
+use crate::study::montecarlo::{Counts, RunOptions};
 use crate::study::pipeline::{Pipeline, StudyError};
 use crate::study::stats::{Estimate, Z95};
 
@@ -251,22 +252,13 @@ pub fn best(rows: &[Row], column: Column) -> Vec<bool> {
     }
 }
 
-/// The noise text with its `p=` replaced by `p`. Refused for model files, which have no single
-/// `p`, and for texts without a `p=` key.
+/// The noise text with its `p=` replaced by `p` (added when a model file's text has none).
+/// On a preset `p` is the preset's rate; on a model file it is the physical error per
+/// operation, the model scaled by `p / p_ref` (see [`crate::noise::split_settings`] and the
+/// reference). Refused for a preset text without `p=`.
 pub fn at_p(text: &str, p: f64) -> Result<String, Diagnostic> {
-    if text.trim().ends_with(".toml") {
-        return Err(Diagnostic::bare(format!(
-            "`--p` re-runs a preset at each physical error rate, but `{}` is a model file with \
-             rates of its own",
-            text.trim()
-        ))
-        .with_hint(
-            "compare under the model without `--p`, or write one model file per rate and run \
-             `slant estimate` on each",
-        ));
-    }
     let mut found = false;
-    let out: Vec<String> = text
+    let mut out: Vec<String> = text
         .split_whitespace()
         .map(|t| {
             if t.starts_with("p=") {
@@ -278,6 +270,10 @@ pub fn at_p(text: &str, p: f64) -> Result<String, Diagnostic> {
         })
         .collect();
     if !found {
+        if crate::noise::is_model_text(text) {
+            out.insert(1, format!("p={p}"));
+            return Ok(out.join(" "));
+        }
         return Err(Diagnostic::bare(format!(
             "`--p` replaces the `p=` of the noise preset, but `{text}` has none"
         )));
@@ -285,20 +281,30 @@ pub fn at_p(text: &str, p: f64) -> Result<String, Diagnostic> {
     Ok(out.join(" "))
 }
 
+/// The noise text without its `p=` word, for titles of plots whose x axis is `p`.
+pub fn without_p(text: &str) -> String {
+    text.split_whitespace()
+        .filter(|t| !t.starts_with("p="))
+        .collect::<Vec<_>>()
+        .join(" ")
+}
+
 /// Samples and decodes `circuit` under the noise `text` re-run at every `p` of `ps` (see
-/// [`at_p`]), with the same decoder, shots, failure budget and seed at each.
+/// [`at_p`]), with the same decoder, shots, failure budget and seed at each. `progress` gets
+/// the index of the `p` and the running counts after each batch.
 pub fn rates(
     circuit: &Pipeline,
     text: &str,
     ps: &[f64],
     decoder: DecoderKind,
     opts: &RunOptions,
+    mut progress: impl FnMut(usize, Counts),
 ) -> Result<Vec<RatePoint>, StudyError> {
     let mut out = Vec::new();
-    for &p in ps {
+    for (i, &p) in ps.iter().enumerate() {
         let noisy = circuit.noised(Some(&at_p(text, p)?))?;
         let exp = noisy.experiment(decoder)?;
-        let counts = exp.run(opts, |_| {});
+        let counts = exp.run(opts, |c| progress(i, c));
         let e = Estimate::wilson(counts.failures, counts.shots, Z95).per_round(exp.rounds);
         out.push(RatePoint {
             p,

@@ -23,14 +23,19 @@ mod stats;
 mod sweep;
 mod threshold;
 
-pub use compare::{at_p, best, evaluate, rates, significant, BiasSummary, Column, RatePoint, Row};
+pub use compare::{
+    at_p, best, evaluate, rates, significant, without_p, BiasSummary, Column, RatePoint, Row,
+};
 pub use measured::{decode_measured, Layout, Measured, MeasuredEvents};
 pub use montecarlo::{decode_batch, run, Counts, Experiment, RunOptions};
 pub use pipeline::{Pipeline, StudyError};
-pub use plot::{render_for, Curve, Marker, Panel};
+pub use plot::{render_for, Curve, LegendEntry, Marker, Panel, Shape, PANEL_SIZE};
 pub use stats::{per_round, wilson, Estimate, Z95};
 pub use sweep::{
-    aggregate, chunk_seed, merge_rows, parse_rows, read_store, run_sweep, ChunkRow, Event, Point,
-    Shard, Store, SweepSpec, Task, DEFAULT_CHUNK, STORE_VERSION,
+    aggregate, chunk_seed, merge_rows, parse_rows, plan, read_store, run_sweep, ChunkRow, Event,
+    Point, Shard, Store, SweepSpec, Task, TaskState, DEFAULT_CHUNK, STORE_VERSION,
 };
-pub use threshold::{crossings, scaling_fit, threshold, Crossing, ScalingFit};
+pub use threshold::{
+    bootstrap, crossings, pairs, scaling_fit, threshold, Bootstrap, Crossing, NoCrossing, Pair,
+    ScalingFit,
+};

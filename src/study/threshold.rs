@@ -10,8 +10,18 @@
 //!   failure have no logarithm and are left out of both estimates;
 //! - a crossing of distances `d1 < d2` is where `ln pL(d2) − ln pL(d1)` changes sign from negative
 //!   (the larger code is better) to positive, located by linear interpolation in `ln p` between
-//!   the two neighbouring grid points both curves share. The threshold estimate is the crossing of
-//!   the two largest distances, which suffer least from finite-size drift;
+//!   the two neighbouring grid points both curves share. Every pair of distances is tried
+//!   ([`pairs`]); a pair that does not cross says why (the larger code is better, or worse, at
+//!   every shared `p`: the threshold lies beyond the grid, or the pair shares too few points). The
+//!   threshold estimate ([`threshold`]) is the crossing of the largest pair that crosses (largest
+//!   `d2`, then largest `d1`), which suffers least from finite-size drift; a crossing in the
+//!   first or last interval of the grid is flagged ([`Crossing::at_edge`]);
+//! - its uncertainty ([`bootstrap`]) comes from a parametric bootstrap over the stored counts:
+//!   each point's failure count is redrawn from a binomial with its own shots and observed rate
+//!   (exactly for up to 1000 shots, else by the Poisson limit when fewer than 30 failures or
+//!   successes are expected and by the normal limit otherwise), the estimate recomputed, and the
+//!   2.5% and 97.5% quantiles reported with the share of resamples that had no crossing at all
+//!   ("Bootstrap methods: another look at the jackknife", B. Efron, Ann. Statist. 7, 1 (1979));
 //! - the scaling fit is `pL ≈ A · (p/p_th)^((d+1)/2)` ("Surface codes: towards practical
 //!   large-scale quantum computation", PRA 86, 032324 (2012)) on the points below the crossing:
 //!   with `k = (d+1)/2`, `ln pL − k ln p = ln A − k ln p_th` is linear in the unknowns
@@ -31,6 +41,51 @@ pub struct Crossing {
     pub d2: u32,
     /// Physical error rate at the crossing.
     pub p: f64,
+    /// The crossing lies in the first or last interval of the grid the two curves share: the
+    /// grid should be extended to confirm it.
+    pub at_edge: bool,
+}
+
+/// Why a pair of distances has no crossing in the grid.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum NoCrossing {
+    /// The larger code is better at every shared `p`: the threshold lies above the grid.
+    Above,
+    /// The larger code is worse at every shared `p`: the threshold lies below the grid.
+    Below,
+    /// The difference changes sign the wrong way (the larger code better only above some `p`).
+    Inverted,
+    /// Fewer than two shared points with failures.
+    TooFewPoints,
+}
+
+impl NoCrossing {
+    /// A short explanation for reports.
+    pub fn describe(self) -> &'static str {
+        match self {
+            NoCrossing::Above => {
+                "the larger code is better at every p: the threshold lies above the grid"
+            }
+            NoCrossing::Below => {
+                "the larger code is worse at every p: the threshold lies below the grid"
+            }
+            NoCrossing::Inverted => {
+                "the curves cross the wrong way (larger code better only at larger p)"
+            }
+            NoCrossing::TooFewPoints => "fewer than two shared points with failures",
+        }
+    }
+}
+
+/// The result for one pair of distances.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Pair {
+    /// The smaller distance.
+    pub d1: u32,
+    /// The larger distance.
+    pub d2: u32,
+    /// The crossing, or why there is none.
+    pub result: Result<Crossing, NoCrossing>,
 }
 
 /// The fit `pL ≈ A (p/p_th)^((d+1)/2)`.
@@ -61,36 +116,143 @@ fn curves(points: &[Point]) -> BTreeMap<u32, Vec<(f64, f64)>> {
 }
 
 /// The crossing of two curves, if their difference changes sign from negative to positive.
-fn cross(d1: u32, c1: &[(f64, f64)], d2: u32, c2: &[(f64, f64)]) -> Option<Crossing> {
+fn cross(d1: u32, c1: &[(f64, f64)], d2: u32, c2: &[(f64, f64)]) -> Result<Crossing, NoCrossing> {
     // Shared p values (exact equality: both come from the same grid).
     let diff: Vec<(f64, f64)> = c1
         .iter()
         .filter_map(|&(p, l1)| c2.iter().find(|x| x.0 == p).map(|&(_, l2)| (p, l2 - l1)))
         .collect();
-    diff.windows(2).find_map(|w| {
+    if diff.len() < 2 {
+        return Err(NoCrossing::TooFewPoints);
+    }
+    let last = diff.len() - 2;
+    let found = diff.windows(2).enumerate().find_map(|(k, w)| {
         let ((p0, f0), (p1, f1)) = (w[0], w[1]);
         if f0 < 0.0 && f1 >= 0.0 {
             let (x0, x1) = (p0.ln(), p1.ln());
             let x = x0 + (x1 - x0) * (-f0) / (f1 - f0);
-            Some(Crossing { d1, d2, p: x.exp() })
+            Some(Crossing {
+                d1,
+                d2,
+                p: x.exp(),
+                at_edge: k == 0 || k == last,
+            })
         } else {
             None
         }
+    });
+    found.ok_or(if diff.iter().all(|d| d.1 < 0.0) {
+        NoCrossing::Above
+    } else if diff.iter().all(|d| d.1 >= 0.0) {
+        NoCrossing::Below
+    } else {
+        NoCrossing::Inverted
     })
 }
 
-/// Crossings of successive distances, smallest pair first.
-pub fn crossings(points: &[Point]) -> Vec<Crossing> {
+/// Every pair of distances `d1 < d2` with its crossing or why it has none, smallest pair first.
+pub fn pairs(points: &[Point]) -> Vec<Pair> {
     let c = curves(points);
     let ds: Vec<u32> = c.keys().copied().collect();
-    ds.windows(2)
-        .filter_map(|w| cross(w[0], &c[&w[0]], w[1], &c[&w[1]]))
+    let mut out = Vec::new();
+    for (i, &d1) in ds.iter().enumerate() {
+        for &d2 in &ds[i + 1..] {
+            out.push(Pair {
+                d1,
+                d2,
+                result: cross(d1, &c[&d1], d2, &c[&d2]),
+            });
+        }
+    }
+    out
+}
+
+/// Crossings of every pair of distances that crosses, smallest pair first.
+pub fn crossings(points: &[Point]) -> Vec<Crossing> {
+    pairs(points)
+        .into_iter()
+        .filter_map(|p| p.result.ok())
         .collect()
 }
 
-/// The threshold estimate: the crossing of the largest pair of successive distances that cross.
+/// The threshold estimate: the crossing of the largest pair of distances that crosses (largest
+/// `d2`, then largest `d1`).
 pub fn threshold(points: &[Point]) -> Option<Crossing> {
-    crossings(points).last().copied()
+    crossings(points).into_iter().max_by_key(|c| (c.d2, c.d1))
+}
+
+/// A threshold estimate's bootstrap uncertainty.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Bootstrap {
+    /// Resamples drawn.
+    pub resamples: usize,
+    /// 2.5% and 97.5% quantiles of the estimate over the resamples that had one.
+    pub interval: Option<(f64, f64)>,
+    /// Share of resamples without any crossing.
+    pub no_crossing: f64,
+}
+
+/// Redraws `k` failures of `n` shots from a binomial with the observed rate (module docs).
+fn redraw(n: u64, k: u64, rng: &mut rand_xoshiro::Xoshiro256PlusPlus) -> u64 {
+    use rand::Rng;
+    if n == 0 {
+        return 0;
+    }
+    let q = k as f64 / n as f64;
+    if n <= 1000 {
+        return (0..n).filter(|_| rng.gen::<f64>() < q).count() as u64;
+    }
+    let poisson = |lambda: f64, rng: &mut rand_xoshiro::Xoshiro256PlusPlus| -> u64 {
+        // Knuth's product of uniforms: exact for the small means it is used for.
+        let limit = (-lambda).exp();
+        let (mut count, mut prod) = (0u64, rng.gen::<f64>());
+        while prod > limit {
+            count += 1;
+            prod *= rng.gen::<f64>();
+        }
+        count
+    };
+    let (mean, rest) = (n as f64 * q, n as f64 * (1.0 - q));
+    if mean < 30.0 {
+        poisson(mean, rng).min(n)
+    } else if rest < 30.0 {
+        n - poisson(rest, rng).min(n)
+    } else {
+        // Box–Muller normal draw.
+        let (u1, u2) = (rng.gen::<f64>().max(f64::MIN_POSITIVE), rng.gen::<f64>());
+        let z = (-2.0 * u1.ln()).sqrt() * (2.0 * std::f64::consts::PI * u2).cos();
+        (mean + z * (mean * (1.0 - q)).sqrt())
+            .round()
+            .clamp(0.0, n as f64) as u64
+    }
+}
+
+/// The bootstrap of [`threshold`] over the counts of `points` (module docs): `resamples`
+/// redraws from a fixed `seed`, so the interval is reproducible.
+pub fn bootstrap(points: &[Point], resamples: usize, seed: u64) -> Bootstrap {
+    use rand::SeedableRng;
+    let mut rng = rand_xoshiro::Xoshiro256PlusPlus::seed_from_u64(seed);
+    let mut found = Vec::with_capacity(resamples);
+    let mut copy = points.to_vec();
+    for _ in 0..resamples {
+        for (c, p) in copy.iter_mut().zip(points) {
+            c.failures = redraw(p.shots, p.failures, &mut rng);
+        }
+        if let Some(t) = threshold(&copy) {
+            found.push(t.p);
+        }
+    }
+    found.sort_by(f64::total_cmp);
+    let quantile = |f: f64| found[((found.len() - 1) as f64 * f).round() as usize];
+    Bootstrap {
+        resamples,
+        interval: (!found.is_empty()).then(|| (quantile(0.025), quantile(0.975))),
+        no_crossing: if resamples == 0 {
+            0.0
+        } else {
+            1.0 - found.len() as f64 / resamples as f64
+        },
+    }
 }
 
 /// Fits `pL ≈ A (p/p_th)^((d+1)/2)` to the points with `p < below` (module docs). Needs points
@@ -143,6 +305,9 @@ mod tests {
             label: "l".into(),
             decoder: "mwpm".into(),
             bias: None,
+            vary: Default::default(),
+            noise: String::new(),
+            family: "surface".into(),
             distance: d,
             rounds: d,
             p,
@@ -162,7 +327,8 @@ mod tests {
             .flat_map(|&d| grid.iter().map(move |&p| pt(d, p, law(d, p).min(1.0))))
             .collect();
         let c = crossings(&pts);
-        assert_eq!(c.len(), 2);
+        // Every pair: 3/5, 3/7 and 5/7.
+        assert_eq!(c.len(), 3);
         for x in &c {
             assert!((x.p / 0.01 - 1.0).abs() < 1e-3, "{x:?}");
         }
@@ -176,6 +342,43 @@ mod tests {
         assert_eq!(fit.points, 9);
     }
 
+    /// The bootstrap interval of exact power laws with many shots is tight around the true
+    /// crossing; with few shots at a crossing in the last grid interval many resamples lose it.
+    #[test]
+    fn bootstrap_brackets_the_crossing() {
+        let law = |d: u32, p: f64| 0.1 * (p / 0.01f64).powf((d as f64 + 1.0) / 2.0);
+        let grid = [0.004, 0.006, 0.008, 0.012, 0.016];
+        let pts: Vec<Point> = [3, 5]
+            .iter()
+            .flat_map(|&d| grid.iter().map(move |&p| pt(d, p, law(d, p).min(1.0))))
+            .collect();
+        let b = bootstrap(&pts, 200, 1);
+        let (lo, hi) = b.interval.unwrap();
+        assert!(lo <= 0.01 && 0.01 <= hi && hi / lo < 1.01, "{b:?}");
+        assert_eq!(b.no_crossing, 0.0);
+        assert!(!threshold(&pts).unwrap().at_edge);
+        // A crossing between the last two points is flagged.
+        let edge: Vec<Point> = pts
+            .iter()
+            .filter(|p| p.p < 0.012 || p.p > 0.013)
+            .cloned()
+            .collect();
+        let mut few = edge.clone();
+        for p in &mut few {
+            p.shots = 200;
+            p.failures = ((law(p.distance, p.p).min(1.0)) * 200.0).round() as u64;
+        }
+        assert!(threshold(&edge).unwrap().at_edge);
+        let b = bootstrap(&few, 300, 2);
+        let (lo, hi) = b.interval.unwrap();
+        assert!(b.no_crossing > 0.0 && hi / lo > 1.5, "{b:?}");
+        assert_eq!(
+            bootstrap(&few, 300, 2),
+            b,
+            "a fixed seed reproduces the interval"
+        );
+    }
+
     #[test]
     fn curves_that_never_cross_have_no_threshold() {
         let pts = vec![
@@ -186,6 +389,7 @@ mod tests {
         ];
         assert!(crossings(&pts).is_empty());
         assert!(threshold(&pts).is_none());
+        assert_eq!(pairs(&pts)[0].result, Err(NoCrossing::Above));
         assert!(scaling_fit(&pts[..1], 1.0).is_none());
     }
 }

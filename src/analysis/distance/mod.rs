@@ -229,13 +229,34 @@ pub struct DistanceReport {
 /// Computes every distance of `graph`. `Err` carries an internal error (a found error that does
 /// not verify), which is a bug.
 pub fn distances(graph: &FaultGraph, opts: &DistanceOptions) -> Result<DistanceReport, String> {
+    distances_reporting(graph, opts, |_, _| {})
+}
+
+/// The searches of [`distances`], in the order they run (names as the report's lines).
+pub const DISTANCE_SEARCHES: [&str; 4] = [
+    "distance",
+    "high-rate distance",
+    "low-rate count",
+    "weighted distance",
+];
+
+/// [`distances`], calling `on_search(i, name)` as search `i` of [`DISTANCE_SEARCHES`] starts
+/// (for a progress display: a search on a large graph can take seconds).
+pub fn distances_reporting(
+    graph: &FaultGraph,
+    opts: &DistanceOptions,
+    mut on_search: impl FnMut(usize, &'static str),
+) -> Result<DistanceReport, String> {
     let all = |_: ClassSet| true;
     let high = |c: ClassSet| c.has_high();
+    on_search(0, DISTANCE_SEARCHES[0]);
     let (distance, distance_unproven) = count_distance(graph, &all, opts)?;
+    on_search(1, DISTANCE_SEARCHES[1]);
     let (high_rate, high_rate_unproven) = count_distance(graph, &high, opts)?;
     let hyperedges = graph.edges.iter().filter(|m| m.detectors.len() > 2).count();
     // The class and weighted searches see matchable edges only.
     let matchable_only = (hyperedges > 0).then_some(Unproven::MatchableOnly);
+    on_search(2, DISTANCE_SEARCHES[2]);
     let lexicographic = match search(graph, &all, |m| {
         Lex(u32::from(!graph.edges[m].classes.has_high()), 1)
     }) {
@@ -246,6 +267,7 @@ pub fn distances(graph: &FaultGraph, opts: &DistanceOptions) -> Result<DistanceR
         }),
         None => None,
     };
+    on_search(3, DISTANCE_SEARCHES[3]);
     let weighted = match search(graph, &all, |m| {
         Weight(weight_of(graph.edges[m].probability).max(0.0))
     }) {

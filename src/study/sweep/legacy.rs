@@ -9,7 +9,8 @@
 use serde_json::{Map, Value};
 
 /// Upgrades one parsed row to the current format: a row without `version` (or with version 1)
-/// has `errors` renamed to `failures`, any `max_errors` dropped, and `version` set.
+/// has `errors` renamed to `failures` and any `max_errors` dropped; a version 2 row is a current
+/// row without `vary`. Both get the current `version`.
 pub(super) fn upgrade(row: &mut Value, current: u32) {
     let Value::Object(map) = row else {
         return;
@@ -18,6 +19,8 @@ pub(super) fn upgrade(row: &mut Value, current: u32) {
     if version.is_none_or(|v| v < 2) {
         rename(map, "errors", "failures");
         map.remove("max_errors");
+    }
+    if version.is_none_or(|v| v < u64::from(current)) {
         map.insert("version".into(), Value::from(current));
     }
 }
@@ -39,16 +42,20 @@ mod tests {
     fn version_one_rows_gain_their_new_names() {
         let mut row: Value =
             serde_json::from_str(r#"{"task":"t","shots":10,"errors":3,"max_errors":5}"#).unwrap();
-        upgrade(&mut row, 2);
+        upgrade(&mut row, 3);
         assert_eq!(
             row,
-            serde_json::json!({"task":"t","shots":10,"failures":3,"version":2})
+            serde_json::json!({"task":"t","shots":10,"failures":3,"version":3})
         );
+        // A version 2 row only gains the current version.
+        let mut row: Value = serde_json::from_str(r#"{"version":2,"failures":1}"#).unwrap();
+        upgrade(&mut row, 3);
+        assert_eq!(row, serde_json::json!({"version":3,"failures":1}));
         // A current row is left alone, even one whose label happens to be `errors`.
         let mut row: Value =
-            serde_json::from_str(r#"{"version":2,"failures":1,"label":"errors"}"#).unwrap();
+            serde_json::from_str(r#"{"version":3,"failures":1,"label":"errors"}"#).unwrap();
         let before = row.clone();
-        upgrade(&mut row, 2);
+        upgrade(&mut row, 3);
         assert_eq!(row, before);
     }
 }

@@ -54,7 +54,7 @@ mod run;
 mod spec;
 mod store;
 
-pub use run::{run_sweep, Event, Shard};
+pub use run::{plan, run_sweep, Event, Shard, TaskState};
 pub use spec::{chunk_seed, SweepSpec, Task, DEFAULT_CHUNK};
 pub use store::{
     aggregate, merge_rows, parse_rows, read_store, ChunkRow, Point, Store, STORE_VERSION,

@@ -51,8 +51,71 @@ pub enum Event<'a> {
     Chunk(&'a Task, &'a ChunkRow),
     /// The noise model has warnings about the task's circuit (once per task run).
     Warnings(&'a Task, &'a [Diagnostic]),
-    /// A task is complete (all shots, or enough failures): its totals.
+    /// A task this run worked on is complete (all shots, or enough failures): its totals.
     TaskDone(&'a Task, u64, u64),
+}
+
+/// What a run will do with one task, given the rows already in the store.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum TaskState {
+    /// Nothing recorded: the task runs from its first chunk.
+    Fresh,
+    /// Some chunks recorded: the task runs on from chunk `next`, with the recorded totals.
+    Partial {
+        /// The first chunk not recorded.
+        next: u64,
+        /// Shots already recorded.
+        shots: u64,
+    },
+    /// Every chunk recorded, or enough failures: the task is skipped.
+    Complete {
+        /// Shots recorded.
+        shots: u64,
+        /// Failures recorded.
+        failures: u64,
+    },
+}
+
+/// The state of every task of `spec` in `shard` against the rows `recorded`: `(index in the
+/// grid, task, state)`, so a caller can say what a resumed run skips.
+pub fn plan<'a>(
+    spec: &'a SweepSpec,
+    shard: Option<Shard>,
+    recorded: &[ChunkRow],
+) -> Vec<(usize, &'a Task, TaskState)> {
+    let mut done: HashMap<&str, BTreeMap<u64, &ChunkRow>> = HashMap::new();
+    for r in recorded {
+        done.entry(r.task.as_str())
+            .or_default()
+            .entry(r.chunk)
+            .or_insert(r);
+    }
+    spec.tasks
+        .iter()
+        .enumerate()
+        .filter(|(i, _)| shard.is_none_or(|s| s.has(*i)))
+        .map(|(i, t)| {
+            let rows = done.get(t.key.as_str());
+            let (mut shots, mut failures, mut next) = (0, 0, 0);
+            while let Some(r) = rows.and_then(|m| m.get(&next)) {
+                if t.until_failures.is_some_and(|k| failures >= k) {
+                    break;
+                }
+                shots += r.shots;
+                failures += r.failures;
+                next += 1;
+            }
+            let stopped = t.until_failures.is_some_and(|k| failures >= k);
+            let state = if next >= t.chunks() || (stopped && next > 0) {
+                TaskState::Complete { shots, failures }
+            } else if next > 0 {
+                TaskState::Partial { next, shots }
+            } else {
+                TaskState::Fresh
+            };
+            (i, t, state)
+        })
+        .collect()
 }
 
 /// Runs the tasks of `spec` in `shard` (all when `None`), appending to `store`; `recorded` are
@@ -130,6 +193,7 @@ fn run_task(
             rounds: e.rounds,
             p: task.p,
             bias: task.bias.clone(),
+            vary: task.vary.iter().cloned().collect(),
             noise: task.noise.clone(),
             decoder: task.decoder.name().to_string(),
         };
@@ -138,7 +202,10 @@ fn run_task(
         shots += counts.shots;
         failures += counts.failures;
     }
-    on_event(Event::TaskDone(task, shots, failures));
+    // A task found complete in the store is not reported as done again.
+    if exp.is_some() {
+        on_event(Event::TaskDone(task, shots, failures));
+    }
     Ok(())
 }
 
@@ -154,7 +221,7 @@ fn build(task: &Task, on_event: &(dyn Fn(Event) + Sync)) -> Result<Experiment, D
             .unwrap_or_else(|| Diagnostic::bare("unknown error"))
     };
     let pipeline = Pipeline::load(&source, &[], &Limits::default())
-        .and_then(|p| p.noised(Some(&task.noise)))
+        .and_then(|p| p.noised(Some(&task.load_noise)))
         .map_err(first)?;
     if !pipeline.warnings().is_empty() {
         on_event(Event::Warnings(task, pipeline.warnings()));

@@ -32,7 +32,8 @@ struct GridToml {
     flip: Option<String>,
     label: Option<String>,
     until_failures: Option<u64>,
-    noise: String,
+    /// Spanned so that a bad noise text is pointed at.
+    noise: toml::Spanned<String>,
     order: Option<String>,
     p: Vec<f64>,
     #[serde(default)]
@@ -40,6 +41,9 @@ struct GridToml {
     rounds: Option<Rounds>,
     shots: Option<u64>,
     style: Option<String>,
+    /// Model keys to vary: `"idle.t2" = [50, 100]`; a key of several paths joined by `,` sets
+    /// them together.
+    vary: Option<toml::Spanned<toml::Table>>,
 }
 
 #[derive(Clone, Debug, serde::Deserialize)]
@@ -66,12 +70,18 @@ pub struct Task {
     pub gen: GenSpec,
     /// Distance (`dz` of the generator spec; the repetition code's length).
     pub distance: u32,
-    /// Physical error rate `p` of the noise preset.
+    /// Physical error rate `p` of the noise preset, or the physical error per operation of a
+    /// model (its scale from the model's top-level `p`).
     pub p: f64,
-    /// Bias, as written in the noise text (`None`: the preset's default).
+    /// Bias, as written in the noise text (`None`: the preset's or the model's own).
     pub bias: Option<String>,
-    /// Full `--noise` text.
+    /// Model keys varied by the grid, `(path, value)` in grid order.
+    pub vary: Vec<(String, String)>,
+    /// Full noise text as the spec writes it (a model path relative to the spec), shown and
+    /// stored.
     pub noise: String,
+    /// The noise text to load: `noise` with a model path resolved against the spec's directory.
+    pub load_noise: String,
     /// Decoder.
     pub decoder: DecoderKind,
     /// Shots to run at most.
@@ -124,9 +134,41 @@ fn fmt_f64(x: f64) -> String {
     }
 }
 
+/// FNV-1a of a model file's text, so a task key changes when the model does.
+fn content_hash(text: &str) -> String {
+    let mut h: u64 = 0xcbf2_9ce4_8422_2325;
+    for b in text.bytes() {
+        h ^= b as u64;
+        h = h.wrapping_mul(0x0100_0000_01b3);
+    }
+    format!("{h:016x}")
+}
+
+/// A grid value as a setting: numbers as TOML writes them, `inf`, or a bare string.
+fn value_text(v: &toml::Value) -> Option<String> {
+    match v {
+        toml::Value::Integer(i) => Some(i.to_string()),
+        toml::Value::Float(f) => Some(fmt_f64(*f)),
+        toml::Value::String(s) if !s.contains(char::is_whitespace) && !s.is_empty() => {
+            Some(s.clone())
+        }
+        _ => None,
+    }
+}
+
 impl SweepSpec {
-    /// Parses and expands a spec. Errors point into the TOML text.
+    /// Parses and expands a spec whose model paths are relative to the current directory.
+    /// Errors point into the TOML text.
     pub fn parse(source: &Arc<Source>) -> Result<SweepSpec, Diagnostic> {
+        SweepSpec::parse_in(source, None)
+    }
+
+    /// Parses and expands a spec; a model file named by a grid's `noise` is read from `dir`
+    /// (the spec's directory) when its path is relative.
+    pub fn parse_in(
+        source: &Arc<Source>,
+        dir: Option<&std::path::Path>,
+    ) -> Result<SweepSpec, Diagnostic> {
         let whole = Span::new(0, source.text.as_str().len().min(1));
         let raw: SpecToml = toml::from_str(source.text.as_str()).map_err(|e| {
             let span = e
@@ -200,61 +242,175 @@ impl SweepSpec {
             if g.distances.is_empty() || g.p.is_empty() {
                 return Err(at("`distances` and `p` must not be empty".into()));
             }
+            let noise_text = g.noise.get_ref().trim().to_string();
+            let noise_span = Span::new(g.noise.span().start, g.noise.span().end);
+            let noise_err =
+                |m: String| Diagnostic::error(source, noise_span, format!("grid {}: {m}", gi + 1));
+            let first = noise_text.split_whitespace().next().unwrap_or("");
+            let is_model = crate::noise::is_model_text(&noise_text);
+            // A model: the path as written (for keys and rows) and as loaded (against `dir`).
+            let (load_prefix, model_hash) = if is_model {
+                let path = std::path::Path::new(first);
+                let resolved = match dir {
+                    Some(d) if path.is_relative() => d.join(path),
+                    _ => path.to_path_buf(),
+                };
+                let body = std::fs::read_to_string(&resolved).map_err(|e| {
+                    noise_err(format!(
+                        "cannot read the noise model `{}`: {e}",
+                        resolved.display()
+                    ))
+                    .with_hint("a model path in a sweep spec is relative to the spec's directory")
+                })?;
+                (resolved.display().to_string(), Some(content_hash(&body)))
+            } else {
+                (first.to_string(), None)
+            };
+            let load_text = |shown: &str| -> String {
+                match shown.split_once(char::is_whitespace) {
+                    Some((_, rest)) => format!("{load_prefix} {rest}"),
+                    None => load_prefix.clone(),
+                }
+            };
             let label = g.label.clone().unwrap_or_else(|| {
-                let preset = g.noise.split_whitespace().next().unwrap_or("");
-                format!("{} {preset}", family.name())
+                let name = if is_model {
+                    std::path::Path::new(first)
+                        .file_stem()
+                        .map_or(first.to_string(), |s| s.to_string_lossy().into_owned())
+                } else {
+                    first.to_string()
+                };
+                format!("{} {name}", family.name())
             });
+            // The varied keys: each entry a list of paths set together and its values.
+            let mut varied: Vec<(Vec<String>, Vec<String>)> = Vec::new();
+            if let Some(v) = &g.vary {
+                let vary_span = Span::new(v.span().start, v.span().end);
+                let vary_err = |m: String| {
+                    Diagnostic::error(source, vary_span, format!("grid {}: {m}", gi + 1))
+                };
+                if !is_model {
+                    return Err(vary_err(
+                        "`vary` sets keys of a model file, and this grid's noise is a preset"
+                            .into(),
+                    )
+                    .with_hint(
+                        "vary `p` and `bias` of a preset with the grid's `p` and `bias` lists",
+                    ));
+                }
+                for (key, values) in v.get_ref() {
+                    let paths: Vec<String> = key.split(',').map(|k| k.trim().to_string()).collect();
+                    for path in &paths {
+                        if path.is_empty() || path == "p" {
+                            return Err(vary_err(format!(
+                                "`vary` key `{key}`: vary `p` with the grid's own `p` list"
+                            )));
+                        }
+                    }
+                    let Some(list) = values.as_array() else {
+                        return Err(vary_err(format!(
+                            "`vary.\"{key}\"` must be a list of values"
+                        )));
+                    };
+                    let list: Vec<String> = list
+                        .iter()
+                        .map(|x| {
+                            value_text(x).ok_or_else(|| {
+                                vary_err(format!(
+                                    "`vary.\"{key}\"`: `{x}` is not a number or a word"
+                                ))
+                            })
+                        })
+                        .collect::<Result<_, _>>()?;
+                    if list.is_empty() {
+                        return Err(vary_err(format!("`vary.\"{key}\"` is empty")));
+                    }
+                    varied.push((paths, list));
+                }
+            }
+            // Every combination of the varied values, in key order.
+            let mut combos: Vec<Vec<(String, String)>> = vec![Vec::new()];
+            for (paths, values) in &varied {
+                let mut next = Vec::new();
+                for c in &combos {
+                    for v in values {
+                        let mut c = c.clone();
+                        c.push((paths.join(","), v.clone()));
+                        next.push(c);
+                    }
+                }
+                combos = next;
+            }
             for &decoder in &decoders {
                 for bias in &biases {
-                    for &d in &g.distances {
-                        let mut gen = GenSpec::new(family, d);
-                        if g.periodic {
-                            gen.dx = d + 1;
-                        }
-                        gen.rounds = match &g.rounds {
-                            None => d,
-                            Some(Rounds::Fixed(r)) => *r,
-                            Some(Rounds::Name(n)) if n == "d" => d,
-                            Some(Rounds::Name(n)) => {
-                                return Err(at(format!(
-                                    "`rounds` must be a number or \"d\", found `{n}`"
-                                )))
+                    for combo in &combos {
+                        for &d in &g.distances {
+                            let mut gen = GenSpec::new(family, d);
+                            if g.periodic {
+                                gen.dx = d + 1;
                             }
-                        };
-                        gen.style = style;
-                        gen.basis = basis;
-                        gen.entangler = entangler;
-                        gen.flip = flip;
-                        gen.order = order.clone();
-                        gen.periodic = g.periodic;
-                        let command = gen
-                            .command_line()
-                            .map_err(|e| at(format!("distance {d}: {e}")))?;
-                        for &p in &g.p {
-                            let mut noise = format!("{} p={}", g.noise.trim(), fmt_f64(p));
-                            if let Some(b) = bias {
-                                noise += &format!(" bias={}", fmt_f64(*b));
+                            gen.rounds = match &g.rounds {
+                                None => d,
+                                Some(Rounds::Fixed(r)) => *r,
+                                Some(Rounds::Name(n)) if n == "d" => d,
+                                Some(Rounds::Name(n)) => {
+                                    return Err(at(format!(
+                                        "`rounds` must be a number or \"d\", found `{n}`"
+                                    )))
+                                }
+                            };
+                            gen.style = style;
+                            gen.basis = basis;
+                            gen.entangler = entangler;
+                            gen.flip = flip;
+                            gen.order = order.clone();
+                            gen.periodic = g.periodic;
+                            let command = gen
+                                .command_line()
+                                .map_err(|e| at(format!("distance {d}: {e}")))?;
+                            for &p in &g.p {
+                                let mut noise = format!("{noise_text} p={}", fmt_f64(p));
+                                if let Some(b) = bias {
+                                    noise += &format!(" bias={}", fmt_f64(*b));
+                                }
+                                for (paths, value) in combo {
+                                    for path in paths.split(',') {
+                                        noise += &format!(" {path}={value}");
+                                    }
+                                }
+                                let load_noise = load_text(&noise);
+                                crate::noise::NoiseSpec::parse(&load_noise).map_err(|e| {
+                                    noise_err(format!("noise `{noise}`: {}", e.message)).with_hint(
+                                        e.hint.clone().unwrap_or_else(|| {
+                                            "see `slant sweep --help` for the noise of a grid"
+                                                .into()
+                                        }),
+                                    )
+                                })?;
+                                let mut key = format!(
+                                    "{label}|{command}|noise={noise}|decoder={}|chunk={chunk}|seed={seed}",
+                                    decoder.name()
+                                );
+                                if let Some(h) = &model_hash {
+                                    key += &format!("|model={h}");
+                                }
+                                tasks.push(Task {
+                                    key,
+                                    label: label.clone(),
+                                    gen: gen.clone(),
+                                    distance: d,
+                                    p,
+                                    bias: bias.map(fmt_f64),
+                                    vary: combo.clone(),
+                                    noise,
+                                    load_noise,
+                                    decoder,
+                                    shots,
+                                    until_failures,
+                                    chunk,
+                                    seed,
+                                });
                             }
-                            crate::noise::NoiseSpec::parse(&noise)
-                                .map_err(|e| at(format!("noise `{noise}`: {}", e.message)))?;
-                            let key = format!(
-                                "{label}|{command}|noise={noise}|decoder={}|chunk={chunk}|seed={seed}",
-                                decoder.name()
-                            );
-                            tasks.push(Task {
-                                key,
-                                label: label.clone(),
-                                gen: gen.clone(),
-                                distance: d,
-                                p,
-                                bias: bias.map(fmt_f64),
-                                noise,
-                                decoder,
-                                shots,
-                                until_failures,
-                                chunk,
-                                seed,
-                            });
                         }
                     }
                 }

@@ -9,9 +9,10 @@ use std::sync::{Arc, Mutex};
 
 use crate::base::{Diagnostic, Source, Span};
 
-/// Version of the store format written in every row. Version 1 rows (no `version` key, the
-/// failure count named differently) are still read: see `legacy.rs`.
-pub const STORE_VERSION: u32 = 2;
+/// Version of the store format written in every row. Version 3 added `vary` (model keys a grid
+/// varies); version 2 rows are version 3 rows without it, and version 1 rows (no `version` key,
+/// the failure count named differently) are upgraded as they are read: see `legacy.rs`.
+pub const STORE_VERSION: u32 = 3;
 
 /// One finished chunk of a task: a line of the store.
 #[derive(Clone, Debug, PartialEq, serde::Serialize, serde::Deserialize)]
@@ -41,6 +42,9 @@ pub struct ChunkRow {
     /// Bias as written (`"inf"`, `"100"`), absent for the preset default.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub bias: Option<String>,
+    /// Model keys the grid varies, path → value as written (absent when none).
+    #[serde(default, skip_serializing_if = "BTreeMap::is_empty")]
+    pub vary: BTreeMap<String, String>,
     /// Full noise text.
     pub noise: String,
     /// Decoder name.
@@ -182,6 +186,12 @@ pub struct Point {
     pub decoder: String,
     /// Bias as written, if any.
     pub bias: Option<String>,
+    /// Model keys varied by the grid, path → value.
+    pub vary: BTreeMap<String, String>,
+    /// The noise text of the task.
+    pub noise: String,
+    /// Code family.
+    pub family: String,
     /// Distance.
     pub distance: u32,
     /// Rounds.
@@ -195,13 +205,25 @@ pub struct Point {
 }
 
 impl Point {
-    /// The curve family this point belongs to: label, decoder and bias.
+    /// The curve family this point belongs to: label, decoder, bias and varied keys.
     pub fn group(&self) -> String {
-        let mut g = format!("{} ({})", self.label, self.decoder);
+        let mut parts = vec![self.decoder.clone()];
         if let Some(b) = &self.bias {
-            g = format!("{} ({}, bias {b})", self.label, self.decoder);
+            parts.push(format!("bias {b}"));
         }
-        g
+        parts.extend(self.vary.iter().map(|(k, v)| format!("{k} {v}")));
+        format!("{} ({})", self.label, parts.join(", "))
+    }
+
+    /// The parameters that tell this point's group from others of its label: `bias` and the
+    /// varied keys, as `(name, value)`.
+    pub fn parameters(&self) -> Vec<(String, String)> {
+        let mut out = Vec::new();
+        if let Some(b) = &self.bias {
+            out.push(("bias".to_string(), b.clone()));
+        }
+        out.extend(self.vary.iter().map(|(k, v)| (k.clone(), v.clone())));
+        out
     }
 }
 
@@ -215,6 +237,9 @@ pub fn aggregate(rows: &[ChunkRow]) -> Vec<Point> {
             label: r.label.clone(),
             decoder: r.decoder.clone(),
             bias: r.bias.clone(),
+            vary: r.vary.clone(),
+            noise: r.noise.clone(),
+            family: r.family.clone(),
             distance: r.distance,
             rounds: r.rounds,
             p: r.p,
@@ -252,6 +277,7 @@ mod tests {
             rounds: 3,
             p: 0.1,
             bias: None,
+            vary: BTreeMap::new(),
             noise: "capacity p=0.1".into(),
             decoder: "mwpm".into(),
         };
