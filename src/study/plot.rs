@@ -172,7 +172,7 @@ fn colour(i: Option<usize>) -> RGBColor {
 
 /// Registers the bundled DejaVu Sans as plotters' `sans-serif`, once. Text is measured (legends)
 /// and, in PNG output, drawn with it, so plots never depend on the fonts of the machine.
-fn ensure_font() {
+pub(crate) fn ensure_font() {
     static ONCE: std::sync::Once = std::sync::Once::new();
     ONCE.call_once(|| {
         let _ = plotters::style::register_font(
