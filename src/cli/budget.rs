@@ -100,7 +100,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
         ))
         .into());
     }
-    if !(args.min_effective >= 0.0) {
+    if args.min_effective.is_nan() || args.min_effective < 0.0 {
         return Err(Diagnostic::bare("`--min-effective` must be a non-negative number").into());
     }
     let sample = DirectSampling {

@@ -436,3 +436,6 @@ pub fn direct_scaled(
     let dec = decoder.build(&g.matching_graph().0)?;
     Ok(run.failures(&scaled, &symptoms_of(&graph), dec.as_ref(), &mut |_, _| {}))
 }
+
+#[cfg(test)]
+mod tests;

@@ -154,7 +154,7 @@ impl EdgeSampler {
                 }
                 at += g as u64;
                 let i = at as usize;
-                if b.p_max >= 1.0 || rng.gen::<f64>() * b.p_max < b.priors[i] {
+                if rng.gen::<f64>() * b.p_max < b.priors[i] {
                     out.push(b.edges[i]);
                 }
                 at += 1;
