@@ -154,6 +154,8 @@ fn budget_keys_are_the_documented_ones() {
         "circuit p=0.02",
         "--shots",
         "4096",
+        "--min-effective",
+        "100",
         "--json",
     ]);
     let methods: BTreeSet<&str> = v["sources"]
