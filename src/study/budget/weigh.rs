@@ -13,8 +13,8 @@
 //!
 //! Both are means over the failing configurations; the intervals are the normal 95% intervals of
 //! those means (for direct sampling this is the delta method for the ratio `E[fail·score]/E[fail]`,
-//! whose variance is `E[(score − mean)² | F]/failures`). Configurations from a correlated sampler
-//! (a Markov chain) would need their effective number instead. The likelihood ratio of a large
+//! whose variance is `E[(score − mean)² | F]/failures`). Configurations from a Markov chain
+//! would need their effective number instead. The likelihood ratio of a large
 //! change (`s = 0`, removing a source) can have a huge variance: the effective sample size
 //! `(Σ LR)²/Σ LR²` says how many configurations carry the estimate.
 
