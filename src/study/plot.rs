@@ -380,7 +380,7 @@ where
                 .iter()
                 .flat_map(|c| c.beyond.iter().map(|b| b.0)),
         )
-        .filter(|x| x.is_finite() && (!true || *x > 0.0))
+        .filter(|x| x.is_finite() && *x > 0.0)
         .collect();
     let (mut xmin, mut xmax) = (
         xs.iter().copied().fold(f64::INFINITY, f64::min),
@@ -611,7 +611,7 @@ mod tests {
         assert_eq!(t, vec![0.002, 0.004, 0.006]);
         let f = tick_format(&t);
         assert_eq!(
-            t.iter().map(|v| f(v)).collect::<Vec<_>>(),
+            t.iter().map(&f).collect::<Vec<_>>(),
             ["0.002", "0.004", "0.006"]
         );
         // Ticks needing different decimals share the finest.

@@ -156,6 +156,14 @@ pub struct Sources {
     pub overlapping: bool,
 }
 
+/// What identifies a source: section, class, qubit, role (each present when grouped by).
+type SourceKey = (
+    Option<String>,
+    Option<FaultClass>,
+    Option<String>,
+    Option<String>,
+);
+
 /// The section of noise the circuit file writes itself.
 pub const CIRCUIT_SECTION: &str = "circuit";
 
@@ -167,15 +175,7 @@ impl Sources {
             .iter()
             .map(|n| ((n.layer as u32, n.op as u32), n))
             .collect();
-        let mut index: HashMap<
-            (
-                Option<String>,
-                Option<FaultClass>,
-                Option<String>,
-                Option<String>,
-            ),
-            u32,
-        > = HashMap::new();
+        let mut index: HashMap<SourceKey, u32> = HashMap::new();
         let mut list: Vec<Source> = Vec::new();
         let mut parts = Vec::with_capacity(graph.provenance.len());
         let mut edge_parts = Vec::with_capacity(graph.edges.len());
