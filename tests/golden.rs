@@ -57,6 +57,23 @@ fn golden_bias() {
 }
 
 #[test]
+fn golden_budget() {
+    check(
+        "budget.txt",
+        &stdout(&[
+            "budget",
+            REPETITION,
+            "--noise",
+            "circuit p=0.01",
+            "--shots",
+            "8192",
+            "--seed",
+            "5",
+        ]),
+    );
+}
+
+#[test]
 fn golden_check() {
     check(
         "check.txt",

@@ -168,6 +168,30 @@ fn decode_keys_are_the_documented_ones() {
 }
 
 #[test]
+fn budget_keys_are_the_documented_ones() {
+    // Both ways of estimating a removal, so every key of `removed` is written.
+    let v = json_of(&[
+        "budget",
+        "circuits/repetition_d3.slant",
+        "--noise",
+        "circuit p=0.02",
+        "--shots",
+        "4096",
+        "--min-effective",
+        "100",
+        "--json",
+    ]);
+    let methods: BTreeSet<&str> = v["sources"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|s| s["removed"]["method"].as_str().unwrap())
+        .collect();
+    assert_eq!(methods.len(), 2, "{methods:?}");
+    assert_same("budget", &documented("budget"), &written(&[v]));
+}
+
+#[test]
 fn compare_keys_are_the_documented_ones() {
     // Rates at one p; a hyperedge-heavy product circuit (whose searches stop unproven) adds the
     // `unproven` form of the distances.

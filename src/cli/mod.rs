@@ -14,6 +14,7 @@
 //! | 4 | internal error: a bug, please report it |
 
 mod bias;
+mod budget;
 mod check;
 mod common;
 mod compare;
@@ -67,6 +68,8 @@ struct Cli {
 enum Command {
     /// Report where the high-rate (Z-type) faults end up: kept Z, or converted to X/Y.
     Bias(bias::Args),
+    /// Error budget: which noise sources the logical error rate comes from.
+    Budget(budget::Args),
     /// Parse, expand and verify a circuit; print a summary.
     Check(check::Args),
     /// Compare circuits or generated variants side by side.
@@ -144,6 +147,7 @@ pub fn main() -> i32 {
     };
     let result = match cli.command {
         Command::Bias(a) => bias::run(a),
+        Command::Budget(a) => budget::run(a),
         Command::Check(a) => check::run(a),
         Command::Compare(a) => compare::run(a),
         Command::Compile(a) => compile::run(a),

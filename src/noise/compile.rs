@@ -73,13 +73,14 @@ pub fn compile(circuit: &Circuit, model: &NoiseModel) -> Result<Compiled, Vec<Di
         let mut ops = Vec::with_capacity(2 * layer.ops.len() + 1);
         for mut op in std::mem::take(&mut layer.ops) {
             let mut extra: Vec<(Vec<u32>, Channel, Note)> = Vec::new();
+            let mut measured: Option<(f64, String)> = None;
             match &mut op.kind {
                 OpKind::Noise(_) => {}
                 OpKind::Gate(g) => {
                     let g = *g;
                     for app in op.targets.chunks(g.arity()) {
                         let qs: Vec<_> = app.iter().map(|&q| &circuit.qubits[q as usize]).collect();
-                        let Some(sec) = model.gate(g, &qs) else {
+                        let Some((over, sec)) = model.gate_from(g, &qs) else {
                             if !missing.contains(&g) {
                                 missing.push(g);
                                 errors.push(
@@ -145,6 +146,10 @@ pub fn compile(circuit: &Circuit, model: &NoiseModel) -> Result<Compiled, Vec<Di
                                 implementation: sec.implementation,
                                 generator: sec.generator.clone(),
                                 input,
+                                section: NoiseModel::section_path(
+                                    over,
+                                    &format!("gates.{}", g.name()),
+                                ),
                                 text,
                             },
                         ));
@@ -153,7 +158,7 @@ pub fn compile(circuit: &Circuit, model: &NoiseModel) -> Result<Compiled, Vec<Di
                 OpKind::Reset(basis) => {
                     let basis = *basis;
                     for &q in &op.targets {
-                        let r = model.reset_for(&circuit.qubits[q as usize]);
+                        let (over, r) = model.reset_from(&circuit.qubits[q as usize]);
                         let d = r.duration_in(basis);
                         if timed && d.is_none() {
                             missing_duration(
@@ -185,6 +190,7 @@ pub fn compile(circuit: &Circuit, model: &NoiseModel) -> Result<Compiled, Vec<Di
                                 implementation: Implementation::Ideal,
                                 generator: None,
                                 input: ch,
+                                section: NoiseModel::section_path(over, "reset"),
                                 text,
                             },
                         ));
@@ -196,7 +202,7 @@ pub fn compile(circuit: &Circuit, model: &NoiseModel) -> Result<Compiled, Vec<Di
                         .iter()
                         .map(|&q| &circuit.qubits[q as usize])
                         .collect();
-                    let m = model.measure_for(&qs);
+                    let (over, m) = model.measure_from(&qs);
                     let d = m.product_duration(&op.paulis);
                     if timed && d.is_none() {
                         let basis = match op.paulis.as_slice() {
@@ -211,7 +217,11 @@ pub fn compile(circuit: &Circuit, model: &NoiseModel) -> Result<Compiled, Vec<Di
                         missing_duration(&mut errors, &section, "measure", op.span);
                     }
                     duration = duration.max(d.unwrap_or(0.0));
-                    *flip = xor_prob(*flip, m.product_flip(&op.paulis));
+                    let q = m.product_flip(&op.paulis);
+                    *flip = xor_prob(*flip, q);
+                    if q > 0.0 {
+                        measured = Some((q, NoiseModel::section_path(over, "measure")));
+                    }
                 }
             }
             if !matches!(op.kind, OpKind::Noise(_)) {
@@ -220,6 +230,19 @@ pub fn compile(circuit: &Circuit, model: &NoiseModel) -> Result<Compiled, Vec<Di
                 }
             }
             let span = op.span;
+            if let Some((q, section)) = measured {
+                notes.push(Note {
+                    layer: li,
+                    op: ops.len(),
+                    class: "measure".into(),
+                    gate: None,
+                    implementation: Implementation::Ideal,
+                    generator: None,
+                    input: Channel::BitFlip(q),
+                    section,
+                    text: format!("{model_name} measurement flip"),
+                });
+            }
             ops.push(op);
             // Merge applications with equal channels into one operation, as the preset does.
             let mut merged: Vec<(Vec<u32>, Channel, Note)> = Vec::new();
@@ -229,7 +252,7 @@ pub fn compile(circuit: &Circuit, model: &NoiseModel) -> Result<Compiled, Vec<Di
                 }
                 match merged
                     .iter_mut()
-                    .find(|m| m.1 == ch && m.2.text == note.text)
+                    .find(|m| m.1 == ch && m.2.text == note.text && m.2.section == note.section)
                 {
                     Some(m) => m.0.extend(t),
                     None => merged.push((t, ch, note)),
@@ -246,23 +269,24 @@ pub fn compile(circuit: &Circuit, model: &NoiseModel) -> Result<Compiled, Vec<Di
                 });
             }
         }
-        let mut idle: Vec<(Vec<u32>, Channel)> = Vec::new();
+        let mut idle: Vec<(Vec<u32>, Channel, Option<usize>)> = Vec::new();
         for (q, qubit) in circuit.qubits.iter().enumerate() {
             if touched[q] {
                 continue;
             }
-            let Some(ch) = model.idle_for(qubit).channel(duration) else {
+            let (over, noise) = model.idle_from(qubit);
+            let Some(ch) = noise.channel(duration) else {
                 continue;
             };
             if ch.total() <= 0.0 {
                 continue;
             }
-            match idle.iter_mut().find(|i| i.1 == ch) {
+            match idle.iter_mut().find(|i| i.1 == ch && i.2 == over) {
                 Some(i) => i.0.push(q as u32),
-                None => idle.push((vec![q as u32], ch)),
+                None => idle.push((vec![q as u32], ch, over)),
             }
         }
-        for (targets, ch) in idle {
+        for (targets, ch, over) in idle {
             notes.push(Note {
                 layer: li,
                 op: ops.len(),
@@ -271,6 +295,7 @@ pub fn compile(circuit: &Circuit, model: &NoiseModel) -> Result<Compiled, Vec<Di
                 implementation: Implementation::Ideal,
                 generator: None,
                 input: ch.clone(),
+                section: NoiseModel::section_path(over, "idle"),
                 text: match model.time_unit {
                     Some(unit) => format!("{model_name} idle for {duration} {unit}"),
                     None => format!("{model_name} idle for {duration}"),

@@ -439,40 +439,62 @@ impl NoiseModel {
 
     /// The gate section for `gate` (the override for `qubits` if one matches), if any.
     pub fn gate<'a>(&'a self, gate: Gate, qubits: &[&Qubit]) -> Option<&'a GateNoise> {
+        self.gate_from(gate, qubits).map(|(_, n)| n)
+    }
+
+    /// [`NoiseModel::gate`] with the index of the override it comes from (`None`: the top
+    /// level), so the compiler can say which section of the file wrote a channel.
+    pub fn gate_from<'a>(
+        &'a self,
+        gate: Gate,
+        qubits: &[&Qubit],
+    ) -> Option<(Option<usize>, &'a GateNoise)> {
         let find = |list: &'a [(Option<Gate>, GateNoise)]| {
             list.iter()
                 .find(|(g, _)| *g == Some(gate))
                 .or_else(|| list.iter().find(|(g, _)| g.is_none()))
                 .map(|(_, n)| n)
         };
-        for o in self.overrides.iter().rev() {
+        for (k, o) in self.overrides.iter().enumerate().rev() {
             if qubits.iter().any(|q| o.selector.matches(q)) {
                 if let Some(n) = find(&o.gates) {
-                    return Some(n);
+                    return Some((Some(k), n));
                 }
             }
         }
-        find(&self.gates)
+        find(&self.gates).map(|n| (None, n))
     }
 
     /// Measurement noise for a product on `qubits`.
     pub fn measure_for(&self, qubits: &[&Qubit]) -> &MeasureNoise {
+        self.measure_from(qubits).1
+    }
+
+    /// [`NoiseModel::measure_for`] with the index of the override it comes from.
+    pub fn measure_from(&self, qubits: &[&Qubit]) -> (Option<usize>, &MeasureNoise) {
         self.overrides
             .iter()
+            .enumerate()
             .rev()
-            .filter(|o| qubits.iter().any(|q| o.selector.matches(q)))
-            .find_map(|o| o.measure.as_ref())
-            .unwrap_or(&self.measure)
+            .filter(|(_, o)| qubits.iter().any(|q| o.selector.matches(q)))
+            .find_map(|(k, o)| o.measure.as_ref().map(|m| (Some(k), m)))
+            .unwrap_or((None, &self.measure))
     }
 
     /// Reset noise for `qubit`.
     pub fn reset_for(&self, qubit: &Qubit) -> &ResetNoise {
+        self.reset_from(qubit).1
+    }
+
+    /// [`NoiseModel::reset_for`] with the index of the override it comes from.
+    pub fn reset_from(&self, qubit: &Qubit) -> (Option<usize>, &ResetNoise) {
         self.overrides
             .iter()
+            .enumerate()
             .rev()
-            .filter(|o| o.selector.matches(qubit))
-            .find_map(|o| o.reset.as_ref())
-            .unwrap_or(&self.reset)
+            .filter(|(_, o)| o.selector.matches(qubit))
+            .find_map(|(k, o)| o.reset.as_ref().map(|r| (Some(k), r)))
+            .unwrap_or((None, &self.reset))
     }
 
     /// One diagnostic per override that selects no qubit of `circuit`, at the override's
@@ -542,12 +564,27 @@ impl NoiseModel {
 
     /// Idle noise for `qubit`.
     pub fn idle_for(&self, qubit: &Qubit) -> &IdleNoise {
+        self.idle_from(qubit).1
+    }
+
+    /// [`NoiseModel::idle_for`] with the index of the override it comes from.
+    pub fn idle_from(&self, qubit: &Qubit) -> (Option<usize>, &IdleNoise) {
         self.overrides
             .iter()
+            .enumerate()
             .rev()
-            .filter(|o| o.selector.matches(qubit))
-            .find_map(|o| o.idle.as_ref())
-            .unwrap_or(&self.idle)
+            .filter(|(_, o)| o.selector.matches(qubit))
+            .find_map(|(k, o)| o.idle.as_ref().map(|i| (Some(k), i)))
+            .unwrap_or((None, &self.idle))
+    }
+
+    /// The model key path of a section, as settings name it (`gates.cx`, `idle`,
+    /// `override.0.measure`): `kind` is the section under the top level or under override `k`.
+    pub fn section_path(over: Option<usize>, kind: &str) -> String {
+        match over {
+            Some(k) => format!("override.{k}.{kind}"),
+            None => kind.to_string(),
+        }
     }
 }
 

@@ -288,6 +288,10 @@ impl Preset {
             implementation: Implementation::Ideal,
             generator: None,
             input: input.clone(),
+            section: match Gate::from_name(class) {
+                Some(g) => format!("gates.{}", g.name()),
+                None => class.to_string(),
+            },
             text: format!("preset `{}` {what}", self.text()),
         }
     }
@@ -351,9 +355,16 @@ impl Preset {
             previous = layer.round;
             let mut layer = layer.clone();
             if layer.round.is_some() && flip > 0.0 {
-                for op in &mut layer.ops {
+                for (oi, op) in layer.ops.iter_mut().enumerate() {
                     if let OpKind::Measure { flip: f, .. } = &mut op.kind {
                         *f = xor_prob(*f, flip);
+                        notes.push(self.note(
+                            out.layers.len(),
+                            oi,
+                            "measure",
+                            &Channel::BitFlip(flip),
+                            "measurement flip",
+                        ));
                     }
                 }
             }
@@ -390,6 +401,13 @@ impl Preset {
                     OpKind::Reset(_) => Some(Channel::BitFlip(p)),
                     OpKind::Measure { flip, .. } => {
                         *flip = xor_prob(*flip, p);
+                        notes.push(self.note(
+                            li,
+                            ops.len(),
+                            "measure",
+                            &Channel::BitFlip(p),
+                            "measurement flip",
+                        ));
                         None
                     }
                 };

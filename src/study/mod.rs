@@ -1,7 +1,7 @@
 //! Studies: the one pipeline "circuit + noise → fault graph / samples → decoder → estimates",
 //! and what is built on it — Monte Carlo runs with Wilson intervals, comparisons of circuits,
-//! threshold sweeps with their resumable store, threshold fits and plots, and pictures of the
-//! patch ([`draw`]).
+//! threshold sweeps with their resumable store, threshold fits, error budgets and plots, and
+//! pictures of the patch ([`draw`]).
 //!
 //! In: circuit sources, noise texts (presets or model files), sweep specs, results stores. Out:
 //! report values, rows, points, fits and plot bytes; rendering text and writing files belongs to
@@ -13,6 +13,7 @@
 //! sampler paired with a decoder ([`Experiment`]). `decode` below knows only graphs and detection
 //! events.
 
+mod budget;
 mod compare;
 pub mod draw;
 mod measured;
@@ -23,6 +24,12 @@ mod stats;
 mod sweep;
 mod threshold;
 
+pub use budget::{
+    batch_rng, budget, direct_scaled, fails, render_budget, section_label, symptoms_of, weigh,
+    Budget, BudgetOptions, BudgetStage, DirectSampling, EdgeSampler, FailureEstimator, Failures,
+    Grouping, Interval, Part, Ratio, Removal, RemovalMethod, Removed, Source, SourceBudget,
+    Sources, Symptoms, Weighed, CHART_SIZE, CIRCUIT_SECTION, MAX_BARS, SHOTS_PER_BATCH,
+};
 pub use compare::{
     at_p, best, evaluate, rates, significant, without_p, BiasSummary, Column, RatePoint, Row,
 };

@@ -172,7 +172,7 @@ fn colour(i: Option<usize>) -> RGBColor {
 
 /// The bundled font, so that plots never depend on the fonts of the machine (legends are
 /// measured and PNG text is drawn with it).
-fn ensure_font() {
+pub(crate) fn ensure_font() {
     crate::study::draw::ensure_fonts();
 }
 
