@@ -16,6 +16,7 @@ mod compare;
 mod montecarlo;
 mod pipeline;
 mod plot;
+mod rare;
 mod stats;
 mod sweep;
 mod threshold;
@@ -23,6 +24,10 @@ mod threshold;
 pub use compare::{at_p, best, evaluate, rates, significant, BiasSummary, Column, RatePoint, Row};
 pub use montecarlo::{decode_batch, run, Counts, Experiment, RunOptions};
 pub use pipeline::{Pipeline, StudyError};
+pub use rare::{
+    fit_exponent, splitting, ExponentFit, LadderPoint, Mixing, Splitting, SplittingEvent,
+    SplittingOptions, TopSampling,
+};
 pub use plot::{render_for, Curve, Marker, Panel};
 pub use stats::{per_round, wilson, Estimate, Z95};
 pub use sweep::{
