@@ -24,11 +24,11 @@ mod threshold;
 pub use compare::{at_p, best, evaluate, rates, significant, BiasSummary, Column, RatePoint, Row};
 pub use montecarlo::{decode_batch, run, Counts, Experiment, RunOptions};
 pub use pipeline::{Pipeline, StudyError};
+pub use plot::{render_for, Curve, Marker, Panel};
 pub use rare::{
     fit_exponent, splitting, ExponentFit, LadderPoint, Mixing, Splitting, SplittingEvent,
     SplittingOptions, TopSampling,
 };
-pub use plot::{render_for, Curve, Marker, Panel};
 pub use stats::{per_round, wilson, Estimate, Z95};
 pub use sweep::{
     aggregate, chunk_seed, merge_rows, parse_rows, read_store, run_sweep, ChunkRow, Event, Point,

@@ -8,8 +8,8 @@ use crate::cli::progress::Progress;
 use crate::cli::CliError;
 use crate::faults::ExtractOptions;
 use crate::study::{
-    fit_exponent, splitting, Estimate, ExponentFit, LadderPoint, Pipeline,
-    SplittingEvent, SplittingOptions, TopSampling,
+    fit_exponent, splitting, Estimate, ExponentFit, LadderPoint, Pipeline, SplittingEvent,
+    SplittingOptions, TopSampling,
 };
 
 /// The exponent is fitted over the rungs within this factor of the target noise.

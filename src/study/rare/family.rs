@@ -7,6 +7,9 @@
 //!   whenever no term's probability is zero at one scale and not at another; it is checked.
 //! - A model file (or a preset with a non-ideal `cx=`) is scaled edge by edge: `p_m(s) = s·p_m`.
 //!   Every rate of the model multiplied by `s` gives this to first order in the rates.
+//!
+//! Noise the circuit file writes itself is scaled with the rest only when there is no
+//! `--noise` (edge by edge); with a preset it stays as written at every scale.
 
 use crate::faults::{ExtractOptions, FaultGraph};
 use crate::noise::{NoiseSpec, Preset};
@@ -87,10 +90,11 @@ impl Family {
                     .base
                     .noised_spec(&spec)?
                     .graph(&ExtractOptions::default());
-                let same = graph.edges.len() == self.graph.edges.len()
-                    && graph.edges.iter().zip(&self.graph.edges).all(|(a, b)| {
-                        a.detectors == b.detectors && a.observables == b.observables
-                    });
+                let same =
+                    graph.edges.len() == self.graph.edges.len()
+                        && graph.edges.iter().zip(&self.graph.edges).all(|(a, b)| {
+                            a.detectors == b.detectors && a.observables == b.observables
+                        });
                 if !same {
                     return Err(crate::base::Diagnostic::bare(format!(
                         "the fault graph under `{text}` has other edges than at the target \

@@ -57,19 +57,36 @@ struct Direct {
     seeds: Vec<Vec<u32>>,
 }
 
-/// Samples configurations from `p` in blocks until `until` failures or `max_shots` shots,
-/// keeping the first `keep` failing configurations. Blocks run in parallel and are counted in
-/// order, so the result depends on the seed only.
+/// What one direct-sampling run draws.
+struct DirectRun {
+    /// Its scale (reported, and part of the generators' seeds).
+    scale: f64,
+    /// Most shots.
+    max_shots: u64,
+    /// Stop after the block at which this many failures are seen.
+    until: u64,
+    /// Failing configurations to keep.
+    keep: usize,
+    /// Seed.
+    seed: u64,
+}
+
+/// Samples configurations from `p` in blocks until `run.until` failures or `run.max_shots`
+/// shots, keeping the first `run.keep` failing configurations. Blocks run in parallel and are
+/// counted in order, so the result depends on the seed only.
 fn direct(
     pr: &Problem,
     p: &[f64],
-    scale: f64,
-    max_shots: u64,
-    until: u64,
-    keep: usize,
-    seed: u64,
+    run: &DirectRun,
     progress: &mut dyn FnMut(SplittingEvent),
 ) -> Direct {
+    let DirectRun {
+        scale,
+        max_shots,
+        until,
+        keep,
+        seed,
+    } = *run;
     let p_max = p.iter().copied().fold(0.0, f64::max);
     let mut out = Direct {
         shots: 0,
@@ -232,7 +249,9 @@ fn rungs_below(s: f64, w: f64) -> usize {
     if s <= 1.0 {
         0
     } else {
-        (s.ln() / (2f64.ln() / w.max(1.0).sqrt()) - 1e-9).ceil().max(1.0) as usize
+        (s.ln() / (2f64.ln() / w.max(1.0).sqrt()) - 1e-9)
+            .ceil()
+            .max(1.0) as usize
     }
 }
 
@@ -273,7 +292,9 @@ pub(super) fn run(
     let chains = opts.chains.max(2);
     let m = pr.sym.len();
     if m == 0 {
-        return Err(bare("the fault graph has no edges, so nothing can fail".into()));
+        return Err(bare(
+            "the fault graph has no edges, so nothing can fail".into(),
+        ));
     }
     // 1. The top.
     let top = match opts.top {
@@ -291,7 +312,14 @@ pub(super) fn run(
             loop {
                 let p = (pr.priors)(s)?;
                 let shots = (PILOT_FAILURES as f64 / TOP_RATE * 4.0) as u64;
-                let pilot = direct(pr, &p, s, shots, PILOT_FAILURES, 0, opts.seed, &mut progress);
+                let run = DirectRun {
+                    scale: s,
+                    max_shots: shots,
+                    until: PILOT_FAILURES,
+                    keep: 0,
+                    seed: opts.seed,
+                };
+                let pilot = direct(pr, &p, &run, &mut progress);
                 if pilot.failures as f64 >= TOP_RATE * pilot.shots as f64 {
                     break s;
                 }
@@ -309,16 +337,14 @@ pub(super) fn run(
         }
     };
     let p_top = (pr.priors)(top)?;
-    let d = direct(
-        pr,
-        &p_top,
-        top,
-        opts.max_shots,
-        opts.top_failures.max(chains as u64),
-        chains,
-        opts.seed,
-        &mut progress,
-    );
+    let run = DirectRun {
+        scale: top,
+        max_shots: opts.max_shots,
+        until: opts.top_failures.max(chains as u64),
+        keep: chains,
+        seed: opts.seed,
+    };
+    let d = direct(pr, &p_top, &run, &mut progress);
     if d.failures == 0 {
         return Err(bare(format!(
             "direct sampling at {top} times the target noise found no failure in {} shots",
@@ -345,7 +371,8 @@ pub(super) fn run(
         proposals,
     };
     if top <= 1.0 {
-        out.points.push(point(pr, 1.0, rate0.ln(), var0, None, None, None, &[]));
+        out.points
+            .push(point(pr, 1.0, rate0.ln(), var0, None, None, None, &[]));
         progress(SplittingEvent::Rung {
             done: 1,
             expected: 1,

@@ -53,6 +53,9 @@ mod ladder;
 mod ratio;
 mod walk;
 
+#[cfg(test)]
+mod tests;
+
 use crate::decode::DecoderKind;
 use crate::study::pipeline::{Pipeline, StudyError};
 

@@ -55,6 +55,30 @@ impl Symptoms {
         s
     }
 
+    /// Symptoms given as `(detectors, observables)` per edge, for tests on hand-made graphs.
+    #[cfg(test)]
+    pub fn from_lists(
+        num_detectors: usize,
+        num_observables: usize,
+        edges: &[(Vec<u32>, Vec<u32>)],
+    ) -> Symptoms {
+        let mut s = Symptoms {
+            det_start: vec![0],
+            det: Vec::new(),
+            obs_start: vec![0],
+            obs: Vec::new(),
+            num_detectors,
+            num_observables,
+        };
+        for (d, o) in edges {
+            s.det.extend_from_slice(d);
+            s.det_start.push(s.det.len() as u32);
+            s.obs.extend_from_slice(o);
+            s.obs_start.push(s.obs.len() as u32);
+        }
+        s
+    }
+
     /// Number of edges.
     pub fn len(&self) -> usize {
         self.det_start.len() - 1
@@ -80,12 +104,24 @@ pub(super) struct Odds {
 impl Odds {
     /// The factors of the priors `p`.
     pub fn new(p: &[f64]) -> Odds {
-        let ratio = |p: f64| if p >= 1.0 { f64::INFINITY } else { p / (1.0 - p) };
+        let ratio = |p: f64| {
+            if p >= 1.0 {
+                f64::INFINITY
+            } else {
+                p / (1.0 - p)
+            }
+        };
         Odds {
             add: p.iter().map(|&p| ratio(p).min(1.0)).collect(),
             remove: p
                 .iter()
-                .map(|&p| if p <= 0.0 { 1.0 } else { (1.0 / ratio(p)).min(1.0) })
+                .map(|&p| {
+                    if p <= 0.0 {
+                        1.0
+                    } else {
+                        (1.0 / ratio(p)).min(1.0)
+                    }
+                })
                 .collect(),
         }
     }
