@@ -255,17 +255,8 @@ fn rungs_below(s: f64, w: f64) -> usize {
     }
 }
 
-/// The point of a rung.
-fn point(
-    pr: &Problem,
-    scale: f64,
-    ln_rate: f64,
-    variance: f64,
-    slope: Option<f64>,
-    overlap: Option<[f64; 2]>,
-    mixing: Option<Mixing>,
-    walks: &[f64],
-) -> LadderPoint {
+/// The point of a rung, without the diagnostics that only rungs below the top have.
+fn point(pr: &Problem, scale: f64, ln_rate: f64, variance: f64) -> LadderPoint {
     let sigma = variance.max(0.0).sqrt();
     let rate = ln_rate.exp();
     LadderPoint {
@@ -275,10 +266,10 @@ fn point(
         uncertainty: sigma,
         low: rate * (-Z95 * sigma).exp(),
         high: (rate * (Z95 * sigma).exp()).min(1.0),
-        slope,
-        overlap,
-        mixing,
-        walks: walks.to_vec(),
+        slope: None,
+        overlap: None,
+        mixing: None,
+        walks: Vec::new(),
     }
 }
 
@@ -371,8 +362,7 @@ pub(super) fn run(
         proposals,
     };
     if top <= 1.0 {
-        out.points
-            .push(point(pr, 1.0, rate0.ln(), var0, None, None, None, &[]));
+        out.points.push(point(pr, 1.0, rate0.ln(), var0));
         progress(SplittingEvent::Rung {
             done: 1,
             expected: 1,
@@ -387,16 +377,11 @@ pub(super) fn run(
     let mut mix = mixing(&recs, proposals);
     let mut ln_rate = rate0.ln();
     let mut ln_chain = vec![ln_rate; chains];
-    out.points.push(point(
-        pr,
-        s,
-        ln_rate,
-        var0,
-        None,
-        None,
-        Some(mix.clone()),
-        &ln_chain,
-    ));
+    out.points.push(LadderPoint {
+        mixing: Some(mix.clone()),
+        walks: ln_chain.clone(),
+        ..point(pr, s, ln_rate, var0)
+    });
     let mut index = 0u64;
     while s > 1.0 {
         progress(SplittingEvent::Rung {
@@ -446,16 +431,13 @@ pub(super) fn run(
         };
         recs = next;
         mix = mixing(&recs, proposals);
-        out.points.push(point(
-            pr,
-            s_next,
-            ln_rate,
-            variance,
-            Some(ratio.ln_ratio / (s_next / s).ln()),
-            Some([ratio.down, ratio.up]),
-            Some(mix.clone()),
-            &ln_chain,
-        ));
+        out.points.push(LadderPoint {
+            slope: Some(ratio.ln_ratio / (s_next / s).ln()),
+            overlap: Some([ratio.down, ratio.up]),
+            mixing: Some(mix.clone()),
+            walks: ln_chain.clone(),
+            ..point(pr, s_next, ln_rate, variance)
+        });
         s = s_next;
         p = p_next;
     }

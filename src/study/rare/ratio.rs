@@ -157,9 +157,8 @@ mod tests {
         let la = [(0.05f64 / 0.2).ln(), (0.08f64 / 0.1).ln()];
         // Samples at a: A twice as likely as B; at b: A 5 times, B 8 times.
         let sa: Vec<f64> = [la[0], la[0], la[1]].to_vec();
-        let sb: Vec<f64> = std::iter::repeat(la[0])
-            .take(5)
-            .chain(std::iter::repeat(la[1]).take(8))
+        let sb: Vec<f64> = std::iter::repeat_n(la[0], 5)
+            .chain(std::iter::repeat_n(la[1], 8))
             .collect();
         for c in [-3.0, -1.0, 0.0, 0.5] {
             let r = ln_ratio_at(&sa, &sb, c).unwrap();
