@@ -542,11 +542,16 @@ fn plot_marks_the_crossing_of_synthetic_power_laws() {
 }
 
 /// The splitting estimate of a pipeline's failure probability per shot, at a fixed seed.
-fn splitting(c: &Circuit, noise: &str, opts: &SplittingOptions) -> slant::study::Splitting {
+fn splitting(
+    c: &Circuit,
+    noise: &str,
+    kind: DecoderKind,
+    opts: &SplittingOptions,
+) -> slant::study::Splitting {
     let pipeline = Pipeline::from_circuit(c.clone())
         .noised(Some(noise))
         .unwrap_or_else(|d| panic!("{}", d[0].render()));
-    slant::study::splitting(&pipeline, DecoderKind::UnionFind, opts, |_| {})
+    slant::study::splitting(&pipeline, kind, opts, |_| {})
         .unwrap_or_else(|_| panic!("splitting runs on {noise}"))
 }
 
@@ -573,7 +578,7 @@ fn splitting_overlaps_direct_sampling_on_the_d3_surface_code() {
         seed: 4,
         ..SplittingOptions::default()
     };
-    let rare = splitting(&c, noise, &opts);
+    let rare = splitting(&c, noise, DecoderKind::UnionFind, &opts);
     assert!(rare.points.len() >= 3, "{:?}", rare.points.len());
     let got = rare.target();
     let direct = estimate(&with_noise(&c, noise), DecoderKind::UnionFind, 200_000, 9);
@@ -606,7 +611,9 @@ fn splitting_exponent_follows_the_circuit_distance() {
     // Below threshold P_L ∝ p^⌈d/2⌉ for a circuit of circuit-level distance d (fewest faults
     // that fail the decoder; "Topological quantum memory", J. Math. Phys. 43, 4452 (2002)); the
     // hook-safe order keeps the circuit distance at d, so the exponent is (d + 1)/2 for odd d.
-    // Fitted over 1x..4x a low p, where the approach to the asymptote is nearly done.
+    // Fitted over 1x..4x a low p, where the approach to the asymptote is nearly done. MWPM:
+    // union-find fails on some single faults of these circuits (measured by direct sampling at
+    // d = 3, p = 2e-4: 8.3e-4 per shot against 9.1e-5 for MWPM), so its exponent is lower.
     for (d, p) in [(3, 2e-4), (5, 2e-4), (7, 2e-4)] {
         let opts = SplittingOptions {
             chains: 8,
@@ -614,7 +621,12 @@ fn splitting_exponent_follows_the_circuit_distance() {
             seed: 1,
             ..SplittingOptions::default()
         };
-        let rare = splitting(&surface(d), &format!("circuit p={p}"), &opts);
+        let rare = splitting(
+            &surface(d),
+            &format!("circuit p={p}"),
+            DecoderKind::Mwpm,
+            &opts,
+        );
         let fit = slant::study::fit_exponent(&rare.points, 4.0).unwrap();
         let expected = f64::from(d + 1) / 2.0;
         assert!(
