@@ -4,7 +4,7 @@
 use std::collections::BTreeSet;
 use std::path::Path;
 
-use crate::support::{slant, stdout_of};
+use crate::support::{slant, stdout_of, Runner};
 use serde_json::Value;
 
 fn reference() -> String {
@@ -327,4 +327,48 @@ fn distance_keys_are_the_documented_ones() {
     // The objects of an unproven search need a search that cannot finish, which no small
     // bundled circuit gives; they are null here and the table lists them as such leaves.
     assert_same("distance", &doc, &written(&[with_high, without]));
+}
+
+#[test]
+fn splitting_estimate_keys_are_the_documented_ones() {
+    // A phase-flip repetition code under pure dephasing: a short ladder from a top forced at 4x.
+    let dir = tempfile::tempdir().unwrap();
+    let circuit = dir.path().join("r.slant");
+    let out = slant()
+        .args([
+            "new",
+            "repetition",
+            "-d",
+            "3",
+            "--rounds",
+            "1",
+            "--flip",
+            "z",
+            "-o",
+        ])
+        .arg(&circuit)
+        .run();
+    assert!(out.status.success());
+    let v = json_of(&[
+        "estimate",
+        circuit.to_str().unwrap(),
+        "--noise",
+        "capacity p=0.02 bias=inf",
+        "--method",
+        "splitting",
+        "--top",
+        "4",
+        "--sweeps",
+        "50",
+        "--until-failures",
+        "200",
+        "--json",
+    ]);
+    assert_eq!(v["method"], "splitting");
+    assert!(v["ladder"].as_array().unwrap().len() >= 2);
+    assert_same(
+        "estimate splitting",
+        &documented("estimate splitting"),
+        &written(&[v]),
+    );
 }

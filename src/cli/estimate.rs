@@ -1,10 +1,14 @@
-//! `slant estimate`: logical error rate of a noisy circuit by sampling and decoding.
+//! `slant estimate`: logical error rate of a noisy circuit by sampling and decoding, or by the
+//! splitting method far below what sampling reaches.
 //!
 //! Loads the circuit, writes `--noise` into it, extracts its fault graph, builds the decoder and
-//! runs the Monte Carlo loop ([`crate::study::run`]): shots in batches on the rayon pool,
-//! stopping early after `--until-failures` failures. Reports the rate per shot and per round with 95%
-//! Wilson intervals ([`crate::study::Estimate`]), as text or as one JSON object (`--json`). A
-//! progress bar appears on stderr only when stderr is a terminal.
+//! either runs the Monte Carlo loop ([`crate::study::run`]: shots in batches on the rayon pool,
+//! stopping early after `--until-failures` failures) or, with `--method splitting`, the ladder of
+//! [`crate::study::splitting`] (the report is in `estimate/splitting.rs`). Reports the rate per
+//! shot and per round with 95% intervals, as text or as one JSON object (`--json`). A progress
+//! bar appears on stderr only when stderr is a terminal.
+
+mod splitting;
 
 use crate::base::{count, Diagnostic};
 use crate::cli::common::{CircuitArgs, NoiseArgs};
@@ -19,6 +23,16 @@ could not pair every detection event). The per-round rate is 1 - (1 - p_shot)^(1
 number of `round` blocks. Intervals are 95% Wilson score intervals. The same --seed gives the
 same counts for any number of threads (RAYON_NUM_THREADS).
 
+--method splitting estimates rates far below what sampling reaches: it samples the fault graph
+directly at a noise scale where failures are common (--top, or the first of 1, 2, 4, ... times
+the noise where 5% of shots fail; --until-failures failures there, default 1000), then walks
+down a ladder of noise scales with --chains independent Metropolis walks over failing fault
+configurations (--sweeps proposals per edge of the fault graph at each rung), multiplying the
+ratios of neighbouring rungs. It prints every rung with its relative uncertainty (the spread
+of the independent walks) and mixing diagnostics, and the fitted exponent of P_L against the
+noise over the lowest rungs next to the circuit distance d: below threshold it should be near
+ceil(d/2). A preset is rebuilt at each scale; a model file's edge probabilities are scaled.
+
 Results are estimates under the stated noise model: Pauli channels, independent faults.";
 
 /// Arguments of `slant estimate`.
@@ -31,12 +45,27 @@ pub struct Args {
     /// Noise to add.
     #[command(flatten)]
     pub noise: NoiseArgs,
-    /// Maximum number of shots.
-    #[arg(long, value_name = "N", value_parser = clap::value_parser!(u64).range(1..))]
-    pub shots: u64,
-    /// Stop once this many shots have failed (a logical error: predicted and sampled observable flips differ) (checked every 4096 shots).
+    /// Maximum number of shots (with `--method splitting`: of direct sampling at the top).
+    #[arg(long, value_name = "N", value_parser = clap::value_parser!(u64).range(1..), required_if_eq("method", "sampling"))]
+    pub shots: Option<u64>,
+    /// Stop once this many shots have failed (a logical error: predicted and sampled observable flips differ) (checked every 4096 shots). With `--method splitting`: failures to collect at the top (default 1000).
     #[arg(long, value_name = "K", value_parser = clap::value_parser!(u64).range(1..))]
     pub until_failures: Option<u64>,
+    /// How to estimate: `sampling` (sample the circuit and decode) or `splitting` (a ladder of
+    /// Metropolis walks over failing fault configurations, for rates far below sampling).
+    #[arg(long, value_name = "M", default_value = "sampling", value_parser = ["sampling", "splitting"])]
+    pub method: String,
+    /// With `--method splitting`: independent walks per rung (at least 2).
+    #[arg(long, value_name = "K", default_value_t = 8, value_parser = clap::value_parser!(u64).range(2..))]
+    pub chains: u64,
+    /// With `--method splitting`: proposals per walk and rung, as a multiple of the number of
+    /// fault-graph edges.
+    #[arg(long, value_name = "N", default_value_t = 100.0)]
+    pub sweeps: f64,
+    /// With `--method splitting`: the top of the ladder as a multiple of the noise (default:
+    /// chosen by pilot runs).
+    #[arg(long, value_name = "S")]
+    pub top: Option<f64>,
     /// Decoder: `mwpm` (minimum-weight perfect matching) or `uf` (union-find).
     #[arg(long, value_name = "D", default_value = "mwpm", value_parser = |s: &str| s.parse::<DecoderKind>())]
     pub decoder: DecoderKind,
@@ -53,6 +82,7 @@ pub struct Args {
 struct Report<'a> {
     format: &'static str,
     version: u32,
+    method: &'static str,
     circuit: String,
     noise: &'a str,
     decoder: &'static str,
@@ -71,6 +101,7 @@ struct Report<'a> {
     model: &'static str,
 }
 
+/// The noise-model caveat every report carries.
 const MODEL_NOTE: &str =
     "estimates under the stated noise model: Pauli channels, independent faults";
 
@@ -84,15 +115,19 @@ pub fn run(args: Args) -> Result<(), CliError> {
         ))
         .into());
     }
+    if args.method == "splitting" {
+        return splitting::run(&args, &pipeline);
+    }
+    let shots = args.shots.unwrap_or(1);
     let exp = pipeline
         .experiment(args.decoder)
         .map_err(|e| CliError::from(StudyError::Undecodable(e)))?;
     let opts = RunOptions {
-        shots: args.shots,
+        shots,
         until_failures: args.until_failures,
         seed: args.seed,
     };
-    let mut progress = Progress::new(args.shots, "shots");
+    let mut progress = Progress::new(shots, "shots");
     let counts = exp.run(&opts, |c: Counts| {
         progress.set_message(format!("{} failures", c.failures));
         progress.set_position(c.shots);
@@ -105,12 +140,14 @@ pub fn run(args: Args) -> Result<(), CliError> {
         .noise
         .as_deref()
         .unwrap_or("as written in the circuit file");
-    let stopped_early = counts.shots < args.shots;
+    let stopped_early = counts.shots < shots;
     if args.json {
         let report = Report {
             format: "slant-estimate",
-            // Version 1 had no `format` or `version` and named `failures` `errors`.
-            version: 2,
+            // Version 1 had no `format` or `version` and named `failures` `errors`; version 2 had
+            // no `method`.
+            version: 3,
+            method: "sampling",
             circuit: args.circuit.file.display().to_string(),
             noise,
             decoder: args.decoder.name(),

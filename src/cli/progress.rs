@@ -84,6 +84,14 @@ impl Progress {
         }
     }
 
+    /// Changes the total, for work whose size becomes known as it runs.
+    pub fn set_total(&mut self, total: u64) {
+        self.total = total;
+        if let Some(bar) = &self.bar {
+            bar.set_length(total);
+        }
+    }
+
     /// Adds `n` finished units.
     pub fn advance(&mut self, n: u64) {
         if let Some(bar) = &self.bar {

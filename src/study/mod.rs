@@ -20,6 +20,7 @@ mod measured;
 mod montecarlo;
 mod pipeline;
 mod plot;
+mod rare;
 mod stats;
 mod sweep;
 mod threshold;
@@ -37,6 +38,10 @@ pub use measured::{decode_measured, Layout, Measured, MeasuredEvents};
 pub use montecarlo::{decode_batch, run, Counts, Experiment, RunOptions};
 pub use pipeline::{Pipeline, StudyError};
 pub use plot::{render_for, Curve, LegendEntry, Marker, Panel, Shape, PANEL_SIZE};
+pub use rare::{
+    fit_exponent, splitting, ExponentFit, LadderPoint, Mixing, Splitting, SplittingEvent,
+    SplittingOptions, TopSampling,
+};
 pub use stats::{per_round, wilson, Estimate, Z95};
 pub use sweep::{
     aggregate, chunk_seed, merge_rows, parse_rows, plan, read_store, run_sweep, ChunkRow, Event,
