@@ -86,7 +86,6 @@ impl Progress {
 
     /// Changes the total, for work whose size becomes known as it runs.
     pub fn set_total(&mut self, total: u64) {
-        self.total = total;
         if let Some(bar) = &self.bar {
             bar.set_length(total);
         }
