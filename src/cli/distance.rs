@@ -59,7 +59,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
     } else {
         render(&report, &graph, circuit)
     };
-    print!("{text}");
+    out!("{text}");
     Ok(())
 }
 

@@ -126,8 +126,8 @@ pub fn run(args: Args) -> Result<(), CliError> {
     }
     let bytes = draw(&groups, rate_name, &args.output)?;
     write_atomic(&args.output, &bytes)?;
-    print!("{report}");
-    println!("plot written to `{}`", args.output.display());
+    out!("{report}");
+    outln!("plot written to `{}`", args.output.display());
     Ok(())
 }
 

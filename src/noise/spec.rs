@@ -71,6 +71,22 @@ fn parse_extension(source: &Arc<Source>) -> Option<Result<NoiseSpec, Diagnostic>
         let path = std::path::Path::new(trimmed);
         let start = text.find(trimmed).unwrap_or(0);
         let at = Span::new(start, start + trimmed.len());
+        // A model file is a page of TOML; anything past the limit (a mistaken path to a data
+        // file) is refused before it is read and parsed.
+        let max = crate::ir::Limits::default().max_source_bytes();
+        if let Ok(m) = std::fs::metadata(path) {
+            if m.is_file() && m.len() > max {
+                return Some(Err(Diagnostic::error(
+                    source,
+                    at,
+                    format!(
+                        "the noise model file `{trimmed}` is {} bytes, past the limit of {max} \
+                         bytes for an input file",
+                        m.len()
+                    ),
+                )));
+            }
+        }
         return Some(match std::fs::read_to_string(path) {
             Ok(body) => NoiseModel::parse(&Source::new(trimmed, body))
                 .map(|m| NoiseSpec::Model(Box::new(m))),

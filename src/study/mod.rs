@@ -26,7 +26,8 @@ pub use pipeline::{Pipeline, StudyError};
 pub use plot::{render_for, Curve, Marker, Panel};
 pub use stats::{per_round, wilson, Estimate, Z95};
 pub use sweep::{
-    aggregate, chunk_seed, merge_rows, parse_rows, read_store, run_sweep, ChunkRow, Event, Point,
-    Shard, Store, SweepSpec, Task, DEFAULT_CHUNK, STORE_VERSION,
+    aggregate, chunk_seed, load_store, merge_rows, parse_rows, read_store, run_sweep, ChunkRow,
+    Conflict, Event, Point, Shard, Store, StoreContents, SweepSpec, Task, DEFAULT_CHUNK,
+    STORE_HEADER, STORE_VERSION,
 };
 pub use threshold::{crossings, scaling_fit, threshold, Crossing, ScalingFit};

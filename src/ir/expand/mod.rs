@@ -102,6 +102,26 @@ impl Default for Limits {
     }
 }
 
+impl Limits {
+    /// Bytes of memory each item of the budget stands for: the most any item kind took when
+    /// circuits made of it were loaded and checked (see [`cost`]).
+    pub const BYTES_PER_ITEM: u64 = 70;
+
+    /// The memory budget: what a study may hold at once (source text, expanded circuit,
+    /// tableau, sampler batches), `max_items` × [`Limits::BYTES_PER_ITEM`] (1.4 GB by default).
+    /// Whatever would pass it is refused before it is allocated.
+    pub fn memory_bytes(&self) -> u64 {
+        self.max_items.saturating_mul(Self::BYTES_PER_ITEM)
+    }
+
+    /// The largest source file read: a byte of text never expands to less than half an item,
+    /// and the parser holds about a hundred bytes per byte of text at its peak, so a file
+    /// past this is refused before it is parsed.
+    pub fn max_source_bytes(&self) -> u64 {
+        self.max_items / 2
+    }
+}
+
 /// Expands an AST with `--set` overrides.
 pub fn expand(
     ast: &Ast,
