@@ -15,8 +15,11 @@ use slant::noise::{NoiseModel, NoiseSpec};
 use slant::sim::Outputs;
 use slant::study::{aggregate, merge_rows, parse_rows, Pipeline, SweepSpec};
 
-/// The targets by name (the names of the corpus and regression directories).
-pub const TARGETS: &[(&str, fn(&[u8]))] = &[
+/// A target: its name (the name of its corpus and regression directories) and its body.
+pub type Target = (&'static str, fn(&[u8]));
+
+/// The targets.
+pub const TARGETS: &[Target] = &[
     ("circuit", circuit),
     ("model", model),
     ("noise", noise),
@@ -131,8 +134,11 @@ pub fn store(data: &[u8]) {
     };
     match parse_rows(&src) {
         Ok((rows, _)) => {
-            let (merged, conflicts) = merge_rows([rows.clone(), rows]);
-            assert!(conflicts.is_empty(), "a store conflicts with itself");
+            // A store may disagree with itself (two rows of one chunk); merged with a copy of
+            // itself it disagrees exactly twice as often, never in new ways.
+            let (_, own) = merge_rows([rows.clone()]);
+            let (merged, both) = merge_rows([rows.clone(), rows]);
+            assert_eq!(both.len(), 2 * own.len(), "merging a store with itself");
             let _ = aggregate(&merged);
         }
         Err(d) => {

@@ -188,28 +188,50 @@ fn mutate(rng: &mut Rng, input: &[u8], corpus: &[Vec<u8>]) -> Vec<u8> {
     out
 }
 
-/// Runs `target` on `input` on a worker thread: `Err` with what went wrong on a panic or a
-/// hang. The worker of a hang is left running; the test fails at once anyway.
-fn run_one(target: fn(&[u8]), input: &[u8]) -> Result<Duration, String> {
-    let (tx, rx) = mpsc::channel();
-    let data = input.to_vec();
-    let start = Instant::now();
-    std::thread::Builder::new()
-        .stack_size(256 << 20)
-        .spawn(move || {
-            let r = std::panic::catch_unwind(|| target(&data));
-            let _ = tx.send(r.map_err(|e| {
-                e.downcast_ref::<String>()
-                    .cloned()
-                    .or_else(|| e.downcast_ref::<&str>().map(|s| s.to_string()))
-                    .unwrap_or_default()
-            }));
-        })
-        .unwrap();
-    match rx.recv_timeout(HANG) {
-        Ok(Ok(())) => Ok(start.elapsed()),
-        Ok(Err(msg)) => Err(format!("panic: {msg}")),
-        Err(_) => Err(format!("hang: more than {} s", HANG.as_secs())),
+type Job = (fn(&[u8]), Vec<u8>);
+type Outcome = Result<(), String>;
+
+/// One long-lived worker thread (deep stack, as the binary's) that runs the inputs: spawning a
+/// thread per input piled up exiting threads' stacks on a loaded machine until a 4 GB
+/// address-space cap refused the next one.
+struct Worker {
+    jobs: mpsc::Sender<Job>,
+    done: mpsc::Receiver<Outcome>,
+}
+
+impl Worker {
+    fn new() -> Worker {
+        let (jobs, rx) = mpsc::channel::<Job>();
+        let (tx, done) = mpsc::channel();
+        std::thread::Builder::new()
+            .stack_size(256 << 20)
+            .spawn(move || {
+                for (target, data) in rx {
+                    let r = std::panic::catch_unwind(|| target(&data));
+                    let _ = tx.send(r.map_err(|e| {
+                        e.downcast_ref::<String>()
+                            .cloned()
+                            .or_else(|| e.downcast_ref::<&str>().map(|s| s.to_string()))
+                            .unwrap_or_default()
+                    }));
+                }
+            })
+            .unwrap();
+        Worker { jobs, done }
+    }
+
+    /// Runs `target` on `input`: `Err` with what went wrong on a panic or a hang. After a hang
+    /// the worker is stuck; the caller stops.
+    fn run(&self, target: fn(&[u8]), input: &[u8]) -> Result<Duration, String> {
+        let start = Instant::now();
+        self.jobs
+            .send((target, input.to_vec()))
+            .map_err(|_| "the worker is gone".to_string())?;
+        match self.done.recv_timeout(HANG) {
+            Ok(Ok(())) => Ok(start.elapsed()),
+            Ok(Err(msg)) => Err(format!("panic: {msg}")),
+            Err(_) => Err(format!("hang: more than {} s", HANG.as_secs())),
+        }
     }
 }
 
@@ -229,10 +251,11 @@ fn save_finding(name: &str, input: &[u8]) -> PathBuf {
 #[test]
 fn fuzz_regressions_and_corpus_replay() {
     let mut count = 0;
+    let worker = Worker::new();
     for &(name, target) in targets::TARGETS {
         for dir in ["regressions", "corpus"] {
             for input in files(&fuzz_dir().join(dir).join(name)) {
-                if let Err(why) = run_one(target, &input) {
+                if let Err(why) = worker.run(target, &input) {
                     let path = save_finding(name, &input);
                     panic!("{name} ({dir}): {why}; input in {}", path.display());
                 }
@@ -257,13 +280,14 @@ fn fuzz_bounded_campaign() {
     let mut done = 0u64;
     let mut slowest = (Duration::ZERO, "");
     let mut findings = Vec::new();
+    let worker = Worker::new();
     while (max_inputs == 0 || done < max_inputs) && start.elapsed() < max_time {
         let k = (done % targets::TARGETS.len() as u64) as usize;
         let (name, target) = targets::TARGETS[k];
         let corpus = &corpora[k];
         let base = &corpus[rng.below(corpus.len())];
         let input = mutate(&mut rng, base, corpus);
-        match run_one(target, &input) {
+        match worker.run(target, &input) {
             Ok(t) => {
                 if t > slowest.0 {
                     slowest = (t, name);

@@ -378,7 +378,7 @@ fn the_memory_budget_is_checked_before_allocating() {
     assert!(r.2.contains("past the memory budget of 56 MB"), "{}", r.2);
     assert!(r.2.contains("11249 qubits"), "{}", r.2);
     // A source larger than the budget allows is refused before it is parsed.
-    let mut text = "# padding\n".repeat(10_000);
+    let mut text = "# padding\n".repeat(40_000);
     text.push_str("qubit a\n");
     fs::write(dir.path().join("long.slant"), &text).unwrap();
     let r = run_in(
@@ -386,7 +386,7 @@ fn the_memory_budget_is_checked_before_allocating() {
         &["check", "long.slant", "--max-items", "100000"],
     );
     assert_eq!(r.0, 1, "{}", r.2);
-    assert!(r.2.contains("past the limit of 50000 bytes"), "{}", r.2);
+    assert!(r.2.contains("past the limit of 262144 bytes"), "{}", r.2);
     let r = parts(
         &slant()
             .args(["check", "-", "--max-items", "100000"])
@@ -399,9 +399,9 @@ fn the_memory_budget_is_checked_before_allocating() {
                for i in 0..n {\n    cx q[i] t\n}\n\
                for r in 0..m {\n    measure z t -> f[r]\n    detector = f[r]\n}\n";
     fs::write(dir.path().join("fan.slant"), fan).unwrap();
-    let r = run_in(dir.path(), &["check", "fan.slant", "--max-items", "200000"]);
+    let r = run_in(dir.path(), &["check", "fan.slant", "--max-items", "300000"]);
     assert_eq!(r.0, 1, "{}", r.2);
-    assert!(r.2.contains("past the memory budget of 14 MB"), "{}", r.2);
+    assert!(r.2.contains("past the memory budget of 21 MB"), "{}", r.2);
     // Within the budget it passes.
     let r = run_in(
         dir.path(),
@@ -411,7 +411,7 @@ fn the_memory_budget_is_checked_before_allocating() {
             "--set",
             "m=100",
             "--max-items",
-            "200000",
+            "300000",
         ],
     );
     assert_eq!(r.0, 0, "{}", r.2);

@@ -109,7 +109,7 @@ pub fn read_source_within(
         Diagnostic::bare(format!(
             "`{name}` is {size} bytes, past the limit of {max_bytes} bytes for an input file"
         ))
-        .with_hint("the limit is half of `--max-items`; raise that if the file is meant")
+        .with_hint("the limit is half of `--max-items` in bytes; raise that if the file is meant")
     };
     let mut reader: Box<dyn Read> = if name == "-" {
         Box::new(std::io::stdin())

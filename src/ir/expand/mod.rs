@@ -114,11 +114,12 @@ impl Limits {
         self.max_items.saturating_mul(Self::BYTES_PER_ITEM)
     }
 
-    /// The largest source file read: a byte of text never expands to less than half an item,
-    /// and the parser holds about a hundred bytes per byte of text at its peak, so a file
-    /// past this is refused before it is parsed.
+    /// The largest source file read: half a byte per item of the budget (10 MB by default),
+    /// but never less than 256 KiB, so small limits still read ordinary files. The parser's
+    /// peak memory grows with the text (a 50 MB file once peaked at 9.6 GB before any limit
+    /// applied), so a file past this is refused before it is read whole.
     pub fn max_source_bytes(&self) -> u64 {
-        self.max_items / 2
+        (self.max_items / 2).max(256 << 10)
     }
 }
 
