@@ -9,6 +9,14 @@ if grep -rnE '\b(dbg|todo|unimplemented)!' src tests bench 2>/dev/null; then
   status=1
 fi
 
+# Subcommands write standard output through `out!`/`outln!` or `cli::out::Stdout`, never
+# `print!`/`println!` (which panic on a full disk) or a bare `stdout()` (whose errors get lost).
+if grep -rnE '(^|[^e[:alnum:]_])(print|println)!\(|io::stdout\(\)' src/cli --include='*.rs' \
+  | grep -vE '^src/cli/out\.rs:' | grep -vE ':[0-9]+:\s*//'; then
+  echo "forbid.sh: write standard output through out!/outln! or cli::out::Stdout (src/cli/out.rs)" >&2
+  status=1
+fi
+
 # Retired words and their replacements (see docs/reference.md). Each pattern matches whole
 # words, so `depolarizing`, `pauli`, `anti-correlated` or `errors` in prose stay allowed. The
 # reader of version 1 sweep stores is the one place that must still name the old store keys.

@@ -229,7 +229,8 @@ fn cli_writes_file_and_refuses_bad_specs() {
     ];
     for (args, msg) in cases {
         let out = slant().arg("new").args(args).run();
-        assert_eq!(out.status.code(), Some(1), "{args:?}");
+        // A value the family cannot take is a usage error, like one the parser refuses.
+        assert_eq!(out.status.code(), Some(2), "{args:?}");
         let err = String::from_utf8_lossy(&out.stderr);
         assert!(err.contains(msg), "{args:?}: {err}");
         assert!(out.stdout.is_empty());
@@ -240,8 +241,8 @@ fn cli_writes_file_and_refuses_bad_specs() {
 
 #[test]
 fn distances_out_of_range_are_usage_errors() {
-    // Zero and oversized distances are refused by the argument parser (exit 2) with the rule,
-    // whatever the family; the family's own rules come after (exit 1).
+    // Zero and oversized distances are refused by the argument parser with the rule, whatever
+    // the family; the family's own rules come after. Both are usage errors (exit 2).
     let cases: [(&[&str], &str); 5] = [
         (
             &["surface", "--distance", "0"],
@@ -273,7 +274,7 @@ fn distances_out_of_range_are_usage_errors() {
         assert!(out.stdout.is_empty());
     }
     let out = slant().args(["new", "surface", "--distance", "1"]).run();
-    assert_eq!(out.status.code(), Some(1));
+    assert_eq!(out.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&out.stderr).contains("distance must be odd and at least 3"));
     // The library refuses the same specs, naming the distance rather than the rounds.
     let mut s = GenSpec::new(Family::Surface, 0);
@@ -289,7 +290,7 @@ fn distances_out_of_range_are_usage_errors() {
     let out = slant()
         .args(["new", "xzzx", "--periodic", "--distance", "1001"])
         .run();
-    assert_eq!(out.status.code(), Some(1));
+    assert_eq!(out.status.code(), Some(2));
     let e = String::from_utf8_lossy(&out.stderr);
     assert!(
         e.contains("torus sides must be at most 1001, got 1001 × 1002"),

@@ -286,8 +286,10 @@ fn version_one_stores_still_merge_and_plot() {
     std::fs::write(dir.path().join("old.jsonl"), &old).unwrap();
     stdout_in(dir.path(), &["merge", "old.jsonl", "-o", "new.jsonl"]);
     let new = std::fs::read_to_string(dir.path().join("new.jsonl")).unwrap();
+    // The merged store starts with the store header, then the upgraded rows.
+    assert_eq!(new.lines().next(), Some(slant::study::STORE_HEADER));
     let (old_rows, new_rows): (Vec<&str>, Vec<&str>) =
-        (old.lines().collect(), new.lines().collect());
+        (old.lines().collect(), new.lines().skip(1).collect());
     assert_eq!(old_rows.len(), new_rows.len());
     for (o, n) in old_rows.iter().zip(&new_rows) {
         let o: serde_json::Value = serde_json::from_str(o).unwrap();

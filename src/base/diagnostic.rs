@@ -103,7 +103,7 @@ impl Diagnostic {
             Severity::Error => "error",
             Severity::Warning => "warning",
         };
-        let _ = writeln!(out, "{head}: {}", self.message);
+        let _ = writeln!(out, "{head}: {}", elide_names(&self.message));
         if let Some(label) = &self.primary {
             render_label(&mut out, label);
         }
@@ -111,7 +111,7 @@ impl Diagnostic {
             render_label(&mut out, label);
         }
         if let Some(hint) = &self.hint {
-            let _ = writeln!(out, "  = hint: {hint}");
+            let _ = writeln!(out, "  = hint: {}", elide_names(hint));
         }
         out
     }
@@ -155,21 +155,64 @@ fn render_label(out: &mut String, label: &Label) {
     if label.text.is_empty() {
         out.push('\n');
     } else {
-        let _ = writeln!(out, " {}", label.text);
+        let _ = writeln!(out, " {}", elide_names(&label.text));
     }
 }
+
+/// Names (text in backticks) longer than this are shown by their start and length: a message
+/// about a megabyte-long name should not be a megabyte long.
+const MAX_NAME_SHOWN: usize = 64;
+
+/// `text` with every backticked name longer than [`MAX_NAME_SHOWN`] characters cut to its
+/// first characters, an ellipsis and its length.
+fn elide_names(text: &str) -> std::borrow::Cow<'_, str> {
+    if text.len() <= MAX_NAME_SHOWN {
+        return text.into();
+    }
+    let parts: Vec<&str> = text.split('`').collect();
+    let mut out = String::new();
+    for (i, part) in parts.iter().enumerate() {
+        // Odd parts are inside a pair of backticks (an unpaired last backtick keeps its tail).
+        let quoted = i % 2 == 1 && i + 1 < parts.len();
+        if i > 0 {
+            out.push('`');
+        }
+        let chars = part.chars().count();
+        if quoted && chars > MAX_NAME_SHOWN {
+            let head: String = part.chars().take(MAX_NAME_SHOWN / 2).collect();
+            let _ = write!(out, "{head}…` ({chars} characters)");
+            // The closing backtick has been written; the next part follows it directly.
+            out.push('\u{1}');
+        } else {
+            out.push_str(part);
+        }
+    }
+    out.replace("\u{1}`", "").into()
+}
+
+/// Names longer than this get no suggestion: nobody mistypes a name that long, and the edit
+/// distance costs the product of the two lengths, so the bound keeps a hint linear in the
+/// number of candidates whatever the input.
+const MAX_HINTED: usize = 64;
 
 /// Suggests the candidate closest to `word` by edit distance, if it is close enough to be a typo.
 pub fn did_you_mean<'a>(
     word: &str,
     candidates: impl IntoIterator<Item = &'a str>,
 ) -> Option<&'a str> {
+    if word.len() > MAX_HINTED {
+        return None;
+    }
+    let limit = word.len().max(2) / 2 + (word.len() > 4) as usize;
     let mut best: Option<(usize, &str)> = None;
     for cand in candidates {
+        // Lengths further apart than the limit cannot be within it; this also skips every
+        // candidate longer than `MAX_HINTED` plus the limit.
+        if cand.len().abs_diff(word.len()) > limit {
+            continue;
+        }
         let d = edit_distance(word, cand);
-        if d <= word.len().max(2) / 2 + (word.len() > 4) as usize
-            && best.is_none_or(|(bd, _)| d < bd)
-        {
+        if d <= limit && best.is_none_or(|(bd, _)| d < bd) {
             best = Some((d, cand));
         }
     }
@@ -204,6 +247,41 @@ mod tests {
             d.render(),
             "error: unknown gate `czz`\n  --> a.slant:2:1\n  |\n2 | czz a b\n  | ^^^\n  = hint: did you mean `cz`?\n"
         );
+    }
+
+    #[test]
+    fn long_names_are_shown_by_their_start_and_length() {
+        let name = "q".repeat(1 << 20);
+        let d = Diagnostic::bare(format!("unknown qubit `{name}` in `cx`"))
+            .with_hint(format!("declare `{name}` first"));
+        let text = d.render();
+        assert!(text.len() < 400, "{} bytes", text.len());
+        assert!(
+            text.contains(&format!(
+                "unknown qubit `{}…` (1048576 characters) in `cx`",
+                "q".repeat(32)
+            )),
+            "{text}"
+        );
+        // Short names and unpaired backticks are left alone.
+        let short = format!("`{}` and `b", "x".repeat(70));
+        assert_eq!(elide_names("`a` is `b`"), "`a` is `b`");
+        assert!(elide_names(&short).ends_with("(70 characters) and `b"));
+    }
+
+    /// A hint costs time linear in the candidates whatever the word's length (a 65,536-character
+    /// name against long candidates took 41 s when every pair was compared in full).
+    #[test]
+    fn hints_skip_names_that_cannot_be_typos() {
+        let long = "a".repeat(1 << 16);
+        let cands = [long.as_str(), "ab", "abc"];
+        // Before the bound this one call compared 2^16 × 2^16 characters (tens of seconds).
+        assert_eq!(did_you_mean(&long, cands), None);
+        assert_eq!(
+            did_you_mean(&"a".repeat(64), [&*"a".repeat(65)]),
+            Some(&*"a".repeat(65))
+        );
+        assert_eq!(did_you_mean("abd", cands), Some("ab"));
     }
 
     #[test]

@@ -21,7 +21,9 @@ pub use channel::{key_arity, Arity, ChannelKind};
 pub use diagnostic::{did_you_mean, Diagnostic, Label, Severity};
 pub use gate::{Basis, Gate};
 pub use npy::{npy_f64_vector, npy_header, read_npy_header, NpyHeader};
-pub use output::{write_atomic, write_atomic_with, AtomicFile};
+pub use output::{
+    check_output_set, write_atomic, write_atomic_with, AtomicFile, OutputSet, SET_MANIFEST,
+};
 pub use parity::{odd_parity, odd_parity_in_place, xor_into, xor_sets};
 pub use pauli::Pauli;
 pub use prob::xor_prob;

@@ -93,9 +93,9 @@ pub fn run(args: Args) -> Result<(), CliError> {
         };
         let text =
             serde_json::to_string_pretty(&out).map_err(|e| CliError::Internal(e.to_string()))?;
-        println!("{text}");
+        outln!("{text}");
     } else {
-        print!("{}", render(&report, args.top));
+        out!("{}", render(&report, args.top));
     }
     if report.kept() {
         Ok(())

@@ -159,7 +159,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
                 });
                 let text = serde_json::to_string_pretty(&v)
                     .map_err(|e| CliError::Internal(e.to_string()))?;
-                println!("{text}");
+                outln!("{text}");
             }
             return Err(CliError::Rejected(diags));
         }
@@ -171,9 +171,9 @@ pub fn run(args: Args) -> Result<(), CliError> {
         v["ok"] = serde_json::Value::Bool(true);
         let text =
             serde_json::to_string_pretty(&v).map_err(|e| CliError::Internal(e.to_string()))?;
-        println!("{text}");
+        outln!("{text}");
     } else {
-        print!("{}", summary.render());
+        out!("{}", summary.render());
     }
     Ok(())
 }

@@ -25,10 +25,11 @@ pub struct CircuitArgs {
 impl CircuitArgs {
     /// Reads, parses, expands and checks the circuit: a pipeline without `--noise` yet.
     pub fn load(&self) -> Result<Pipeline, Vec<Diagnostic>> {
-        let source = read_source(&self.file).map_err(|d| vec![d])?;
         let limits = Limits {
             max_items: self.max_items,
         };
+        let source =
+            read_source_within(&self.file, limits.max_source_bytes()).map_err(|d| vec![d])?;
         Pipeline::load(&source, &self.set, &limits)
     }
 
@@ -89,17 +90,57 @@ pub fn parse_setting(s: &str) -> Result<(String, i64), String> {
     Ok((k.to_string(), v))
 }
 
-/// Reads a file (or standard input for `-`) into a [`Source`]. Bytes that are not UTF-8 are
-/// rejected with the location of the first bad byte.
+/// Reads a file (or standard input for `-`) into a [`Source`], refusing one larger than the
+/// default limits allow ([`Limits::max_source_bytes`]). Bytes that are not UTF-8 are rejected
+/// with the location of the first bad byte.
 pub fn read_source(path: &std::path::Path) -> Result<Arc<Source>, Diagnostic> {
+    read_source_within(path, Limits::default().max_source_bytes())
+}
+
+/// [`read_source`] refusing files of more than `max_bytes` before reading them whole: the
+/// parser's memory grows with the text, so a file past the budget is refused before parsing.
+pub fn read_source_within(
+    path: &std::path::Path,
+    max_bytes: u64,
+) -> Result<Arc<Source>, Diagnostic> {
+    use std::io::Read;
     let name = path.display().to_string();
-    let bytes = if name == "-" {
-        let mut buf = Vec::new();
-        std::io::Read::read_to_end(&mut std::io::stdin(), &mut buf)
-            .map_err(|e| Diagnostic::bare(format!("cannot read standard input: {e}")))?;
-        buf
-    } else {
-        std::fs::read(path).map_err(|e| Diagnostic::bare(format!("cannot read `{name}`: {e}")))?
+    let too_large = |size: String| {
+        Diagnostic::bare(format!(
+            "`{name}` is {size} bytes, past the limit of {max_bytes} bytes for an input file"
+        ))
+        .with_hint("the limit is half of `--max-items` in bytes; raise that if the file is meant")
     };
+    let mut reader: Box<dyn Read> = if name == "-" {
+        Box::new(std::io::stdin())
+    } else {
+        let file = std::fs::File::open(path)
+            .map_err(|e| Diagnostic::bare(format!("cannot read `{name}`: {e}")))?;
+        if let Ok(m) = file.metadata() {
+            if m.is_file() && m.len() > max_bytes {
+                return Err(too_large(m.len().to_string()));
+            }
+        }
+        Box::new(file)
+    };
+    // Pipes and devices have no size: read one byte past the limit to find out.
+    let mut bytes = Vec::new();
+    reader
+        .by_ref()
+        .take(max_bytes.saturating_add(1))
+        .read_to_end(&mut bytes)
+        .map_err(|e| {
+            let what = if name == "-" {
+                "standard input".to_string()
+            } else {
+                format!("`{name}`")
+            };
+            Diagnostic::bare(format!("cannot read {what}: {e}"))
+        })?;
+    if bytes.len() as u64 > max_bytes {
+        return Err(too_large(
+            "more than".to_string() + &format!(" {max_bytes}"),
+        ));
+    }
     crate::base::source_from_bytes(name, bytes)
 }

@@ -321,7 +321,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
     } else {
         table_text(&rows, unit)
     };
-    print!("{text}");
+    out!("{text}");
     if let Some(path) = &args.plot {
         eprintln!("plot written to `{}`", path.display());
     }

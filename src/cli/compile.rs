@@ -37,7 +37,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
     let text = to_text(pipeline.noisy(), pipeline.notes(), &header);
     match args.output.as_deref() {
         Some(p) if p.as_os_str() != "-" => write_atomic(p, text.as_bytes())?,
-        _ => print!("{text}"),
+        _ => out!("{text}"),
     }
     Ok(())
 }

@@ -70,7 +70,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
     } else {
         render(&report, &graph, circuit)
     };
-    print!("{text}");
+    out!("{text}");
     Ok(())
 }
 

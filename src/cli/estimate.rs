@@ -15,7 +15,7 @@ use crate::cli::common::{CircuitArgs, NoiseArgs};
 use crate::cli::progress::Progress;
 use crate::cli::CliError;
 use crate::decode::DecoderKind;
-use crate::study::{Counts, Estimate, RunOptions, StudyError, Z95};
+use crate::study::{Counts, Estimate, RunOptions, Z95};
 
 const AFTER_HELP: &str = "\
 A shot fails when the decoder's predicted observable flips differ from the sampled ones (or it
@@ -119,9 +119,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
         return splitting::run(&args, &pipeline);
     }
     let shots = args.shots.unwrap_or(1);
-    let exp = pipeline
-        .experiment(args.decoder)
-        .map_err(|e| CliError::from(StudyError::Undecodable(e)))?;
+    let exp = pipeline.experiment(args.decoder).map_err(CliError::from)?;
     let opts = RunOptions {
         shots,
         until_failures: args.until_failures,
@@ -167,7 +165,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
         };
         let text = serde_json::to_string_pretty(&report)
             .map_err(|e| CliError::Internal(format!("cannot serialise the report: {e}")))?;
-        println!("{text}");
+        outln!("{text}");
         return Ok(());
     }
     let mut out = String::new();
@@ -214,7 +212,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
     out += &format!("per shot:  {}\n", show(per_shot));
     out += &format!("per round: {}\n", show(per_round));
     out += &format!("These are {MODEL_NOTE}.\n");
-    print!("{out}");
+    out!("{out}");
     Ok(())
 }
 

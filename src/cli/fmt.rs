@@ -2,7 +2,7 @@
 
 use std::path::PathBuf;
 
-use crate::base::write_atomic;
+use crate::base::{write_atomic, Diagnostic};
 use crate::cli::common::read_source;
 use crate::cli::CliError;
 
@@ -22,6 +22,12 @@ pub struct Args {
 
 /// Runs `slant fmt`.
 pub fn run(args: Args) -> Result<(), CliError> {
+    if args.write && args.files.iter().any(|f| f.as_os_str() == "-") {
+        return Err(CliError::Usage(Diagnostic::bare(
+            "`--write` rewrites files in place and standard input (`-`) is not a file; \
+             leave out `--write` to print the canonical form",
+        )));
+    }
     let mut differs = false;
     let mut errors = Vec::new();
     for path in &args.files {
@@ -45,7 +51,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
         if args.check {
             if !canonical {
                 differs = true;
-                println!(
+                outln!(
                     "{}: not in canonical form (run `slant fmt --write`)",
                     path.display()
                 );
@@ -55,7 +61,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
                 write_atomic(path, text.as_bytes()).map_err(|d| CliError::Rejected(vec![d]))?;
             }
         } else {
-            print!("{text}");
+            out!("{text}");
         }
     }
     if !errors.is_empty() {

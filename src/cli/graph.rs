@@ -4,7 +4,7 @@ use std::io::Write;
 use std::path::{Path, PathBuf};
 use std::time::{Duration, Instant};
 
-use crate::base::{write_atomic, write_atomic_with, Diagnostic};
+use crate::base::{write_atomic_with, Diagnostic, OutputSet};
 use crate::cli::common::{CircuitArgs, NoiseArgs};
 use crate::cli::progress::Progress;
 use crate::cli::CliError;
@@ -122,8 +122,9 @@ fn write(
                 write_atomic_with(path, |w| write_one(&view, format, w).map(drop))?
             }
             _ => {
-                let mut stdout = std::io::BufWriter::new(std::io::stdout().lock());
-                // A closed pipe (e.g. `| head`) is not an error worth reporting.
+                // A failure (a full disk; a closed pipe is no failure) reaches the exit code
+                // through `cli::out::finish`.
+                let mut stdout = crate::cli::out::Stdout::lock();
                 let _ = write_one(&view, format, &mut stdout).and_then(|_| stdout.flush());
             }
         }
@@ -134,10 +135,13 @@ fn write(
     let dir = out.filter(|_| !to_stdout).ok_or_else(|| {
         Diagnostic::bare("`--format mtx` writes a directory: give it with `-o DIR`")
     })?;
-    std::fs::create_dir_all(dir)
-        .map_err(|e| Diagnostic::bare(format!("cannot create `{}`: {e}", dir.display())))?;
-    for (name, bytes) in &files {
-        write_atomic(&dir.join(name), bytes)?;
+    // The matrices and priors are one set (`slant-set.json`): two noise strengths give the
+    // same `H.mtx`, so a mixture of two runs would otherwise go unnoticed.
+    let names: Vec<&str> = files.iter().map(|(n, _)| n.as_str()).collect();
+    let mut set = OutputSet::create(dir, &names, crate::cli::run_description())?;
+    for (k, (_, bytes)) in files.iter().enumerate() {
+        set.write(k, bytes)?;
     }
+    set.commit()?;
     Ok((rendered, clock.elapsed() - rendered))
 }

@@ -13,6 +13,21 @@
 //! | 3 | the answer is "no" (`fmt --check` found a file that is not canonical; `bias` found the bias lost) |
 //! | 4 | internal error: a bug, please report it |
 
+/// `print!` for subcommands: writes to standard output through [`out`], which never panics and
+/// keeps the first error for the exit code. Subcommands never use `print!`/`println!`
+/// (`scripts/forbid.sh` refuses them under `src/cli/`).
+macro_rules! out {
+    ($($arg:tt)*) => { $crate::cli::out::print(format_args!($($arg)*)) };
+}
+
+/// `println!` for subcommands; see [`out!`].
+macro_rules! outln {
+    () => { $crate::cli::out::print(format_args!("\n")) };
+    ($($arg:tt)*) => {
+        $crate::cli::out::print(format_args!("{}\n", format_args!($($arg)*)))
+    };
+}
+
 mod bias;
 mod budget;
 mod check;
@@ -27,13 +42,14 @@ mod fmt;
 mod graph;
 mod merge;
 mod new;
+mod out;
 mod plot;
 mod progress;
 mod shots;
 mod sweep;
 mod trace;
 
-use std::io::IsTerminal;
+use std::io::{IsTerminal, Write};
 
 use clap::{Parser, Subcommand};
 
@@ -109,6 +125,9 @@ enum CliError {
     Rejected(Vec<Diagnostic>),
     /// A yes/no command answered no; the message has been printed already.
     No,
+    /// A bad option value found after argument parsing (e.g. a distance the family cannot
+    /// take): exit 2 like the values the argument parser refuses itself.
+    Usage(Diagnostic),
     /// A bug.
     Internal(String),
 }
@@ -134,6 +153,21 @@ impl From<StudyError> for CliError {
             )),
         }
     }
+}
+
+/// What the manifest of an output set ([`crate::base::OutputSet`]) says about the run: the
+/// program version and the whole command line (inputs, noise, seed), and the current directory
+/// the paths in it are relative to.
+fn run_description() -> serde_json::Value {
+    let cwd = std::env::current_dir().map_or(String::new(), |d| d.display().to_string());
+    serde_json::json!({
+        "program": concat!("slant ", env!("CARGO_PKG_VERSION")),
+        "arguments": std::env::args_os()
+            .skip(1)
+            .map(|a| a.to_string_lossy().into_owned())
+            .collect::<Vec<_>>(),
+        "directory": cwd,
+    })
 }
 
 /// Runs the CLI on the process arguments and returns the exit code.
@@ -164,6 +198,14 @@ pub fn main() -> i32 {
         Command::Sweep(a) => sweep::run(a),
         Command::Trace(a) => trace::run(a),
     };
+    // Standard output's first failure decides the exit code unless the subcommand failed for a
+    // reason of its own (whose diagnostic is the one worth reading).
+    let result = match (result, out::finish()) {
+        (Ok(()) | Err(CliError::No), Some(e)) => Err(CliError::Rejected(vec![Diagnostic::bare(
+            format!("cannot write to standard output: {e}"),
+        )])),
+        (result, _) => result,
+    };
     match result {
         Ok(()) => EXIT_OK,
         Err(CliError::Rejected(diags)) => {
@@ -171,8 +213,15 @@ pub fn main() -> i32 {
             EXIT_REJECTED
         }
         Err(CliError::No) => EXIT_NO,
+        Err(CliError::Usage(d)) => {
+            print_diagnostics(&[d]);
+            EXIT_USAGE
+        }
         Err(CliError::Internal(msg)) => {
-            eprintln!("slant: internal error: {msg}\nThis is a bug; please report it with the input that caused it.");
+            let _ = writeln!(
+                std::io::stderr(),
+                "slant: internal error: {msg}\nThis is a bug; please report it with the input that caused it."
+            );
             EXIT_INTERNAL
         }
     }
@@ -187,9 +236,9 @@ fn print_diagnostics(diags: &[Diagnostic]) {
             let text = text
                 .replacen("error:", "\x1b[1;31merror\x1b[0m:", 1)
                 .replacen("warning:", "\x1b[1;33mwarning\x1b[0m:", 1);
-            eprint!("{text}");
+            let _ = write!(std::io::stderr(), "{text}");
         } else {
-            eprint!("{text}");
+            let _ = write!(std::io::stderr(), "{text}");
         }
     }
 }

@@ -1,7 +1,8 @@
 //! `slant new FAMILY [options] [-o FILE]`: write a generated code-family circuit.
 //!
 //! The options map one to one onto [`crate::gen::GenSpec`]; the generator decides which apply to
-//! which family and explains a refusal in one sentence (printed as a diagnostic, exit code 1).
+//! which family and explains a refusal in one sentence (printed as a diagnostic, exit code 2: a
+//! usage error, like a value the argument parser refuses).
 
 use std::path::PathBuf;
 
@@ -140,14 +141,14 @@ impl Args {
 
 /// Runs `slant new`.
 pub fn run(args: Args) -> Result<(), CliError> {
-    let spec = args
-        .spec()
-        .map_err(|m| Diagnostic::bare(format!("cannot generate: {m}")))?;
-    let text = crate::gen::generate(&spec)
-        .map_err(|e| Diagnostic::bare(format!("cannot generate: {e}")))?;
+    // Every refusal here is about the option values given, so it is a usage error (exit 2) as
+    // are the values the argument parser refuses.
+    let usage = |m: String| CliError::Usage(Diagnostic::bare(format!("cannot generate: {m}")));
+    let spec = args.spec().map_err(usage)?;
+    let text = crate::gen::generate(&spec).map_err(|e| usage(e.to_string()))?;
     match &args.output {
         Some(path) => write_atomic(path, text.as_bytes())?,
-        None => print!("{text}"),
+        None => out!("{text}"),
     }
     Ok(())
 }

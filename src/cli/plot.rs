@@ -279,10 +279,10 @@ pub fn run(args: Args) -> Result<(), CliError> {
         let bytes = render_for(path, &[panel]).map_err(CliError::Internal)?;
         write_atomic(path, &bytes)?;
     }
-    print!("{report}");
-    println!("plot written to `{}`", args.output.display());
+    out!("{report}");
+    outln!("plot written to `{}`", args.output.display());
     if let Some(path) = &args.summary {
-        println!("threshold summary written to `{}`", path.display());
+        outln!("threshold summary written to `{}`", path.display());
     }
     Ok(())
 }

@@ -6,12 +6,11 @@
 //! every batch is written, so a killed run leaves no partial `.npy` behind. Memory stays bounded:
 //! a few batches per thread are held at once, whatever `--shots` is.
 
-use std::fs;
-use std::io::{BufWriter, Write};
+use std::io::Write;
 use std::path::PathBuf;
 use std::time::Instant;
 
-use crate::base::{npy_header, AtomicFile, Diagnostic};
+use crate::base::{npy_header, Diagnostic, OutputSet};
 use crate::cli::common::{CircuitArgs, NoiseArgs};
 use crate::cli::progress::Progress;
 use crate::cli::CliError;
@@ -55,8 +54,8 @@ pub struct Args {
     /// Noise to add.
     #[command(flatten)]
     pub noise: NoiseArgs,
-    /// Number of shots.
-    #[arg(long, value_name = "N")]
+    /// Number of shots (at least 1).
+    #[arg(long, value_name = "N", value_parser = clap::value_parser!(u64).range(1..))]
     pub shots: u64,
     /// Seed of the random generator; the same seed gives the same output.
     #[arg(long, value_name = "S", default_value_t = 0)]
@@ -92,7 +91,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
         bench(circuit, args.shots, args.seed);
         return Ok(());
     }
-    let sampler = pipeline.sampler();
+    let sampler = pipeline.sampler()?;
     let what = Outputs {
         detectors: true,
         observables: true,
@@ -106,8 +105,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
     let mut progress = Progress::new(args.shots, "shots");
     match args.format {
         Format::Bits => {
-            let stdout = std::io::stdout();
-            let mut out = BufWriter::new(stdout.lock());
+            let mut out = crate::cli::out::Stdout::lock();
             let mut result = Ok(());
             let mut line = Vec::new();
             sampler.sample(args.shots, args.seed, what, |b| {
@@ -145,20 +143,16 @@ pub fn run(args: Args) -> Result<(), CliError> {
                 .map_err(|e| Diagnostic::bare(format!("cannot write to standard output: {e}")))?;
         }
         Format::Npy => {
-            fs::create_dir_all(&args.out).map_err(|e| {
-                Diagnostic::bare(format!("cannot create `{}`: {e}", args.out.display()))
-            })?;
             let mut names = vec!["detectors.npy", "observables.npy"];
             if args.measurements {
                 names.push("measurements.npy");
             }
-            let mut files = Vec::new();
-            for (name, &count) in names.iter().zip(&counts) {
-                let path = args.out.join(name);
-                let mut f = AtomicFile::create(&path)?;
+            // The arrays are one set: a reader can tell (`slant-set.json`) whether they came
+            // from one run.
+            let mut files = OutputSet::create(&args.out, &names, crate::cli::run_description())?;
+            for (k, &count) in counts.iter().enumerate().take(names.len()) {
                 let cols = row_bytes(count, args.packed) as u64;
-                f.write(&npy_header("|u1", &[args.shots, cols]))?;
-                files.push(f);
+                files.write(k, &npy_header("|u1", &[args.shots, cols]))?;
             }
             let mut failure: Option<Diagnostic> = None;
             let mut buf = Vec::new();
@@ -167,7 +161,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
                     return;
                 }
                 let tables = [&b.detectors, &b.observables, &b.measurements];
-                for (k, f) in files.iter_mut().enumerate() {
+                for k in 0..names.len() {
                     buf.clear();
                     append_shot_rows(
                         tables[k].as_raw_slice(),
@@ -177,7 +171,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
                         args.packed,
                         &mut buf,
                     );
-                    if let Err(d) = f.write(&buf) {
+                    if let Err(d) = files.write(k, &buf) {
                         failure = Some(d);
                         return;
                     }
@@ -188,9 +182,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
             if let Some(d) = failure {
                 return Err(d.into());
             }
-            for f in files {
-                f.commit()?;
-            }
+            files.commit()?;
         }
     }
     Ok(())
@@ -233,25 +225,25 @@ fn bench(circuit: &Circuit, shots: u64, seed: u64) {
     let reps = ((word_ops as usize) / mem.max(1)).max(1);
     let xor_rate = xor_baseline(mem, reps);
     let rate = word_ops as f64 / sample_s;
-    println!("qubits: {}", circuit.qubits.len());
-    println!("operations: {}", circuit.op_count());
-    println!("results: {}", circuit.records.len());
-    println!("detectors: {}", circuit.detectors.len());
-    println!("reference_seconds: {reference_s:.6}");
-    println!("shots: {sampled}");
-    println!("sample_seconds: {sample_s:.6}");
-    println!("shots_per_second: {:.0}", sampled as f64 / sample_s);
-    println!(
+    outln!("qubits: {}", circuit.qubits.len());
+    outln!("operations: {}", circuit.op_count());
+    outln!("results: {}", circuit.records.len());
+    outln!("detectors: {}", circuit.detectors.len());
+    outln!("reference_seconds: {reference_s:.6}");
+    outln!("shots: {sampled}");
+    outln!("sample_seconds: {sample_s:.6}");
+    outln!("shots_per_second: {:.0}", sampled as f64 / sample_s);
+    outln!(
         "detection_events_per_shot: {:.4}",
         events as f64 / sampled as f64
     );
-    println!(
+    outln!(
         "sampler_word_ops_per_shot: {:.1}",
         word_ops as f64 / sampled as f64
     );
-    println!("sparse_faults_per_shot: {:.3}", sampler.faults_per_shot());
-    println!("baseline_memory_words: {mem}");
-    println!("sampler_word_ops_per_second: {rate:.4e}");
-    println!("xor_loop_words_per_second: {xor_rate:.4e}");
-    println!("fraction_of_xor_loop: {:.3}", rate / xor_rate);
+    outln!("sparse_faults_per_shot: {:.3}", sampler.faults_per_shot());
+    outln!("baseline_memory_words: {mem}");
+    outln!("sampler_word_ops_per_second: {rate:.4e}");
+    outln!("xor_loop_words_per_second: {xor_rate:.4e}");
+    outln!("fraction_of_xor_loop: {:.3}", rate / xor_rate);
 }

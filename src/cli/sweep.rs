@@ -50,7 +50,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
     if args.list {
         for (i, t) in spec.tasks.iter().enumerate() {
             if args.shard.is_none_or(|s| s.has(i)) {
-                println!("{i}\t{}", t.key);
+                outln!("{i}\t{}", t.key);
             }
         }
         return Ok(());

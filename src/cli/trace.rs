@@ -110,7 +110,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
     for k in ks {
         out.push_str(&describe(&graph, k, &names));
     }
-    print!("{out}");
+    out!("{out}");
     Ok(())
 }
 

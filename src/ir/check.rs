@@ -14,7 +14,7 @@
 //! `sim`, a later stage, which is why this is not a link).
 
 use crate::base::{Diagnostic, Span};
-use crate::ir::sensitivity::{sensitivity_sweep, SweepPoint};
+use crate::ir::sensitivity::{sensitivity_sweep_within, SweepPoint};
 use crate::ir::{Circuit, OpKind};
 
 /// What made a parity random.
@@ -30,6 +30,13 @@ const MAX_REPORTED: usize = 20;
 
 /// Verifies that every detector and observable is deterministic.
 pub fn check(c: &Circuit) -> Result<(), Vec<Diagnostic>> {
+    check_within(c, &crate::ir::Limits::default())
+}
+
+/// [`check`] within the memory budget of `limits`: the sweep's sets of symptom ids (4 bytes
+/// each) may take at most half of it, and a circuit that needs more is refused when it gets
+/// there, not after the allocation fails.
+pub fn check_within(c: &Circuit, limits: &crate::ir::Limits) -> Result<(), Vec<Diagnostic>> {
     let d = c.detectors.len();
     let mut culprit: Vec<Option<Culprit>> = vec![None; d + c.observables.len()];
     let mut mark = |ids: &[u32], who: Culprit| {
@@ -37,7 +44,8 @@ pub fn check(c: &Circuit) -> Result<(), Vec<Diagnostic>> {
             culprit[id as usize].get_or_insert(who);
         }
     };
-    sensitivity_sweep(c, |point, s| match point {
+    let max_ids = limits.memory_bytes() / 2 / 4;
+    let swept = sensitivity_sweep_within(c, max_ids, |point, s| match point {
         SweepPoint::After { op, .. } => match &op.kind {
             OpKind::Measure { .. } => {
                 let ids = s.of_product(op.paulis.iter().copied().zip(op.targets.iter().copied()));
@@ -68,6 +76,19 @@ pub fn check(c: &Circuit) -> Result<(), Vec<Diagnostic>> {
             }
         }
     });
+    if let Err(held) = swept {
+        return Err(vec![Diagnostic::bare(format!(
+            "checking this circuit needs more than {} MB for the detectors each fault location \
+             would flip ({held} ids held at once), past the memory budget of {} MB",
+            held * 4 / 1_000_000,
+            limits.memory_bytes() / 1_000_000
+        ))
+        .with_hint(
+            "a qubit measured many times without a reset after many others were entangled \
+             with it makes every one of them flip every later result; reset it, or raise the \
+             budget with `--max-items`",
+        )]);
+    }
     let mut errors = Vec::new();
     for (id, who) in culprit.iter().enumerate() {
         let Some(who) = who else { continue };

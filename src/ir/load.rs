@@ -29,6 +29,6 @@ pub fn load_source_with(
 ) -> Result<Circuit, Vec<Diagnostic>> {
     let ast = crate::lang::parse(source)?;
     let circuit = expand(&ast, overrides, limits)?;
-    crate::ir::check::check(&circuit)?;
+    crate::ir::check::check_within(&circuit, limits)?;
     Ok(circuit)
 }

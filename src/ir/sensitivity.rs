@@ -63,6 +63,8 @@ pub struct Sensitivity {
     /// Reused buffers for gate images, so the sweep allocates nothing per gate.
     scratch: Vec<SymSet>,
     tmp: SymSet,
+    /// Ids held in `x` and `z` together: what the sweep's memory grows with.
+    held: u64,
 }
 
 impl Sensitivity {
@@ -96,6 +98,7 @@ impl Sensitivity {
             OpKind::Noise(_) => {}
             OpKind::Reset(_) => {
                 for &q in &op.targets {
+                    self.held -= (self.x[q as usize].len() + self.z[q as usize].len()) as u64;
                     self.x[q as usize].clear();
                     self.z[q as usize].clear();
                 }
@@ -107,6 +110,7 @@ impl Sensitivity {
                 }
                 for (&q, &p) in op.targets.iter().zip(&op.paulis) {
                     let q = q as usize;
+                    let before = (self.x[q].len() + self.z[q].len()) as u64;
                     // An X flips the result iff P has a Z part, and vice versa.
                     if p.has_z() {
                         xor_assign(&mut self.x[q], flips, &mut self.tmp);
@@ -114,6 +118,7 @@ impl Sensitivity {
                     if p.has_x() {
                         xor_assign(&mut self.z[q], flips, &mut self.tmp);
                     }
+                    self.held = self.held - before + (self.x[q].len() + self.z[q].len()) as u64;
                 }
             }
             OpKind::Gate(g) => self.undo_gate(*g, &op.targets),
@@ -140,6 +145,10 @@ impl Sensitivity {
             }
             // Swap, not clone: the old sets become next gate's scratch buffers.
             for (i, &q) in chunk.iter().enumerate() {
+                let (q, k) = (q as usize, 2 * i);
+                self.held = self.held - (self.x[q].len() + self.z[q].len()) as u64
+                    + (outs[k].len() + outs[k + 1].len()) as u64;
+                let q = q as u32;
                 std::mem::swap(&mut self.x[q as usize], &mut outs[2 * i]);
                 std::mem::swap(&mut self.z[q as usize], &mut outs[2 * i + 1]);
             }
@@ -170,8 +179,20 @@ pub fn record_symptoms(circuit: &Circuit) -> Vec<SymSet> {
 /// sensitivities just after it) and finally at the start.
 pub fn sensitivity_sweep<'c>(
     circuit: &'c Circuit,
-    mut visit: impl FnMut(SweepPoint<'c>, &Sensitivity),
+    visit: impl FnMut(SweepPoint<'c>, &Sensitivity),
 ) {
+    let _ = sensitivity_sweep_within(circuit, u64::MAX, visit);
+}
+
+/// [`sensitivity_sweep`] that stops once the sets hold more than `max_ids` ids together
+/// (4 bytes each), returning the ids held then. No count of items bounds them: a qubit
+/// measured many times without a reset after many others were entangled with it holds
+/// qubits × results ids.
+pub fn sensitivity_sweep_within<'c>(
+    circuit: &'c Circuit,
+    max_ids: u64,
+    mut visit: impl FnMut(SweepPoint<'c>, &Sensitivity),
+) -> Result<(), u64> {
     let n = circuit.qubits.len();
     let d = circuit.detectors.len() as u32;
     let mut s = Sensitivity {
@@ -181,6 +202,7 @@ pub fn sensitivity_sweep<'c>(
         detectors: d,
         scratch: Vec::new(),
         tmp: Vec::new(),
+        held: 0,
     };
     for (li, layer) in circuit.layers.iter().enumerate().rev() {
         for (oi, op) in layer.ops.iter().enumerate().rev() {
@@ -193,7 +215,11 @@ pub fn sensitivity_sweep<'c>(
                 &s,
             );
             s.undo(op);
+            if s.held > max_ids {
+                return Err(s.held);
+            }
         }
     }
     visit(SweepPoint::Start, &s);
+    Ok(())
 }

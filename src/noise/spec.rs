@@ -83,6 +83,22 @@ fn parse_extension(source: &Arc<Source>) -> Option<Result<NoiseSpec, Diagnostic>
             Ok(s) => s,
             Err(e) => return Some(Err(e)),
         };
+        // A model file is a page of TOML; anything past the limit (a mistaken path to a data
+        // file) is refused before it is read and parsed.
+        let max = crate::ir::Limits::default().max_source_bytes();
+        if let Ok(m) = std::fs::metadata(path) {
+            if m.is_file() && m.len() > max {
+                return Some(Err(Diagnostic::error(
+                    source,
+                    at,
+                    format!(
+                        "the noise model file `{first}` is {} bytes, past the limit of {max} \
+                         bytes for an input file",
+                        m.len()
+                    ),
+                )));
+            }
+        }
         return Some(match std::fs::read_to_string(path) {
             Ok(body) => read_with_settings(source, first, body, &settings)
                 .map(|m| NoiseSpec::Model(Box::new(m))),

@@ -45,7 +45,7 @@ use rayon::prelude::*;
 
 use crate::base::{Basis, Gate, Pauli};
 use crate::ir::{Circuit, OpKind};
-use crate::sim::tableau::{reference_run, Reference};
+use crate::sim::tableau::{reference_run, Reference, Tableau};
 
 /// Shots per batch: 64 words of 64 shots. Fixed, because the per-batch seeds depend on it.
 pub const BATCH_SHOTS: usize = 4096;
@@ -297,6 +297,19 @@ impl Streams {
         self.faults += p.min(1.0) * count as f64;
         (k, first)
     }
+}
+
+/// Bytes a [`Sampler`] of `circuit` needs before its first batch: the reference run's tableau
+/// and result tables, and one batch of frames and results per thread of the pool (a few at
+/// once). The fault streams are left out: they grow with the operations, which the expansion
+/// budget already counts.
+pub fn sampler_bytes(circuit: &Circuit) -> u64 {
+    let tableau = Tableau::bytes(circuit.qubits.len());
+    let records = circuit.records.len() as u64;
+    let outputs = (circuit.detectors.len() + circuit.observables.len()) as u64;
+    let batch = (2 * circuit.qubits.len() as u64 + records + outputs) * W as u64 * 8;
+    let threads = rayon::current_num_threads() as u64;
+    tableau + 2 * records + outputs + 4 * threads * batch
 }
 
 impl Sampler {

@@ -14,5 +14,7 @@ mod frame;
 mod tableau;
 
 pub use bits::{append_shot_rows, row_bytes};
-pub use frame::{sample, xor_baseline, Batch, BitTable, Outputs, Sampler, BATCH_SHOTS};
+pub use frame::{
+    sample, sampler_bytes, xor_baseline, Batch, BitTable, Outputs, Sampler, BATCH_SHOTS,
+};
 pub use tableau::{branch_run, reference_run, Measured, Reference, Tableau};

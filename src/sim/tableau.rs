@@ -224,6 +224,13 @@ fn col_x(_x: &mut [u64], z: &mut [u64], sign: &mut bool, k: usize) {
 }
 
 impl Tableau {
+    /// Bytes the tableau of `n` qubits holds: two bit matrices of 2n rows of n bits (dense, so
+    /// quadratic in the qubits), checked against the memory budget before it is built.
+    pub fn bytes(n: usize) -> u64 {
+        let w = n.div_ceil(64).max(1) as u64;
+        2 * (2 * n as u64 * w * 8) + 2 * n as u64 + 16 * w
+    }
+
     /// The tableau of `|0…0>` on `n` qubits.
     pub fn new(n: usize) -> Tableau {
         let w = n.div_ceil(64).max(1);

@@ -44,8 +44,9 @@ pub use rare::{
 };
 pub use stats::{per_round, wilson, Estimate, Z95};
 pub use sweep::{
-    aggregate, chunk_seed, merge_rows, parse_rows, plan, read_store, run_sweep, ChunkRow, Event,
-    Point, Shard, Store, SweepSpec, Task, TaskState, DEFAULT_CHUNK, STORE_VERSION,
+    aggregate, chunk_seed, load_store, merge_rows, parse_rows, plan, read_store, run_sweep,
+    ChunkRow, Conflict, Event, Point, Shard, Store, StoreContents, SweepSpec, Task, TaskState,
+    DEFAULT_CHUNK, STORE_HEADER, STORE_VERSION,
 };
 pub use threshold::{
     bootstrap, crossings, pairs, scaling_fit, threshold, Bootstrap, Crossing, NoCrossing, Pair,

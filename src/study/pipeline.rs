@@ -38,6 +38,9 @@ pub struct Pipeline {
     noise: Option<String>,
     /// The model's warnings about this circuit.
     warnings: Vec<Diagnostic>,
+    /// The size limits the circuit was loaded under; their memory budget also bounds the
+    /// sampler.
+    limits: Limits,
 }
 
 impl Pipeline {
@@ -48,10 +51,12 @@ impl Pipeline {
         overrides: &[(String, i64)],
         limits: &Limits,
     ) -> Result<Pipeline, Vec<Diagnostic>> {
-        crate::ir::load_source_with(source, overrides, limits).map(Pipeline::from_circuit)
+        let mut p = Pipeline::from_circuit(crate::ir::load_source_with(source, overrides, limits)?);
+        p.limits = limits.clone();
+        Ok(p)
     }
 
-    /// A pipeline for a circuit already loaded and checked.
+    /// A pipeline for a circuit already loaded and checked (under the default limits).
     pub fn from_circuit(circuit: Circuit) -> Pipeline {
         Pipeline {
             noisy: circuit.clone(),
@@ -60,6 +65,7 @@ impl Pipeline {
             duration: None,
             noise: None,
             warnings: Vec::new(),
+            limits: Limits::default(),
         }
     }
 
@@ -68,7 +74,10 @@ impl Pipeline {
     /// file writes. Any noise given before is replaced, not added to.
     pub fn noised(&self, text: Option<&str>) -> Result<Pipeline, Vec<Diagnostic>> {
         match text {
-            None => Ok(Pipeline::from_circuit(self.circuit.clone())),
+            None => Ok(Pipeline {
+                limits: self.limits.clone(),
+                ..Pipeline::from_circuit(self.circuit.clone())
+            }),
             Some(text) => {
                 let spec = NoiseSpec::parse(text).map_err(|d| vec![d])?;
                 let mut out = self.noised_spec(&spec)?;
@@ -90,6 +99,7 @@ impl Pipeline {
             duration: (c.duration > 0.0).then_some(c.duration),
             noise: None,
             warnings: c.warnings,
+            limits: self.limits.clone(),
         })
     }
 
@@ -135,18 +145,37 @@ impl Pipeline {
         self.graph(&ExtractOptions::default()).matching_graph()
     }
 
-    /// The Pauli-frame sampler of the noisy circuit.
-    pub fn sampler(&self) -> Sampler {
-        Sampler::new(&self.noisy)
+    /// The Pauli-frame sampler of the noisy circuit, refused before anything is allocated when
+    /// it would hold more than the memory budget ([`Limits::memory_bytes`]).
+    pub fn sampler(&self) -> Result<Sampler, Diagnostic> {
+        let need = crate::sim::sampler_bytes(&self.noisy);
+        let budget = self.limits.memory_bytes();
+        if need > budget {
+            return Err(Diagnostic::bare(format!(
+                "sampling this circuit needs about {} of memory ({} qubits: the reference run's \
+                 tableau grows with their square), past the memory budget of {}",
+                human_bytes(need),
+                self.noisy.qubits.len(),
+                human_bytes(budget),
+            ))
+            .with_hint(format!(
+                "the budget is `--max-items` × {} bytes; raise it with `--max-items {}` if the \
+                 machine has the memory",
+                Limits::BYTES_PER_ITEM,
+                need.div_ceil(Limits::BYTES_PER_ITEM)
+            )));
+        }
+        Ok(Sampler::new(&self.noisy))
     }
 
     /// The sampler paired with a decoder of `kind` built from the matching graph, ready for
     /// Monte Carlo runs.
-    pub fn experiment(&self, kind: DecoderKind) -> Result<Experiment, BuildError> {
+    pub fn experiment(&self, kind: DecoderKind) -> Result<Experiment, StudyError> {
+        let sampler = self.sampler()?;
         let (matching, graph_stats) = self.matching_graph();
         let decoder = kind.build(&matching)?;
         Ok(Experiment {
-            sampler: self.sampler(),
+            sampler,
             decoder,
             rounds: self.noisy.rounds.max(1),
             detectors: self.noisy.detectors.len(),
@@ -154,6 +183,16 @@ impl Pipeline {
             edges: matching.edges.len(),
             graph_stats,
         })
+    }
+}
+
+/// `1.4 GB`, `25.9 GB`, `512 MB`: a byte count for a message.
+fn human_bytes(b: u64) -> String {
+    let b = b as f64;
+    if b >= 1e9 {
+        format!("{:.1} GB", b / 1e9)
+    } else {
+        format!("{:.0} MB", (b / 1e6).max(1.0))
     }
 }
 

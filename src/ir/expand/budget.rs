@@ -381,7 +381,8 @@ const NODES_PER_STEP: u64 = 4;
 /// Number of nodes of an expression.
 pub(super) fn expr_nodes(e: &Expr) -> u64 {
     let mut n = 0;
-    let mut stack = vec![e];
+    // On the stack: this runs for every statement of every loop iteration the estimate walks.
+    let mut stack: smallvec::SmallVec<[&Expr; 32]> = smallvec::smallvec![e];
     while let Some(e) = stack.pop() {
         n += 1;
         match &e.kind {

@@ -102,6 +102,27 @@ impl Default for Limits {
     }
 }
 
+impl Limits {
+    /// Bytes of memory each item of the budget stands for: the most any item kind took when
+    /// circuits made of it were loaded and checked (see [`cost`]).
+    pub const BYTES_PER_ITEM: u64 = 70;
+
+    /// The memory budget: what a study may hold at once (source text, expanded circuit,
+    /// tableau, sampler batches), `max_items` × [`Limits::BYTES_PER_ITEM`] (1.4 GB by default).
+    /// Whatever would pass it is refused before it is allocated.
+    pub fn memory_bytes(&self) -> u64 {
+        self.max_items.saturating_mul(Self::BYTES_PER_ITEM)
+    }
+
+    /// The largest source file read: half a byte per item of the budget (10 MB by default),
+    /// but never less than 256 KiB, so small limits still read ordinary files. The parser's
+    /// peak memory grows with the text (a 50 MB file once peaked at 9.6 GB before any limit
+    /// applied), so a file past this is refused before it is read whole.
+    pub fn max_source_bytes(&self) -> u64 {
+        (self.max_items / 2).max(256 << 10)
+    }
+}
+
 /// Expands an AST with `--set` overrides.
 pub fn expand(
     ast: &Ast,

@@ -33,7 +33,8 @@
 //! chunk at which its failure total reaches `until_failures`.
 //!
 //! # Store (JSON Lines)
-//! One [`ChunkRow`] per finished chunk, appended with a single `write` followed by `fsync`. A killed
+//! A header line ([`STORE_HEADER`]) marks the file as a store; `--store` refuses any other
+//! non-empty file. Then one [`ChunkRow`] per finished chunk, appended with a single `write` followed by `fsync`. A killed
 //! run therefore loses at most the chunks in flight. On restart the store is read, a torn last
 //! line (no newline) is cut off, and chunks already recorded are skipped; since every task's
 //! recorded chunks form a prefix and chunk results depend only on the key and index, a resumed
@@ -57,5 +58,6 @@ mod store;
 pub use run::{plan, run_sweep, Event, Shard, TaskState};
 pub use spec::{chunk_seed, SweepSpec, Task, DEFAULT_CHUNK};
 pub use store::{
-    aggregate, merge_rows, parse_rows, read_store, ChunkRow, Point, Store, STORE_VERSION,
+    aggregate, load_store, merge_rows, parse_rows, read_store, ChunkRow, Conflict, Point, Store,
+    StoreContents, STORE_HEADER, STORE_VERSION,
 };

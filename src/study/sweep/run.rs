@@ -226,9 +226,12 @@ fn build(task: &Task, on_event: &(dyn Fn(Event) + Sync)) -> Result<Experiment, D
     if !pipeline.warnings().is_empty() {
         on_event(Event::Warnings(task, pipeline.warnings()));
     }
-    pipeline
-        .experiment(task.decoder)
-        .map_err(|e| Diagnostic::bare(format!("task `{}`: cannot decode: {e}", task.key)))
+    pipeline.experiment(task.decoder).map_err(|e| match e {
+        crate::study::StudyError::Rejected(d) => first(d),
+        crate::study::StudyError::Undecodable(e) => {
+            Diagnostic::bare(format!("task `{}`: cannot decode: {e}", task.key))
+        }
+    })
 }
 
 #[cfg(test)]

@@ -51,20 +51,52 @@ pub struct ChunkRow {
     pub decoder: String,
 }
 
+/// The first line of every store written now: it tells a store from any other file, so
+/// `--store` never takes someone's notes for a store with a torn row. Stores written before it
+/// existed start with a row and are still read.
+pub const STORE_HEADER: &str = "{\"slant_results_store\":2}";
+
 /// Parses the rows of a store. A last line without a newline is a torn write and is ignored
 /// (its byte offset is returned so an appender can cut it off); any other bad line is an error
-/// pointing at it.
+/// pointing at it. A file that is neither empty nor starts with [`STORE_HEADER`] or a row is
+/// refused whole: it is not a store.
 pub fn parse_rows(source: &Arc<Source>) -> Result<(Vec<ChunkRow>, usize), Diagnostic> {
     let text = source.text.as_str();
     let complete = text.rfind('\n').map_or(0, |i| i + 1);
+    let torn = &text[complete..];
+    // A torn row is the start of a row: `{` and nothing but what a row may hold.
+    if !torn.trim().is_empty() && (!torn.trim_start().starts_with('{') || torn.contains('\r')) {
+        let span = Span::new(complete, text.len());
+        return Err(not_a_store(
+            source,
+            span,
+            "its last line is not the start of a row",
+        ));
+    }
+    if complete == 0 && !torn.trim().is_empty() && !torn.trim_start().starts_with(STORE_HEADER) {
+        // One line and no newline: nothing here was ever a complete row of a store.
+        return Err(not_a_store(
+            source,
+            Span::new(0, text.len()),
+            "it holds no complete row and no store header",
+        ));
+    }
     let mut rows = Vec::new();
     let mut offset = 0;
-    for line in text[..complete].split_inclusive('\n') {
+    for (n, line) in text[..complete].split_inclusive('\n').enumerate() {
         let body = line.trim_end();
+        if n == 0 && body == STORE_HEADER {
+            offset += line.len();
+            continue;
+        }
         if !body.is_empty() {
             let span = Span::new(offset, offset + body.len());
             let bad = |e: serde_json::Error| {
-                Diagnostic::error(source, span, format!("not a results row: {e}"))
+                if n == 0 {
+                    not_a_store(source, span, &format!("its first line is not a row ({e})"))
+                } else {
+                    Diagnostic::error(source, span, format!("not a results row: {e}"))
+                }
             };
             let mut value: serde_json::Value = serde_json::from_str(body).map_err(bad)?;
             super::legacy::upgrade(&mut value, STORE_VERSION);
@@ -86,14 +118,42 @@ pub fn parse_rows(source: &Arc<Source>) -> Result<(Vec<ChunkRow>, usize), Diagno
     Ok((rows, complete))
 }
 
+fn not_a_store(source: &Arc<Source>, span: Span, why: &str) -> Diagnostic {
+    Diagnostic::error(
+        source,
+        span,
+        format!("`{}` is not a slant results store: {why}", source.name),
+    )
+    .with_hint("give a new file name, or a store written by `slant sweep` or `slant merge`")
+}
+
 /// Reads the rows of the store at `path` (none if it does not exist).
 pub fn read_store(path: &Path) -> Result<Vec<ChunkRow>, Diagnostic> {
+    Ok(load_store(path)?.rows)
+}
+
+/// A store read whole, with what was dropped on the way.
+#[derive(Clone, Debug, Default, PartialEq)]
+pub struct StoreContents {
+    /// The complete rows.
+    pub rows: Vec<ChunkRow>,
+    /// Bytes of a torn last row (a run killed while appending) that were not read.
+    pub torn_bytes: usize,
+}
+
+/// Reads the store at `path` (empty if it does not exist), reporting a torn last row.
+pub fn load_store(path: &Path) -> Result<StoreContents, Diagnostic> {
     match std::fs::read(path) {
         Ok(bytes) => {
+            let len = bytes.len();
             let source = crate::base::source_from_bytes(path.display().to_string(), bytes)?;
-            Ok(parse_rows(&source)?.0)
+            let (rows, complete) = parse_rows(&source)?;
+            Ok(StoreContents {
+                rows,
+                torn_bytes: len - complete,
+            })
         }
-        Err(e) if e.kind() == std::io::ErrorKind::NotFound => Ok(Vec::new()),
+        Err(e) if e.kind() == std::io::ErrorKind::NotFound => Ok(StoreContents::default()),
         Err(e) => Err(Diagnostic::bare(format!(
             "cannot read `{}`: {e}",
             path.display()
@@ -127,6 +187,12 @@ impl Store {
             file.set_len(complete as u64).map_err(io)?;
             file.seek(std::io::SeekFrom::End(0)).map_err(io)?;
         }
+        if complete == 0 {
+            // A new (or empty) store starts with its header.
+            file.write_all(format!("{STORE_HEADER}\n").as_bytes())
+                .and_then(|()| file.sync_data())
+                .map_err(io)?;
+        }
         Ok((
             Store {
                 file: Mutex::new(file),
@@ -151,22 +217,43 @@ impl Store {
     }
 }
 
+/// Two rows of one `(task, chunk)` whose counts disagree: the stores were made from different
+/// specs or one of them is damaged.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Conflict {
+    /// The task key.
+    pub task: String,
+    /// The chunk.
+    pub chunk: u64,
+    /// Index of the list (store) of the kept row, and its `(shots, failures)`.
+    pub kept: (usize, u64, u64),
+    /// Index of the list of the dropped row, and its `(shots, failures)`.
+    pub dropped: (usize, u64, u64),
+}
+
 /// Combines row lists, keeping the first row of each `(task, chunk)`. Returns the rows and the
-/// number of duplicates whose counts disagreed with the kept row (a sign of mixed-up stores).
-pub fn merge_rows(lists: impl IntoIterator<Item = Vec<ChunkRow>>) -> (Vec<ChunkRow>, usize) {
-    let mut seen: HashMap<(String, u64), (u64, u64)> = HashMap::new();
+/// duplicates whose counts disagreed with the kept row (a sign of mixed-up stores).
+pub fn merge_rows(
+    lists: impl IntoIterator<Item = Vec<ChunkRow>>,
+) -> (Vec<ChunkRow>, Vec<Conflict>) {
+    let mut seen: HashMap<(String, u64), (usize, u64, u64)> = HashMap::new();
     let mut out = Vec::new();
-    let mut conflicts = 0;
-    for list in lists {
+    let mut conflicts = Vec::new();
+    for (k, list) in lists.into_iter().enumerate() {
         for r in list {
             match seen.get(&(r.task.clone(), r.chunk)) {
-                Some(&(s, e)) => {
+                Some(&(from, s, e)) => {
                     if (s, e) != (r.shots, r.failures) {
-                        conflicts += 1;
+                        conflicts.push(Conflict {
+                            task: r.task.clone(),
+                            chunk: r.chunk,
+                            kept: (from, s, e),
+                            dropped: (k, r.shots, r.failures),
+                        });
                     }
                 }
                 None => {
-                    seen.insert((r.task.clone(), r.chunk), (r.shots, r.failures));
+                    seen.insert((r.task.clone(), r.chunk), (k, r.shots, r.failures));
                     out.push(r);
                 }
             }
@@ -289,7 +376,11 @@ mod tests {
         let (merged, conflicts) =
             merge_rows([vec![row(0, 2), row(1, 3)], vec![row(1, 3), row(0, 5)]]);
         assert_eq!(merged, vec![row(0, 2), row(1, 3)]);
-        assert_eq!(conflicts, 1);
+        assert_eq!(conflicts.len(), 1);
+        assert_eq!(
+            (conflicts[0].kept, conflicts[0].dropped),
+            ((0, 10, 2), (1, 10, 5))
+        );
         // A damaged row (more failures than shots) is refused, pointing at its line.
         let bad = serde_json::to_string(&row(1, 11)).unwrap();
         let text = parse_rows(&Source::new("r.jsonl", format!("{line}\n{bad}\n")))
@@ -299,5 +390,52 @@ mod tests {
         assert!(text.contains("r.jsonl:2:1"), "{text}");
         let pts = aggregate(&merged);
         assert_eq!((pts[0].shots, pts[0].failures), (20, 5));
+        // The header line is not a row.
+        let text = format!("{STORE_HEADER}\n{line}\n");
+        let (rows, _) = parse_rows(&Source::new("h.jsonl", text)).unwrap();
+        assert_eq!(rows, vec![row(0, 2)]);
+    }
+
+    /// `--store notes.txt` on a one-line text file without a newline took the line for a torn
+    /// row and cut the file to nothing; such files are refused now, and left as they were.
+    #[test]
+    fn files_that_are_not_stores_are_refused_and_kept() {
+        let dir = tempfile::tempdir().unwrap();
+        for text in [
+            "my notes, no newline",
+            "{\"json\": \"but not a store\"}",
+            "line one\nline two",
+            "{\"slant_results_store\":2}\nhalf a line",
+        ] {
+            let path = dir.path().join("notes.txt");
+            std::fs::write(&path, text).unwrap();
+            let err = match Store::open(&path) {
+                Ok(_) => panic!("{text:?} taken for a store"),
+                Err(e) => e.render(),
+            };
+            assert!(
+                err.contains("is not a slant results store") || err.contains("not a results row"),
+                "{text:?}: {err}"
+            );
+            assert_eq!(std::fs::read_to_string(&path).unwrap(), text);
+        }
+        // A new store starts with the header; reopening it reads no rows and adds nothing.
+        let path = dir.path().join("new.jsonl");
+        let (_, rows) = Store::open(&path).unwrap();
+        assert!(rows.is_empty());
+        let (_, rows) = Store::open(&path).unwrap();
+        assert!(rows.is_empty());
+        assert_eq!(
+            std::fs::read_to_string(&path).unwrap(),
+            format!("{STORE_HEADER}\n")
+        );
+        // A torn row after the header is still cut off, and reported by `load_store`.
+        std::fs::write(&path, format!("{STORE_HEADER}\n{{\"task\": \"t")).unwrap();
+        assert_eq!(load_store(&path).unwrap().torn_bytes, 11);
+        Store::open(&path).unwrap();
+        assert_eq!(
+            std::fs::read_to_string(&path).unwrap(),
+            format!("{STORE_HEADER}\n")
+        );
     }
 }
