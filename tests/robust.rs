@@ -27,7 +27,16 @@ fn printing_commands(dir: &Path) -> Vec<Vec<String>> {
         .run();
     assert!(ok.status.success(), "{}", parts(&ok).2);
     let svg = dir.join("plot.svg");
+    let picture = dir.join("patch.svg");
     let noisy = ["--noise", "circuit p=0.01"];
+    let events = dir.join("events");
+    let ok = slant()
+        .args([
+            "shots", REPETITION, noisy[0], noisy[1], "--shots", "64", "--out",
+        ])
+        .arg(&events)
+        .run();
+    assert!(ok.status.success(), "{}", parts(&ok).2);
     let mut cmds: Vec<Vec<&str>> = vec![
         vec!["new", "repetition", "--distance", "3"],
         vec!["check", REPETITION],
@@ -46,6 +55,28 @@ fn printing_commands(dir: &Path) -> Vec<Vec<String>> {
             "shots", REPETITION, noisy[0], noisy[1], "--shots", "64", "--format", "bits",
         ],
         vec!["plot", store.to_str().unwrap(), "-o", svg.to_str().unwrap()],
+        vec!["draw", REPETITION, "-o", picture.to_str().unwrap()],
+        vec!["budget", REPETITION, noisy[0], noisy[1], "--shots", "256"],
+        vec![
+            "estimate",
+            REPETITION,
+            noisy[0],
+            noisy[1],
+            "--method",
+            "splitting",
+            "--chains",
+            "2",
+            "--sweeps",
+            "2",
+        ],
+        vec![
+            "decode",
+            REPETITION,
+            noisy[0],
+            noisy[1],
+            "--events",
+            events.to_str().unwrap(),
+        ],
     ];
     cmds.iter_mut()
         .map(|c| c.iter().map(|s| s.to_string()).collect())

@@ -154,10 +154,10 @@ pub fn run(args: Args) -> Result<(), CliError> {
         write_atomic(path, &bytes)?;
     }
     if args.json {
-        println!("{}", json_text(&b, &file, noise, &args)?);
+        outln!("{}", json_text(&b, &file, noise, &args)?);
         return Ok(());
     }
-    print!("{}", text(&b, &file, noise, &args));
+    out!("{}", text(&b, &file, noise, &args));
     Ok(())
 }
 

@@ -154,7 +154,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
         };
         let text = serde_json::to_string_pretty(&report)
             .map_err(|e| CliError::Internal(format!("cannot serialise the report: {e}")))?;
-        println!("{text}");
+        outln!("{text}");
         return Ok(());
     }
     let mut out = String::new();
@@ -203,7 +203,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
                     failure count\n";
         }
     }
-    print!("{out}");
+    out!("{out}");
     Ok(())
 }
 

@@ -77,6 +77,6 @@ pub fn run(args: Args) -> Result<(), CliError> {
     )
     .map_err(CliError::Internal)?;
     write_atomic(&args.output, &bytes)?;
-    println!("picture written to `{}`", args.output.display());
+    outln!("picture written to `{}`", args.output.display());
     Ok(())
 }

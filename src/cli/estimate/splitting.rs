@@ -185,7 +185,7 @@ pub(super) fn run(args: &Args, pipeline: &Pipeline) -> Result<(), CliError> {
         };
         let text = serde_json::to_string_pretty(&report)
             .map_err(|e| CliError::Internal(format!("cannot serialise the report: {e}")))?;
-        println!("{text}");
+        outln!("{text}");
         return Ok(());
     }
     let mut out = String::new();
@@ -254,7 +254,7 @@ pub(super) fn run(args: &Args, pipeline: &Pipeline) -> Result<(), CliError> {
     out += &format!("per round: {}\n", show(per_shot.per_round(rounds)));
     out += &scaling_line(fit.as_ref(), distance.as_ref());
     out += &format!("These are {MODEL_NOTE}.\n");
-    print!("{out}");
+    out!("{out}");
     Ok(())
 }
 

@@ -42,18 +42,18 @@ pub(super) fn match_events(graph: &MatchingGraph, events: &[u32]) -> Result<Matc
 }
 
 /// Detection events and observable flips of the first shot of `seed`.
-fn sample(p: &Pipeline, seed: u64) -> (Vec<u32>, Vec<u32>) {
-    let b = p.sampler().run_batch(0, 1, seed, Outputs::syndromes());
+fn sample(p: &Pipeline, seed: u64) -> Result<(Vec<u32>, Vec<u32>), DrawError> {
+    let b = p.sampler()?.run_batch(0, 1, seed, Outputs::syndromes());
     let set = |table, n: usize| -> Vec<u32> {
         (0..n)
             .filter(|&i| b.get(table, i, 0))
             .map(|i| i as u32)
             .collect()
     };
-    (
+    Ok((
         set(&b.detectors, p.noisy().detectors.len()),
         set(&b.observables, p.noisy().observables.len()),
-    )
+    ))
 }
 
 /// The shot overlay for `seed`.
@@ -67,11 +67,11 @@ pub(super) fn shot(
     if graph.edges.is_empty() {
         return Err(no_noise().into());
     }
-    let (events, flipped) = sample(p, seed);
+    let (events, flipped) = sample(p, seed)?;
     if events.is_empty() {
         let next = (1..=LOOK_AHEAD)
             .map(|k| seed.wrapping_add(k))
-            .find(|&s| !sample(p, s).0.is_empty());
+            .find(|&s| sample(p, s).is_ok_and(|(e, _)| !e.is_empty()));
         let hint = match next {
             Some(s) => format!("seed {s} gives a shot with detection events: `--show shot:{s}`"),
             None => format!(

@@ -379,6 +379,7 @@ fn a_shot_shows_its_events_and_a_complete_matching() {
         .find(|&s| {
             let b = p
                 .sampler()
+                .unwrap()
                 .run_batch(0, 1, s, crate::sim::Outputs::syndromes());
             (0..p.noisy().detectors.len()).any(|d| b.get(&b.detectors, d, 0))
         })
@@ -396,6 +397,7 @@ fn a_shot_shows_its_events_and_a_complete_matching() {
     // The events are the sampler's, each placed at its detector's coordinates.
     let b = p
         .sampler()
+        .unwrap()
         .run_batch(0, 1, seed, crate::sim::Outputs::syndromes());
     let want: Vec<u32> = (0..p.noisy().detectors.len())
         .filter(|&k| b.get(&b.detectors, k, 0))
