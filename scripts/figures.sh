@@ -43,7 +43,14 @@ figures_device() {
   cat "$out/device.txt"
 }
 
-GROUPS=(compare thresholds device)
+# Pictures of the bundled circuits (`slant draw`): docs/draw/, see scripts/figures-draw.sh.
+figures_draw() {
+  # shellcheck source=scripts/figures-draw.sh
+  . scripts/figures-draw.sh
+  draw_figures "$bin"
+}
+
+GROUPS=(compare thresholds device draw)
 for group in "${@:-${GROUPS[@]}}"; do
   if ! declare -F "figures_$group" > /dev/null; then
     echo "$0: no figure group \`$group\` (groups: ${GROUPS[*]})" >&2

@@ -518,3 +518,35 @@ fn cluster_driver_run_locally_merges_to_the_single_run() {
     assert_eq!(single.len(), 4 * 3);
     assert_eq!(store_table(&dir.path().join("res.jsonl")), single);
 }
+
+/// A model's warnings about a circuit reach the user of a sweep too (each text once, however
+/// many tasks share it), and do not stop the sweep: an override naming a qubit the generated
+/// circuits lack.
+#[test]
+fn model_warnings_reach_a_sweep_once() {
+    let dir = tempfile::tempdir().unwrap();
+    let model = format!(
+        "{CAT}[[override]]\nqubit = \"chip[7]\"\nidle = {{ t_bitflip = 1e6, t2 = 20.0 }}\n"
+    );
+    model_file(dir.path(), "chip.toml", &model);
+    std::fs::write(
+        dir.path().join("spec.toml"),
+        "shots = 500\nchunk = 500\n[[grid]]\nfamily = \"repetition\"\ndistances = [3, 5]\n\
+         noise = \"chip.toml\"\np = [0.01, 0.02]\n",
+    )
+    .unwrap();
+    let (_, stderr) = ok(slant().current_dir(dir.path()).args([
+        "sweep",
+        "spec.toml",
+        "--store",
+        "s.jsonl",
+        "--jobs",
+        "1",
+    ]));
+    assert_eq!(
+        stderr.matches("this override matches no qubit").count(),
+        1,
+        "{stderr}"
+    );
+    assert_eq!(store_table(&dir.path().join("s.jsonl")).len(), 4);
+}
