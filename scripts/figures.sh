@@ -5,7 +5,7 @@
 #   scripts/figures.sh device compare  only these groups
 #
 # One shell function per figure group, named figures_GROUP; a new group is a new function plus
-# its name in GROUPS. Sweeps write resumable stores under target/figures/, so a rerun (or a run
+# its name in FIGURE_GROUPS. Sweeps write resumable stores under target/figures/, so a rerun (or a run
 # after an interruption) only samples what is missing and then redraws.
 set -euo pipefail
 cd "$(dirname "$0")/.."
@@ -24,10 +24,12 @@ figures_compare() {
     --plot docs/compare_entanglers.svg > "$out/compare_entanglers.txt"
 }
 
-# Threshold sweeps of bench/thresholds/ at reduced size (QUICK=1: 3 smallest distances, 20 000
+# Threshold sweeps of bench/thresholds/: code capacity and phenomenological at full size (d up to
+# 15, minutes), the circuit-level ones at reduced size (QUICK=1: 3 smallest distances, 20 000
 # shots per point): docs/threshold_NAME.svg.
 figures_thresholds() {
-  QUICK=1 bash bench/thresholds.sh
+  SPECS="surface_capacity surface_phenomenological" bash bench/thresholds.sh
+  QUICK=1 SPECS="repetition_phenomenological xzzx_biased surface_circuit" bash bench/thresholds.sh
 }
 
 # The device study: XZZX threshold against bias under the cat model with biased resets and
@@ -50,10 +52,10 @@ figures_draw() {
   draw_figures "$bin"
 }
 
-GROUPS=(compare thresholds device draw)
-for group in "${@:-${GROUPS[@]}}"; do
+FIGURE_GROUPS=(compare thresholds device draw)
+for group in "${@:-${FIGURE_GROUPS[@]}}"; do
   if ! declare -F "figures_$group" > /dev/null; then
-    echo "$0: no figure group \`$group\` (groups: ${GROUPS[*]})" >&2
+    echo "$0: no figure group \`$group\` (groups: ${FIGURE_GROUPS[*]})" >&2
     exit 2
   fi
   echo "== $group"
