@@ -641,3 +641,44 @@ fn splitting_exponent_follows_the_circuit_distance() {
         );
     }
 }
+
+/// A distance-3 code corrects every weight-1 error (Dennis, Kitaev, Landahl and Preskill,
+/// J. Math. Phys. 43, 4452 (2002)); the union-find decoder (Delfosse and Nickerson, Quantum 5,
+/// 595 (2021)) must too: every matchable edge of the circuit-level d = 3 hook-safe surface code
+/// graph, fired alone, decodes to that edge's observables, as it does with MWPM.
+#[test]
+fn union_find_corrects_every_single_edge_at_distance_3() {
+    use slant::decode::{Decoder, Mwpm, UnionFind};
+    let c = load(
+        "surface_d3_hook_safe.slant",
+        &std::fs::read_to_string("circuits/surface_d3_hook_safe.slant").unwrap(),
+    );
+    let c = with_noise(&c, "circuit p=0.0002");
+    let (g, _) = Pipeline::from_circuit(c).matching_graph();
+    let uf = UnionFind::new(&g).unwrap();
+    let mwpm = Mwpm::new(&g).unwrap();
+    let mut wrong = Vec::new();
+    for (k, e) in g.edges.iter().enumerate() {
+        let mut events = vec![e.a];
+        events.extend(e.b);
+        events.sort_unstable();
+        let mut want = e.observables.clone();
+        want.sort_unstable();
+        assert_eq!(
+            mwpm.decode(&events).observables,
+            want,
+            "mwpm, edge {k}: {e:?}"
+        );
+        let got = uf.decode(&events);
+        if got.observables != want || got.unmatched != 0 {
+            wrong.push(format!("edge {k} {e:?}: uf gives {got:?}"));
+        }
+    }
+    assert!(
+        wrong.is_empty(),
+        "{} of {} edges:\n{}",
+        wrong.len(),
+        g.edges.len(),
+        wrong.join("\n")
+    );
+}
