@@ -53,6 +53,31 @@ pub struct NoiseArgs {
     pub noise: Option<String>,
 }
 
+/// Prints a report as pretty JSON on standard output.
+pub fn print_json<T: serde::Serialize>(report: &T) -> Result<(), crate::cli::CliError> {
+    let text = serde_json::to_string_pretty(report)
+        .map_err(|e| crate::cli::CliError::Internal(format!("cannot serialise the report: {e}")))?;
+    crate::cli::out::print(format_args!("{text}\n"));
+    Ok(())
+}
+
+/// The first line of a text report: `circuit: FILE (N detectors, M observables, R rounds)`.
+pub fn circuit_line(
+    file: &std::path::Path,
+    detectors: usize,
+    observables: usize,
+    rounds: usize,
+) -> String {
+    use crate::base::count;
+    format!(
+        "circuit: {} ({}, {}, {})\n",
+        file.display(),
+        count(detectors, "detector"),
+        count(observables, "observable"),
+        count(rounds, "round")
+    )
+}
+
 /// Prints warnings (e.g. a noise model's) on standard error.
 pub fn print_warnings(warnings: &[Diagnostic]) {
     for w in warnings {

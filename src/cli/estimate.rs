@@ -11,7 +11,7 @@
 mod splitting;
 
 use crate::base::{count, Diagnostic};
-use crate::cli::common::{CircuitArgs, NoiseArgs};
+use crate::cli::common::{circuit_line, print_json, CircuitArgs, NoiseArgs};
 use crate::cli::progress::Progress;
 use crate::cli::CliError;
 use crate::decode::DecoderKind;
@@ -163,18 +163,14 @@ pub fn run(args: Args) -> Result<(), CliError> {
             per_round,
             model: MODEL_NOTE,
         };
-        let text = serde_json::to_string_pretty(&report)
-            .map_err(|e| CliError::Internal(format!("cannot serialise the report: {e}")))?;
-        outln!("{text}");
-        return Ok(());
+        return print_json(&report);
     }
     let mut out = String::new();
-    out += &format!(
-        "circuit: {} ({}, {}, {})\n",
-        args.circuit.file.display(),
-        count(exp.detectors, "detector"),
-        count(exp.observables, "observable"),
-        count(exp.rounds as usize, "round")
+    out += &circuit_line(
+        &args.circuit.file,
+        exp.detectors,
+        exp.observables,
+        exp.rounds as usize,
     );
     out += &format!("noise: {noise}\n");
     out += &format!(

@@ -3,6 +3,7 @@
 
 use crate::analysis::{distances, DistanceOptions};
 use crate::base::count;
+use crate::cli::common::{circuit_line, print_json};
 use crate::cli::estimate::{Args, MODEL_NOTE};
 use crate::cli::progress::Progress;
 use crate::cli::CliError;
@@ -183,18 +184,14 @@ pub(super) fn run(args: &Args, pipeline: &Pipeline) -> Result<(), CliError> {
             expected_exponent: expected,
             model: MODEL_NOTE,
         };
-        let text = serde_json::to_string_pretty(&report)
-            .map_err(|e| CliError::Internal(format!("cannot serialise the report: {e}")))?;
-        outln!("{text}");
-        return Ok(());
+        return print_json(&report);
     }
     let mut out = String::new();
-    out += &format!(
-        "circuit: {} ({}, {}, {})\n",
-        args.circuit.file.display(),
-        count(pipeline.noisy().detectors.len(), "detector"),
-        count(pipeline.noisy().observables.len(), "observable"),
-        count(rounds as usize, "round")
+    out += &circuit_line(
+        &args.circuit.file,
+        pipeline.noisy().detectors.len(),
+        pipeline.noisy().observables.len(),
+        rounds as usize,
     );
     out += &format!("noise: {noise}\n");
     out += &format!(

@@ -81,9 +81,8 @@ fn mean_min_neg(l: &[f64], shift: f64) -> f64 {
 }
 
 /// The integrated autocorrelation time of a quantity recorded along several walks of equal
-/// standing (in recorded samples; 1 means independent samples), with the self-consistent window
-/// of A. D. Sokal, "Monte Carlo methods in statistical mechanics: foundations and new
-/// algorithms" (1997 lecture notes): the sum `1 + 2 Σ_k ρ(k)` is cut at the first window `W`
+/// standing (in recorded samples; 1 means independent samples), with Sokal's self-consistent
+/// (automatic) windowing: the sum `1 + 2 Σ_k ρ(k)` is cut at the first window `W`
 /// with `W ≥ 5 τ(W)`. The autocovariance is averaged over the walks around the pooled mean.
 /// `None` when the quantity never varies (no information about mixing from it).
 pub(super) fn integrated_time(series: &[Vec<f64>]) -> Option<f64> {
