@@ -313,6 +313,7 @@ fn hand_circuit(n: usize, ops: Vec<Op>, records: usize) -> Circuit {
     let source = Source::new("random", "");
     Circuit {
         source,
+        items: 0,
         params: Vec::new(),
         qubits: (0..n)
             .map(|q| Qubit {

@@ -48,6 +48,8 @@ pub struct Summary {
     /// Sum over all noise applications (and measurement flips) of their total probability: the
     /// expected number of faults per shot to first order.
     pub noise_total_probability: f64,
+    /// Items of the size budget the circuit uses (what `--max-items` bounds).
+    pub items: u64,
 }
 
 impl Summary {
@@ -101,6 +103,7 @@ impl Summary {
             observables: c.observables.len(),
             noise_channels,
             noise_total_probability: noise_total,
+            items: c.items,
         }
     }
 
@@ -140,6 +143,7 @@ impl Summary {
             list(&self.noise_channels),
             self.noise_total_probability
         );
+        out += &format!("  size          {} items\n", self.items);
         out
     }
 }

@@ -16,8 +16,8 @@ pub struct CircuitArgs {
     #[arg(long = "set", value_name = "NAME=INT", value_parser = parse_setting)]
     pub set: Vec<(String, i64)>,
     /// Refuse circuits that expand to more items, or whose loops take more steps. Items are
-    /// weighted by memory: a qubit 4, an operation 2 plus 1 per target, a result 2, a detector
-    /// or observable 3 plus 1 per term, a layer, coordinate or role 1.
+    /// weighted by memory: a qubit 4, a layer 3, an operation 2 plus 1 per target, a result 4,
+    /// a detector or observable 4 plus 1 per term, a coordinate or role 1.
     #[arg(long, value_name = "N", default_value_t = Limits::default().max_items)]
     pub max_items: u64,
 }

@@ -252,6 +252,9 @@ pub struct Circuit {
     pub observables: Vec<Observable>,
     /// Number of `round` blocks executed.
     pub rounds: u32,
+    /// Items of the size budget the expansion spent (see [`cost`]): how close the circuit
+    /// comes to [`Limits::max_items`].
+    pub items: u64,
 }
 
 impl Circuit {

@@ -3,6 +3,7 @@
 //! expanding (see the module docs of the expander for the rules).
 
 use crate::base::{Diagnostic, Span};
+use crate::ir::expand::shape::{visit, Shape};
 use crate::ir::expand::{Expander, Tally, R};
 use crate::lang::{Expr, ExprKind, Index, NoiseTargets, Ref, Stmt, StmtKind};
 
@@ -10,30 +11,33 @@ use crate::lang::{Expr, ExprKind, Index, NoiseTargets, Ref, Stmt, StmtKind};
 ///
 /// The weights follow memory. Loading and checking circuits made of nothing but one kind of
 /// thing (qubits; lone operations; operations in layers; measurements, alone or in layers;
-/// detectors, observables and their terms), one item stood for at most about 70 bytes of peak
-/// memory, all stages together: the expanded circuit, the expander's name tables and the
-/// determinism check's tables. The dearest things are measurements (the result's name is kept
-/// twice, in the record list and in the lookup table) and qubits (likewise).
+/// detectors and their terms) just under the default limit, one item stood for at most 64
+/// bytes of peak memory (bench/memory.sh), all stages together: the expanded circuit, the
+/// expander's name tables and the determinism check's tables, within the 70 bytes an item of
+/// [`crate::ir::Limits::BYTES_PER_ITEM`]. The dearest things are measurements (the result's
+/// name is kept twice, in the record list and in the lookup table), qubits (likewise) and lone
+/// operations (each opens a layer of its own).
 ///
-/// Not covered: the determinism check keeps, per qubit, the set of detectors an error there
-/// would flip. In circuits where a qubit is measured many times without a reset and many other
-/// qubits are entangled with it first, those sets hold qubits × detectors ids, which no count
-/// of items bounds (1000 qubits fanned into one that is measured 200 000 times took 0.9 GB).
+/// Not counted here: the determinism check keeps, per qubit, the set of detectors an error
+/// there would flip. In circuits where a qubit is measured many times without a reset and many
+/// other qubits are entangled with it first, those sets hold qubits × detectors ids, which no
+/// count of items bounds; the check stops once they would pass half the memory budget.
 pub mod cost {
     /// A qubit.
     pub const QUBIT: u64 = 4;
     /// A coordinate of a qubit or detector, or a role of a qubit.
     pub const COORD: u64 = 1;
-    /// A layer (a `layer` block, or an operation statement outside one).
-    pub const LAYER: u64 = 1;
+    /// A layer (a `layer` block, or an operation statement outside one): its tables are
+    /// allocated even when it holds a single operation.
+    pub const LAYER: u64 = 3;
     /// An operation.
     pub const OP: u64 = 2;
     /// One target qubit of an operation.
     pub const TARGET: u64 = 1;
     /// A measurement result, on top of its measurement operation.
-    pub const RECORD: u64 = 2;
+    pub const RECORD: u64 = 4;
     /// A detector or observable.
-    pub const DETECTOR: u64 = 3;
+    pub const DETECTOR: u64 = 4;
     /// A result named in a detector's or observable's parity.
     pub const TERM: u64 = 1;
 }
@@ -267,7 +271,14 @@ impl Expander {
         }
         let trips = ((i128::from(b) - i128::from(a) + i128::from(s) - 1) / i128::from(s)) as u64;
         self.vars.push((var.name.clone(), a));
-        let result = if walk {
+        let shape = if walk {
+            self.count_shape(body, &var.name)
+        } else {
+            None
+        };
+        let result = if let Some(shape) = shape {
+            self.estimate_stretches(st, &shape, (a, s, trips), body, in_layer)
+        } else if walk {
             let mut total = Tally::default();
             let mut v = a;
             loop {
@@ -296,6 +307,58 @@ impl Expander {
             Some(d) => Err(d),
             None => Ok(total),
         }
+    }
+
+    /// Counts a loop whose body's count moves with the loop variable in stretches of a
+    /// [`Shape`] (see `shape.rs`): in each stretch, one period of iterations is counted and
+    /// repeated. `(a, s, trips)`: the first value, the step and the number of iterations; the
+    /// variable is the innermost of `self.vars`.
+    fn estimate_stretches(
+        &mut self,
+        st: &Stmt,
+        shape: &Shape,
+        (a, s, trips): (i64, i64, u64),
+        body: &[Stmt],
+        in_layer: bool,
+    ) -> R<Tally> {
+        // Iteration t runs with the variable at a + s·t; a stretch starting at value b
+        // starts at the first t with a + s·t ≥ b.
+        let (a128, s128) = (i128::from(a), i128::from(s));
+        let mut starts: Vec<u64> = shape
+            .breaks
+            .iter()
+            .filter_map(|&b| {
+                let t = (b - a128 + s128 - 1).div_euclid(s128);
+                (t > 0 && t < i128::from(trips)).then_some(t as u64)
+            })
+            .collect();
+        starts.push(0);
+        starts.sort_unstable();
+        starts.dedup();
+        let mut total = Tally::default();
+        for (k, &t0) in starts.iter().enumerate() {
+            let len = starts.get(k + 1).copied().unwrap_or(trips) - t0;
+            let (whole, rest) = (len / shape.period, len % shape.period);
+            let (mut period, mut part) = (Tally::default(), Tally::default());
+            for t in t0..t0 + len.min(shape.period) {
+                if t - t0 == rest {
+                    part = period;
+                }
+                if let Some(slot) = self.vars.last_mut() {
+                    // t < trips, so the value lies below the loop's end and fits.
+                    slot.1 = a + s * t as i64;
+                }
+                period = period.plus(self.estimate(body, in_layer, false)?.plus(Tally::STEP));
+            }
+            if rest == len {
+                part = period;
+            }
+            total = total.plus(period.times(whole)).plus(part);
+            if let Some(d) = self.past_limit(total, st.span, "this loop", t0 + len < trips) {
+                return Err(d);
+            }
+        }
+        Ok(total)
     }
 }
 
@@ -409,7 +472,7 @@ pub(super) fn counts_depend_on(stmts: &[Stmt], name: &str) -> bool {
 /// holds the loop variables in scope). Index values, coordinates and probabilities change what
 /// is built, not how much.
 pub(super) fn count_vars(stmts: &[Stmt], bound: &mut Vec<String>, free: &mut Vec<String>) {
-    fn expr(e: &Expr, bound: &[String], free: &mut Vec<String>) {
+    visit(stmts, bound, &mut |e, _, bound| {
         // An explicit stack: expressions may be a thousand operators long.
         let mut stack = vec![e];
         while let Some(e) = stack.pop() {
@@ -427,66 +490,5 @@ pub(super) fn count_vars(stmts: &[Stmt], bound: &mut Vec<String>, free: &mut Vec
                 }
             }
         }
-    }
-    fn range(r: &Ref, bound: &[String], free: &mut Vec<String>) {
-        for ix in &r.index {
-            if let Index::Range(a, b) = ix {
-                expr(a, bound, free);
-                expr(b, bound, free);
-            }
-        }
-    }
-    for st in stmts {
-        match &st.kind {
-            StmtKind::Blank | StmtKind::Comment(_) | StmtKind::Param { .. } => {}
-            StmtKind::For {
-                var,
-                start,
-                end,
-                step,
-                body,
-            } => {
-                expr(start, bound, free);
-                expr(end, bound, free);
-                if let Some(s) = step {
-                    expr(s, bound, free);
-                }
-                bound.push(var.name.clone());
-                count_vars(body, bound, free);
-                bound.pop();
-            }
-            StmtKind::If {
-                cond,
-                then,
-                otherwise,
-            } => {
-                expr(cond, bound, free);
-                count_vars(then, bound, free);
-                count_vars(otherwise, bound, free);
-            }
-            StmtKind::Layer(body) | StmtKind::Round(body) => count_vars(body, bound, free),
-            StmtKind::Qubit { target, .. } => range(target, bound, free),
-            StmtKind::Gate { groups, .. } => {
-                groups.iter().flatten().for_each(|r| range(r, bound, free))
-            }
-            StmtKind::Reset { targets, .. } => targets.iter().for_each(|r| range(r, bound, free)),
-            StmtKind::Measure { outcomes, .. } => {
-                for o in outcomes {
-                    range(&o.result, bound, free);
-                    o.product.iter().for_each(|(_, r)| range(r, bound, free));
-                }
-            }
-            StmtKind::Noise { targets, .. } => match targets {
-                NoiseTargets::Groups(groups) => {
-                    groups.iter().flatten().for_each(|r| range(r, bound, free))
-                }
-                NoiseTargets::Product(product) => {
-                    product.iter().for_each(|(_, r)| range(r, bound, free))
-                }
-            },
-            StmtKind::Detector { parity, .. } | StmtKind::Observable { parity, .. } => {
-                parity.iter().for_each(|r| range(r, bound, free))
-            }
-        }
-    }
+    });
 }

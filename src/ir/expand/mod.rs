@@ -15,9 +15,11 @@
 //! Before expanding, `Expander::estimate` counts both without building anything. The count is
 //! exact, not a guess: a loop whose body's count cannot change with the loop variable (the
 //! variable appears in no loop bound, condition or range inside it) is counted once and
-//! multiplied by its trip count; any other loop is walked iteration by iteration with the
-//! variable set, which costs about as much time per step counted as expanding does, and stops as
-//! soon as the limit is passed. A loop whose count depends on no variable outside it is counted
+//! multiplied by its trip count; a loop whose body depends on the variable only through
+//! conditions made of comparisons and remainders (the generated families' guards) is counted
+//! one period per stretch between the conditions' turning points (`shape.rs`); any other loop
+//! is walked iteration by iteration with the variable set, which costs about as much time per
+//! step counted as expanding does, and stops as soon as the limit is passed. A loop whose count depends on no variable outside it is counted
 //! once however often an enclosing loop is walked. A circuit past the limit is refused at the
 //! loop or statement that passes it, before any memory is spent. The same counts are kept while
 //! expanding, as a backstop.
@@ -28,14 +30,16 @@
 //!
 //! Files: this one holds the expander's state and the final assembly of the [`Circuit`];
 //! `eval.rs` evaluates expressions, `names.rs` expands references into names, `layers.rs` builds
-//! layers, `lower.rs` executes each statement into the circuit, and `budget.rs` is the size
-//! budget (costs, the up-front count and the running count).
+//! layers, `lower.rs` executes each statement into the circuit, `budget.rs` is the size
+//! budget (costs, the up-front count and the running count) and `shape.rs` finds how a loop
+//! body's count moves with the loop variable.
 
 mod budget;
 mod eval;
 mod layers;
 mod lower;
 mod names;
+mod shape;
 #[cfg(test)]
 mod tests;
 
@@ -93,10 +97,9 @@ pub struct Limits {
 
 impl Default for Limits {
     fn default() -> Self {
-        // The budget is 1.4 GB at 70 bytes an item; measured at the limit, circuits of qubits
-        // loaded and checked in 1.1 GB, circuits of lone measurements in 1.8 GB (the weights of
-        // `cost` are not yet tight for measurements). A distance-25, 25-round surface-code
-        // memory is about 5e5 items.
+        // The budget is 1.4 GB at 70 bytes an item; bench/memory.sh loads and checks circuits
+        // of one item kind each just under this limit, and none passes 0.9 of the budget. A
+        // distance-25, 25-round surface-code memory is about 6e5 items.
         Limits {
             max_items: 20_000_000,
         }
@@ -104,9 +107,10 @@ impl Default for Limits {
 }
 
 impl Limits {
-    /// Bytes of memory each item of the budget stands for. Measured when circuits of one item
-    /// kind were loaded and checked at the limit: about 56 bytes a qubit item, about 90 a
-    /// measurement item (see the README), so measurements can pass the budget by ~30%.
+    /// Bytes of memory each item of the budget stands for. Measured by bench/memory.sh on
+    /// circuits of one item kind loaded and checked at the limit: from 9 bytes an item (gates
+    /// of many targets in layers) to 64 (measurements in layers); the weights of
+    /// [`cost`] were set so that every kind stays under this figure.
     pub const BYTES_PER_ITEM: u64 = 70;
 
     /// The memory budget: what a study may hold at once (source text, expanded circuit,
@@ -326,6 +330,7 @@ impl Expander {
             detectors: self.detectors,
             observables: self.observables,
             rounds: self.rounds,
+            items: self.used.items,
         })
     }
 }

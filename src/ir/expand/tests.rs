@@ -142,3 +142,76 @@ fn dependent_loops_are_walked_and_others_multiplied() {
         assert!(counts_depend_on(&ast.stmts, "i"), "{body}");
     }
 }
+
+#[test]
+fn stretches_count_conditions_exactly() {
+    // Loops whose bodies depend on the variable only through conditions are counted one
+    // period per stretch (shape.rs); the count must still equal what expansion spends, for
+    // every kind of condition the analysis accepts, for steps that do not divide the period,
+    // for negative values and for stretches shorter than a period.
+    let conditions = [
+        "(i + j) % 2 == 0 and j > 0 and j < n",
+        "(i + j) % 2 == 1 and i > 0 and i < n or j == 3",
+        "not (2 * j + i) % 3 == 1",
+        "j != 4 and (j - 7) % 5 < 2",
+        "3 * j - 2 * i >= 5",
+        "-j % 4 == 1 or j * 2 < i",
+        "(j % 2) * 3 + (j % 3) == 2",
+        "(j % 6) / 2 == 1",
+        "j % -4 == 3",
+        "i > 2",
+        "(j > 3) * i + (j < 9) == 1",
+        "j + 1 > j",
+        "(j % 2 == 0) == (j % 3 == 0)",
+    ];
+    for cond in conditions {
+        for (range, step) in [("0..n + 1", ""), ("-5..17", " by 3"), ("2..4", ""), ("0..40", " by 7")] {
+            let text = format!(
+                "param n = 9\nqubit q[0..n]\nfor i in 0..n {{\n  for j in {range}{step} {{\n    \
+                 if {cond} {{ h q[i] }} else {{ layer {{ x q[0]; z q[1] }} }}\n    \
+                 if {cond} and j % 2 == 0 {{ measure z q[i] -> m[i, j + 100] }}\n  }}\n}}\n"
+            );
+            let (estimate, spent) = counts(&text);
+            assert_eq!(estimate, spent, "{text}");
+        }
+    }
+}
+
+#[test]
+fn condition_shapes_find_breaks_and_periods() {
+    let src = Source::new("t", "");
+    let mut x = Expander::new(src, &[], 100);
+    x.params.push(("n".into(), 10));
+    x.vars.push(("i".into(), 3));
+    let shape = |x: &Expander, body: &str| {
+        let ast = crate::lang::parse(&Source::new("t", format!("{body}\n"))).unwrap();
+        x.count_shape(&ast.stmts, "j").map(|mut s| {
+            s.breaks.sort_unstable();
+            (s.breaks, s.period)
+        })
+    };
+    // The surface code's guard: a period of 2, a stretch boundary near j = 0 and near j = n.
+    let (breaks, period) = shape(
+        &x,
+        "if (i + j) % 2 == 0 and j > 0 and j < n { h q[i] }",
+    )
+    .unwrap();
+    assert_eq!(period, 2);
+    assert!(breaks.contains(&1) && breaks.contains(&10), "{breaks:?}");
+    assert_eq!(shape(&x, "if j % 3 == 0 or j % 4 == 1 { h a }").unwrap().1, 12);
+    // What the analysis cannot follow is walked instead.
+    for body in [
+        "for k in 0..j { h a }",
+        "h q[0..j]",
+        "if j * j > 3 { h a }",
+        "if j / 2 == 1 { h a }",
+        "for k in 0..3 { if j + k > 2 { h a } }",
+        "if j % 100000 == 0 { h a }",
+        "if j > unknown { h a }",
+        "if j > 2.5 { h a }",
+    ] {
+        assert_eq!(shape(&x, body), None, "{body}");
+    }
+    // Conditions not on the variable do not constrain the shape.
+    assert_eq!(shape(&x, "if i > 2 { h a }"), Some((vec![], 1)));
+}
