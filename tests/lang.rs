@@ -374,7 +374,7 @@ fn size_limit_sees_loops_whose_bounds_depend_on_outer_variables() {
     );
     // Within the limit, the walk counts exactly and the circuit loads.
     let (code, _, err) = run_cli(
-        &["check", "-", "--max-items", "20000"],
+        &["check", "-", "--max-items", "30000"],
         Some("qubit a\nfor i in 0..100 {\n    for j in 0..i { h a }\n}\n"),
     );
     assert_eq!(code, 0, "{err}");
@@ -800,7 +800,7 @@ fn check_prints_a_summary() {
     assert_eq!(code, 0, "{err}");
     assert_eq!(
         out,
-        "circuits/repetition_d3.slant: ok\n  parameters    distance=3 rounds=2\n  qubits        5 (ancilla 2, data 3)\n  layers        10 in 2 rounds\n  operations    cx 8, measure 7, reset 9\n  measurements  7\n  detectors     6 (all deterministic)\n  observables   1 (all deterministic)\n  noise         none (expected faults per shot 0.0000e0)\n"
+        "circuits/repetition_d3.slant: ok\n  parameters    distance=3 rounds=2\n  qubits        5 (ancilla 2, data 3)\n  layers        10 in 2 rounds\n  operations    cx 8, measure 7, reset 9\n  measurements  7\n  detectors     6 (all deterministic)\n  observables   1 (all deterministic)\n  noise         none (expected faults per shot 0.0000e0)\n  size          214 items\n"
     );
 }
 

@@ -426,7 +426,7 @@ fn the_memory_budget_is_checked_before_allocating() {
     assert_eq!(r.0, 1, "{}", r.2);
     // Many qubits fanned into one that is measured many times: every one of them flips every
     // result, qubits × results ids in the check (5,000 × 200,000 aborted at 3.7 GB).
-    let fan = "param n = 1000\nparam m = 20000\nqubit q[0..n]\nqubit t\n\
+    let fan = "param n = 1000\nparam m = 15000\nqubit q[0..n]\nqubit t\n\
                for i in 0..n {\n    cx q[i] t\n}\n\
                for r in 0..m {\n    measure z t -> f[r]\n    detector = f[r]\n}\n";
     fs::write(dir.path().join("fan.slant"), fan).unwrap();

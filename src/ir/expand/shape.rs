@@ -179,7 +179,17 @@ impl Expander {
         use Form::Linear;
         // Two values that do not move: the evaluator's own arithmetic, so that a constant
         // factor or modulus is the value expansion will use.
-        if let (Linear { slope: 0, offset: x }, Linear { slope: 0, offset: y }) = (&a, &b) {
+        if let (
+            Linear {
+                slope: 0,
+                offset: x,
+            },
+            Linear {
+                slope: 0,
+                offset: y,
+            },
+        ) = (&a, &b)
+        {
             let (x, y) = (i64::try_from(*x).ok()?, i64::try_from(*y).ok()?);
             let v = match op {
                 BinOp::And => i64::from(x != 0 && y != 0),
@@ -192,22 +202,51 @@ impl Expander {
             return Some(Form::constant(i128::from(v)));
         }
         match (op, a, b) {
-            (BinOp::Add | BinOp::Sub, Linear { slope: s1, offset: o1 }, Linear { slope: s2, offset: o2 }) => {
+            (
+                BinOp::Add | BinOp::Sub,
+                Linear {
+                    slope: s1,
+                    offset: o1,
+                },
+                Linear {
+                    slope: s2,
+                    offset: o2,
+                },
+            ) => {
                 let sign = if op == BinOp::Add { 1 } else { -1 };
                 Some(Linear {
                     slope: s1 + sign * s2,
                     offset: o1 + sign * o2,
                 })
             }
-            (BinOp::Mul, Linear { slope: 0, offset: c }, Linear { slope, offset })
-            | (BinOp::Mul, Linear { slope, offset }, Linear { slope: 0, offset: c }) => {
-                Some(Linear {
-                    slope: slope.checked_mul(c)?,
-                    offset: offset.checked_mul(c)?,
-                })
-            }
+            (
+                BinOp::Mul,
+                Linear {
+                    slope: 0,
+                    offset: c,
+                },
+                Linear { slope, offset },
+            )
+            | (
+                BinOp::Mul,
+                Linear { slope, offset },
+                Linear {
+                    slope: 0,
+                    offset: c,
+                },
+            ) => Some(Linear {
+                slope: slope.checked_mul(c)?,
+                offset: offset.checked_mul(c)?,
+            }),
             // (s·v + o) mod m repeats after |m| values of v.
-            (BinOp::Rem, Linear { .. }, Linear { slope: 0, offset: m }) if m != 0 => {
+            (
+                BinOp::Rem,
+                Linear { .. },
+                Linear {
+                    slope: 0,
+                    offset: m,
+                },
+            ) if m != 0 => {
                 let m = u64::try_from(m.unsigned_abs()).ok()?;
                 (m <= MAX_PERIOD).then_some(Form::Periodic {
                     breaks: Vec::new(),
@@ -218,8 +257,14 @@ impl Expander {
             // changes only at its root.
             (
                 BinOp::Eq | BinOp::Ne | BinOp::Lt | BinOp::Le | BinOp::Gt | BinOp::Ge,
-                Linear { slope: s1, offset: o1 },
-                Linear { slope: s2, offset: o2 },
+                Linear {
+                    slope: s1,
+                    offset: o1,
+                },
+                Linear {
+                    slope: s2,
+                    offset: o2,
+                },
             ) => {
                 if s1 == s2 {
                     // Equal slopes: the comparison of the offsets, at every value.
@@ -302,7 +347,9 @@ pub(super) fn visit(
             }
             StmtKind::Layer(body) | StmtKind::Round(body) => visit(body, bound, f),
             StmtKind::Qubit { target, .. } => range(target, bound, f),
-            StmtKind::Gate { groups, .. } => groups.iter().flatten().for_each(|r| range(r, bound, f)),
+            StmtKind::Gate { groups, .. } => {
+                groups.iter().flatten().for_each(|r| range(r, bound, f))
+            }
             StmtKind::Reset { targets, .. } => targets.iter().for_each(|r| range(r, bound, f)),
             StmtKind::Measure { outcomes, .. } => {
                 for o in outcomes {

@@ -165,7 +165,12 @@ fn stretches_count_conditions_exactly() {
         "(j % 2 == 0) == (j % 3 == 0)",
     ];
     for cond in conditions {
-        for (range, step) in [("0..n + 1", ""), ("-5..17", " by 3"), ("2..4", ""), ("0..40", " by 7")] {
+        for (range, step) in [
+            ("0..n + 1", ""),
+            ("-5..17", " by 3"),
+            ("2..4", ""),
+            ("0..40", " by 7"),
+        ] {
             let text = format!(
                 "param n = 9\nqubit q[0..n]\nfor i in 0..n {{\n  for j in {range}{step} {{\n    \
                  if {cond} {{ h q[i] }} else {{ layer {{ x q[0]; z q[1] }} }}\n    \
@@ -191,14 +196,13 @@ fn condition_shapes_find_breaks_and_periods() {
         })
     };
     // The surface code's guard: a period of 2, a stretch boundary near j = 0 and near j = n.
-    let (breaks, period) = shape(
-        &x,
-        "if (i + j) % 2 == 0 and j > 0 and j < n { h q[i] }",
-    )
-    .unwrap();
+    let (breaks, period) = shape(&x, "if (i + j) % 2 == 0 and j > 0 and j < n { h q[i] }").unwrap();
     assert_eq!(period, 2);
     assert!(breaks.contains(&1) && breaks.contains(&10), "{breaks:?}");
-    assert_eq!(shape(&x, "if j % 3 == 0 or j % 4 == 1 { h a }").unwrap().1, 12);
+    assert_eq!(
+        shape(&x, "if j % 3 == 0 or j % 4 == 1 { h a }").unwrap().1,
+        12
+    );
     // What the analysis cannot follow is walked instead.
     for body in [
         "for k in 0..j { h a }",
