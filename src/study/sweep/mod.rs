@@ -56,8 +56,11 @@ mod spec;
 mod store;
 
 pub use run::{plan, run_sweep, Event, Shard, TaskState};
-pub use spec::{chunk_seed, SweepSpec, Task, DEFAULT_CHUNK};
+pub use spec::{
+    chunk_seed, Method, SplittingKnobs, SweepSpec, Task, DEFAULT_CHAINS, DEFAULT_CHUNK,
+    DEFAULT_SWEEPS, DEFAULT_TOP_FAILURES, DEFAULT_TOP_SHOTS,
+};
 pub use store::{
-    aggregate, load_store, merge_rows, parse_rows, read_store, ChunkRow, Conflict, Point, Store,
-    StoreContents, STORE_HEADER, STORE_VERSION,
+    aggregate, load_store, merge_rows, parse_rows, read_store, ChunkRow, Conflict, DistanceRow,
+    ExponentRow, Point, RungRow, SplittingRow, Store, StoreContents, STORE_HEADER, STORE_VERSION,
 };

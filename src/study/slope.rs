@@ -1,0 +1,141 @@
+//! The sub-threshold scaling of a sweep: the slope of `ln p_L` against `ln p` per distance,
+//! fitted to the splitting points of one curve group, next to the exponent the circuit distance
+//! predicts.
+//!
+//! In: the [`Point`]s of one group (see [`Point::group`]); only points with a splitting estimate
+//! take part (sampled points near threshold would bend the line). Out: one [`SlopeFit`] per
+//! distance with at least two such points.
+//!
+//! Below threshold `p_L ≈ A p^k` with `k = ⌈d/2⌉` for a code of circuit distance `d` (the
+//! fewest faults that cause an undetected logical error; "Surface codes: towards practical
+//! large-scale quantum computation", PRA 86, 032324 (2012), gives `(d+1)/2` for odd `d`). The
+//! fit is weighted least squares of `y = ln p_L` on `x = ln p` with weights `1/σ²`, `σ` the
+//! stated relative uncertainty of each point (one standard deviation of `ln p_L`): slope
+//! `Σw(x−x̄)(y−ȳ) / Σw(x−x̄)²`, standard error `1/√(Σw(x−x̄)²)`, inflated by `√(χ²/(n−2))` when
+//! the points scatter more than their stated uncertainties allow (common practice, the Birge
+//! ratio). Without stated uncertainties the fit is unweighted and the error comes from the
+//! residuals alone (none with two points).
+
+use std::collections::BTreeMap;
+
+use crate::study::sweep::Point;
+
+/// The fitted slope of one distance.
+#[derive(Clone, Copy, Debug, PartialEq, serde::Serialize)]
+pub struct SlopeFit {
+    /// Distance of the code family (the generator's).
+    pub distance: u32,
+    /// The slope `k` of `ln p_L = ln A + k ln p`.
+    pub slope: f64,
+    /// Its standard error (`None`: unknown, e.g. two unweighted points).
+    pub error: Option<f64>,
+    /// `ln A`, so the fitted line is `p_L = e^{ln_a} p^k`.
+    pub ln_a: f64,
+    /// The circuit distance the rows report (at the lowest `p` fitted).
+    pub circuit_distance: Option<u32>,
+    /// `⌈d/2⌉` of the circuit distance, when it is exact.
+    pub expected: Option<u32>,
+    /// Points fitted.
+    pub points: usize,
+    /// Smallest and largest `p` fitted.
+    pub p_range: [f64; 2],
+}
+
+/// Fits the slope per distance over the splitting points of `points` (one group) with `p ≤
+/// below` (all when `None`), on the per-round rate when `per_round`, else per shot.
+pub fn slopes(points: &[Point], per_round: bool, below: Option<f64>) -> Vec<SlopeFit> {
+    let mut by_d: BTreeMap<u32, Vec<&Point>> = BTreeMap::new();
+    for p in points {
+        if p.splitting.is_some() && p.p > 0.0 && below.is_none_or(|b| p.p <= b) {
+            by_d.entry(p.distance).or_default().push(p);
+        }
+    }
+    by_d.into_iter()
+        .filter_map(|(d, mut pts)| {
+            pts.sort_by(|a, b| a.p.total_cmp(&b.p));
+            let data: Vec<(f64, f64, Option<f64>)> = pts
+                .iter()
+                .filter_map(|p| {
+                    let s = p.splitting.as_ref()?;
+                    let rate = p.estimate(per_round).rate;
+                    (rate > 0.0).then(|| (p.p.ln(), rate.ln(), s.uncertainty))
+                })
+                .collect();
+            let (slope, error, ln_a) = fit_line(&data)?;
+            let first = pts[0].splitting.as_ref();
+            Some(SlopeFit {
+                distance: d,
+                slope,
+                error,
+                ln_a,
+                circuit_distance: first.and_then(|s| s.circuit_distance.map(|c| c.value)),
+                expected: first.and_then(|s| s.expected_exponent),
+                points: data.len(),
+                p_range: [
+                    data.first().map_or(0.0, |x| x.0.exp()),
+                    data.last().map_or(0.0, |x| x.0.exp()),
+                ],
+            })
+        })
+        .collect()
+}
+
+/// Weighted least squares of `y` on `x` (module docs): `(slope, standard error, intercept)`,
+/// `None` with fewer than two distinct `x`.
+fn fit_line(data: &[(f64, f64, Option<f64>)]) -> Option<(f64, Option<f64>, f64)> {
+    let n = data.len();
+    if n < 2 {
+        return None;
+    }
+    let weighted = data.iter().all(|d| d.2.is_some_and(|s| s > 0.0));
+    let w = |d: &(f64, f64, Option<f64>)| match d.2 {
+        Some(s) if weighted => 1.0 / (s * s),
+        _ => 1.0,
+    };
+    let sw: f64 = data.iter().map(w).sum();
+    let mx = data.iter().map(|d| w(d) * d.0).sum::<f64>() / sw;
+    let my = data.iter().map(|d| w(d) * d.1).sum::<f64>() / sw;
+    let sxx: f64 = data.iter().map(|d| w(d) * (d.0 - mx).powi(2)).sum();
+    if !(sxx > 0.0) {
+        return None;
+    }
+    let sxy: f64 = data.iter().map(|d| w(d) * (d.0 - mx) * (d.1 - my)).sum();
+    let slope = sxy / sxx;
+    let intercept = my - slope * mx;
+    let chi2: f64 = data
+        .iter()
+        .map(|d| w(d) * (d.1 - intercept - slope * d.0).powi(2))
+        .sum();
+    let dof = n as f64 - 2.0;
+    let error = if weighted {
+        let inflate = if dof > 0.0 {
+            (chi2 / dof).sqrt().max(1.0)
+        } else {
+            1.0
+        };
+        Some(inflate / sxx.sqrt())
+    } else if dof > 0.0 {
+        Some((chi2 / dof / sxx).sqrt())
+    } else {
+        None
+    };
+    Some((slope, error, intercept))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn unweighted_residual_error_is_the_textbook_one() {
+        // y = 2x + 1 with residuals +0.1, −0.2, +0.1 at x = 0, 1, 2: slope 2 exactly (the
+        // residuals are symmetric), residual variance 0.06/1, Sxx = 2, so the error is √0.03
+        // (ordinary least squares, any statistics textbook).
+        let data = [(0.0, 1.1, None), (1.0, 2.8, None), (2.0, 5.1, None)];
+        let (slope, error, a) = fit_line(&data).unwrap();
+        assert!((slope - 2.0).abs() < 1e-12 && (a - 1.0).abs() < 1e-12);
+        assert!((error.unwrap() - 0.03f64.sqrt()).abs() < 1e-12);
+        assert_eq!(fit_line(&data[..1]), None);
+        assert_eq!(fit_line(&[(1.0, 1.0, None), (1.0, 2.0, None)]), None);
+    }
+}
