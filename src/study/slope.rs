@@ -126,6 +126,94 @@ fn fit_line(data: &[(f64, f64, Option<f64>)]) -> Option<(f64, Option<f64>, f64)>
 mod tests {
     use super::*;
 
+    use crate::study::stats::Estimate;
+    use crate::study::sweep::{ChunkRow, SplittingRow};
+
+    /// A synthetic splitting row (invented data for the check, not a measurement).
+    fn synthetic(d: u32, p: f64, rate: f64, uncertainty: Option<f64>) -> ChunkRow {
+        let e = Estimate {
+            rate,
+            low: rate * 0.9,
+            high: rate * 1.1,
+        };
+        ChunkRow {
+            version: crate::study::STORE_VERSION,
+            task: format!("synthetic d={d} p={p}"),
+            chunk: 0,
+            shots: 1000,
+            failures: 100,
+            seed: 0,
+            label: "synthetic".into(),
+            family: "surface".into(),
+            distance: d,
+            rounds: d,
+            p,
+            bias: None,
+            vary: Default::default(),
+            noise: format!("circuit p={p}"),
+            decoder: "mwpm".into(),
+            method: "splitting".into(),
+            splitting: Some(SplittingRow {
+                per_shot: e,
+                per_round: e,
+                uncertainty,
+                chains: 8,
+                sweeps: 100.0,
+                proposals: 2000,
+                top_scale: 16.0,
+                ladder: Vec::new(),
+                exponent: None,
+                circuit_distance: Some(crate::study::sweep::DistanceRow {
+                    value: d,
+                    lower: d,
+                    high_rate: None,
+                }),
+                expected_exponent: Some(d.div_ceil(2)),
+            }),
+        }
+    }
+
+    #[test]
+    fn an_exact_power_law_gives_back_its_exponent() {
+        // Synthetic rows p_L = 0.3 (p / 0.01)^((d+1)/2), the below-threshold form of PRA 86,
+        // 032324 (2012), at four p: the fit returns (d+1)/2 and ln A exactly, and with equal
+        // stated uncertainties σ the standard error of a weighted fit is σ/√Σ(x−x̄)².
+        let ps = [0.0003, 0.0006, 0.001, 0.003];
+        let mut rows = Vec::new();
+        for d in [3u32, 5, 7] {
+            for p in ps {
+                let k = (d as f64 + 1.0) / 2.0;
+                rows.push(synthetic(d, p, 0.3 * (p / 0.01f64).powf(k), Some(0.1)));
+            }
+        }
+        // A sampled point of the group is left out of the fit.
+        let mut sampled = synthetic(3, 0.006, 0.5, None);
+        sampled.method = "sampling".into();
+        sampled.splitting = None;
+        rows.push(sampled);
+        let points = crate::study::sweep::aggregate(&rows);
+        let fits = slopes(&points, true, None);
+        let xs: Vec<f64> = ps.iter().map(|p| p.ln()).collect();
+        let mean = xs.iter().sum::<f64>() / 4.0;
+        let sxx: f64 = xs.iter().map(|x| (x - mean).powi(2)).sum();
+        assert_eq!(fits.len(), 3);
+        for f in &fits {
+            let k = (f.distance as f64 + 1.0) / 2.0;
+            assert!((f.slope - k).abs() < 1e-9, "{f:?}");
+            assert!((f.ln_a - (0.3f64.ln() - k * 0.01f64.ln())).abs() < 1e-9, "{f:?}");
+            assert!((f.error.unwrap() - 0.1 / sxx.sqrt()).abs() < 1e-12, "{f:?}");
+            assert_eq!(f.expected, Some(f.distance.div_ceil(2)));
+            assert_eq!((f.points, f.p_range), (4, [0.0003, 0.003]));
+        }
+        // `below` keeps the low-p points only.
+        let low = slopes(&points, true, Some(0.001));
+        assert!(low.iter().all(|f| f.points == 3 && f.p_range[1] == 0.001));
+        // Points that scatter beyond their stated uncertainty inflate the error (Birge ratio).
+        rows[1].splitting.as_mut().unwrap().per_round.rate *= 2.0;
+        let fits = slopes(&crate::study::sweep::aggregate(&rows), true, None);
+        assert!(fits[0].error.unwrap() > 2.0 * 0.1 / sxx.sqrt(), "{:?}", fits[0]);
+    }
+
     #[test]
     fn unweighted_residual_error_is_the_textbook_one() {
         // y = 2x + 1 with residuals +0.1, −0.2, +0.1 at x = 0, 1, 2: slope 2 exactly (the

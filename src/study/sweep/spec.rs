@@ -649,6 +649,70 @@ flip = "z"
     }
 
     #[test]
+    fn splitting_keys_make_one_task_per_point_with_the_knobs_in_its_key() {
+        let text = "method = \"splitting\"\nchains = 4\n[[grid]]\nfamily = \"repetition\"\n\
+                    distances = [3, 5]\nnoise = \"capacity\"\np = [0.01, 0.02]\nsweeps = 20\n\
+                    top = 8\n[[grid]]\nfamily = \"repetition\"\ndistances = [3]\n\
+                    noise = \"capacity\"\np = [0.01]\nmethod = \"sampling\"\nshots = 100\n";
+        let spec = SweepSpec::parse(&Source::new("s.toml", text)).unwrap();
+        assert_eq!(spec.tasks.len(), 5);
+        let t = &spec.tasks[0];
+        assert_eq!(
+            t.method,
+            Method::Splitting(SplittingKnobs {
+                chains: 4,
+                sweeps: 20.0,
+                top: Some(8.0)
+            })
+        );
+        // No `shots` needed: direct sampling at the top is bounded by the default.
+        assert_eq!((t.shots, t.chunks()), (DEFAULT_TOP_SHOTS, 1));
+        for part in [
+            "method=splitting",
+            "chains=4",
+            "sweeps=20",
+            "top=8",
+            "top_failures=1000",
+        ] {
+            assert!(t.key.contains(part), "{}", t.key);
+        }
+        // The sampling grid's point at the same place has its own key, without a method.
+        let sampled = &spec.tasks[4];
+        assert_eq!(sampled.method, Method::Sampling);
+        assert!(!sampled.key.contains("method="), "{}", sampled.key);
+        assert_ne!(sampled.key, t.key);
+        // Knobs change the key, so rows of other knobs never count as this task's.
+        let other = SweepSpec::parse(&Source::new("s.toml", text.replace("chains = 4", "chains = 5")))
+            .unwrap();
+        assert_ne!(other.tasks[0].key, t.key);
+    }
+
+    #[test]
+    fn bad_splitting_values_point_at_themselves() {
+        let grid = "[[grid]]\nfamily = \"repetition\"\ndistances = [3]\nnoise = \"capacity\"\n\
+                    p = [0.01]\n";
+        for (line, message, at) in [
+            ("method = \"splits\"", "unknown `method` `splits`", "s.toml:7:10"),
+            ("method = \"splitting\"\nchains = 1", "`chains` must be at least 2", "s.toml:8:10"),
+            ("method = \"splitting\"\nsweeps = -3", "`sweeps` must be a positive number", "s.toml:8:10"),
+            ("method = \"splitting\"\ntop = 0.5", "`top` is a multiple of the noise", "s.toml:8:7"),
+            ("shots = 10\ntop = 4", "`top` is a setting of `method = \"splitting\"`", "s.toml:8:7"),
+        ] {
+            let text = format!("seed = 1\n{grid}{line}\n");
+            let d = SweepSpec::parse(&Source::new("s.toml", text.as_str())).unwrap_err();
+            let r = d.render();
+            assert!(r.contains(message) && r.contains("grid 1"), "{r}");
+            assert!(r.contains(at), "{line}: {r}");
+        }
+        // At the top level, the place is the top-level line.
+        let text = format!("method = \"splitting\"\nchains = 0\n{grid}");
+        let r = SweepSpec::parse(&Source::new("s.toml", text.as_str()))
+            .unwrap_err()
+            .render();
+        assert!(r.contains("s.toml:2:10"), "{r}");
+    }
+
+    #[test]
     fn spec_errors_point_into_the_toml() {
         let bad = Source::new(
             "s.toml",

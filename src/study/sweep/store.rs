@@ -528,6 +528,117 @@ mod tests {
         assert_eq!(rows, vec![row(0, 2)]);
     }
 
+    fn splitting_row(rate: f64) -> ChunkRow {
+        let e = |r: f64| Estimate {
+            rate: r,
+            low: r * 0.8,
+            high: r * 1.25,
+        };
+        ChunkRow {
+            version: STORE_VERSION,
+            task: "t|method=splitting".into(),
+            chunk: 0,
+            shots: 4096,
+            failures: 1000,
+            seed: 7,
+            label: "l".into(),
+            family: "repetition".into(),
+            distance: 5,
+            rounds: 5,
+            p: 0.001,
+            bias: Some("inf".into()),
+            vary: BTreeMap::new(),
+            noise: "capacity p=0.001 bias=inf".into(),
+            decoder: "mwpm".into(),
+            method: "splitting".into(),
+            splitting: Some(SplittingRow {
+                per_shot: e(rate),
+                per_round: e(rate / 5.0),
+                uncertainty: Some(0.11),
+                chains: 8,
+                sweeps: 100.0,
+                proposals: 2000,
+                top_scale: 64.0,
+                ladder: vec![
+                    RungRow {
+                        scale: 64.0,
+                        p: Some(0.064),
+                        rate: 0.24,
+                        uncertainty: Some(0.03),
+                        low: 0.22,
+                        high: 0.26,
+                    },
+                    RungRow {
+                        scale: 1.0,
+                        p: Some(0.001),
+                        rate,
+                        uncertainty: None,
+                        low: rate * 0.8,
+                        high: rate * 1.25,
+                    },
+                ],
+                exponent: Some(ExponentRow {
+                    exponent: 2.9,
+                    error: None,
+                    points: 3,
+                    scales: [1.0, 3.5],
+                }),
+                circuit_distance: Some(DistanceRow {
+                    value: 5,
+                    lower: 5,
+                    high_rate: None,
+                }),
+                expected_exponent: Some(3),
+            }),
+        }
+    }
+
+    #[test]
+    fn splitting_rows_round_trip_and_older_rows_still_read() {
+        let row = splitting_row(1e-8);
+        let line = serde_json::to_string(&row).unwrap();
+        // The estimate sits at the top level of the row, unknown uncertainties as `null`.
+        assert!(line.contains("\"per_round\":{\"rate\":2e-9"), "{line}");
+        assert!(line.contains("\"uncertainty\":null"), "{line}");
+        let text = format!("{STORE_HEADER}\n{line}\n");
+        let (rows, _) = parse_rows(&Source::new("s.jsonl", text)).unwrap();
+        assert_eq!(rows, vec![row.clone()]);
+        // A version 3 row (written before `method` existed) reads as a sampling row of today.
+        let v3 = r#"{"version":3,"task":"t","chunk":0,"shots":10,"failures":1,"seed":1,"label":"l","family":"surface","distance":3,"rounds":3,"p":0.1,"noise":"capacity p=0.1","decoder":"mwpm"}"#;
+        let (rows, _) = parse_rows(&Source::new("s.jsonl", format!("{v3}\n{line}\n"))).unwrap();
+        assert_eq!((rows[0].version, rows[0].method.as_str()), (4, "sampling"));
+        assert_eq!(rows[0].splitting, None);
+        assert_eq!(rows[1], row);
+        let pts = aggregate(&rows);
+        let split = pts.iter().find(|p| p.splitting.is_some()).unwrap();
+        assert_eq!(split.estimate(true).rate, 2e-9);
+        assert_eq!(split.estimate(false).rate, 1e-8);
+        // A splitting row without its estimate, or a sampling row with one, is damaged.
+        let cut = line.replace("\"method\":\"splitting\"", "\"method\":\"sampling\"");
+        let r = parse_rows(&Source::new("s.jsonl", format!("{cut}\n")))
+            .unwrap_err()
+            .render();
+        assert!(r.contains("a sampling row carries a splitting estimate"), "{r}");
+        let mut bare = serde_json::to_value(&row).unwrap();
+        bare.as_object_mut().unwrap().remove("ladder");
+        let r = parse_rows(&Source::new("s.jsonl", format!("{bare}\n")))
+            .unwrap_err()
+            .render();
+        assert!(r.contains("a splitting row without its estimate"), "{r}");
+    }
+
+    #[test]
+    fn splitting_rows_merge_once_and_differing_ones_conflict() {
+        let (rows, conflicts) = merge_rows([vec![splitting_row(1e-8)], vec![splitting_row(1e-8)]]);
+        assert_eq!((rows.len(), conflicts.len()), (1, 0));
+        // Same counts at the top, another estimate: a conflict naming both rates.
+        let (rows, conflicts) = merge_rows([vec![splitting_row(1e-8)], vec![splitting_row(2e-8)]]);
+        assert_eq!(rows, vec![splitting_row(1e-8)]);
+        assert_eq!(conflicts.len(), 1);
+        assert_eq!(conflicts[0].rates, Some((1e-8, 2e-8)));
+        assert_eq!((conflicts[0].kept.0, conflicts[0].dropped.0), (0, 1));
+    }
+
     /// `--store notes.txt` on a one-line text file without a newline took the line for a torn
     /// row and cut the file to nothing; such files are refused now, and left as they were.
     #[test]
