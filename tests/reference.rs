@@ -264,7 +264,10 @@ fn store_row_keys_are_the_documented_ones() {
         })
         .collect();
     assert!(keys.contains("vary.KEY"), "a grid with `vary` writes it");
-    assert!(keys.contains("ladder[].scale"), "a splitting grid writes its ladder");
+    assert!(
+        keys.contains("ladder[].scale"),
+        "a splitting grid writes its ladder"
+    );
     assert_same("store", &documented("store"), &keys);
 
     // `slant plot --json` on the same store with sampled points that cross (synthetic rows,

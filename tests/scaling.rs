@@ -80,7 +80,10 @@ fn a_splitting_sweep_follows_the_binomial_tail_and_resumes_and_merges() {
     assert_eq!(split.len(), 6, "one row per splitting task");
     assert_eq!(written.len(), 6 + 4 * 2, "and two chunks per sampled task");
     for r in &split {
-        let (d, p) = (r["distance"].as_u64().unwrap() as u32, r["p"].as_f64().unwrap());
+        let (d, p) = (
+            r["distance"].as_u64().unwrap() as u32,
+            r["p"].as_f64().unwrap(),
+        );
         let exact = binomial_tail(d, p);
         let est = &r["per_shot"];
         let (low, high) = (est["low"].as_f64().unwrap(), est["high"].as_f64().unwrap());
@@ -124,7 +127,10 @@ fn a_splitting_sweep_follows_the_binomial_tail_and_resumes_and_merges() {
     .unwrap();
     assert!(text.contains("ceil(d_circ/2)"), "{text}");
     let image = std::fs::read_to_string(&svg).unwrap();
-    assert!(image.contains("d = 5: slope") && image.contains("sampled"), "{image}");
+    assert!(
+        image.contains("d = 5: slope") && image.contains("sampled"),
+        "{image}"
+    );
 
     // Resuming: every task is found complete, nothing is appended.
     let before = std::fs::read(&store).unwrap();
@@ -160,11 +166,7 @@ fn a_splitting_sweep_follows_the_binomial_tail_and_resumes_and_merges() {
     let row: Value = serde_json::from_str(first).unwrap();
     let rate = row["per_shot"]["rate"].to_string();
     let other = dir.path().join("o.jsonl");
-    std::fs::write(
-        &other,
-        format!("{}\n", first.replacen(&rate, "1.5e-5", 1)),
-    )
-    .unwrap();
+    std::fs::write(&other, format!("{}\n", first.replacen(&rate, "1.5e-5", 1))).unwrap();
     let out = slant()
         .arg("merge")
         .arg(&store)
@@ -174,7 +176,10 @@ fn a_splitting_sweep_follows_the_binomial_tail_and_resumes_and_merges() {
         .run();
     let (code, _, stderr) = parts(&out);
     assert_eq!(code, 1, "{stderr}");
-    assert!(stderr.contains("splitting task") && stderr.contains("1.5000e-5"), "{stderr}");
+    assert!(
+        stderr.contains("splitting task") && stderr.contains("1.5000e-5"),
+        "{stderr}"
+    );
 }
 
 #[test]
@@ -184,7 +189,10 @@ fn shards_split_splitting_tasks_by_their_grid_index() {
     std::fs::write(&spec, SPEC).unwrap();
     let list = |shard: &str| -> Vec<String> {
         String::from_utf8(stdout_of(
-            slant().arg("sweep").arg(&spec).args(["--list", "--shard", shard]),
+            slant()
+                .arg("sweep")
+                .arg(&spec)
+                .args(["--list", "--shard", shard]),
         ))
         .unwrap()
         .lines()

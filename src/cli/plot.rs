@@ -28,9 +28,9 @@ use crate::base::{write_atomic, Diagnostic};
 use crate::cli::common::print_json;
 use crate::cli::CliError;
 use crate::study::{
-    aggregate, bootstrap, pairs, read_store, render_for, scaling_fit, slopes, threshold,
-    Bootstrap, ChunkRow, Curve, CurveStyle, Estimate, LegendEntry, Marker, NoCrossing, Panel,
-    Point, Shape, SlopeFit, Z95,
+    aggregate, bootstrap, pairs, read_store, render_for, scaling_fit, slopes, threshold, Bootstrap,
+    ChunkRow, Curve, CurveStyle, Estimate, LegendEntry, Marker, NoCrossing, Panel, Point, Shape,
+    SlopeFit, Z95,
 };
 
 /// Arguments of `slant plot`.
@@ -307,7 +307,12 @@ pub fn run(args: Args) -> Result<(), CliError> {
         }
     };
     let mut panels = if args.overlay {
-        vec![overlay_panel(&fits, args.per_round, rate_name, &title(None))]
+        vec![overlay_panel(
+            &fits,
+            args.per_round,
+            rate_name,
+            &title(None),
+        )]
     } else {
         fits.values()
             .map(|f| {
@@ -444,12 +449,7 @@ fn shown(p: &Point, per_round: bool) -> Estimate {
 /// Points of one group by distance, as curves: colour and shape per distance index. A group
 /// with splitting points draws them as the curves, its sampled points as markers beside them,
 /// and each fitted slope as a dashed line over the points it was fitted to.
-fn distance_curves(
-    f: &GroupFit,
-    ds: &[u32],
-    shape: Option<Shape>,
-    per_round: bool,
-) -> Vec<Curve> {
+fn distance_curves(f: &GroupFit, ds: &[u32], shape: Option<Shape>, per_round: bool) -> Vec<Curve> {
     let split = f.points.iter().any(|p| p.splitting.is_some());
     let mut by_d: BTreeMap<(u32, bool), Vec<(f64, Estimate)>> = BTreeMap::new();
     for p in &f.points {
@@ -479,7 +479,14 @@ fn distance_curves(
         let i = ds.iter().position(|&x| x == s.distance).unwrap_or(0);
         let at = |p: f64| {
             let r = (s.ln_a + s.slope * p.ln()).exp();
-            (p, Estimate { rate: r, low: r, high: r })
+            (
+                p,
+                Estimate {
+                    rate: r,
+                    low: r,
+                    high: r,
+                },
+            )
         };
         let mut c = Curve::new("", vec![at(s.p_range[0]), at(s.p_range[1])], i);
         c.style = CurveStyle::Line;

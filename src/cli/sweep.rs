@@ -80,9 +80,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
     let total = states.len();
     let skipped: Vec<_> = states
         .iter()
-        .filter(|(_, _, s)| {
-            matches!(s, TaskState::Complete { .. } | TaskState::Estimated { .. })
-        })
+        .filter(|(_, _, s)| matches!(s, TaskState::Complete { .. } | TaskState::Estimated { .. }))
         .collect();
     let partial = states
         .iter()
@@ -114,9 +112,9 @@ pub fn run(args: Args) -> Result<(), CliError> {
     }
     // The bar counts the shots still to run (an upper bound when `until_failures` stops a task),
     // or, when splitting tasks run (whose work is not a number of shots), the tasks.
-    let splitting = states.iter().any(|(_, t, s)| {
-        matches!(t.method, Method::Splitting(_)) && matches!(s, TaskState::Fresh)
-    });
+    let splitting = states
+        .iter()
+        .any(|(_, t, s)| matches!(t.method, Method::Splitting(_)) && matches!(s, TaskState::Fresh));
     let to_run: u64 = states
         .iter()
         .map(|(_, t, s)| match s {
@@ -186,9 +184,9 @@ pub fn run(args: Args) -> Result<(), CliError> {
                 SplittingEvent::Sampling {
                     scale, failures, ..
                 } => format!("direct sampling at {scale}x, {failures} failures"),
-                SplittingEvent::Rung {
-                    done, expected, ..
-                } => format!("rung {done} of ~{expected}"),
+                SplittingEvent::Rung { done, expected, .. } => {
+                    format!("rung {done} of ~{expected}")
+                }
             };
             if let Ok(mut p) = progress.lock() {
                 p.0.set_message(format!("{}: {what}", point(task)));

@@ -48,9 +48,9 @@ pub use stats::{per_round, wilson, Estimate, Z95};
 pub use sweep::{
     aggregate, chunk_seed, load_store, merge_rows, parse_rows, plan, read_store, run_sweep,
     ChunkRow, Conflict, DistanceRow, Event, ExponentRow, Method, Point, RungRow, Shard,
-    SplittingKnobs, SplittingRow, Store, StoreContents, SweepSpec, Task, TaskState,
-    DEFAULT_CHAINS, DEFAULT_CHUNK, DEFAULT_SWEEPS, DEFAULT_TOP_FAILURES, DEFAULT_TOP_SHOTS,
-    STORE_HEADER, STORE_VERSION,
+    SplittingKnobs, SplittingRow, Store, StoreContents, SweepSpec, Task, TaskState, DEFAULT_CHAINS,
+    DEFAULT_CHUNK, DEFAULT_SWEEPS, DEFAULT_TOP_FAILURES, DEFAULT_TOP_SHOTS, STORE_HEADER,
+    STORE_VERSION,
 };
 pub use threshold::{
     bootstrap, crossings, pairs, scaling_fit, threshold, Bootstrap, Crossing, NoCrossing, Pair,

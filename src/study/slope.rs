@@ -200,7 +200,10 @@ mod tests {
         for f in &fits {
             let k = (f.distance as f64 + 1.0) / 2.0;
             assert!((f.slope - k).abs() < 1e-9, "{f:?}");
-            assert!((f.ln_a - (0.3f64.ln() - k * 0.01f64.ln())).abs() < 1e-9, "{f:?}");
+            assert!(
+                (f.ln_a - (0.3f64.ln() - k * 0.01f64.ln())).abs() < 1e-9,
+                "{f:?}"
+            );
             assert!((f.error.unwrap() - 0.1 / sxx.sqrt()).abs() < 1e-12, "{f:?}");
             assert_eq!(f.expected, Some(f.distance.div_ceil(2)));
             assert_eq!((f.points, f.p_range), (4, [0.0003, 0.003]));
@@ -211,7 +214,11 @@ mod tests {
         // Points that scatter beyond their stated uncertainty inflate the error (Birge ratio).
         rows[1].splitting.as_mut().unwrap().per_round.rate *= 2.0;
         let fits = slopes(&crate::study::sweep::aggregate(&rows), true, None);
-        assert!(fits[0].error.unwrap() > 2.0 * 0.1 / sxx.sqrt(), "{:?}", fits[0]);
+        assert!(
+            fits[0].error.unwrap() > 2.0 * 0.1 / sxx.sqrt(),
+            "{:?}",
+            fits[0]
+        );
     }
 
     #[test]

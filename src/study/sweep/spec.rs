@@ -564,15 +564,13 @@ fn method_of(source: &Arc<Source>, g: &GridToml, raw: &SpecToml) -> Result<Metho
     let chains = match chains {
         None => DEFAULT_CHAINS,
         Some(c) if *c.get_ref() >= 2 => *c.get_ref() as u64,
-        Some(c) => {
-            return Err(at(
-                c.span(),
-                format!(
-                    "`chains` must be at least 2 (independent walks give the uncertainty), found {}",
-                    c.get_ref()
-                ),
-            ))
-        }
+        Some(c) => return Err(at(
+            c.span(),
+            format!(
+                "`chains` must be at least 2 (independent walks give the uncertainty), found {}",
+                c.get_ref()
+            ),
+        )),
     };
     let sweeps = match sweeps {
         None => DEFAULT_SWEEPS,
@@ -682,8 +680,11 @@ flip = "z"
         assert!(!sampled.key.contains("method="), "{}", sampled.key);
         assert_ne!(sampled.key, t.key);
         // Knobs change the key, so rows of other knobs never count as this task's.
-        let other = SweepSpec::parse(&Source::new("s.toml", text.replace("chains = 4", "chains = 5")))
-            .unwrap();
+        let other = SweepSpec::parse(&Source::new(
+            "s.toml",
+            text.replace("chains = 4", "chains = 5"),
+        ))
+        .unwrap();
         assert_ne!(other.tasks[0].key, t.key);
     }
 
@@ -692,11 +693,31 @@ flip = "z"
         let grid = "[[grid]]\nfamily = \"repetition\"\ndistances = [3]\nnoise = \"capacity\"\n\
                     p = [0.01]\n";
         for (line, message, at) in [
-            ("method = \"splits\"", "unknown `method` `splits`", "s.toml:7:10"),
-            ("method = \"splitting\"\nchains = 1", "`chains` must be at least 2", "s.toml:8:10"),
-            ("method = \"splitting\"\nsweeps = -3", "`sweeps` must be a positive number", "s.toml:8:10"),
-            ("method = \"splitting\"\ntop = 0.5", "`top` is a multiple of the noise", "s.toml:8:7"),
-            ("shots = 10\ntop = 4", "`top` is a setting of `method = \"splitting\"`", "s.toml:8:7"),
+            (
+                "method = \"splits\"",
+                "unknown `method` `splits`",
+                "s.toml:7:10",
+            ),
+            (
+                "method = \"splitting\"\nchains = 1",
+                "`chains` must be at least 2",
+                "s.toml:8:10",
+            ),
+            (
+                "method = \"splitting\"\nsweeps = -3",
+                "`sweeps` must be a positive number",
+                "s.toml:8:10",
+            ),
+            (
+                "method = \"splitting\"\ntop = 0.5",
+                "`top` is a multiple of the noise",
+                "s.toml:8:7",
+            ),
+            (
+                "shots = 10\ntop = 4",
+                "`top` is a setting of `method = \"splitting\"`",
+                "s.toml:8:7",
+            ),
         ] {
             let text = format!("seed = 1\n{grid}{line}\n");
             let d = SweepSpec::parse(&Source::new("s.toml", text.as_str())).unwrap_err();

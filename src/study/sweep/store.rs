@@ -187,9 +187,9 @@ pub fn parse_rows(source: &Arc<Source>) -> Result<(Vec<ChunkRow>, usize), Diagno
             let damage = match (row.method.as_str(), row.splitting.is_some()) {
                 ("sampling", false) | ("splitting", true) => None,
                 ("sampling", true) => Some("a sampling row carries a splitting estimate".into()),
-                ("splitting", false) => Some(
-                    "a splitting row without its estimate (`per_shot`, `ladder`, ...)".into(),
-                ),
+                ("splitting", false) => {
+                    Some("a splitting row without its estimate (`per_shot`, `ladder`, ...)".into())
+                }
                 (other, _) => Some(format!(
                     "unknown method `{other}` (expected `sampling` or `splitting`)"
                 )),
@@ -618,7 +618,10 @@ mod tests {
         let r = parse_rows(&Source::new("s.jsonl", format!("{cut}\n")))
             .unwrap_err()
             .render();
-        assert!(r.contains("a sampling row carries a splitting estimate"), "{r}");
+        assert!(
+            r.contains("a sampling row carries a splitting estimate"),
+            "{r}"
+        );
         let mut bare = serde_json::to_value(&row).unwrap();
         bare.as_object_mut().unwrap().remove("ladder");
         let r = parse_rows(&Source::new("s.jsonl", format!("{bare}\n")))
