@@ -53,16 +53,19 @@ pub fn slopes(points: &[Point], per_round: bool, below: Option<f64>) -> Vec<Slop
     by_d.into_iter()
         .filter_map(|(d, mut pts)| {
             pts.sort_by(|a, b| a.p.total_cmp(&b.p));
-            let data: Vec<(f64, f64, Option<f64>)> = pts
+            let used: Vec<&Point> = pts
+                .into_iter()
+                .filter(|p| p.estimate(per_round).rate > 0.0)
+                .collect();
+            let data: Vec<(f64, f64, Option<f64>)> = used
                 .iter()
                 .filter_map(|p| {
                     let s = p.splitting.as_ref()?;
-                    let rate = p.estimate(per_round).rate;
-                    (rate > 0.0).then(|| (p.p.ln(), rate.ln(), s.uncertainty))
+                    Some((p.p.ln(), p.estimate(per_round).rate.ln(), s.uncertainty))
                 })
                 .collect();
             let (slope, error, ln_a) = fit_line(&data)?;
-            let first = pts[0].splitting.as_ref();
+            let first = used[0].splitting.as_ref();
             Some(SlopeFit {
                 distance: d,
                 slope,
@@ -71,10 +74,7 @@ pub fn slopes(points: &[Point], per_round: bool, below: Option<f64>) -> Vec<Slop
                 circuit_distance: first.and_then(|s| s.circuit_distance.map(|c| c.value)),
                 expected: first.and_then(|s| s.expected_exponent),
                 points: data.len(),
-                p_range: [
-                    data.first().map_or(0.0, |x| x.0.exp()),
-                    data.last().map_or(0.0, |x| x.0.exp()),
-                ],
+                p_range: [used[0].p, used[used.len() - 1].p],
             })
         })
         .collect()

@@ -544,11 +544,12 @@ fn method_of(source: &Arc<Source>, g: &GridToml, raw: &SpecToml) -> Result<Metho
         },
     };
     if !splitting {
-        // Knobs of the splitting method on a sampling grid are a mistake, not a default.
+        // Knobs of the splitting method in a sampling grid are a mistake, not a default (the
+        // top level's knobs are for the grids that split).
         let knob = [
-            chains.map(|c| ("chains", c.span())),
-            sweeps.map(|s| ("sweeps", s.span())),
-            top.map(|t| ("top", t.span())),
+            g.chains.as_ref().map(|c| ("chains", c.span())),
+            g.sweeps.as_ref().map(|s| ("sweeps", s.span())),
+            g.top.as_ref().map(|t| ("top", t.span())),
         ]
         .into_iter()
         .flatten()
