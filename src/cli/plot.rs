@@ -436,6 +436,9 @@ fn key_name(key: &str) -> String {
     key.replace(',', " & ")
 }
 
+/// Sampled points beside splitting points are drawn at this multiple of their `p`.
+const SAMPLED_NUDGE: f64 = 1.04;
+
 /// The estimate a point is drawn with: a sampled point's counts were already rescaled to the
 /// rate shown, a splitting point carries both rates.
 fn shown(p: &Point, per_round: bool) -> Estimate {
@@ -469,8 +472,12 @@ fn distance_curves(f: &GroupFit, ds: &[u32], shape: Option<Shape>, per_round: bo
             let mut c = Curve::new(label, points, i);
             c.shape = shape.unwrap_or(Shape::nth(i));
             if split && !splitting {
+                // Nudged right by 4% so that the error bars of both estimates at one p show.
                 c.style = CurveStyle::Points;
-                c.shape = Shape::Square;
+                c.shape = Shape::Diamond;
+                for (x, _) in &mut c.points {
+                    *x *= SAMPLED_NUDGE;
+                }
             }
             c
         })
@@ -673,9 +680,9 @@ fn group_panel(f: &GroupFit, per_round: bool, rate_name: &str, title: &str) -> P
             .collect();
         if f.points.iter().any(|p| p.splitting.is_none()) {
             legend.push(LegendEntry {
-                label: "sampled (95% Wilson interval)".into(),
+                label: "sampled, 95% Wilson interval (nudged right)".into(),
                 colour: None,
-                shape: Some(Shape::Square),
+                shape: Some(Shape::Diamond),
                 line: None,
             });
         }
