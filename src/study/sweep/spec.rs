@@ -565,13 +565,15 @@ fn method_of(source: &Arc<Source>, g: &GridToml, raw: &SpecToml) -> Result<Metho
     let chains = match chains {
         None => DEFAULT_CHAINS,
         Some(c) if *c.get_ref() >= 2 => *c.get_ref() as u64,
-        Some(c) => return Err(at(
-            c.span(),
-            format!(
+        Some(c) => {
+            return Err(at(
+                c.span(),
+                format!(
                 "`chains` must be at least 2 (independent walks give the uncertainty), found {}",
                 c.get_ref()
             ),
-        )),
+            ))
+        }
     };
     let sweeps = match sweeps {
         None => DEFAULT_SWEEPS,
