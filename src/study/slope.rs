@@ -96,7 +96,7 @@ fn fit_line(data: &[(f64, f64, Option<f64>)]) -> Option<(f64, Option<f64>, f64)>
     let mx = data.iter().map(|d| w(d) * d.0).sum::<f64>() / sw;
     let my = data.iter().map(|d| w(d) * d.1).sum::<f64>() / sw;
     let sxx: f64 = data.iter().map(|d| w(d) * (d.0 - mx).powi(2)).sum();
-    if !(sxx > 0.0) {
+    if sxx.is_nan() || sxx <= 0.0 {
         return None;
     }
     let sxy: f64 = data.iter().map(|d| w(d) * (d.0 - mx) * (d.1 - my)).sum();
