@@ -45,6 +45,24 @@ figures_device() {
   cat "$out/device.txt"
 }
 
+# Sub-threshold scaling from one spec (bench/scaling/surface_hook_safe.toml): every point of the
+# hook-safe surface code at d = 3, 5, 7 by the splitting method, the per-round rate against p
+# with the fitted slope per distance next to ceil(d_circ/2). The wall time of the sweep goes to
+# target/figures/scaling.txt with the slope table.
+figures_scaling() {
+  local spec=bench/scaling/surface_hook_safe.toml store=target/scaling/surface_hook_safe.jsonl
+  mkdir -p target/scaling
+  local start end
+  start=$(date +%s)
+  nice -n 10 "$bin" sweep "$spec" --store "$store" > /dev/null
+  end=$(date +%s)
+  "$bin" plot "$store" -o docs/scaling_surface.png --per-round \
+    --title "surface code, hook-safe order, circuit depolarizing: p_L per round by splitting" \
+    > "$out/scaling.txt"
+  echo "sweep wall time: $((end - start)) s (0 when every task was already in the store)" >> "$out/scaling.txt"
+  cat "$out/scaling.txt"
+}
+
 # Pictures of the bundled circuits (`slant draw`): docs/draw/, see scripts/figures-draw.sh.
 figures_draw() {
   # shellcheck source=scripts/figures-draw.sh
@@ -52,7 +70,7 @@ figures_draw() {
   draw_figures "$bin"
 }
 
-FIGURE_GROUPS=(compare thresholds device draw)
+FIGURE_GROUPS=(compare thresholds device scaling draw)
 for group in "${@:-${FIGURE_GROUPS[@]}}"; do
   if ! declare -F "figures_$group" > /dev/null; then
     echo "$0: no figure group \`$group\` (groups: ${FIGURE_GROUPS[*]})" >&2

@@ -505,6 +505,8 @@ fn plot_marks_the_crossing_of_synthetic_power_laws() {
                 vary: Default::default(),
                 noise: format!("capacity p={p}"),
                 decoder: "mwpm".into(),
+                method: "sampling".into(),
+                splitting: None,
             };
             text += &serde_json::to_string(&row).unwrap();
             text.push('\n');

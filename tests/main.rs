@@ -21,5 +21,6 @@ mod printer;
 mod readme;
 mod reference;
 mod robust;
+mod scaling;
 mod shots;
 mod support;

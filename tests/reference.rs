@@ -237,7 +237,9 @@ fn store_row_keys_are_the_documented_ones() {
         "shots = 4096\nchunk = 4096\n[[grid]]\nfamily = \"repetition\"\ndistances = [3]\n\
          noise = \"phenomenological\"\np = [0.05]\nbias = [10]\n\
          [[grid]]\nfamily = \"repetition\"\ndistances = [3]\nnoise = \"m.toml\"\np = [0.02]\n\
-         [grid.vary]\nbias = [10]\n",
+         [grid.vary]\nbias = [10]\n\
+         [[grid]]\nfamily = \"repetition\"\ndistances = [3]\nnoise = \"phenomenological\"\n\
+         p = [0.01, 0.02]\nrounds = 1\nmethod = \"splitting\"\nchains = 2\nsweeps = 5\n",
     )
     .unwrap();
     std::fs::write(dir.path().join("m.toml"), "p = 0.01\n[gates.default]\n").unwrap();
@@ -262,7 +264,41 @@ fn store_row_keys_are_the_documented_ones() {
         })
         .collect();
     assert!(keys.contains("vary.KEY"), "a grid with `vary` writes it");
+    assert!(
+        keys.contains("ladder[].scale"),
+        "a splitting grid writes its ladder"
+    );
     assert_same("store", &documented("store"), &keys);
+
+    // `slant plot --json` on the same store with sampled points that cross (synthetic rows,
+    // 0.1 (p/0.02)^((d+1)/2)), so every key of the report is written.
+    let mut text = text;
+    for d in [3u32, 5] {
+        for p in [0.01, 0.015, 0.025, 0.03] {
+            let shots = 1_000_000u64;
+            let rate = 0.1 * (p / 0.02f64).powf((d as f64 + 1.0) / 2.0);
+            let row = serde_json::json!({
+                "version": 4, "task": format!("synthetic d={d} p={p}"), "chunk": 0,
+                "shots": shots, "failures": (rate * shots as f64).round() as u64, "seed": 0,
+                "label": "synthetic", "family": "surface", "distance": d, "rounds": d, "p": p,
+                "noise": format!("capacity p={p}"), "decoder": "mwpm", "method": "sampling",
+            });
+            text += &format!("{row}\n");
+        }
+    }
+    std::fs::write(dir.path().join("s.jsonl"), text).unwrap();
+    let mut cmd = slant();
+    cmd.current_dir(dir.path()).args([
+        "plot",
+        "s.jsonl",
+        "-o",
+        "p.svg",
+        "--json",
+        "--fit-below",
+        "0.5",
+    ]);
+    let report: Value = serde_json::from_slice(&stdout_of(&mut cmd)).unwrap();
+    assert_same("plot", &documented("plot"), &written(&[report]));
 }
 
 #[test]

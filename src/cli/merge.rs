@@ -1,8 +1,8 @@
 //! `slant merge`: combine results stores (e.g. of the shards of a sweep) into one.
 //!
 //! Rows are read from every store in the order given; a `(task, chunk)` seen before is dropped
-//! (see [`crate::study::merge_rows`]). Two rows of one chunk with different counts mean the
-//! stores do not belong together: merge refuses them unless `--prefer` says which store wins.
+//! (see [`crate::study::merge_rows`]). Two rows of one chunk with different counts (or two
+//! different rows of one splitting task) mean the stores do not belong together: merge refuses them unless `--prefer` says which store wins.
 //! A torn last row (a run killed while appending) is dropped and reported. The output is
 //! written atomically, so it may also be one of the inputs.
 
@@ -69,19 +69,29 @@ pub fn run(args: Args) -> Result<(), CliError> {
             };
             args.stores[k].display().to_string()
         };
-        let what = format!(
-            "{} chunks disagree between stores; the first: chunk {} of task `{}` has {} failures \
-             in {} shots in `{}` but {} in {} in `{}`",
-            conflicts.len(),
-            c.chunk,
-            c.task,
-            c.kept.2,
-            c.kept.1,
-            store(c.kept.0),
-            c.dropped.2,
-            c.dropped.1,
-            store(c.dropped.0),
-        );
+        let what = match c.rates {
+            Some((kept, dropped)) => format!(
+                "{} chunks disagree between stores; the first: splitting task `{}` estimates \
+                 {kept:.4e} per shot in `{}` but {dropped:.4e} in `{}`",
+                conflicts.len(),
+                c.task,
+                store(c.kept.0),
+                store(c.dropped.0),
+            ),
+            None => format!(
+                "{} chunks disagree between stores; the first: chunk {} of task `{}` has {} \
+                 failures in {} shots in `{}` but {} in {} in `{}`",
+                conflicts.len(),
+                c.chunk,
+                c.task,
+                c.kept.2,
+                c.kept.1,
+                store(c.kept.0),
+                c.dropped.2,
+                c.dropped.1,
+                store(c.dropped.0),
+            ),
+        };
         if args.prefer.is_none() {
             return Err(Diagnostic::bare(format!("cannot merge: {what}"))
                 .with_hint(

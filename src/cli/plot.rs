@@ -13,15 +13,24 @@
 //! or a varied model key; `--against` picks one), marking parameter values whose curves do not
 //! cross inside the grid with a hollow triangle at the grid's edge. Output is SVG or PNG by the
 //! file name, written atomically.
+//!
+//! Points of splitting tasks (`method = "splitting"` in the spec) are drawn as lines with error
+//! bars from their stated uncertainty, sampled points of the same group beside them as markers
+//! with Wilson intervals, and the fitted power law per distance as a dashed line; the table of
+//! fitted slopes ([`crate::study::slopes`]) against `⌈d_circ/2⌉` is printed per group (and in
+//! the legend). Thresholds are estimated from the sampled points only. `--json` prints the
+//! crossings' estimate and the slopes as one object.
 
 use std::collections::{BTreeMap, BTreeSet};
 use std::path::PathBuf;
 
 use crate::base::{write_atomic, Diagnostic};
+use crate::cli::common::print_json;
 use crate::cli::CliError;
 use crate::study::{
-    aggregate, bootstrap, pairs, read_store, render_for, scaling_fit, threshold, Bootstrap, Curve,
-    Estimate, LegendEntry, Marker, NoCrossing, Panel, Point, Shape, Z95,
+    aggregate, bootstrap, pairs, read_store, render_for, scaling_fit, slopes, threshold, Bootstrap,
+    ChunkRow, Curve, CurveStyle, Estimate, LegendEntry, Marker, NoCrossing, Panel, Point, Shape,
+    SlopeFit, Z95,
 };
 
 /// Arguments of `slant plot`.
@@ -31,7 +40,12 @@ Thresholds: every pair of distances is tried; the estimate is the crossing of th
 that crosses, with a 95% interval from a parametric bootstrap over the stored counts (each \
 point's failures redrawn from a binomial with its shots and observed rate). A crossing in the \
 first or last interval of the grid is flagged, and the share of resamples with no crossing is \
-printed: extend the grid when either is reported.")]
+printed: extend the grid when either is reported.
+
+Splitting points (a grid with method = \"splitting\"): per distance, the slope of ln p_L against \
+ln p is fitted by least squares weighted by the stated uncertainties (over the points with p <= \
+--fit-below, default all) and printed with its standard error next to ceil(d_circ/2), d_circ \
+the circuit distance the sweep computed for that point.")]
 pub struct Args {
     /// The results store (JSON Lines).
     pub store: PathBuf,
@@ -60,6 +74,12 @@ pub struct Args {
     /// Bootstrap resamples per threshold.
     #[arg(long, value_name = "N", default_value_t = 400)]
     pub resamples: usize,
+    /// Fit the slopes of splitting points over `p <= P` only (default: every splitting point).
+    #[arg(long, value_name = "P")]
+    pub fit_below: Option<f64>,
+    /// Print the report as one JSON object (the plot is still written).
+    #[arg(long)]
+    pub json: bool,
 }
 
 fn check_image_name(path: &std::path::Path) -> Result<(), CliError> {
@@ -86,7 +106,10 @@ fn pct(p: f64) -> String {
 
 /// Everything computed for one group.
 struct GroupFit {
+    /// Every point: sampled and splitting.
     points: Vec<Point>,
+    /// The slopes of the splitting points.
+    slopes: Vec<SlopeFit>,
     estimate: Option<crate::study::Crossing>,
     boot: Bootstrap,
     /// The largest pair's reason for having no crossing, when no pair crosses.
@@ -108,8 +131,15 @@ pub fn run(args: Args) -> Result<(), CliError> {
     }
     let rows = read_store(&args.store)?;
     let mut groups: BTreeMap<String, Vec<Point>> = BTreeMap::new();
+    if let Some(b) = args.fit_below {
+        if !(b > 0.0 && b.is_finite()) {
+            return Err(CliError::Usage(Diagnostic::bare(format!(
+                "`--fit-below {b}`: give a physical error rate above 0"
+            ))));
+        }
+    }
     for mut pt in aggregate(&rows) {
-        if args.per_round {
+        if args.per_round && pt.splitting.is_none() {
             // Rescale the failure count so failures/shots is the per-round rate; the fits and
             // crossings then work on per-round rates unchanged.
             let r = Estimate::wilson(pt.failures, pt.shots, Z95)
@@ -155,8 +185,31 @@ pub fn run(args: Args) -> Result<(), CliError> {
     };
     let mut fits: BTreeMap<String, GroupFit> = BTreeMap::new();
     let mut report = String::new();
-    for (i, (g, pts)) in groups.iter().enumerate() {
+    for (i, (g, every)) in groups.iter().enumerate() {
         report += &format!("{g}:\n");
+        let fitted = slopes(every, args.per_round, args.fit_below);
+        // Thresholds come from the sampled points; a group of splitting points only has none
+        // to look for (its points lie far below threshold).
+        let sampled: Vec<Point> = every
+            .iter()
+            .filter(|p| p.splitting.is_none())
+            .cloned()
+            .collect();
+        let pts = &sampled;
+        if pts.is_empty() {
+            report += &slope_lines(&fitted, every, rate_name);
+            fits.insert(
+                g.clone(),
+                GroupFit {
+                    points: every.clone(),
+                    slopes: fitted,
+                    estimate: None,
+                    boot: bootstrap(pts, 0, 0),
+                    beyond: None,
+                },
+            );
+            continue;
+        }
         let all = pairs(pts);
         for pair in &all {
             match pair.result {
@@ -229,10 +282,12 @@ pub fn run(args: Args) -> Result<(), CliError> {
         } else {
             None
         };
+        report += &slope_lines(&fitted, every, rate_name);
         fits.insert(
             g.clone(),
             GroupFit {
-                points: pts.clone(),
+                points: every.clone(),
+                slopes: fitted,
                 estimate,
                 boot,
                 beyond,
@@ -252,10 +307,22 @@ pub fn run(args: Args) -> Result<(), CliError> {
         }
     };
     let mut panels = if args.overlay {
-        vec![overlay_panel(&fits, rate_name, &title(None))]
+        vec![overlay_panel(
+            &fits,
+            args.per_round,
+            rate_name,
+            &title(None),
+        )]
     } else {
         fits.values()
-            .map(|f| group_panel(f, rate_name, &title(Some(&params_text(&f.points[0])))))
+            .map(|f| {
+                group_panel(
+                    f,
+                    args.per_round,
+                    rate_name,
+                    &title(Some(&params_text(&f.points[0]))),
+                )
+            })
             .collect()
     };
     if groups
@@ -278,6 +345,9 @@ pub fn run(args: Args) -> Result<(), CliError> {
         report += &text;
         let bytes = render_for(path, &[panel]).map_err(CliError::Internal)?;
         write_atomic(path, &bytes)?;
+    }
+    if args.json {
+        return print_json(&json_report(&args, &fits));
     }
     out!("{report}");
     outln!("plot written to `{}`", args.output.display());
@@ -366,22 +436,200 @@ fn key_name(key: &str) -> String {
     key.replace(',', " & ")
 }
 
-/// Points of one group by distance, as curves: colour and shape per distance index.
-fn distance_curves(pts: &[Point], ds: &[u32], shape: Option<Shape>) -> Vec<Curve> {
-    let mut by_d: BTreeMap<u32, Vec<(f64, Estimate)>> = BTreeMap::new();
-    for p in pts {
-        by_d.entry(p.distance)
-            .or_default()
-            .push((p.p, Estimate::wilson(p.failures, p.shots, Z95)));
+/// Sampled points beside splitting points are drawn at this multiple of their `p`.
+const SAMPLED_NUDGE: f64 = 1.04;
+
+/// The estimate a point is drawn with: a sampled point's counts were already rescaled to the
+/// rate shown, a splitting point carries both rates.
+fn shown(p: &Point, per_round: bool) -> Estimate {
+    if p.splitting.is_some() {
+        p.estimate(per_round)
+    } else {
+        Estimate::wilson(p.failures, p.shots, Z95)
     }
-    by_d.into_iter()
-        .map(|(d, points)| {
+}
+
+/// Points of one group by distance, as curves: colour and shape per distance index. A group
+/// with splitting points draws them as the curves, its sampled points as markers beside them,
+/// and each fitted slope as a dashed line over the points it was fitted to.
+fn distance_curves(f: &GroupFit, ds: &[u32], shape: Option<Shape>, per_round: bool) -> Vec<Curve> {
+    let split = f.points.iter().any(|p| p.splitting.is_some());
+    let mut by_d: BTreeMap<(u32, bool), Vec<(f64, Estimate)>> = BTreeMap::new();
+    for p in &f.points {
+        by_d.entry((p.distance, p.splitting.is_some()))
+            .or_default()
+            .push((p.p, shown(p, per_round)));
+    }
+    let mut curves: Vec<Curve> = by_d
+        .into_iter()
+        .map(|((d, splitting), points)| {
             let i = ds.iter().position(|&x| x == d).unwrap_or(0);
-            let mut c = Curve::new(format!("d = {d}"), points, i);
+            let label = match f.slopes.iter().find(|s| s.distance == d) {
+                Some(s) if splitting => format!("d = {d}: {}", slope_words(s)),
+                _ if split && !splitting => String::new(),
+                _ => format!("d = {d}"),
+            };
+            let mut c = Curve::new(label, points, i);
             c.shape = shape.unwrap_or(Shape::nth(i));
+            if split && !splitting {
+                // Nudged right by 4% so that the error bars of both estimates at one p show.
+                c.style = CurveStyle::Points;
+                c.shape = Shape::Diamond;
+                for (x, _) in &mut c.points {
+                    *x *= SAMPLED_NUDGE;
+                }
+            }
             c
         })
-        .collect()
+        .collect();
+    for s in &f.slopes {
+        let i = ds.iter().position(|&x| x == s.distance).unwrap_or(0);
+        let at = |p: f64| {
+            let r = (s.ln_a + s.slope * p.ln()).exp();
+            (
+                p,
+                Estimate {
+                    rate: r,
+                    low: r,
+                    high: r,
+                },
+            )
+        };
+        let mut c = Curve::new("", vec![at(s.p_range[0]), at(s.p_range[1])], i);
+        c.style = CurveStyle::Line;
+        c.dashed = true;
+        curves.push(c);
+    }
+    curves
+}
+
+/// `slope 2.04 ± 0.05, expected 2` for a legend.
+fn slope_words(s: &SlopeFit) -> String {
+    let mut t = format!("slope {:.2}", s.slope);
+    if let Some(e) = s.error {
+        t += &format!(" ± {e:.2}");
+    }
+    match s.expected {
+        Some(k) => t + &format!(", expected {k}"),
+        None => t,
+    }
+}
+
+/// The slope table of one group's splitting points (empty without any).
+fn slope_lines(fits: &[SlopeFit], points: &[Point], rate_name: &str) -> String {
+    let splitting: Vec<&Point> = points.iter().filter(|p| p.splitting.is_some()).collect();
+    if splitting.is_empty() {
+        return String::new();
+    }
+    let mut out = format!(
+        "  sub-threshold scaling ({rate_name}, splitting points): slope of ln p_L against ln p\n"
+    );
+    if fits.is_empty() {
+        return out + "    too few splitting points per distance to fit a slope (two are needed)\n";
+    }
+    out += &format!(
+        "    {:>3}  {:>14}  {:>15}  {:>6}  {:>6}  {}\n",
+        "d", "slope", "ceil(d_circ/2)", "d_circ", "points", "p fitted"
+    );
+    for f in fits {
+        let slope = match f.error {
+            Some(e) => format!("{:.2} ± {e:.2}", f.slope),
+            None => format!("{:.2} ± ?", f.slope),
+        };
+        out += &format!(
+            "    {:>3}  {:>14}  {:>15}  {:>6}  {:>6}  {:.2e} .. {:.2e}\n",
+            f.distance,
+            slope,
+            f.expected.map_or("?".into(), |k| k.to_string()),
+            f.circuit_distance.map_or("?".into(), |k| k.to_string()),
+            f.points,
+            f.p_range[0],
+            f.p_range[1]
+        );
+    }
+    out
+}
+
+/// The slope tables of every group of `rows` with splitting points (for `slant sweep`).
+pub(crate) fn slope_report(rows: &[ChunkRow], per_round: bool, below: Option<f64>) -> String {
+    let mut groups: BTreeMap<String, Vec<Point>> = BTreeMap::new();
+    for pt in aggregate(rows) {
+        groups.entry(pt.group()).or_default().push(pt);
+    }
+    let rate_name = if per_round { "per round" } else { "per shot" };
+    let mut out = String::new();
+    for (g, pts) in &groups {
+        let lines = slope_lines(&slopes(pts, per_round, below), pts, rate_name);
+        if !lines.is_empty() {
+            out += &format!("{g}:\n{lines}");
+        }
+    }
+    out
+}
+
+/// The threshold of one group in `--json`.
+#[derive(Debug, serde::Serialize)]
+struct ThresholdJson {
+    p: f64,
+    d1: u32,
+    d2: u32,
+    at_edge: bool,
+    low: Option<f64>,
+    high: Option<f64>,
+    resamples: usize,
+    no_crossing: f64,
+}
+
+/// One group in `--json`.
+#[derive(Debug, serde::Serialize)]
+struct GroupJson<'a> {
+    group: &'a str,
+    label: &'a str,
+    decoder: &'a str,
+    threshold: Option<ThresholdJson>,
+    slopes: &'a [SlopeFit],
+}
+
+/// `slant plot --json`.
+#[derive(Debug, serde::Serialize)]
+struct PlotJson<'a> {
+    format: &'static str,
+    version: u32,
+    store: String,
+    plot: String,
+    per_round: bool,
+    fit_below: Option<f64>,
+    groups: Vec<GroupJson<'a>>,
+}
+
+fn json_report<'a>(args: &Args, fits: &'a BTreeMap<String, GroupFit>) -> PlotJson<'a> {
+    PlotJson {
+        format: "slant-plot",
+        version: 1,
+        store: args.store.display().to_string(),
+        plot: args.output.display().to_string(),
+        per_round: args.per_round,
+        fit_below: args.fit_below,
+        groups: fits
+            .iter()
+            .map(|(g, f)| GroupJson {
+                group: g,
+                label: &f.points[0].label,
+                decoder: &f.points[0].decoder,
+                threshold: f.estimate.map(|t| ThresholdJson {
+                    p: t.p,
+                    d1: t.d1,
+                    d2: t.d2,
+                    at_edge: t.at_edge,
+                    low: f.boot.interval.map(|i| i.0),
+                    high: f.boot.interval.map(|i| i.1),
+                    resamples: f.boot.resamples,
+                    no_crossing: f.boot.no_crossing,
+                }),
+                slopes: &f.slopes,
+            })
+            .collect(),
+    }
 }
 
 fn threshold_marker(f: &GroupFit, shape: Option<Shape>, name: &str) -> Option<Marker> {
@@ -403,7 +651,7 @@ fn threshold_marker(f: &GroupFit, shape: Option<Shape>, name: &str) -> Option<Ma
     })
 }
 
-fn group_panel(f: &GroupFit, rate_name: &str, title: &str) -> Panel {
+fn group_panel(f: &GroupFit, per_round: bool, rate_name: &str, title: &str) -> Panel {
     let ds: Vec<u32> = f
         .points
         .iter()
@@ -414,13 +662,55 @@ fn group_panel(f: &GroupFit, rate_name: &str, title: &str) -> Panel {
     let mut panel = Panel::rates(
         title,
         format!("logical error rate ({rate_name})"),
-        distance_curves(&f.points, &ds, None),
+        distance_curves(f, &ds, None, per_round),
     );
     panel.markers.extend(threshold_marker(f, None, ""));
+    if f.points.iter().any(|p| p.splitting.is_some()) {
+        // Curves first, then one entry each for the sampled markers and the fitted lines.
+        let mut legend: Vec<LegendEntry> = panel
+            .curves
+            .iter()
+            .filter(|c| !c.label.is_empty())
+            .map(|c| LegendEntry {
+                label: c.label.clone(),
+                colour: Some(c.colour),
+                shape: Some(c.shape),
+                line: Some(false),
+            })
+            .collect();
+        if f.points.iter().any(|p| p.splitting.is_none()) {
+            legend.push(LegendEntry {
+                label: "sampled, 95% Wilson interval (nudged right)".into(),
+                colour: None,
+                shape: Some(Shape::Diamond),
+                line: None,
+            });
+        }
+        if !f.slopes.is_empty() {
+            legend.push(LegendEntry {
+                label: "fitted p_L = A p^k".into(),
+                colour: None,
+                shape: None,
+                line: Some(true),
+            });
+        }
+        legend.extend(panel.markers.iter().map(|m| LegendEntry {
+            label: m.label.clone(),
+            colour: None,
+            shape: m.shape,
+            line: Some(true),
+        }));
+        panel.legend = legend;
+    }
     panel
 }
 
-fn overlay_panel(fits: &BTreeMap<String, GroupFit>, rate_name: &str, title: &str) -> Panel {
+fn overlay_panel(
+    fits: &BTreeMap<String, GroupFit>,
+    per_round: bool,
+    rate_name: &str,
+    title: &str,
+) -> Panel {
     let ds: Vec<u32> = fits
         .values()
         .flat_map(|f| f.points.iter().map(|p| p.distance))
@@ -434,7 +724,7 @@ fn overlay_panel(fits: &BTreeMap<String, GroupFit>, rate_name: &str, title: &str
     );
     for (gi, f) in fits.values().enumerate() {
         let shape = Shape::nth(gi);
-        let mut curves = distance_curves(&f.points, &ds, Some(shape));
+        let mut curves = distance_curves(f, &ds, Some(shape), per_round);
         for c in &mut curves {
             c.label.clear();
             c.dashed = gi % 2 == 1;

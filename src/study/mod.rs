@@ -21,6 +21,7 @@ mod montecarlo;
 mod pipeline;
 mod plot;
 mod rare;
+mod slope;
 mod stats;
 mod sweep;
 mod threshold;
@@ -37,16 +38,19 @@ pub use compare::{
 pub use measured::{decode_measured, Layout, Measured, MeasuredEvents};
 pub use montecarlo::{decode_batch, run, Counts, Experiment, RunOptions};
 pub use pipeline::{Pipeline, StudyError};
-pub use plot::{render_for, Curve, LegendEntry, Marker, Panel, Shape, PANEL_SIZE};
+pub use plot::{render_for, Curve, CurveStyle, LegendEntry, Marker, Panel, Shape, PANEL_SIZE};
 pub use rare::{
     fit_exponent, splitting, ExponentFit, LadderPoint, Mixing, Splitting, SplittingEvent,
     SplittingOptions, TopSampling,
 };
+pub use slope::{slopes, SlopeFit};
 pub use stats::{per_round, wilson, Estimate, Z95};
 pub use sweep::{
     aggregate, chunk_seed, load_store, merge_rows, parse_rows, plan, read_store, run_sweep,
-    ChunkRow, Conflict, Event, Point, Shard, Store, StoreContents, SweepSpec, Task, TaskState,
-    DEFAULT_CHUNK, STORE_HEADER, STORE_VERSION,
+    ChunkRow, Conflict, DistanceRow, Event, ExponentRow, Method, Point, RungRow, Shard,
+    SplittingKnobs, SplittingRow, Store, StoreContents, SweepSpec, Task, TaskState, DEFAULT_CHAINS,
+    DEFAULT_CHUNK, DEFAULT_SWEEPS, DEFAULT_TOP_FAILURES, DEFAULT_TOP_SHOTS, STORE_HEADER,
+    STORE_VERSION,
 };
 pub use threshold::{
     bootstrap, crossings, pairs, scaling_fit, threshold, Bootstrap, Crossing, NoCrossing, Pair,

@@ -48,6 +48,17 @@ impl Shape {
     }
 }
 
+/// What a curve draws.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum CurveStyle {
+    /// A line through the points, a marker and an error bar at each.
+    Full,
+    /// A line only (e.g. a fitted power law).
+    Line,
+    /// Markers and error bars without a line (e.g. sampled points beside a computed curve).
+    Points,
+}
+
 /// One line of a panel.
 #[derive(Clone, Debug)]
 pub struct Curve {
@@ -64,6 +75,8 @@ pub struct Curve {
     /// Points outside the drawable range: `(x, y at the edge, above)`, drawn as hollow
     /// triangles pointing up (`above`) or down.
     pub beyond: Vec<(f64, f64, bool)>,
+    /// Line, markers and error bars, or some of them.
+    pub style: CurveStyle,
 }
 
 impl Curve {
@@ -76,6 +89,7 @@ impl Curve {
             shape: Shape::Circle,
             dashed: false,
             beyond: Vec::new(),
+            style: CurveStyle::Full,
         }
     }
 }
@@ -536,7 +550,8 @@ where
                     .filter(|(_, e)| e.rate > 0.0)
                     .map(|&(p, e)| (p, e.rate))
                     .collect();
-                if curve.dashed {
+                if curve.style == CurveStyle::Points {
+                } else if curve.dashed {
                     chart.draw_series(DashedLineSeries::new(
                         line.clone(),
                         10,
@@ -546,7 +561,17 @@ where
                 } else {
                     chart.draw_series(LineSeries::new(line.clone(), c.stroke_width(3)))?;
                 }
-                chart.draw_series(pts.iter().map(|&(p, e)| {
+                let marks: &[(f64, Estimate)] = if curve.style == CurveStyle::Line {
+                    &[]
+                } else {
+                    &pts
+                };
+                let line: &[(f64, f64)] = if curve.style == CurveStyle::Line {
+                    &[]
+                } else {
+                    &line
+                };
+                chart.draw_series(marks.iter().map(|&(p, e)| {
                     ErrorBar::new_vertical(
                         p,
                         e.low.max(ylo),
@@ -592,8 +617,8 @@ where
                     .map(|c| LegendEntry {
                         label: c.label.clone(),
                         colour: Some(c.colour),
-                        shape: Some(c.shape),
-                        line: Some(c.dashed),
+                        shape: (c.style != CurveStyle::Line).then_some(c.shape),
+                        line: (c.style != CurveStyle::Points).then_some(c.dashed),
                     })
                     .chain(panel.markers.iter().map(|m| LegendEntry {
                         label: m.label.clone(),

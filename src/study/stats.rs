@@ -19,7 +19,7 @@
 pub const Z95: f64 = 1.959_963_984_540_054;
 
 /// A binomial proportion with its Wilson score interval.
-#[derive(Clone, Copy, Debug, PartialEq, serde::Serialize)]
+#[derive(Clone, Copy, Debug, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct Estimate {
     /// Point estimate `k / n` (0 when `n = 0`).
     pub rate: f64,

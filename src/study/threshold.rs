@@ -313,6 +313,7 @@ mod tests {
             p,
             shots,
             failures: (rate * shots as f64).round() as u64,
+            splitting: None,
         }
     }
 

@@ -22,7 +22,19 @@
 //! noise = "capacity"            # preset name, extra keys allowed: "phenomenological q=0.01"
 //! p = [0.08, 0.09, 0.10, 0.11]
 //! bias = [inf]                  # optional list; each value becomes `bias=…`
+//! method = "splitting"          # optional: "sampling" (default) or "splitting"; with it
+//! chains = 8                    # walks per rung (default 8), proposals per walk and rung per
+//! sweeps = 100                  # fault-graph edge (default 100), the ladder's top (default:
+//! top = 16                      # pilot runs); `shots`/`until_failures` bound direct sampling at
+//!                               # the top (defaults 1e8 / 1000). Also allowed at the top level.
 //! ```
+//!
+//! # Splitting tasks
+//! A point of a grid with `method = "splitting"` is one task that is not cut into chunks: the
+//! ladder of [`crate::study::splitting`] runs whole (seeded by `chunk_seed(key, 0)`), then the
+//! circuit distance of its fault graph is computed, and one row (chunk 0) carries the estimate,
+//! the ladder and `⌈d/2⌉` ([`SplittingRow`]). Its key names the method and every knob instead of
+//! the chunk size; a task with a row in the store is skipped.
 //!
 //! # Tasks and chunks
 //! The grid expands in a fixed order (grid, decoder, bias, distance, p) into [`Task`]s. A task's
@@ -44,8 +56,8 @@
 //! # Shards
 //! `--shard k/n` (1 ≤ k ≤ n) runs the tasks whose index in the expanded grid is `k − 1` mod `n`.
 //!
-//! Every row carries `"version": 2`; rows of version 1 stores are upgraded as they are read
-//! (`legacy.rs`), so old stores still merge and plot. `docs/reference.md` documents the row.
+//! Every row carries `"version": 4` and its `method`; rows of older stores are upgraded as they
+//! are read (`legacy.rs`), so old stores still merge and plot. `docs/reference.md` documents the row.
 //!
 //! Files: `spec.rs` (spec and tasks), `store.rs` (rows, reading, merging, totals), `legacy.rs`
 //! (version 1 rows), `run.rs` (shards and the run).
@@ -56,8 +68,11 @@ mod spec;
 mod store;
 
 pub use run::{plan, run_sweep, Event, Shard, TaskState};
-pub use spec::{chunk_seed, SweepSpec, Task, DEFAULT_CHUNK};
+pub use spec::{
+    chunk_seed, Method, SplittingKnobs, SweepSpec, Task, DEFAULT_CHAINS, DEFAULT_CHUNK,
+    DEFAULT_SWEEPS, DEFAULT_TOP_FAILURES, DEFAULT_TOP_SHOTS,
+};
 pub use store::{
-    aggregate, load_store, merge_rows, parse_rows, read_store, ChunkRow, Conflict, Point, Store,
-    StoreContents, STORE_HEADER, STORE_VERSION,
+    aggregate, load_store, merge_rows, parse_rows, read_store, ChunkRow, Conflict, DistanceRow,
+    ExponentRow, Point, RungRow, SplittingRow, Store, StoreContents, STORE_HEADER, STORE_VERSION,
 };

@@ -1,16 +1,27 @@
 //! Running a sweep: the tasks of a shard in parallel, the chunks of a task in order, each finished
-//! chunk appended to the store before the next one starts.
+//! chunk appended to the store before the next one starts. A splitting task is one unit: its
+//! ladder runs whole and its one row is appended when it ends.
 
 use std::collections::{BTreeMap, HashMap};
 
 use rayon::prelude::*;
 
+use crate::analysis::{distances, DistanceOptions};
 use crate::base::{Diagnostic, Source};
+use crate::faults::ExtractOptions;
 use crate::ir::Limits;
 use crate::study::montecarlo::{Experiment, RunOptions};
 use crate::study::pipeline::Pipeline;
-use crate::study::sweep::spec::{SweepSpec, Task};
-use crate::study::sweep::store::{ChunkRow, Store, STORE_VERSION};
+use crate::study::rare::{fit_exponent, splitting, SplittingEvent, SplittingOptions};
+use crate::study::stats::Estimate;
+use crate::study::sweep::spec::{Method, SplittingKnobs, SweepSpec, Task, DEFAULT_TOP_FAILURES};
+use crate::study::sweep::store::{
+    finite, ChunkRow, DistanceRow, ExponentRow, RungRow, SplittingRow, Store, STORE_VERSION,
+};
+
+/// A splitting row's exponent is fitted over the rungs within this factor of the task's noise
+/// (as `slant estimate --method splitting` does).
+const FIT_RANGE: f64 = 4.0;
 
 /// A `k/n` shard (1 ≤ k ≤ n).
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -53,10 +64,14 @@ pub enum Event<'a> {
     Warnings(&'a Task, &'a [Diagnostic]),
     /// A task this run worked on is complete (all shots, or enough failures): its totals.
     TaskDone(&'a Task, u64, u64),
+    /// A splitting task made progress (direct sampling at the top, or a finished rung).
+    Rung(&'a Task, SplittingEvent),
+    /// A splitting task finished and its row was recorded.
+    Estimated(&'a Task, &'a ChunkRow),
 }
 
 /// What a run will do with one task, given the rows already in the store.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[derive(Clone, Copy, Debug, PartialEq)]
 pub enum TaskState {
     /// Nothing recorded: the task runs from its first chunk.
     Fresh,
@@ -73,6 +88,11 @@ pub enum TaskState {
         shots: u64,
         /// Failures recorded.
         failures: u64,
+    },
+    /// A splitting task whose row is recorded: it is skipped.
+    Estimated {
+        /// The recorded failure probability per shot.
+        per_shot: f64,
     },
 }
 
@@ -96,6 +116,16 @@ pub fn plan<'a>(
         .filter(|(i, _)| shard.is_none_or(|s| s.has(*i)))
         .map(|(i, t)| {
             let rows = done.get(t.key.as_str());
+            if let Method::Splitting(_) = t.method {
+                let row = rows.and_then(|m| m.get(&0));
+                let state = match row.and_then(|r| r.splitting.as_ref()) {
+                    Some(s) => TaskState::Estimated {
+                        per_shot: s.per_shot.rate,
+                    },
+                    None => TaskState::Fresh,
+                };
+                return (i, t, state);
+            }
             let (mut shots, mut failures, mut next) = (0, 0, 0);
             while let Some(r) = rows.and_then(|m| m.get(&next)) {
                 if t.until_failures.is_some_and(|k| failures >= k) {
@@ -145,7 +175,13 @@ pub fn run_sweep(
     mine.par_iter().try_for_each(|task| {
         let empty = BTreeMap::new();
         let prior = done.get(task.key.as_str()).unwrap_or(&empty);
-        run_task(task, prior, store, on_event)
+        match task.method {
+            Method::Sampling => run_task(task, prior, store, on_event),
+            Method::Splitting(knobs) if prior.is_empty() => {
+                run_splitting(task, knobs, store, on_event)
+            }
+            Method::Splitting(_) => Ok(()),
+        }
     })
 }
 
@@ -196,6 +232,8 @@ fn run_task(
             vary: task.vary.iter().cloned().collect(),
             noise: task.noise.clone(),
             decoder: task.decoder.name().to_string(),
+            method: task.method.name().to_string(),
+            splitting: None,
         };
         store.append(&row)?;
         on_event(Event::Chunk(task, &row));
@@ -209,9 +247,112 @@ fn run_task(
     Ok(())
 }
 
-/// Generates, loads and noises the task's circuit and prepares sampler and decoder; the noise
-/// model's warnings go to `on_event`.
-fn build(task: &Task, on_event: &(dyn Fn(Event) + Sync)) -> Result<Experiment, Diagnostic> {
+/// Runs a splitting task whole (the ladder, then the circuit distance its exponent is compared
+/// with) and appends its one row.
+fn run_splitting(
+    task: &Task,
+    knobs: SplittingKnobs,
+    store: &Store,
+    on_event: &(dyn Fn(Event) + Sync),
+) -> Result<(), Diagnostic> {
+    let pipeline = pipeline(task, on_event)?;
+    let opts = SplittingOptions {
+        chains: knobs.chains as usize,
+        sweeps: knobs.sweeps,
+        top: knobs.top,
+        top_failures: task.until_failures.unwrap_or(DEFAULT_TOP_FAILURES),
+        max_shots: task.shots,
+        seed: crate::study::sweep::spec::chunk_seed(&task.key, 0),
+    };
+    let result = splitting(&pipeline, task.decoder, &opts, |e| {
+        on_event(Event::Rung(task, e))
+    })
+    .map_err(|e| study_error(task, e))?;
+    let rounds = pipeline.noisy().rounds.max(1);
+    let graph = pipeline.graph(&ExtractOptions::default());
+    let report = distances(&graph, &DistanceOptions::default())
+        .map_err(|e| Diagnostic::bare(format!("task `{}`: distance search: {e}", task.key)))?;
+    let circuit_distance = report.distance.as_ref().map(|d| DistanceRow {
+        value: d.value,
+        lower: d.lower,
+        high_rate: report.high_rate.as_ref().map(|h| h.value),
+    });
+    let expected_exponent = circuit_distance
+        .filter(|d| d.value == d.lower)
+        .map(|d| d.value.div_ceil(2));
+    let target = result.target();
+    let per_shot = Estimate {
+        rate: target.rate,
+        low: target.low,
+        high: target.high,
+    };
+    let row = ChunkRow {
+        version: STORE_VERSION,
+        task: task.key.clone(),
+        chunk: 0,
+        shots: result.top.shots,
+        failures: result.top.failures,
+        seed: opts.seed,
+        label: task.label.clone(),
+        family: task.gen.family.name().to_string(),
+        distance: task.distance,
+        rounds,
+        p: task.p,
+        bias: task.bias.clone(),
+        vary: task.vary.iter().cloned().collect(),
+        noise: task.noise.clone(),
+        decoder: task.decoder.name().to_string(),
+        method: task.method.name().to_string(),
+        splitting: Some(SplittingRow {
+            per_shot,
+            per_round: per_shot.per_round(rounds),
+            uncertainty: finite(target.uncertainty),
+            chains: result.chains as u64,
+            sweeps: knobs.sweeps,
+            proposals: result.proposals,
+            top_scale: result.points[0].scale,
+            ladder: result
+                .points
+                .iter()
+                .map(|p| RungRow {
+                    scale: p.scale,
+                    p: p.p,
+                    rate: p.rate,
+                    uncertainty: finite(p.uncertainty),
+                    low: p.low,
+                    high: p.high,
+                })
+                .collect(),
+            exponent: fit_exponent(&result.points, FIT_RANGE).map(|f| ExponentRow {
+                exponent: f.exponent,
+                error: finite(f.error),
+                points: f.points,
+                scales: f.scales,
+            }),
+            circuit_distance,
+            expected_exponent,
+        }),
+    };
+    store.append(&row)?;
+    on_event(Event::Estimated(task, &row));
+    Ok(())
+}
+
+fn study_error(task: &Task, e: crate::study::StudyError) -> Diagnostic {
+    match e {
+        crate::study::StudyError::Rejected(d) => d
+            .into_iter()
+            .next()
+            .unwrap_or_else(|| Diagnostic::bare("unknown error")),
+        crate::study::StudyError::Undecodable(e) => {
+            Diagnostic::bare(format!("task `{}`: cannot decode: {e}", task.key))
+        }
+    }
+}
+
+/// Generates, loads and noises the task's circuit; the noise model's warnings go to
+/// `on_event`.
+fn pipeline(task: &Task, on_event: &(dyn Fn(Event) + Sync)) -> Result<Pipeline, Diagnostic> {
     let text = crate::gen::generate(&task.gen)
         .map_err(|e| Diagnostic::bare(format!("task `{}`: {e}", task.key)))?;
     let source = Source::new(format!("{}.slant", task.gen.family.name()), text);
@@ -226,12 +367,15 @@ fn build(task: &Task, on_event: &(dyn Fn(Event) + Sync)) -> Result<Experiment, D
     if !pipeline.warnings().is_empty() {
         on_event(Event::Warnings(task, pipeline.warnings()));
     }
-    pipeline.experiment(task.decoder).map_err(|e| match e {
-        crate::study::StudyError::Rejected(d) => first(d),
-        crate::study::StudyError::Undecodable(e) => {
-            Diagnostic::bare(format!("task `{}`: cannot decode: {e}", task.key))
-        }
-    })
+    Ok(pipeline)
+}
+
+/// Generates, loads and noises the task's circuit and prepares sampler and decoder; the noise
+/// model's warnings go to `on_event`.
+fn build(task: &Task, on_event: &(dyn Fn(Event) + Sync)) -> Result<Experiment, Diagnostic> {
+    pipeline(task, on_event)?
+        .experiment(task.decoder)
+        .map_err(|e| study_error(task, e))
 }
 
 #[cfg(test)]

@@ -24,6 +24,7 @@ enum Rounds {
 struct GridToml {
     basis: Option<String>,
     bias: Option<Vec<f64>>,
+    chains: Option<toml::Spanned<i64>>,
     chunk: Option<u64>,
     decoders: Option<Vec<String>>,
     distances: Vec<u32>,
@@ -31,6 +32,7 @@ struct GridToml {
     family: String,
     flip: Option<String>,
     label: Option<String>,
+    method: Option<toml::Spanned<String>>,
     until_failures: Option<u64>,
     /// Spanned so that a bad noise text is pointed at.
     noise: toml::Spanned<String>,
@@ -41,6 +43,8 @@ struct GridToml {
     rounds: Option<Rounds>,
     shots: Option<u64>,
     style: Option<String>,
+    sweeps: Option<toml::Spanned<f64>>,
+    top: Option<toml::Spanned<f64>>,
     /// Model keys to vary: `"idle.t2" = [50, 100]`; a key of several paths joined by `,` sets
     /// them together.
     vary: Option<toml::Spanned<toml::Table>>,
@@ -49,15 +53,60 @@ struct GridToml {
 #[derive(Clone, Debug, serde::Deserialize)]
 #[serde(deny_unknown_fields)]
 struct SpecToml {
+    chains: Option<toml::Spanned<i64>>,
     chunk: Option<u64>,
     decoders: Option<Vec<String>>,
     /// Spanned so that a mistake inside one grid points at that grid.
     grid: Vec<toml::Spanned<GridToml>>,
+    method: Option<toml::Spanned<String>>,
     until_failures: Option<u64>,
     seed: Option<u64>,
     shots: Option<u64>,
     store: Option<String>,
+    sweeps: Option<toml::Spanned<f64>>,
+    top: Option<toml::Spanned<f64>>,
 }
+
+/// How a task estimates its logical error rate.
+#[derive(Clone, Debug, PartialEq)]
+pub enum Method {
+    /// Sample the circuit in chunks of shots and decode each shot.
+    Sampling,
+    /// The splitting method on the fault graph ([`crate::study::splitting`]): one run, one row.
+    Splitting(SplittingKnobs),
+}
+
+impl Method {
+    /// `sampling` or `splitting`, as specs and rows spell it.
+    pub fn name(&self) -> &'static str {
+        match self {
+            Method::Sampling => "sampling",
+            Method::Splitting(_) => "splitting",
+        }
+    }
+}
+
+/// The splitting method's settings of a task (the spec keys `chains`, `sweeps` and `top`, as
+/// `slant estimate --method splitting` takes them; the task's `shots` and `until_failures`
+/// bound direct sampling at the top of the ladder).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct SplittingKnobs {
+    /// Independent walks per rung.
+    pub chains: u64,
+    /// Proposals per walk and rung, per fault-graph edge.
+    pub sweeps: f64,
+    /// The top of the ladder as a multiple of the noise (`None`: chosen by pilot runs).
+    pub top: Option<f64>,
+}
+
+/// Walks per rung when a spec does not say (as `slant estimate`).
+pub const DEFAULT_CHAINS: u64 = 8;
+/// Sweeps per rung when a spec does not say (as `slant estimate`).
+pub const DEFAULT_SWEEPS: f64 = 100.0;
+/// Failures direct sampling collects at the top of a ladder when a spec does not say.
+pub const DEFAULT_TOP_FAILURES: u64 = 1000;
+/// Most shots of direct sampling at the top of a ladder when a spec does not say.
+pub const DEFAULT_TOP_SHOTS: u64 = 100_000_000;
 
 /// One point of the grid: a circuit, a noise model and a decoder, sampled in chunks.
 #[derive(Clone, Debug, PartialEq)]
@@ -92,12 +141,18 @@ pub struct Task {
     pub chunk: u64,
     /// Seed of the sweep.
     pub seed: u64,
+    /// Sampling in chunks, or the splitting method (then `shots` and `until_failures` bound
+    /// direct sampling at the top of its ladder, and the task is one unit: chunk 0).
+    pub method: Method,
 }
 
 impl Task {
-    /// Number of chunks needed for all shots.
+    /// Number of chunks needed for all shots (1 for a splitting task).
     pub fn chunks(&self) -> u64 {
-        self.shots.div_ceil(self.chunk)
+        match self.method {
+            Method::Sampling => self.shots.div_ceil(self.chunk),
+            Method::Splitting(_) => 1,
+        }
     }
 
     /// Seed of chunk `c`.
@@ -185,10 +240,14 @@ impl SweepSpec {
             let at =
                 |m: String| Diagnostic::error(source, grid_span, format!("grid {}: {m}", gi + 1));
             let family: Family = g.family.parse().map_err(at)?;
-            let shots = g
-                .shots
-                .or(raw.shots)
-                .ok_or_else(|| at("no `shots` (set it at the top or in the grid)".into()))?;
+            let method = method_of(source, g, &raw).map_err(|e| e.prefixed(gi))?;
+            let shots = match (&method, g.shots.or(raw.shots)) {
+                (_, Some(n)) => n,
+                (Method::Splitting(_), None) => DEFAULT_TOP_SHOTS,
+                (Method::Sampling, None) => {
+                    return Err(at("no `shots` (set it at the top or in the grid)".into()))
+                }
+            };
             if shots == 0 {
                 return Err(at("`shots` must be at least 1".into()));
             }
@@ -387,10 +446,25 @@ impl SweepSpec {
                                         }),
                                     )
                                 })?;
-                                let mut key = format!(
-                                    "{label}|{command}|noise={noise}|decoder={}|chunk={chunk}|seed={seed}",
-                                    decoder.name()
-                                );
+                                // A sampling key is as it was before splitting existed, so
+                                // older stores resume; a splitting key names the method and
+                                // every knob instead of the chunk size.
+                                let mut key = match &method {
+                                    Method::Sampling => format!(
+                                        "{label}|{command}|noise={noise}|decoder={}|chunk={chunk}|seed={seed}",
+                                        decoder.name()
+                                    ),
+                                    Method::Splitting(k) => format!(
+                                        "{label}|{command}|noise={noise}|decoder={}|method=splitting\
+                                         |chains={}|sweeps={}|top={}|top_failures={}|max_shots={shots}\
+                                         |seed={seed}",
+                                        decoder.name(),
+                                        k.chains,
+                                        fmt_f64(k.sweeps),
+                                        k.top.map_or("auto".into(), fmt_f64),
+                                        until_failures.unwrap_or(DEFAULT_TOP_FAILURES),
+                                    ),
+                                };
                                 if let Some(h) = &model_hash {
                                     key += &format!("|model={h}");
                                 }
@@ -409,6 +483,7 @@ impl SweepSpec {
                                     until_failures,
                                     chunk,
                                     seed,
+                                    method: method.clone(),
                                 });
                             }
                         }
@@ -427,6 +502,107 @@ impl SweepSpec {
             tasks,
         })
     }
+}
+
+/// A mistake in one value of a spec: where, and what.
+struct ValueError(Diagnostic);
+
+impl ValueError {
+    /// The diagnostic, its message naming grid `gi` (from 0).
+    fn prefixed(self, gi: usize) -> Diagnostic {
+        let ValueError(d) = self;
+        let message = format!("grid {}: {}", gi + 1, d.message);
+        Diagnostic { message, ..d }
+    }
+}
+
+/// The method of a grid (its own keys first, then the spec's top level), each bad value
+/// pointed at where it is written.
+fn method_of(source: &Arc<Source>, g: &GridToml, raw: &SpecToml) -> Result<Method, ValueError> {
+    let at = |span: std::ops::Range<usize>, m: String| {
+        ValueError(Diagnostic::error(
+            source,
+            Span::new(span.start, span.end.max(span.start)),
+            m,
+        ))
+    };
+    let method = g.method.as_ref().or(raw.method.as_ref());
+    let chains = g.chains.as_ref().or(raw.chains.as_ref());
+    let sweeps = g.sweeps.as_ref().or(raw.sweeps.as_ref());
+    let top = g.top.as_ref().or(raw.top.as_ref());
+    let splitting = match method {
+        None => false,
+        Some(m) => match m.get_ref().as_str() {
+            "sampling" => false,
+            "splitting" => true,
+            other => {
+                return Err(at(
+                    m.span(),
+                    format!("unknown `method` `{other}`: expected `sampling` or `splitting`"),
+                ))
+            }
+        },
+    };
+    if !splitting {
+        // Knobs of the splitting method in a sampling grid are a mistake, not a default (the
+        // top level's knobs are for the grids that split).
+        let knob = [
+            g.chains.as_ref().map(|c| ("chains", c.span())),
+            g.sweeps.as_ref().map(|s| ("sweeps", s.span())),
+            g.top.as_ref().map(|t| ("top", t.span())),
+        ]
+        .into_iter()
+        .flatten()
+        .next();
+        if let Some((name, span)) = knob {
+            return Err(at(
+                span,
+                format!("`{name}` is a setting of `method = \"splitting\"`, and this grid samples"),
+            ));
+        }
+        return Ok(Method::Sampling);
+    }
+    let chains = match chains {
+        None => DEFAULT_CHAINS,
+        Some(c) if *c.get_ref() >= 2 => *c.get_ref() as u64,
+        Some(c) => {
+            return Err(at(
+                c.span(),
+                format!(
+                "`chains` must be at least 2 (independent walks give the uncertainty), found {}",
+                c.get_ref()
+            ),
+            ))
+        }
+    };
+    let sweeps = match sweeps {
+        None => DEFAULT_SWEEPS,
+        Some(s) if *s.get_ref() > 0.0 && s.get_ref().is_finite() => *s.get_ref(),
+        Some(s) => {
+            return Err(at(
+                s.span(),
+                format!("`sweeps` must be a positive number, found {}", s.get_ref()),
+            ))
+        }
+    };
+    let top = match top {
+        None => None,
+        Some(t) if *t.get_ref() >= 1.0 && t.get_ref().is_finite() => Some(*t.get_ref()),
+        Some(t) => {
+            return Err(at(
+                t.span(),
+                format!(
+                    "`top` is a multiple of the noise, at least 1, found {}",
+                    t.get_ref()
+                ),
+            ))
+        }
+    };
+    Ok(Method::Splitting(SplittingKnobs {
+        chains,
+        sweeps,
+        top,
+    }))
 }
 
 /// The seed of chunk `c` of the task with key `key`: FNV-1a of the key, mixed with the index by
@@ -471,6 +647,93 @@ flip = "z"
         assert!(t.key.contains("--flip z"), "{}", t.key);
         assert_ne!(t.chunk_seed(0), t.chunk_seed(1));
         assert_ne!(t.chunk_seed(0), spec.tasks[0].chunk_seed(0));
+    }
+
+    #[test]
+    fn splitting_keys_make_one_task_per_point_with_the_knobs_in_its_key() {
+        let text = "method = \"splitting\"\nchains = 4\n[[grid]]\nfamily = \"repetition\"\n\
+                    distances = [3, 5]\nnoise = \"capacity\"\np = [0.01, 0.02]\nsweeps = 20\n\
+                    top = 8\n[[grid]]\nfamily = \"repetition\"\ndistances = [3]\n\
+                    noise = \"capacity\"\np = [0.01]\nmethod = \"sampling\"\nshots = 100\n";
+        let spec = SweepSpec::parse(&Source::new("s.toml", text)).unwrap();
+        assert_eq!(spec.tasks.len(), 5);
+        let t = &spec.tasks[0];
+        assert_eq!(
+            t.method,
+            Method::Splitting(SplittingKnobs {
+                chains: 4,
+                sweeps: 20.0,
+                top: Some(8.0)
+            })
+        );
+        // No `shots` needed: direct sampling at the top is bounded by the default.
+        assert_eq!((t.shots, t.chunks()), (DEFAULT_TOP_SHOTS, 1));
+        for part in [
+            "method=splitting",
+            "chains=4",
+            "sweeps=20",
+            "top=8",
+            "top_failures=1000",
+        ] {
+            assert!(t.key.contains(part), "{}", t.key);
+        }
+        // The sampling grid's point at the same place has its own key, without a method.
+        let sampled = &spec.tasks[4];
+        assert_eq!(sampled.method, Method::Sampling);
+        assert!(!sampled.key.contains("method="), "{}", sampled.key);
+        assert_ne!(sampled.key, t.key);
+        // Knobs change the key, so rows of other knobs never count as this task's.
+        let other = SweepSpec::parse(&Source::new(
+            "s.toml",
+            text.replace("chains = 4", "chains = 5"),
+        ))
+        .unwrap();
+        assert_ne!(other.tasks[0].key, t.key);
+    }
+
+    #[test]
+    fn bad_splitting_values_point_at_themselves() {
+        let grid = "[[grid]]\nfamily = \"repetition\"\ndistances = [3]\nnoise = \"capacity\"\n\
+                    p = [0.01]\n";
+        for (line, message, at) in [
+            (
+                "method = \"splits\"",
+                "unknown `method` `splits`",
+                "s.toml:7:10",
+            ),
+            (
+                "method = \"splitting\"\nchains = 1",
+                "`chains` must be at least 2",
+                "s.toml:8:10",
+            ),
+            (
+                "method = \"splitting\"\nsweeps = -3",
+                "`sweeps` must be a positive number",
+                "s.toml:8:10",
+            ),
+            (
+                "method = \"splitting\"\ntop = 0.5",
+                "`top` is a multiple of the noise",
+                "s.toml:8:7",
+            ),
+            (
+                "shots = 10\ntop = 4",
+                "`top` is a setting of `method = \"splitting\"`",
+                "s.toml:8:7",
+            ),
+        ] {
+            let text = format!("seed = 1\n{grid}{line}\n");
+            let d = SweepSpec::parse(&Source::new("s.toml", text.as_str())).unwrap_err();
+            let r = d.render();
+            assert!(r.contains(message) && r.contains("grid 1"), "{r}");
+            assert!(r.contains(at), "{line}: {r}");
+        }
+        // At the top level, the place is the top-level line.
+        let text = format!("method = \"splitting\"\nchains = 0\n{grid}");
+        let r = SweepSpec::parse(&Source::new("s.toml", text.as_str()))
+            .unwrap_err()
+            .render();
+        assert!(r.contains("s.toml:2:10"), "{r}");
     }
 
     #[test]
