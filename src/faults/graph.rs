@@ -72,9 +72,6 @@ pub struct MatchingStats {
     pub silent_logical: Vec<u32>,
     /// Parallel edges whose observable sets differed; the more likely one was kept.
     pub observable_conflicts: usize,
-    /// Two-detector edges (or parts) that join two classes of detectors and entered the
-    /// matching graph as their two one-detector halves (see [`FaultGraph::matching_graph`]).
-    pub halved: usize,
 }
 
 /// The class of an elementary fault, which the bias and distance reports use.
@@ -316,23 +313,11 @@ impl FaultGraph {
     /// edges, split hyperedges add their probability to each of their parts' edges, and
     /// parallel edges merge with `⊕`. Edges that cannot enter a matching graph (no
     /// detectors, or an unsplittable hyperedge) are counted in the returned stats.
-    ///
-    /// **Edges across detector classes are halved.** The detectors fall into classes: the
-    /// components joined by two-detector edges that cannot be written as two existing
-    /// one-detector edges (with observables XOR-ing to the edge's). In a CSS memory these are
-    /// the X-type and the Z-type detectors: a Y fault at the boundary flips one of each, and its
-    /// X and Z halves are the one-detector edges. A two-detector edge (or hyperedge part) whose
-    /// detectors lie in different classes enters as those two halves, as the split of a
-    /// hyperedge into its X and Z parts does. Kept whole, such an edge is a short cut between
-    /// the classes that no single fault of either class takes: with it, a fault flipping
-    /// `{z1, x, z2}` can be matched as `{z1, x}` plus a boundary edge at `z2` that crosses the
-    /// logical, a failure on one fault (found on the distance-3 surface code circuit).
     pub fn matching_graph(&self) -> (MatchingGraph, MatchingStats) {
         let mut stats = MatchingStats::default();
-        let halves = self.halves();
         // Key (a, b) with b = u32::MAX for the boundary, so boundary edges sort first per a.
         let mut edges: HashMap<(u32, u32), EdgeAcc> = HashMap::new();
-        let mut add_one = |dets: &[u32], obs: &[u32], p: f64, stats: &mut MatchingStats| {
+        let mut add = |dets: &[u32], obs: &[u32], p: f64, stats: &mut MatchingStats| {
             let key = match *dets {
                 [a] => (a, u32::MAX),
                 [a, b] => (a.min(b), a.max(b)),
@@ -350,17 +335,6 @@ impl FaultGraph {
                     }
                 }
             }
-        };
-        let mut add = |dets: &[u32], obs: &[u32], p: f64, stats: &mut MatchingStats| {
-            if let [a, b] = *dets {
-                if let Some(oa) = halves.get(&(a, b)).and_then(|h| h.get(obs)) {
-                    stats.halved += 1;
-                    add_one(&[a], oa, p, stats);
-                    add_one(&[b], &crate::base::xor_sets(oa, obs), p, stats);
-                    return;
-                }
-            }
-            add_one(dets, obs, p, stats);
         };
         let mut split = vec![None; self.edges.len()];
         for (i, d) in self.splits.iter().enumerate() {
@@ -404,57 +378,6 @@ impl FaultGraph {
             },
             stats,
         )
-    }
-}
-
-impl FaultGraph {
-    /// The two-detector symptoms `(a, b, observables)` across detector classes that have
-    /// one-detector halves, with the observables of the `a` half (see
-    /// [`FaultGraph::matching_graph`]).
-    fn halves(&self) -> HashMap<(u32, u32), HashMap<Vec<u32>, Vec<u32>>> {
-        let mut one: HashMap<u32, Vec<&[u32]>> = HashMap::new();
-        for m in &self.edges {
-            if let [a] = *m.detectors.as_slice() {
-                one.entry(a).or_default().push(&m.observables);
-            }
-        }
-        let half = |a: u32, b: u32, obs: &[u32]| -> Option<Vec<u32>> {
-            let (la, lb) = (one.get(&a)?, one.get(&b)?);
-            la.iter()
-                .find(|oa| lb.iter().any(|ob| crate::base::xor_sets(oa, ob) == obs))
-                .map(|oa| oa.to_vec())
-        };
-        let mut root: Vec<u32> = (0..self.detectors.len() as u32).collect();
-        fn find(root: &mut [u32], mut x: u32) -> u32 {
-            while root[x as usize] != x {
-                root[x as usize] = root[root[x as usize] as usize];
-                x = root[x as usize];
-            }
-            x
-        }
-        // Hyperedge parts are existing edges, so the two-detector edges are every symptom that
-        // may be halved.
-        let mut halvable = Vec::new();
-        for m in &self.edges {
-            let [a, b] = *m.detectors.as_slice() else {
-                continue;
-            };
-            let obs = m.observables.as_slice();
-            match half(a, b, obs) {
-                Some(oa) => halvable.push((a, b, obs, oa)),
-                None => {
-                    let (ra, rb) = (find(&mut root, a), find(&mut root, b));
-                    root[ra as usize] = rb;
-                }
-            }
-        }
-        let mut out: HashMap<(u32, u32), HashMap<Vec<u32>, Vec<u32>>> = HashMap::new();
-        for (a, b, obs, oa) in halvable {
-            if find(&mut root, a) != find(&mut root, b) {
-                out.entry((a, b)).or_default().insert(obs.to_vec(), oa);
-            }
-        }
-        out
     }
 }
 

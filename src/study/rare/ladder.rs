@@ -8,9 +8,7 @@ use rayon::prelude::*;
 
 use super::ratio::{bennett, integrated_time, ln_ratio_at, mean_and_variance_of_mean};
 use super::walk::{Odds, Symptoms, Walk};
-use super::{
-    LadderPoint, Mixing, Splitting, SplittingEvent, SplittingOptions, Start, TopSampling,
-};
+use super::{LadderPoint, Mixing, Splitting, SplittingEvent, SplittingOptions, Start, TopSampling};
 use crate::decode::Decoder;
 use crate::study::pipeline::StudyError;
 use crate::study::stats::Z95;

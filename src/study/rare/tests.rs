@@ -196,7 +196,11 @@ fn a_shortest_error_the_decoder_corrects_falls_back_to_sampling() {
     let result = run(&problem, &opts, |_| {}).unwrap();
     assert_eq!(result.start, Start::Sampling);
     assert_eq!(result.warnings.len(), 1, "{:?}", result.warnings);
-    assert!(result.warnings[0].contains("corrects"), "{}", result.warnings[0]);
+    assert!(
+        result.warnings[0].contains("corrects"),
+        "{}",
+        result.warnings[0]
+    );
     let exact = binomial_tail(d, p);
     let got = result.target();
     assert!(((got.rate / exact).ln() / got.uncertainty).abs() < 4.0);
