@@ -693,7 +693,6 @@ fn splitting_exponent_is_half_the_circuit_distance_at_d3() {
 }
 
 #[test]
-#[ignore = "slow (a minute or more in a release build): cargo test --release -- --ignored hook_aligned"]
 fn splitting_exponent_drops_with_the_hook_aligned_distance_at_d5() {
     // Same references as the d = 3 test: the hook-aligned d = 5 circuit has d_circ = 3
     // (tests/distance.rs), so the exponent is ⌈3/2⌉ = 2, not 3.
