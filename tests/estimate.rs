@@ -9,7 +9,7 @@ use slant::decode::DecoderKind;
 use slant::gen::{Family, Flip, GenSpec, LogicalBasis, Style};
 use slant::ir::Circuit;
 use slant::noise::{self, NoiseSpec};
-use slant::study::{Counts, Pipeline, RunOptions, SplittingOptions};
+use slant::study::{Counts, Pipeline, RunOptions, SplittingOptions, Start};
 
 fn with_noise(c: &Circuit, spec: &str) -> Circuit {
     let spec = NoiseSpec::parse(spec).unwrap_or_else(|d| panic!("{}", d.render()));
@@ -644,6 +644,67 @@ fn splitting_exponent_follows_the_circuit_distance() {
     }
 }
 
+/// The fitted exponent of `P_L ∝ p^k` over 1x..4x `circuit p=P` for a generated rotated surface
+/// code, with walks from the shortest logical errors (fast: the top sits where 0.5% of shots
+/// fail).
+fn fitted_exponent(d: u32, rounds: u32, order: slant::gen::Order, p: f64) -> (f64, f64) {
+    let mut spec = GenSpec::new(Family::Surface, d);
+    spec.rounds = rounds;
+    spec.order = Some(order);
+    let opts = SplittingOptions {
+        chains: 8,
+        sweeps: 60.0,
+        top_failures: 300,
+        seed: 2,
+        start: Start::Shortest,
+        ..SplittingOptions::default()
+    };
+    let rare = splitting(
+        &generated(&spec),
+        &format!("circuit p={p}"),
+        DecoderKind::Mwpm,
+        &opts,
+    );
+    assert_eq!(rare.start, Start::Shortest, "{:?}", rare.warnings);
+    let fit = slant::study::fit_exponent(&rare.points, 4.0).unwrap();
+    (fit.exponent, fit.error)
+}
+
+#[test]
+fn splitting_exponent_is_half_the_circuit_distance_at_d3() {
+    // Below threshold P_L ∝ p^⌈d_circ/2⌉, d_circ the fewest faults of an undetected logical
+    // error ("Topological quantum memory", J. Math. Phys. 43, 4452 (2002)). The hook-safe order
+    // keeps d_circ = d = 3 (exponent 2); the hook-aligned order lets one ancilla fault spread to
+    // two data qubits along the logical and drops d_circ to 2 (exponent 1) ("Low-distance surface
+    // codes under realistic quantum noise", PRA 90, 062320 (2014), hook errors; both distances
+    // are checked in tests/distance.rs). Fitted over 1x..4x p = 2e-4 (hook-safe) and p = 5e-5
+    // (hook-aligned: there the p² terms of its weight-2 errors stay small); ±0.3 as the issue
+    // states. The single fault of the hook-safe circuit that both decoders fail on (see
+    // `union_find_corrects_every_single_fault_at_distance_3`) adds a p¹ term of about 1/20 of
+    // the rate at 2e-4; the fit still lands within the band.
+    let (safe, safe_err) = fitted_exponent(3, 3, slant::gen::Order::hook_safe(), 2e-4);
+    assert!(
+        (safe - 2.0).abs() <= 0.3,
+        "hook-safe d = 3: exponent {safe:.2} ± {safe_err:.2}, expected 2"
+    );
+    let (aligned, aligned_err) = fitted_exponent(3, 3, slant::gen::Order::hook_aligned(), 5e-5);
+    assert!(
+        (aligned - 1.0).abs() <= 0.3,
+        "hook-aligned d = 3: exponent {aligned:.2} ± {aligned_err:.2}, expected 1"
+    );
+}
+
+#[test]
+fn splitting_exponent_drops_with_the_hook_aligned_distance_at_d5() {
+    // Same references as the d = 3 test: the hook-aligned d = 5 circuit has d_circ = 3
+    // (tests/distance.rs), so the exponent is ⌈3/2⌉ = 2, not 3.
+    let (k, err) = fitted_exponent(5, 5, slant::gen::Order::hook_aligned(), 2e-4);
+    assert!(
+        (k - 2.0).abs() <= 0.3,
+        "hook-aligned d = 5: exponent {k:.2} ± {err:.2}, expected 2"
+    );
+}
+
 /// A distance-3 code corrects every weight-1 error (Dennis, Kitaev, Landahl and Preskill,
 /// J. Math. Phys. 43, 4452 (2002)); the union-find decoder (Delfosse and Nickerson, Quantum 5,
 /// 595 (2021)) must too: every matchable edge of the circuit-level d = 3 hook-safe surface code
@@ -688,8 +749,13 @@ fn union_find_corrects_every_single_edge_at_distance_3() {
 /// Every single fault of the circuit (every fault-graph edge, split hyperedges included) fired
 /// alone: union-find fails on exactly the faults MWPM fails on. Finding (2026-12-02): of the
 /// 221 faults of the d = 3 hook-safe circuit at `circuit p=0.0002`, only fault 17 (detectors
-/// [1, 7, 9], no observable: an odd hyperedge that matching sends to the boundary) is decoded
-/// wrongly, by both decoders alike, so single faults do not explain union-find's higher rate.
+/// [1, 7, 9], no observable: a YY fault of a Z-check's `cz` flipping Z-type detectors 1 and 9
+/// and X-type detector 7) is decoded wrongly, by both decoders alike: the matching graph keeps
+/// the two-detector edge {1, 7} of boundary Y faults (a Z-type and an X-type detector), and
+/// {1, 7} plus the boundary edge at 9, which crosses the logical, outweighs the correct {1, 9}
+/// plus the boundary edge at 7. Halving such cross-type edges fixes this fault, but classing
+/// detectors from the fault graph alone also halved same-type edges of the hook-aligned d = 3
+/// circuit and doubled its failure rate, so it is not done yet.
 #[test]
 fn union_find_corrects_every_single_fault_at_distance_3() {
     use slant::decode::{Decoder, Mwpm, UnionFind};

@@ -15,7 +15,7 @@ use crate::cli::common::{circuit_line, print_json, CircuitArgs, NoiseArgs};
 use crate::cli::progress::Progress;
 use crate::cli::CliError;
 use crate::decode::DecoderKind;
-use crate::study::{Counts, Estimate, RunOptions, Z95};
+use crate::study::{Counts, Estimate, RunOptions, Start, Z95};
 
 const AFTER_HELP: &str = "\
 A shot fails when the decoder's predicted observable flips differ from the sampled ones (or it
@@ -32,6 +32,10 @@ ratios of neighbouring rungs. It prints every rung with its relative uncertainty
 of the independent walks) and mixing diagnostics, and the fitted exponent of P_L against the
 noise over the lowest rungs next to the circuit distance d: below threshold it should be near
 ceil(d/2). A preset is rebuilt at each scale; a model file's edge probabilities are scaled.
+With --start shortest the walks start from the shortest logical errors the distance search
+finds instead (each thinned to a least subset the decoder still fails on), so the top only
+anchors the ladder: it is the first scale where 0.5% of shots fail, sampled until
+--until-failures failures as before.
 
 Results are estimates under the stated noise model: Pauli channels, independent faults.";
 
@@ -66,6 +70,11 @@ pub struct Args {
     /// chosen by pilot runs).
     #[arg(long, value_name = "S")]
     pub top: Option<f64>,
+    /// With `--method splitting`: where the walks start: `sampling` (failing shots of direct
+    /// sampling at the top) or `shortest` (the shortest logical errors `slant distance` finds,
+    /// thinned to least failing subsets; the top may then be lower).
+    #[arg(long, value_name = "FROM", default_value = "sampling", value_parser = |s: &str| s.parse::<Start>())]
+    pub start: Start,
     /// Decoder: `mwpm` (minimum-weight perfect matching) or `uf` (union-find).
     #[arg(long, value_name = "D", default_value = "mwpm", value_parser = |s: &str| s.parse::<DecoderKind>())]
     pub decoder: DecoderKind,

@@ -41,7 +41,7 @@ pub use pipeline::{Pipeline, StudyError};
 pub use plot::{render_for, Curve, CurveStyle, LegendEntry, Marker, Panel, Shape, PANEL_SIZE};
 pub use rare::{
     fit_exponent, splitting, ExponentFit, LadderPoint, Mixing, Splitting, SplittingEvent,
-    SplittingOptions, TopSampling,
+    SplittingOptions, Start, TopSampling,
 };
 pub use slope::{slopes, SlopeFit};
 pub use stats::{per_round, wilson, Estimate, Z95};

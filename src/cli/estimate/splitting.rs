@@ -2,15 +2,15 @@
 //! and the scaling check against the circuit distance.
 
 use crate::analysis::{distances, DistanceOptions};
-use crate::base::count;
-use crate::cli::common::{circuit_line, print_json};
+use crate::base::{count, Diagnostic, Severity};
+use crate::cli::common::{circuit_line, print_json, print_warnings};
 use crate::cli::estimate::{Args, MODEL_NOTE};
 use crate::cli::progress::Progress;
 use crate::cli::CliError;
 use crate::faults::ExtractOptions;
 use crate::study::{
     fit_exponent, splitting, Estimate, ExponentFit, LadderPoint, Pipeline, SplittingEvent,
-    SplittingOptions, TopSampling,
+    SplittingOptions, Start, TopSampling,
 };
 
 /// The exponent is fitted over the rungs within this factor of the target noise.
@@ -53,6 +53,7 @@ struct Report<'a> {
     per_round: Estimate,
     uncertainty: f64,
     top: Top,
+    start: &'static str,
     chains: usize,
     proposals: u64,
     ladder: Vec<Rung<'a>>,
@@ -88,6 +89,7 @@ pub(super) fn run(args: &Args, pipeline: &Pipeline) -> Result<(), CliError> {
         top_failures: args.until_failures.unwrap_or(1000),
         max_shots: args.shots.unwrap_or(SplittingOptions::default().max_shots),
         seed: args.seed,
+        start: args.start,
     };
     if !(opts.sweeps > 0.0 && opts.sweeps.is_finite()) {
         return Err(crate::base::Diagnostic::bare(format!(
@@ -120,6 +122,15 @@ pub(super) fn run(args: &Args, pipeline: &Pipeline) -> Result<(), CliError> {
     });
     bar.finish();
     let result = result?;
+    let warnings: Vec<Diagnostic> = result
+        .warnings
+        .iter()
+        .map(|w| Diagnostic {
+            severity: Severity::Warning,
+            ..Diagnostic::bare(w.clone())
+        })
+        .collect();
+    print_warnings(&warnings);
     let rounds = pipeline.noisy().rounds.max(1);
     let graph = pipeline.graph(&ExtractOptions::default());
     let (matching, stats) = graph.matching_graph();
@@ -169,6 +180,7 @@ pub(super) fn run(args: &Args, pipeline: &Pipeline) -> Result<(), CliError> {
                 scale: top_scale,
                 sampling: result.top,
             },
+            start: result.start.name(),
             chains: result.chains,
             proposals: result.proposals,
             ladder: result
@@ -220,6 +232,12 @@ pub(super) fn run(args: &Args, pipeline: &Pipeline) -> Result<(), CliError> {
         result.top.failures,
         result.top.shots
     );
+    out += match result.start {
+        Start::Sampling => "walks start from: failing shots of direct sampling at the top\n",
+        Start::Shortest => {
+            "walks start from: the shortest logical errors of the distance search, thinned\n"
+        }
+    };
     out += "ladder:\n";
     out += &format!(
         "  {:>8} {:>10} {:>11} {:>7} {:>6} {:>7} {:>6} {:>7} {:>8} {:>11}\n",

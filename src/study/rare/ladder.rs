@@ -8,13 +8,16 @@ use rayon::prelude::*;
 
 use super::ratio::{bennett, integrated_time, ln_ratio_at, mean_and_variance_of_mean};
 use super::walk::{Odds, Symptoms, Walk};
-use super::{LadderPoint, Mixing, Splitting, SplittingEvent, SplittingOptions, TopSampling};
+use super::{LadderPoint, Mixing, Splitting, SplittingEvent, SplittingOptions, Start, TopSampling};
 use crate::decode::Decoder;
 use crate::study::pipeline::StudyError;
 use crate::study::stats::Z95;
 
 /// Failure rate at which a pilot run accepts a scale as the top of the ladder.
 const TOP_RATE: f64 = 0.05;
+/// The same when the walks start from the shortest logical errors: the top only anchors the
+/// ladder, so it may sit lower (module docs of `rare/mod.rs`).
+const SHORTEST_TOP_RATE: f64 = 0.005;
 /// Failures a pilot run waits for.
 const PILOT_FAILURES: u64 = 50;
 /// Shots per direct-sampling block (one generator each).
@@ -36,6 +39,9 @@ pub(super) struct Problem<'a> {
     pub valid: &'a (dyn Fn(f64) -> bool + Sync),
     /// The preset's `p` at scale 1, if any (for the points' `p`).
     pub preset_p: Option<f64>,
+    /// Logical errors (edge lists whose detectors cancel) the walks start from with
+    /// [`Start::Shortest`].
+    pub shortest: &'a [Vec<u32>],
 }
 
 /// The generator of stream `(seed, kind, a, b)`: a SplitMix64-style finaliser separates nearby
@@ -169,18 +175,17 @@ impl Recorded {
     }
 }
 
-/// Runs every walk at one rung from its current state.
+/// Runs every walk at one rung from its current state, after `burn` proposals of burn-in.
 fn rung(
     pr: &Problem,
     p: &[f64],
     starts: &[Vec<u32>],
-    proposals: u64,
+    (proposals, burn): (u64, u64),
     seed: u64,
     index: u64,
 ) -> Vec<Recorded> {
     let odds = Odds::new(p);
     let stride = (proposals / RECORDED).max(1);
-    let burn = (proposals as f64 * BURN_IN) as u64;
     starts
         .par_iter()
         .enumerate()
@@ -210,6 +215,41 @@ fn rung(
             rec.proposals = burn + proposals;
             rec.last = w.fired().to_vec();
             rec
+        })
+        .collect()
+}
+
+/// One starting configuration per walk from the logical errors of `pr.shortest` (walk `i` takes
+/// error `i mod n`), each thinned to a least failing subset: its edges are tried for removal in
+/// an order drawn for the walk, and an edge is removed when the rest still fails. Different
+/// orders give different subsets, so the walks start spread over the error's halves. Errors the
+/// decoder does not fail on are skipped; empty when none fails.
+fn thin_all(pr: &Problem, chains: usize, seed: u64) -> Vec<Vec<u32>> {
+    use rand::seq::SliceRandom;
+    let mut w = Walk::new(pr.sym, pr.decoder);
+    let failing: Vec<&Vec<u32>> = pr
+        .shortest
+        .iter()
+        .filter(|e| {
+            w.set(e);
+            !e.is_empty() && w.fails()
+        })
+        .collect();
+    if failing.is_empty() {
+        return Vec::new();
+    }
+    (0..chains)
+        .map(|i| {
+            let mut order = failing[i % failing.len()].clone();
+            order.shuffle(&mut rng(seed, 3, i as u64, 0));
+            w.set(&order);
+            for &m in &order {
+                w.toggle(m as usize);
+                if !w.fails() {
+                    w.toggle(m as usize);
+                }
+            }
+            w.fired().to_vec()
         })
         .collect()
 }
@@ -287,6 +327,32 @@ pub(super) fn run(
             "the fault graph has no edges, so nothing can fail".into(),
         ));
     }
+    // 0. Where the walks start.
+    let mut warnings = Vec::new();
+    let mut start = opts.start;
+    let mut thinned = Vec::new();
+    if start == Start::Shortest {
+        thinned = thin_all(pr, chains, opts.seed);
+        if thinned.is_empty() {
+            warnings.push(if pr.shortest.is_empty() {
+                "the distance search found no logical error to start the walks from; they \
+                 start from direct sampling instead"
+                    .to_string()
+            } else {
+                format!(
+                    "the decoder corrects all {} shortest logical errors the distance search \
+                     found, so none can start a walk; the walks start from direct sampling \
+                     instead",
+                    pr.shortest.len()
+                )
+            });
+            start = Start::Sampling;
+        }
+    }
+    let top_rate = match start {
+        Start::Sampling => TOP_RATE,
+        Start::Shortest => SHORTEST_TOP_RATE,
+    };
     // 1. The top.
     let top = match opts.top {
         Some(s) => {
@@ -302,7 +368,7 @@ pub(super) fn run(
             let mut s = 1.0;
             loop {
                 let p = (pr.priors)(s)?;
-                let shots = (PILOT_FAILURES as f64 / TOP_RATE * 4.0) as u64;
+                let shots = (PILOT_FAILURES as f64 / top_rate * 4.0) as u64;
                 let run = DirectRun {
                     scale: s,
                     max_shots: shots,
@@ -311,7 +377,7 @@ pub(super) fn run(
                     seed: opts.seed,
                 };
                 let pilot = direct(pr, &p, &run, &mut progress);
-                if pilot.failures as f64 >= TOP_RATE * pilot.shots as f64 {
+                if pilot.failures as f64 >= top_rate * pilot.shots as f64 {
                     break s;
                 }
                 if !(pr.valid)(2.0 * s) {
@@ -331,8 +397,14 @@ pub(super) fn run(
     let run = DirectRun {
         scale: top,
         max_shots: opts.max_shots,
-        until: opts.top_failures.max(chains as u64),
-        keep: chains,
+        until: match start {
+            Start::Sampling => opts.top_failures.max(chains as u64),
+            Start::Shortest => opts.top_failures.max(1),
+        },
+        keep: match start {
+            Start::Sampling => chains,
+            Start::Shortest => 0,
+        },
         seed: opts.seed,
     };
     let d = direct(pr, &p_top, &run, &mut progress);
@@ -344,10 +416,13 @@ pub(super) fn run(
     }
     let rate0 = d.failures as f64 / d.shots as f64;
     let var0 = (1.0 - rate0) / d.failures as f64;
-    let mut states = d.seeds;
+    let mut states = match start {
+        Start::Sampling => d.seeds,
+        Start::Shortest => thinned,
+    };
     while states.len() < chains {
         // Fewer failures than walks: walks share starting points.
-        let again = states[states.len() % d.failures.max(1) as usize].clone();
+        let again = states[states.len() % d.failures.clamp(1, chains as u64) as usize].clone();
         states.push(again);
     }
     let proposals = ((opts.sweeps * m as f64).ceil() as u64).max(RECORDED);
@@ -360,6 +435,8 @@ pub(super) fn run(
         edges: m,
         chains,
         proposals,
+        start,
+        warnings,
     };
     if top <= 1.0 {
         out.points.push(point(pr, 1.0, rate0.ln(), var0));
@@ -373,7 +450,15 @@ pub(super) fn run(
     // 2. The rungs.
     let mut s = top;
     let mut p = p_top;
-    let mut recs = rung(pr, &p, &states, proposals, opts.seed, 0);
+    // Walks from thinned logical errors are not draws from π_{t_0}: they burn in for a whole
+    // rung's proposals before recording.
+    let burn = (proposals as f64 * BURN_IN) as u64;
+    let top_burn = if start == Start::Shortest {
+        burn + proposals
+    } else {
+        burn
+    };
+    let mut recs = rung(pr, &p, &states, (proposals, top_burn), opts.seed, 0);
     let mut mix = mixing(&recs, proposals);
     let mut ln_rate = rate0.ln();
     let mut ln_chain = vec![ln_rate; chains];
@@ -409,7 +494,7 @@ pub(super) fn run(
             .collect();
         let la: Vec<Vec<f64>> = recs.iter().map(|r| r.log_ratios(&coef, constant)).collect();
         let starts: Vec<Vec<u32>> = recs.iter().map(|r| r.last.clone()).collect();
-        let next = rung(pr, &p_next, &starts, proposals, opts.seed, index);
+        let next = rung(pr, &p_next, &starts, (proposals, burn), opts.seed, index);
         let lb: Vec<Vec<f64>> = next.iter().map(|r| r.log_ratios(&coef, constant)).collect();
         let all_a: Vec<f64> = la.iter().flatten().copied().collect();
         let all_b: Vec<f64> = lb.iter().flatten().copied().collect();

@@ -30,6 +30,31 @@
 //!    `ratio.rs`) applied to the walks at both scales; `P_L(target)` is `P_L(t_0)` times the
 //!    product of the ratios.
 //!
+//! # Walks from the shortest logical errors ([`Start::Shortest`])
+//! Nothing in steps 2–3 needs the walks to *start* from draws of `π_{t_0}` restricted to `F`:
+//! the ratio identity holds for the walks' stationary distributions, and a walk that starts
+//! anywhere in `F` reaches its stationary distribution after a burn-in (the chain is
+//! irreducible on the connected part of `F` it starts in). Only the anchor `P_L(t_0)` needs
+//! direct sampling, and its contribution to the variance of `ln P_L(target)` is the binomial
+//! `(1−P_0)/k` for `k` failures, whatever `P_0` is. So with starting points from elsewhere:
+//!
+//! - the walks start from the logical errors the distance search reports (fewest edges, fewest
+//!   high-rate edges, fewest low-rate edges, most likely): an undetected logical error fails
+//!   every decoder that predicts no flip without detection events. Each is thinned to a least
+//!   failing subset (edges removed in a random order per walk while the rest still fails),
+//!   which at low noise is what typical failures look like (about `⌈d/2⌉` edges), and the walks
+//!   burn in for one extra rung's worth of proposals at the top;
+//! - the top is the first of `1, 2, 4, …` at which a pilot run fails at least 0.5% of the time
+//!   (instead of 5%), and is sampled until the same `k` failures: the anchor keeps its
+//!   uncertainty `√((1−P_0)/k)` at `k/P_0` shots, and the lower top shortens the ladder (the
+//!   number of rungs grows as `ln t_0 · √w`, and the failing weight `w` shrinks with `t_0`).
+//!
+//! Multi-seeded starts ("Fail fast: techniques to probe rare events in quantum error
+//! correction", arXiv:2511.15177 (2025)) guard against walks trapped in one failure family: the
+//! walks are spread over the distinct errors and their halves. When none of the errors fails
+//! the chosen decoder (a decoder that predicts flips without events) or the search finds none,
+//! the walks start from direct sampling as in step 1, and [`Splitting::warnings`] says why.
+//!
 //! # Uncertainty
 //! Each walk `i` gives its own chain of ratios and so its own estimate `ln P_i(t_j)`. The
 //! walks are independent, so the variance of the mean of `ln P_i(t_j)` over walks estimates the
@@ -78,6 +103,43 @@ pub struct SplittingOptions {
     /// Seed of every random choice; the same seed gives the same result on any number of
     /// threads.
     pub seed: u64,
+    /// Where the walks start (see [`Start`]).
+    pub start: Start,
+}
+
+/// Where the walks of a ladder start.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub enum Start {
+    /// From the first failing configurations of direct sampling at the top: exact draws from
+    /// `π_{t_0}` restricted to the failures, so no burn-in is needed; the top must be where
+    /// failures are common (5% of shots).
+    #[default]
+    Sampling,
+    /// From the shortest logical errors the distance search finds, each thinned to a least
+    /// failing subset (see the module docs); the top may then sit where failures are rare
+    /// (0.5% of shots) and only anchors the ladder.
+    Shortest,
+}
+
+impl Start {
+    /// The option value: `sampling` or `shortest`.
+    pub fn name(self) -> &'static str {
+        match self {
+            Start::Sampling => "sampling",
+            Start::Shortest => "shortest",
+        }
+    }
+}
+
+impl std::str::FromStr for Start {
+    type Err = String;
+    fn from_str(s: &str) -> Result<Start, String> {
+        match s {
+            "sampling" => Ok(Start::Sampling),
+            "shortest" => Ok(Start::Shortest),
+            _ => Err(format!("unknown start `{s}`: use `sampling` or `shortest`")),
+        }
+    }
 }
 
 impl Default for SplittingOptions {
@@ -89,6 +151,7 @@ impl Default for SplittingOptions {
             top_failures: 1000,
             max_shots: 100_000_000,
             seed: 0,
+            start: Start::Sampling,
         }
     }
 }
@@ -162,6 +225,11 @@ pub struct Splitting {
     pub chains: usize,
     /// Proposals per walk and rung (burn-in excluded).
     pub proposals: u64,
+    /// Where the walks started (a `shortest` request that fell back to sampling says
+    /// `Sampling`, with a warning).
+    pub start: Start,
+    /// Things the caller should tell the user (e.g. why a `shortest` start fell back).
+    pub warnings: Vec<String>,
 }
 
 impl Splitting {
@@ -209,6 +277,10 @@ pub fn splitting(
     let decoder = kind.build(&matching)?;
     let sym = walk::Symptoms::of(&family.graph);
     let preset_p = family.preset_p();
+    let shortest = match opts.start {
+        Start::Sampling => Vec::new(),
+        Start::Shortest => shortest_errors(&family.graph)?,
+    };
     ladder::run(
         &ladder::Problem {
             sym: &sym,
@@ -216,8 +288,29 @@ pub fn splitting(
             priors: &|s| family.priors(s),
             valid: &|s| family.valid(s),
             preset_p,
+            shortest: &shortest,
         },
         opts,
         progress,
     )
+}
+
+/// The distinct logical errors the distance search reports (fewest edges, fewest high-rate
+/// edges, fewest low-rate edges, most likely), as edge lists of `graph`.
+fn shortest_errors(graph: &crate::faults::FaultGraph) -> Result<Vec<Vec<u32>>, StudyError> {
+    let report = crate::analysis::distances(graph, &crate::analysis::DistanceOptions::default())
+        .map_err(|e| StudyError::from(crate::base::Diagnostic::bare(e)))?;
+    let mut out: Vec<Vec<u32>> = Vec::new();
+    let errors = [
+        report.distance.map(|c| c.error),
+        report.high_rate.map(|c| c.error),
+        report.lexicographic.map(|c| c.error),
+        report.weighted.map(|c| c.error),
+    ];
+    for e in errors.into_iter().flatten() {
+        if !out.contains(&e.edges) {
+            out.push(e.edges);
+        }
+    }
+    Ok(out)
 }

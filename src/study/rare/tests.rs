@@ -2,7 +2,7 @@
 
 use super::ladder::{run, Problem};
 use super::walk::Symptoms;
-use super::{fit_exponent, SplittingOptions};
+use super::{fit_exponent, SplittingOptions, Start};
 use crate::decode::{DecoderKind, MatchingEdge, MatchingGraph};
 
 /// `Σ_{k>d/2} C(d,k) p^k (1−p)^{d−k}`: the failure probability of majority vote over `d` bits
@@ -55,6 +55,7 @@ fn majority_vote_tail_far_below_sampling() {
         priors: &priors,
         valid: &|s| p * s < 0.5,
         preset_p: Some(p),
+        shortest: &[],
     };
     let opts = SplittingOptions {
         chains: 6,
@@ -99,6 +100,7 @@ fn a_target_where_failures_are_common_is_sampled_directly() {
         priors: &priors,
         valid: &|s| p * s < 0.5,
         preset_p: None,
+        shortest: &[],
     };
     let opts = SplittingOptions {
         top_failures: 2000,
@@ -109,4 +111,97 @@ fn a_target_where_failures_are_common_is_sampled_directly() {
     let exact = binomial_tail(3, p); // 0.104
     let got = result.target();
     assert!(((got.rate / exact).ln() / got.uncertainty).abs() < 5.0);
+}
+
+#[test]
+fn walks_from_the_shortest_logical_error_reach_the_same_tail() {
+    // The same d = 7 majority-vote tail (binomial tail, any probability textbook; ratio method of
+    // "Simulation of rare events in quantum error correction", Phys. Rev. A 88, 062308 (2013)),
+    // with the walks started from the one logical error of the repetition code, all 7 bits
+    // flipped, thinned to 4 of them. The top may sit where 0.5% of shots fail instead of 5%.
+    let (d, p) = (7, 0.001);
+    let (sym, graph) = repetition(d);
+    let decoder = DecoderKind::Mwpm.build(&graph).unwrap();
+    let priors = move |s: f64| Ok(vec![p * s; d as usize]);
+    let all: Vec<u32> = (0..d).collect();
+    let shortest = [all];
+    let problem = Problem {
+        sym: &sym,
+        decoder: decoder.as_ref(),
+        priors: &priors,
+        valid: &|s| p * s < 0.5,
+        preset_p: Some(p),
+        shortest: &shortest,
+    };
+    let opts = SplittingOptions {
+        chains: 6,
+        sweeps: 300.0,
+        top_failures: 400,
+        seed: 5,
+        start: Start::Shortest,
+        ..SplittingOptions::default()
+    };
+    let result = run(&problem, &opts, |_| {}).unwrap();
+    assert_eq!(result.start, Start::Shortest);
+    assert!(result.warnings.is_empty(), "{:?}", result.warnings);
+    let exact = binomial_tail(d, p);
+    let got = result.target();
+    assert!(got.uncertainty < 0.2, "{}", got.uncertainty);
+    let z = (got.rate / exact).ln() / got.uncertainty;
+    assert!(z.abs() < 4.0, "{} vs exact {exact}: {z:.1} sigma", got.rate);
+    // A lower top than the sampling start needs: there 5% of shots fail (p_top ≥ 0.07 for
+    // d = 7), here 0.5% suffice.
+    let top = &result.points[0];
+    let sampling_start = run(
+        &problem,
+        &SplittingOptions {
+            start: Start::Sampling,
+            ..opts.clone()
+        },
+        |_| {},
+    )
+    .unwrap();
+    assert!(
+        top.scale < sampling_start.points[0].scale,
+        "{} vs {}",
+        top.scale,
+        sampling_start.points[0].scale
+    );
+}
+
+#[test]
+fn a_shortest_error_the_decoder_corrects_falls_back_to_sampling() {
+    // A "logical error" list the decoder does not fail on (one bit flip of d = 5 is corrected):
+    // the walks start from direct sampling and the result says why.
+    let (d, p) = (5, 0.05);
+    let (sym, graph) = repetition(d);
+    let decoder = DecoderKind::Mwpm.build(&graph).unwrap();
+    let priors = move |s: f64| Ok(vec![p * s; d as usize]);
+    let shortest = [vec![2u32]];
+    let problem = Problem {
+        sym: &sym,
+        decoder: decoder.as_ref(),
+        priors: &priors,
+        valid: &|s| p * s < 0.5,
+        preset_p: Some(p),
+        shortest: &shortest,
+    };
+    let opts = SplittingOptions {
+        chains: 4,
+        sweeps: 50.0,
+        top_failures: 200,
+        start: Start::Shortest,
+        ..SplittingOptions::default()
+    };
+    let result = run(&problem, &opts, |_| {}).unwrap();
+    assert_eq!(result.start, Start::Sampling);
+    assert_eq!(result.warnings.len(), 1, "{:?}", result.warnings);
+    assert!(
+        result.warnings[0].contains("corrects"),
+        "{}",
+        result.warnings[0]
+    );
+    let exact = binomial_tail(d, p);
+    let got = result.target();
+    assert!(((got.rate / exact).ln() / got.uncertainty).abs() < 4.0);
 }
