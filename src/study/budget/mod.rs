@@ -26,7 +26,7 @@
 //!
 //! Estimators ([`FailureEstimator`]): direct sampling of the graph ([`DirectSampling`]), or, at
 //! rates far below what sampling reaches, the splitting method ([`SplittingSampling`],
-//! `split.rs`), whose walks at the target rung sample the same distribution (correlated along
+//! `split.rs`), whose walks at the target rung sample the same distribution (dependent along
 //! each walk: intervals are batch means). With the splitting method a removal that reweighting
 //! cannot carry is reported as not estimable ([`RemovalMethod::NotEstimable`]) under
 //! [`Removal::Auto`], and re-estimated by a ladder of its own under [`Removal::Direct`].

@@ -55,7 +55,7 @@ pub struct Failures {
     pub edges: Vec<u32>,
     /// Where each configuration starts in `edges` (one more entry than configurations).
     pub starts: Vec<usize>,
-    /// Where each batch of correlated configurations starts, as configuration indices (one more
+    /// Where each batch of dependent configurations starts, as configuration indices (one more
     /// entry than batches): the intervals are then batch-means intervals. Empty when the
     /// configurations are independent draws.
     pub batches: Vec<usize>,

@@ -13,7 +13,7 @@
 //! uncertainty) and the intervals differ.
 //!
 //! # Intervals: batch means
-//! Samples of one walk are correlated; walks are independent. Each walk's samples are cut into
+//! Samples of one walk depend on each other; walks are independent. Each walk's samples are cut into
 //! contiguous batches of at least [`TAUS_PER_BATCH`] integrated autocorrelation times of the
 //! walks' number of fired edges at the target (the ladder's mixing diagnostic), at most
 //! [`MAX_BATCHES_PER_WALK`] per walk; a walk whose fired count never changed is one batch. The

@@ -483,7 +483,7 @@ fn splitting_budget_names_the_hadamard_converted_faults_at_low_p() {
 }
 
 #[test]
-fn batch_means_widen_the_interval_of_correlated_values() {
+fn batch_means_widen_the_interval_of_dependent_values() {
     // 4 batches of 5 equal values: the batch means 0, 1, 2, 3 have mean 1.5 and standard error
     // sqrt(var(0,1,2,3)/4) = sqrt((5/3)/4); Student's t with 3 degrees of freedom is 3.182.
     let values: Vec<f64> = (0..20).map(|i| (i / 5) as f64).collect();

@@ -41,7 +41,7 @@
 //! one, the spread of the `B` batch means with Student's t at `B − 1` degrees of freedom. The
 //! likelihood ratio of a large change (`s = 0`, removing a source) can have a huge variance: the
 //! effective sample size `(Σ LR)²/Σ LR²` says how many configurations carry the estimate (for
-//! correlated configurations it counts samples, an upper bound on independent ones). Removing
+//! dependent configurations it counts samples, an upper bound on independent ones). Removing
 //! `S` gives `LR = 0` to every configuration that fires an edge made of `S` alone; the estimate
 //! stays unbiased, but where every likely failure needs such an edge no sampled configuration
 //! carries it.

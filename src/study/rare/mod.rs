@@ -168,7 +168,7 @@ pub struct Splitting {
 }
 
 /// The configurations the walks recorded at the target noise, after their burn-in: draws from
-/// `π_1` restricted to the decoder's failures, correlated along each walk (the error budget
+/// `π_1` restricted to the decoder's failures, dependent along each walk (the error budget
 /// reweights them).
 #[derive(Clone, Debug, Default, PartialEq)]
 pub struct TargetSamples {
