@@ -190,9 +190,10 @@ pub fn run(args: Args) -> Result<(), CliError> {
     if let Some(path) = &args.plot {
         let title = args.title.clone().unwrap_or_else(|| {
             format!(
-                "error budget: {} under {noise}, p_L = {:.2e} per shot",
+                "error budget: {} under {noise}, p_L = {:.2e} per shot{}",
                 short_name(&file),
-                b.rate.rate
+                b.rate.rate,
+                if splitting { " (splitting)" } else { "" }
             )
         });
         let bytes = render_budget(path, &b, &title).map_err(CliError::Internal)?;
