@@ -188,7 +188,21 @@ fn budget_keys_are_the_documented_ones() {
         .map(|s| s["removed"]["method"].as_str().unwrap())
         .collect();
     assert_eq!(methods.len(), 2, "{methods:?}");
-    assert_same("budget", &documented("budget"), &written(&[v]));
+    // The splitting method adds its ladder, and a removal it cannot estimate.
+    let low = json_of(&[
+        "budget",
+        "circuits/repetition_d3.slant",
+        "--set",
+        "rounds=1",
+        "--noise",
+        "capacity p=0.001",
+        "--method",
+        "splitting",
+        "--json",
+    ]);
+    assert_eq!(low["method"], "splitting");
+    assert_eq!(low["sources"][0]["removed"]["method"], "not estimable");
+    assert_same("budget", &documented("budget"), &written(&[v, low]));
 }
 
 #[test]

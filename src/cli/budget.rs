@@ -9,8 +9,9 @@ use crate::cli::progress::Progress;
 use crate::cli::CliError;
 use crate::decode::DecoderKind;
 use crate::study::{
-    budget, render_budget, Budget, BudgetOptions, BudgetStage, DirectSampling, Grouping, Interval,
-    Removal, RemovalMethod,
+    budget, render_budget, Budget, BudgetOptions, BudgetStage, DirectSampling, EstimatorEvent,
+    FailureEstimator, Grouping, Interval, Removal, RemovalMethod, SplittingOptions,
+    SplittingSampling,
 };
 
 const AFTER_HELP: &str = "\
@@ -36,6 +37,14 @@ The rate with a source removed is re-estimated directly (the graph sampled again
 when reweighting rests on too few configurations (`--removal auto`), always (`direct`) or never
 (`reweight`); `--retune` decodes those runs with a decoder built for the new rates.
 
+--method splitting budgets rates far below what sampling reaches: the failing configurations
+are the samples the splitting method's walks record at the target noise (the ladder of
+`slant estimate --method splitting`, run on the fault graph's edge probabilities scaled
+together; --chains, --sweeps, --until-failures and --ladder-top as there). Their intervals are
+batch means (each walk cut into batches of at least 10 autocorrelation times, Student's t). At
+low rates a source on every shortest failure cannot be removed by reweighting: `--removal auto`
+then reports it as not estimable, `--removal direct` runs a ladder of its own without it.
+
 Results are estimates under the stated noise model: Pauli channels, independent faults.";
 
 /// Arguments of `slant budget`.
@@ -48,12 +57,29 @@ pub struct Args {
     /// Noise to add.
     #[command(flatten)]
     pub noise: NoiseArgs,
-    /// Shots of the main sample (and of each direct re-estimate).
-    #[arg(long, value_name = "N", default_value_t = 100_000, value_parser = clap::value_parser!(u64).range(1..))]
-    pub shots: u64,
-    /// Stop the main sample once this many shots have failed.
+    /// Shots of the main sample and of each direct re-estimate (default 100000). With
+    /// `--method splitting`: most shots of direct sampling at the top of the ladder.
+    #[arg(long, value_name = "N", value_parser = clap::value_parser!(u64).range(1..))]
+    pub shots: Option<u64>,
+    /// Stop the main sample once this many shots have failed. With `--method splitting`:
+    /// failures to collect at the top of the ladder (default 1000).
     #[arg(long, value_name = "K", value_parser = clap::value_parser!(u64).range(1..))]
     pub until_failures: Option<u64>,
+    /// Where the failing configurations come from: `sampling` (direct sampling of the fault
+    /// graph) or `splitting` (the splitting method's walks at the target, for low rates).
+    #[arg(long, value_name = "M", default_value = "sampling", value_parser = ["sampling", "splitting"])]
+    pub method: String,
+    /// With `--method splitting`: independent walks per rung (at least 2).
+    #[arg(long, value_name = "K", default_value_t = 8, value_parser = clap::value_parser!(u64).range(2..))]
+    pub chains: u64,
+    /// With `--method splitting`: proposals per walk and rung, as a multiple of the number of
+    /// fault-graph edges.
+    #[arg(long, value_name = "N", default_value_t = 100.0)]
+    pub sweeps: f64,
+    /// With `--method splitting`: the top of the ladder as a multiple of the noise (default:
+    /// chosen by pilot runs; `slant estimate` calls it `--top`).
+    #[arg(long, value_name = "S")]
+    pub ladder_top: Option<f64>,
     /// How faults are grouped into sources: any of `section`, `class`, `qubit`, `role`.
     #[arg(long, value_name = "LIST", default_value = "section,class", value_parser = Grouping::parse)]
     pub by: Grouping,
@@ -103,11 +129,31 @@ pub fn run(args: Args) -> Result<(), CliError> {
     if args.min_effective.is_nan() || args.min_effective < 0.0 {
         return Err(Diagnostic::bare("`--min-effective` must be a non-negative number").into());
     }
+    let splitting = args.method == "splitting";
+    if splitting && !(args.sweeps > 0.0 && args.sweeps.is_finite()) {
+        return Err(CliError::Usage(Diagnostic::bare(format!(
+            "`--sweeps {}` must be a positive number",
+            args.sweeps
+        ))));
+    }
+    let shots = args.shots.unwrap_or(DEFAULT_SHOTS);
     let sample = DirectSampling {
-        shots: args.shots,
+        shots,
         until_failures: args.until_failures,
         seed: args.seed,
     };
+    let ladder = SplittingSampling {
+        opts: SplittingOptions {
+            chains: args.chains as usize,
+            sweeps: args.sweeps,
+            top: args.ladder_top,
+            top_failures: args.until_failures.unwrap_or(1000),
+            max_shots: args.shots.unwrap_or(SplittingOptions::default().max_shots),
+            seed: args.seed,
+            ..SplittingOptions::default()
+        },
+    };
+    let estimator: &dyn FailureEstimator = if splitting { &ladder } else { &sample };
     let opts = BudgetOptions {
         by: args.by,
         removal: args.removal,
@@ -120,22 +166,22 @@ pub fn run(args: Args) -> Result<(), CliError> {
             ..sample
         },
     };
-    let mut progress = Progress::new(args.shots, "shots");
-    let mut stage = None;
-    let b = budget(&pipeline, &sample, &opts, &mut |s| match s {
-        BudgetStage::Sample(shots, failures) => {
-            progress.set_message(format!("{failures} failures"));
-            progress.set_position(shots);
-        }
-        BudgetStage::Direct { index, of, shots } => {
-            if stage != Some(index) {
-                stage = Some(index);
-                progress.set_message(format!("direct re-estimate {} of {of}", index + 1));
-            }
-            progress.set_position(shots);
-        }
-    })?;
+    let mut progress = if splitting {
+        Progress::new(1, "rungs")
+    } else {
+        Progress::new(shots, "shots")
+    };
+    let b = budget(&pipeline, estimator, &opts, &mut |s| match s {
+        BudgetStage::Main(e) => show(&mut progress, e, splitting, ""),
+        BudgetStage::Direct { index, of, event } => show(
+            &mut progress,
+            event,
+            splitting,
+            &format!("without source {} of {of}: ", index + 1),
+        ),
+    });
     progress.finish();
+    let b = b?;
     let noise = args
         .noise
         .noise
@@ -145,9 +191,10 @@ pub fn run(args: Args) -> Result<(), CliError> {
     if let Some(path) = &args.plot {
         let title = args.title.clone().unwrap_or_else(|| {
             format!(
-                "error budget: {} under {noise}, p_L = {:.2e} per shot",
+                "error budget: {} under {noise}, p_L = {:.2e} per shot{}",
                 short_name(&file),
-                b.rate.rate
+                b.rate.rate,
+                if splitting { " (splitting)" } else { "" }
             )
         });
         let bytes = render_budget(path, &b, &title).map_err(CliError::Internal)?;
@@ -159,6 +206,39 @@ pub fn run(args: Args) -> Result<(), CliError> {
     }
     out!("{}", text(&b, &file, noise, &args));
     Ok(())
+}
+
+/// Shots of the main sample without `--shots`.
+const DEFAULT_SHOTS: u64 = 100_000;
+
+/// Shows an estimator's progress: shots on a shot bar, or the ladder's rungs.
+fn show(bar: &mut Progress, e: EstimatorEvent, splitting: bool, prefix: &str) {
+    match e {
+        EstimatorEvent::Shots {
+            scale,
+            shots,
+            failures,
+        } => {
+            if splitting {
+                bar.set_message(format!(
+                    "{prefix}direct sampling at {scale}x: {failures} failures in {shots} shots"
+                ));
+                bar.set_position(0);
+            } else {
+                bar.set_message(format!("{prefix}{failures} failures"));
+                bar.set_position(shots);
+            }
+        }
+        EstimatorEvent::Rung {
+            done,
+            expected,
+            scale,
+        } => {
+            bar.set_total(expected as u64);
+            bar.set_message(format!("{prefix}at {scale:.3}x the noise"));
+            bar.set_position(done as u64);
+        }
+    }
 }
 
 fn short_name(file: &str) -> &str {
@@ -186,18 +266,45 @@ fn percent(x: f64) -> String {
 fn text(b: &Budget, file: &str, noise: &str, args: &Args) -> String {
     let mut out = String::new();
     out += &format!("circuit: {file}\nnoise: {noise}\n");
-    out += &format!(
-        "logical error rate per shot: {:.4e} (95% Wilson interval {:.4e} .. {:.4e}), {} with {} ({} of the fault graph's {} edges, {} decoder, seed {})\n",
-        b.rate.rate,
-        b.rate.low,
-        b.rate.high,
-        count(b.shots as usize, "shot"),
-        count(b.failures as usize, "failure"),
-        b.method,
-        b.edges,
-        args.decoder.name(),
-        args.seed
-    );
+    match (&b.splitting, b.batches) {
+        (Some(s), Some(batches)) => {
+            let target = s.target();
+            let top = s.points.first().map_or(1.0, |p| p.scale);
+            out += &format!(
+                "logical error rate per shot: {:.4e} (95% interval {:.4e} .. {:.4e}; relative uncertainty {:.3} in ln p_L from the spread of {} independent walks)\n",
+                b.rate.rate,
+                b.rate.low,
+                b.rate.high,
+                target.uncertainty,
+                s.chains,
+            );
+            out += &format!(
+                "splitting: {} from {top}x the noise (direct sampling there: {} with {}) down to the model's rates; {} recorded at the target, intervals are batch means over {} ({} edges of the fault graph, {} decoder, seed {})\n",
+                count(s.points.len(), "rung"),
+                count(s.top.shots as usize, "shot"),
+                count(s.top.failures as usize, "failure"),
+                count(b.failures as usize, "failing configuration"),
+                count(batches, "batch"),
+                b.edges,
+                args.decoder.name(),
+                args.seed
+            );
+        }
+        _ => {
+            out += &format!(
+                "logical error rate per shot: {:.4e} (95% Wilson interval {:.4e} .. {:.4e}), {} with {} ({} of the fault graph's {} edges, {} decoder, seed {})\n",
+                b.rate.rate,
+                b.rate.low,
+                b.rate.high,
+                count(b.shots as usize, "shot"),
+                count(b.failures as usize, "failure"),
+                b.method,
+                b.edges,
+                args.decoder.name(),
+                args.seed
+            );
+        }
+    }
     if b.unmatched > 0 {
         out += &format!(
             "  ({} with detection events the decoder could not pair)\n",
@@ -234,10 +341,14 @@ fn text(b: &Budget, file: &str, noise: &str, args: &Args) -> String {
         let removed = &s.removed;
         let how = match removed.method {
             RemovalMethod::Reweighted => format!("reweighted, {:.0} eff.", removed.effective),
+            RemovalMethod::Direct if b.splitting.is_some() => "own ladder".into(),
             RemovalMethod::Direct => match removed.direct {
                 Some((shots, failures)) => format!("direct, {failures}/{shots}"),
                 None => "direct".into(),
             },
+            RemovalMethod::NotEstimable => {
+                format!("not estimable, {:.0} eff.", removed.effective)
+            }
         };
         out += &format!(
             "{:<width$}  {:>7}  {:>9.3e}  {:>21}  {:>5}  {:>5}  {} ({how})\n",
@@ -255,6 +366,13 @@ fn text(b: &Budget, file: &str, noise: &str, args: &Args) -> String {
             "... {} more sources (`--top`)\n",
             b.sources.len() - args.top
         );
+    }
+    if b.sources
+        .iter()
+        .any(|s| s.removed.method == RemovalMethod::NotEstimable)
+    {
+        out += "not estimable: the failures without the source are too rare among the sampled \
+                ones to reweight; `--removal direct` estimates each again without its source\n";
     }
     out += &format!("answer: {}\n", b.answer());
     out +=
@@ -290,6 +408,19 @@ struct JsonSource {
     removed: JsonRemoved,
 }
 
+/// The splitting method's ladder in `--json`.
+#[derive(serde::Serialize)]
+struct JsonLadder {
+    top: f64,
+    shots: u64,
+    failures: u64,
+    rungs: usize,
+    chains: usize,
+    proposals: u64,
+    acceptance: Option<f64>,
+    autocorrelation: Option<f64>,
+}
+
 #[derive(serde::Serialize)]
 struct JsonBudget<'a> {
     format: &'static str,
@@ -306,6 +437,9 @@ struct JsonBudget<'a> {
     failures: u64,
     unmatched: u64,
     rate: crate::study::Estimate,
+    uncertainty: Option<f64>,
+    batches: Option<usize>,
+    ladder: Option<JsonLadder>,
     total: Interval,
     sum: f64,
     improve: f64,
@@ -335,6 +469,21 @@ fn json_text(b: &Budget, file: &str, noise: &str, args: &Args) -> Result<String,
         failures: b.failures,
         unmatched: b.unmatched,
         rate: b.rate,
+        uncertainty: b.splitting.as_ref().map(|s| s.target().uncertainty),
+        batches: b.batches,
+        ladder: b.splitting.as_ref().map(|s| {
+            let mixing = s.target().mixing.as_ref();
+            JsonLadder {
+                top: s.points.first().map_or(1.0, |p| p.scale),
+                shots: s.top.shots,
+                failures: s.top.failures,
+                rungs: s.points.len(),
+                chains: s.chains,
+                proposals: s.proposals,
+                acceptance: mixing.map(|m| m.acceptance),
+                autocorrelation: mixing.and_then(|m| m.autocorrelation),
+            }
+        }),
         total: b.total,
         sum: b.sum,
         improve: b.improve,

@@ -28,9 +28,10 @@ mod threshold;
 
 pub use budget::{
     batch_rng, budget, direct_scaled, fails, render_budget, section_label, symptoms_of, weigh,
-    Budget, BudgetOptions, BudgetStage, DirectSampling, EdgeSampler, FailureEstimator, Failures,
-    Grouping, Interval, Part, Ratio, Removal, RemovalMethod, Removed, Source, SourceBudget,
-    Sources, Symptoms, Weighed, CHART_SIZE, CIRCUIT_SECTION, MAX_BARS, SHOTS_PER_BATCH,
+    Budget, BudgetOptions, BudgetStage, DirectSampling, EdgeSampler, EstimatorEvent,
+    FailureEstimator, Failures, Grouping, Interval, Part, Ratio, Removal, RemovalMethod, Removed,
+    Source, SourceBudget, Sources, SplittingSampling, Symptoms, Weighed, CHART_SIZE,
+    CIRCUIT_SECTION, MAX_BARS, SHOTS_PER_BATCH,
 };
 pub use compare::{
     at_p, best, evaluate, rates, significant, without_p, BiasSummary, Column, RatePoint, Row,
@@ -40,11 +41,11 @@ pub use montecarlo::{decode_batch, run, Counts, Experiment, RunOptions};
 pub use pipeline::{Pipeline, StudyError};
 pub use plot::{render_for, Curve, CurveStyle, LegendEntry, Marker, Panel, Shape, PANEL_SIZE};
 pub use rare::{
-    fit_exponent, splitting, ExponentFit, LadderPoint, Mixing, Splitting, SplittingEvent,
-    SplittingOptions, Start, TopSampling,
+    fit_exponent, splitting, splitting_on_edges, ExponentFit, LadderPoint, Mixing, Splitting,
+    SplittingEvent, SplittingOptions, Start, TargetSamples, TopSampling,
 };
 pub use slope::{slopes, SlopeFit};
-pub use stats::{per_round, wilson, Estimate, Z95};
+pub use stats::{per_round, student_t95, wilson, Estimate, Z95};
 pub use sweep::{
     aggregate, chunk_seed, load_store, merge_rows, parse_rows, plan, read_store, run_sweep,
     ChunkRow, Conflict, DistanceRow, Event, ExponentRow, Method, Point, RungRow, Shard,

@@ -24,6 +24,13 @@
 //! source's part of that sum. Grouping by qubit or role puts a fault on two qubits into both
 //! qubits' sources; shares are then not reported.
 //!
+//! Estimators ([`FailureEstimator`]): direct sampling of the graph ([`DirectSampling`]), or, at
+//! rates far below what sampling reaches, the splitting method ([`SplittingSampling`],
+//! `split.rs`), whose walks at the target rung sample the same distribution (dependent along
+//! each walk: intervals are batch means). With the splitting method a removal that reweighting
+//! cannot carry is reported as not estimable ([`RemovalMethod::NotEstimable`]) under
+//! [`Removal::Auto`], and re-estimated by a ladder of its own under [`Removal::Direct`].
+//!
 //! At low rates the sensitivity of a source tends to the mean number of its faults in the
 //! failing configurations that dominate (for a distance-d repetition code under code-capacity
 //! noise, `⌈d/2⌉`). Everything holds under the noise model's own assumptions (Pauli channels,
@@ -32,14 +39,16 @@
 mod chart;
 mod sample;
 mod sources;
+mod split;
 mod weigh;
 
 pub use chart::{render_budget, CHART_SIZE, MAX_BARS};
 pub use sample::{
-    batch_rng, fails, DirectSampling, EdgeSampler, FailureEstimator, Failures, Symptoms,
-    SHOTS_PER_BATCH,
+    batch_rng, fails, DirectSampling, EdgeSampler, EstimatorEvent, FailureEstimator, Failures,
+    Symptoms, SHOTS_PER_BATCH,
 };
 pub use sources::{Grouping, Part, Source, Sources, CIRCUIT_SECTION};
+pub use split::SplittingSampling;
 pub use weigh::{weigh, Interval, Ratio, Weighed};
 
 use crate::decode::DecoderKind;
@@ -105,8 +114,12 @@ pub struct BudgetOptions {
 pub enum RemovalMethod {
     /// Reweighting the failing configurations.
     Reweighted,
-    /// Sampling the graph again without the source.
+    /// Estimating the rate again without the source (direct sampling, or a ladder of its own
+    /// for the splitting method).
     Direct,
+    /// Neither: reweighting rests on too few configurations and no re-estimate was asked for
+    /// (the splitting method with [`Removal::Auto`]); the ratio is NaN.
+    NotEstimable,
 }
 
 impl RemovalMethod {
@@ -115,6 +128,7 @@ impl RemovalMethod {
         match self {
             RemovalMethod::Reweighted => "reweighted",
             RemovalMethod::Direct => "direct",
+            RemovalMethod::NotEstimable => "not estimable",
         }
     }
 }
@@ -130,7 +144,8 @@ pub struct Removed {
     pub effective: f64,
     /// The reweighted estimate, also when the direct one is reported.
     pub reweighted: Interval,
-    /// Shots and failures of the direct re-estimate, when one ran.
+    /// Shots and failures of the direct re-estimate, when one ran by direct sampling (for the
+    /// splitting method: shots and failures at the top of its ladder).
     pub direct: Option<(u64, u64)>,
 }
 
@@ -156,12 +171,17 @@ pub struct SourceBudget {
 pub struct Budget {
     /// What produced the failing configurations.
     pub method: String,
-    /// Logical error rate per shot.
+    /// Logical error rate per shot (with the splitting method, its interval is `rate·e^{±1.96σ}`).
     pub rate: Estimate,
-    /// Shots sampled.
+    /// Shots sampled (with the splitting method: at the top of the ladder).
     pub shots: u64,
-    /// Failed shots (configurations behind every number).
+    /// Failing configurations behind every number (failed shots for direct sampling, samples
+    /// of the walks at the target for the splitting method).
     pub failures: u64,
+    /// Batches behind the intervals (`None`: independent configurations).
+    pub batches: Option<usize>,
+    /// The ladder, with the splitting method.
+    pub splitting: Option<crate::study::rare::Splitting>,
     /// Of those, shots with detection events the decoder could not pair.
     pub unmatched: u64,
     /// `d log p_L / d log s` with every source scaled at once.
@@ -203,20 +223,20 @@ impl Budget {
     }
 }
 
-/// What a budget run reports while it goes: the main sample, then one direct re-estimate per
+/// What a budget run reports while it goes: the main estimate, then one direct re-estimate per
 /// source that needs one.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[derive(Clone, Copy, Debug, PartialEq)]
 pub enum BudgetStage {
-    /// Shots and failures of the main sample.
-    Sample(u64, u64),
-    /// Direct re-estimate of source `index` (of `of` needing one): shots done.
+    /// The main estimate's progress.
+    Main(EstimatorEvent),
+    /// Direct re-estimate of source `index` (of `of` needing one).
     Direct {
         /// Which of the re-estimates.
         index: usize,
         /// How many there are.
         of: usize,
-        /// Shots done.
-        shots: u64,
+        /// Its progress.
+        event: EstimatorEvent,
     },
 }
 
@@ -307,9 +327,10 @@ pub fn budget(
     let symptoms = symptoms_of(&graph);
     let (matching, _) = graph.matching_graph();
     let decoder = opts.decoder.build(&matching)?;
-    let failures = estimator.failures(&priors, &symptoms, decoder.as_ref(), &mut |s, f| {
-        progress(BudgetStage::Sample(s, f))
-    });
+    let failures = estimator.failures(&priors, &symptoms, decoder.as_ref(), &mut |e| {
+        progress(BudgetStage::Main(e))
+    })?;
+    let chained = !failures.batches.is_empty();
     let total = weigh(&sources, &priors, &failures, None, &[]).sensitivity;
     let selectors = selectors(pipeline);
     let mut lines: Vec<SourceBudget> = Vec::new();
@@ -338,13 +359,24 @@ pub fn budget(
         });
     }
     // Direct re-estimates of the removals that need one.
+    let short: Vec<bool> = lines
+        .iter()
+        .map(|l| l.removed.effective < opts.min_effective)
+        .collect();
     let need: Vec<usize> = (0..lines.len())
         .filter(|&i| match opts.removal {
             Removal::Direct => true,
             Removal::Reweight => false,
-            Removal::Auto => lines[i].removed.effective < opts.min_effective,
+            Removal::Auto => short[i] && !chained,
         })
         .collect();
+    if opts.removal == Removal::Auto && chained {
+        for i in (0..lines.len()).filter(|&i| short[i]) {
+            let r = &mut lines[i].removed;
+            r.ratio = Interval::exact(f64::NAN);
+            r.method = RemovalMethod::NotEstimable;
+        }
+    }
     if !need.is_empty() && failures.failures > 0 {
         for (n, &i) in need.iter().enumerate() {
             let scaled: Vec<f64> = (0..priors.len())
@@ -361,21 +393,36 @@ pub fn budget(
             } else {
                 decoder.as_ref()
             };
-            let run = DirectSampling {
-                seed: opts.direct.seed.wrapping_add(1 + i as u64),
-                ..opts.direct
-            };
-            let f = run.failures(&scaled, &symptoms, dec, &mut |s, _| {
+            let run = estimator.again(i as u64).unwrap_or_else(|| {
+                Box::new(DirectSampling {
+                    seed: opts.direct.seed.wrapping_add(1 + i as u64),
+                    ..opts.direct
+                })
+            });
+            let f = run.failures(&scaled, &symptoms, dec, &mut |e| {
                 progress(BudgetStage::Direct {
                     index: n,
                     of: need.len(),
-                    shots: s,
+                    event: e,
                 })
             });
             let r = &mut lines[i].removed;
-            r.ratio = ratio_of(f.rate, failures.rate);
-            r.method = RemovalMethod::Direct;
-            r.direct = Some((f.shots, f.failures));
+            match f {
+                Ok(f) => {
+                    r.ratio = ratio_of(f.rate, failures.rate);
+                    r.method = RemovalMethod::Direct;
+                    r.direct = Some(match &f.splitting {
+                        Some(s) => (s.top.shots, s.top.failures),
+                        None => (f.shots, f.failures),
+                    });
+                }
+                // A ladder that cannot start (no failure even at the highest valid noise)
+                // leaves the removal unknown rather than failing the whole budget.
+                Err(_) => {
+                    r.ratio = Interval::exact(f64::NAN);
+                    r.method = RemovalMethod::NotEstimable;
+                }
+            }
         }
     }
     let sum: f64 = lines.iter().map(|l| l.sensitivity.value).sum();
@@ -399,6 +446,8 @@ pub fn budget(
         rate: failures.rate,
         shots: failures.shots,
         failures: failures.failures,
+        batches: chained.then(|| failures.batches.len() - 1),
+        splitting: failures.splitting.clone(),
         unmatched: failures.unmatched,
         total,
         sum,
@@ -434,7 +483,7 @@ pub fn direct_scaled(
         }
     }
     let dec = decoder.build(&g.matching_graph().0)?;
-    Ok(run.failures(&scaled, &symptoms_of(&graph), dec.as_ref(), &mut |_, _| {}))
+    run.failures(&scaled, &symptoms_of(&graph), dec.as_ref(), &mut |_| {})
 }
 
 #[cfg(test)]

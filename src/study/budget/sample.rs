@@ -6,9 +6,9 @@
 //! edges fired) drawn from the graph's distribution restricted to failures. Reweighting needs
 //! nothing else: the derivative of `log p_L` is the mean score over failing configurations, and
 //! the rate under other priors the mean likelihood ratio (see `weigh.rs`). Any estimator that
-//! produces such configurations can feed a budget ([`FailureEstimator`]); a low-rate estimator
-//! (e.g. the splitting method, whose last level samples the failing configurations at the target
-//! rate) plugs in here.
+//! produces such configurations can feed a budget ([`FailureEstimator`]); the splitting method,
+//! whose walks at the last rung sample the failing configurations at the target rate, is the
+//! second (`split.rs`).
 //!
 //! Direct sampling draws every edge independently with its prior, by geometric skipping inside
 //! buckets of edges whose priors lie within a factor 2 (candidates are accepted with `p/p_max ≥
@@ -22,6 +22,8 @@ use rayon::prelude::*;
 
 use crate::base::odd_parity_in_place;
 use crate::decode::Decoder;
+use crate::study::pipeline::StudyError;
+use crate::study::rare::Splitting;
 use crate::study::stats::{Estimate, Z95};
 
 /// Shots per batch of direct sampling.
@@ -53,6 +55,13 @@ pub struct Failures {
     pub edges: Vec<u32>,
     /// Where each configuration starts in `edges` (one more entry than configurations).
     pub starts: Vec<usize>,
+    /// Where each batch of dependent configurations starts, as configuration indices (one more
+    /// entry than batches): the intervals are then batch-means intervals. Empty when the
+    /// configurations are independent draws.
+    pub batches: Vec<usize>,
+    /// The ladder, when the configurations come from the splitting method (its target samples
+    /// moved into `edges`).
+    pub splitting: Option<Splitting>,
 }
 
 impl Failures {
@@ -75,7 +84,7 @@ impl Failures {
 /// A source of failing configurations for the budget: estimates the logical error rate of a
 /// graph under `priors` with a fixed decoder, and returns configurations drawn from the
 /// distribution of the edges restricted to the decoder's failures. `progress` receives
-/// `(shots, failures)` as the estimator goes.
+/// [`EstimatorEvent`]s as the estimator goes.
 pub trait FailureEstimator: Sync {
     /// Runs the estimator.
     fn failures(
@@ -83,8 +92,39 @@ pub trait FailureEstimator: Sync {
         priors: &[f64],
         symptoms: &Symptoms,
         decoder: &dyn Decoder,
-        progress: &mut dyn FnMut(u64, u64),
-    ) -> Failures;
+        progress: &mut dyn FnMut(EstimatorEvent),
+    ) -> Result<Failures, StudyError>;
+
+    /// An independent estimator of the same kind for direct re-estimate number `index` (a
+    /// removed source), or `None` to re-estimate by direct sampling.
+    fn again(&self, index: u64) -> Option<Box<dyn FailureEstimator>> {
+        let _ = index;
+        None
+    }
+}
+
+/// What an estimator reports while it runs.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum EstimatorEvent {
+    /// Direct sampling at `scale` times the noise (1 for direct sampling itself; the top of the
+    /// ladder for the splitting method).
+    Shots {
+        /// The noise scale sampled.
+        scale: f64,
+        /// Shots so far.
+        shots: u64,
+        /// Failures so far.
+        failures: u64,
+    },
+    /// The splitting method finished a rung.
+    Rung {
+        /// Rungs finished, the top included.
+        done: usize,
+        /// Rungs expected in all.
+        expected: usize,
+        /// Its noise scale.
+        scale: f64,
+    },
 }
 
 /// Direct sampling of the graph's independent edges.
@@ -207,8 +247,8 @@ impl FailureEstimator for DirectSampling {
         priors: &[f64],
         symptoms: &Symptoms,
         decoder: &dyn Decoder,
-        progress: &mut dyn FnMut(u64, u64),
-    ) -> Failures {
+        progress: &mut dyn FnMut(EstimatorEvent),
+    ) -> Result<Failures, StudyError> {
         let sampler = EdgeSampler::new(priors);
         let batches = self.shots.div_ceil(SHOTS_PER_BATCH);
         let group = (rayon::current_num_threads() as u64 * 2).max(1);
@@ -220,6 +260,8 @@ impl FailureEstimator for DirectSampling {
             unmatched: 0,
             edges: Vec::new(),
             starts: vec![0],
+            batches: Vec::new(),
+            splitting: None,
         };
         let mut next = 0;
         'run: while next < batches {
@@ -257,7 +299,11 @@ impl FailureEstimator for DirectSampling {
                     at += l;
                     out.starts.push(out.edges.len());
                 }
-                progress(out.shots, out.failures);
+                progress(EstimatorEvent::Shots {
+                    scale: 1.0,
+                    shots: out.shots,
+                    failures: out.failures,
+                });
                 if self.until_failures.is_some_and(|k| out.failures >= k) {
                     break 'run;
                 }
@@ -265,7 +311,7 @@ impl FailureEstimator for DirectSampling {
             next = end;
         }
         out.rate = Estimate::wilson(out.failures, out.shots, Z95);
-        out
+        Ok(out)
     }
 }
 

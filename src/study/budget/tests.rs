@@ -298,3 +298,201 @@ fn flips_written_in_the_circuit_stay_with_the_circuit() {
         assert!((sources.scaled_prior(k, None, 1.0) - m.probability).abs() < 1e-12);
     }
 }
+
+// The budget through the splitting method: its walks at the target rung sample the failing
+// configurations where direct sampling sees none.
+
+fn splitting_run(p: &Pipeline, opts: &BudgetOptions, top: Option<f64>, seed: u64) -> Budget {
+    let ladder = SplittingSampling {
+        opts: crate::study::SplittingOptions {
+            chains: 8,
+            sweeps: 100.0,
+            top,
+            top_failures: 500,
+            seed,
+            ..crate::study::SplittingOptions::default()
+        },
+    };
+    budget(p, &ladder, opts, &mut |_| {}).unwrap()
+}
+
+/// `|a − b|` within `k` combined standard deviations read off two 95% intervals.
+fn agree(a: &Interval, b: &Interval, k: f64) -> bool {
+    let sd = |i: &Interval| (i.high - i.low) / 2.0 / crate::study::Z95;
+    (a.value - b.value).abs() <= k * (sd(a).powi(2) + sd(b).powi(2)).sqrt()
+}
+
+#[test]
+fn splitting_budget_finds_the_binomial_tail_slope_at_low_p() {
+    // d = 5 and 7 under code capacity at p = 1e-3 (p_L ≈ 3e-9 and 4e-12: far out of reach of
+    // direct sampling). The exact d log p_L / d log s is the binomial tail's slope, near ⌈d/2⌉.
+    for (file, d) in [
+        ("circuits/repetition_d5.slant", 5),
+        ("circuits/repetition_d3.slant", 3),
+    ] {
+        let pipe = pipeline(file, &[("rounds", 1)], "capacity p=0.001");
+        let b = splitting_run(
+            &pipe,
+            &options(Grouping::default(), Removal::Auto, 0, 0),
+            None,
+            4,
+        );
+        assert_eq!(b.method, "splitting");
+        assert!(b.batches.unwrap() >= 8, "{:?}", b.batches);
+        let exact = exact_repetition(d, 0.001);
+        assert!((exact - d.div_ceil(2) as f64).abs() < 0.01, "{exact}");
+        let s = b.total;
+        // The 95% interval widened to 5 sigma (common practice for sampled checks); at this p
+        // nearly every failing configuration has exactly ⌈d/2⌉ flips, so it is narrow.
+        let half = ((s.high - s.low) / 2.0 * 5.0 / crate::study::Z95).max(0.02);
+        assert!(
+            (s.value - exact).abs() <= half,
+            "d = {d}: {s:?} vs exact {exact}"
+        );
+        // The rate itself against the binomial tail (capacity: X and Y flip each bit).
+        let q = (1.0 - (1.0 - 4.0 * 0.001 / 3.0f64).sqrt()) / 2.0;
+        let (tail_p, _) = tail(d, d.div_ceil(2), 2.0 * q * (1.0 - q));
+        // Within 4 stated standard deviations of ln p_L (as the ladder's own check does).
+        let sigma = b.splitting.as_ref().unwrap().target().uncertainty;
+        assert!(
+            (b.rate.rate / tail_p).ln().abs() < 4.0 * sigma,
+            "d = {d}: {:?} vs exact {tail_p}",
+            b.rate
+        );
+        // One source: everything is its, and without it nothing fails, which reweighting
+        // cannot carry (no sampled failure lacks it): not estimable, not a ratio of 0.
+        assert_eq!(b.sources.len(), 1);
+        let only = &b.sources[0];
+        assert!((only.share.unwrap().value - 1.0).abs() < 1e-12);
+        assert!((only.sensitivity.value - b.total.value).abs() < 1e-9);
+        assert_eq!(only.removed.method, RemovalMethod::NotEstimable);
+        assert!(only.removed.ratio.value.is_nan());
+    }
+}
+
+#[test]
+fn splitting_and_sampling_budgets_agree_where_both_work() {
+    // d = 3 surface code, 3 rounds, circuit noise p = 0.004: direct sampling sees thousands of
+    // failures; the ladder is forced to start 4x above so that the walks do the work.
+    let pipe = pipeline(
+        "circuits/surface_d3_hook_safe.slant",
+        &[],
+        "circuit p=0.004",
+    );
+    let opts = options(Grouping::default(), Removal::Reweight, 0, 0);
+    let direct = run(&pipe, &opts, 400_000, 9);
+    let split = splitting_run(&pipe, &opts, Some(4.0), 10);
+    assert!(split.splitting.as_ref().unwrap().points.len() >= 3);
+    assert!(direct.failures > 2000, "{}", direct.failures);
+    // The rates (independent estimates) overlap.
+    assert!(
+        split.rate.low <= direct.rate.high && direct.rate.low <= split.rate.high,
+        "splitting {:?} vs sampling {:?}",
+        split.rate,
+        direct.rate
+    );
+    assert!(
+        agree(&split.total, &direct.total, 4.0),
+        "{:?} vs {:?}",
+        split.total,
+        direct.total
+    );
+    for s in &split.sources {
+        let d = direct
+            .sources
+            .iter()
+            .find(|d| d.source == s.source)
+            .unwrap();
+        // 4 combined standard deviations: several sources are compared at once.
+        assert!(
+            agree(&s.sensitivity, &d.sensitivity, 4.0),
+            "{}: splitting {:?} vs sampling {:?}",
+            s.label,
+            s.sensitivity,
+            d.sensitivity
+        );
+        assert!(
+            agree(&s.improved.ratio, &d.improved.ratio, 4.0),
+            "{}: -10% splitting {:?} vs sampling {:?}",
+            s.label,
+            s.improved.ratio,
+            d.improved.ratio
+        );
+    }
+}
+
+#[test]
+fn splitting_budget_names_the_hadamard_converted_faults_at_low_p() {
+    // As `hadamard_schedule_puts_the_converted_faults_on_top`, at p = 2e-4 where direct
+    // sampling would need ~1e8 shots: the XZZX code with cx and Hadamards turns Z faults into X
+    // ("The XZZX surface code", Nat. Commun. 12, 2172 (2021)); the bias report names the
+    // Hadamards as the converters, and the budget puts their high-rate faults on top.
+    let noise = "circuit p=0.0002 bias=1000";
+    let cx = pipeline("circuits/xzzx_d3_cx.slant", &[], noise);
+    let native = pipeline("circuits/xzzx_d3_hook_safe.slant", &[], noise);
+    let bias_cx = crate::analysis::analyze_bias(cx.noisy(), cx.notes());
+    assert!(!bias_cx.kept());
+    assert!(bias_cx.converters.iter().all(|c| c.what == "h"));
+    assert!(crate::analysis::analyze_bias(native.noisy(), native.notes()).kept());
+
+    let b = splitting_run(
+        &cx,
+        &options(Grouping::default(), Removal::Auto, 0, 0),
+        None,
+        5,
+    );
+    // About 8 failures in the 100,000 shots of the sampling test: too few for a budget.
+    assert!(b.rate.rate < 1e-4, "{:?}", b.rate);
+    // The Z faults the Hadamards convert are high-rate faults of every section before an h
+    // (idle, the h gates themselves, cx): those three lead, the h gates among the first two.
+    // (At p = 0.002 the h gates lead; here idle is ahead of them within the intervals.)
+    let lead: Vec<_> = b.sources[..3]
+        .iter()
+        .map(|s| (s.source.section.as_deref().unwrap(), s.source.class))
+        .collect();
+    for want in ["idle", "gates.h", "gates.cx"] {
+        assert!(
+            lead.contains(&(want, Some(FaultClass::High))),
+            "{lead:?}: {}",
+            b.answer()
+        );
+    }
+    assert!(b.sources[..2]
+        .iter()
+        .any(|s| s.source.section.as_deref() == Some("gates.h")));
+    // The low p shows in the total: the fewest converted faults that fail, ⌈3/2⌉ = 2.
+    assert!((b.total.value - 2.0).abs() < 0.1, "{:?}", b.total);
+    let class = Grouping::parse("class").unwrap();
+    let high_share = |p: &Pipeline, seed| {
+        let b = splitting_run(p, &options(class, Removal::Auto, 0, 0), None, seed);
+        let s = b
+            .sources
+            .iter()
+            .find(|s| s.source.class == Some(FaultClass::High))
+            .unwrap();
+        (s.share.unwrap(), b.rate.rate)
+    };
+    let ((a, rate_cx), (n, rate_native)) = (high_share(&cx, 6), high_share(&native, 7));
+    assert!(a.low > 0.8, "cx schedule: high-rate share {a:?}");
+    // With the bias kept, the high-rate faults still matter at this p (measurement and reset
+    // flips are the only low-rate faults of note, five times fewer than the Z faults), but less
+    // than with the Hadamards, and the rate is several times lower (measured 87% vs 72% and
+    // 7.6e-5 vs 1.0e-5, seeds 6 and 7).
+    assert!(n.value < a.value, "native {n:?} vs cx {a:?}");
+    assert!(rate_cx > 3.0 * rate_native, "{rate_cx} vs {rate_native}");
+}
+
+#[test]
+fn batch_means_widen_the_interval_of_dependent_values() {
+    // 4 batches of 5 equal values: the batch means 0, 1, 2, 3 have mean 1.5 and standard error
+    // sqrt(var(0,1,2,3)/4) = sqrt((5/3)/4); Student's t with 3 degrees of freedom is 3.182.
+    let values: Vec<f64> = (0..20).map(|i| (i / 5) as f64).collect();
+    let batches = [0, 5, 10, 15, 20];
+    let i = Interval::of_mean(&values, &batches);
+    let half = 3.182 * (5.0f64 / 3.0 / 4.0).sqrt();
+    assert!((i.value - 1.5).abs() < 1e-12);
+    assert!((i.high - 1.5 - half).abs() < 1e-9, "{i:?}");
+    // The same values taken as independent give a much narrower interval.
+    let iid = Interval::of_mean(&values, &[]);
+    assert!(iid.high - iid.low < (i.high - i.low) / 2.0);
+}

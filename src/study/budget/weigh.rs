@@ -11,18 +11,46 @@
 //! - **scaled rate**: `p_L(s)/p_L(1) = E[LR(x) | F]` with
 //!   `LR(x) = Π_m (1 − p_m(s))/(1 − p_m) · Π_{m fired} odds(p_m(s))/odds(p_m)`.
 //!
-//! Both are means over the failing configurations; the intervals are the normal 95% intervals of
-//! those means (for direct sampling this is the delta method for the ratio `E[fail·score]/E[fail]`,
-//! whose variance is `E[(score − mean)² | F]/failures`). Configurations from a Markov chain
-//! would need their effective number instead. The likelihood ratio of a large
-//! change (`s = 0`, removing a source) can have a huge variance: the effective sample size
-//! `(Σ LR)²/Σ LR²` says how many configurations carry the estimate.
+//! # Derivation
+//! Source `S` scaled by `s` multiplies each of its elementary faults' probabilities, `q_i → s·q_i`
+//! for `i ∈ S`; an edge `m` is the `⊕` of its faults (some in `S`, some not), so
+//! `1 − 2p_m(s) = Π_{i→m, i∈S} (1 − 2s·q_i) · Π_{i→m, i∉S} (1 − 2q_i)`, and at `s = 1`
+//! `p'_m = Σ_{i→m, i∈S} q_i · Π_{j→m, j≠i} (1 − 2q_j)` ([`Sources::prior_derivative`]; an edge
+//! without a fault of `S` has `p'_m = 0`). Configurations have weight
+//! `π_s(x) = Π_m p_m(s)^{x_m} (1 − p_m(s))^{1−x_m}`, and with the decoder fixed the failure set `F`
+//! does not depend on `s`, so `p_L(s) = Σ_{x∈F} π_s(x)` and
+//!
+//! ```text
+//! d p_L/ds = Σ_{x∈F} π_s(x) · ∂_s ln π_s(x)
+//! d ln p_L / d ln s |_{s=1} = E_{π_1}[ ∂_s ln π_s(x) | F ]
+//! ∂_s ln π_s(x) = Σ_m [x_m p'_m/p_m − (1 − x_m) p'_m/(1 − p_m)] = Σ_m (x_m − p_m) p'_m / (p_m (1 − p_m))
+//! ```
+//!
+//! For an edge made of faults of `S` alone and small `q`, `p'_m ≈ p_m` and its term is
+//! `(x_m − p_m)/(1 − p_m)`: each fired edge of the source counts about 1, so at low rates the
+//! sensitivity tends to the mean number of the source's edges in the dominant failing
+//! configurations. Likewise `p_L(s)/p_L(1) = Σ_F π_s/Σ_F π_1 = E_{π_1}[π_s(x)/π_1(x) | F]`.
+//! Any sampler of `π_1` restricted to `F` serves: direct sampling (its failing shots) or the
+//! splitting method's walks at the target rung.
+//!
+//! # Intervals
+//! Both are means over the failing configurations. For independent configurations (direct
+//! sampling) the interval is the normal 95% interval of the mean (the delta method for the ratio
+//! `E[fail·score]/E[fail]`, whose variance is `E[(score − mean)² | F]/failures`). Configurations
+//! from Markov chains come in batches ([`Failures::batches`]): the interval is then the batch-means
+//! one, the spread of the `B` batch means with Student's t at `B − 1` degrees of freedom. The
+//! likelihood ratio of a large change (`s = 0`, removing a source) can have a huge variance: the
+//! effective sample size `(Σ LR)²/Σ LR²` says how many configurations carry the estimate (for
+//! dependent configurations it counts samples, an upper bound on independent ones). Removing
+//! `S` gives `LR = 0` to every configuration that fires an edge made of `S` alone; the estimate
+//! stays unbiased, but where every likely failure needs such an edge no sampled configuration
+//! carries it.
 
 use serde::Serialize;
 
 use crate::study::budget::sample::Failures;
 use crate::study::budget::sources::Sources;
-use crate::study::stats::Z95;
+use crate::study::stats::{student_t95, Z95};
 
 /// A value with its 95% interval.
 #[derive(Clone, Copy, Debug, PartialEq, Serialize)]
@@ -50,18 +78,39 @@ impl Interval {
         self.low <= other.high && other.low <= self.high
     }
 
-    /// The normal interval of a sample mean.
-    fn of_mean(values: impl Iterator<Item = f64> + Clone, n: usize) -> Interval {
+    /// The 95% interval of the mean of `values`: the normal one for independent values
+    /// (`batches` empty), else the batch-means one (`batches` as in [`Failures::batches`]).
+    pub(super) fn of_mean(values: &[f64], batches: &[usize]) -> Interval {
+        let n = values.len();
         if n == 0 {
             return Interval::exact(f64::NAN);
         }
-        let mean = values.clone().sum::<f64>() / n as f64;
-        let var = if n > 1 {
-            values.map(|v| (v - mean) * (v - mean)).sum::<f64>() / (n - 1) as f64
+        let mean = values.iter().sum::<f64>() / n as f64;
+        let half = if batches.len() < 2 {
+            let var = if n > 1 {
+                values.iter().map(|v| (v - mean) * (v - mean)).sum::<f64>() / (n - 1) as f64
+            } else {
+                0.0
+            };
+            Z95 * (var / n as f64).sqrt()
         } else {
-            0.0
+            // Batches of unequal length: the variance of a ratio of batch sums,
+            // Σ n_j²(m_j − mean)² / n² · B/(B − 1), which is s²_m/B for equal lengths.
+            let b = batches.len() - 1;
+            let sum: f64 = batches
+                .windows(2)
+                .map(|w| {
+                    let dev: f64 = values[w[0]..w[1]].iter().map(|v| v - mean).sum();
+                    dev * dev
+                })
+                .sum();
+            let var = if b > 1 {
+                sum / (n as f64 * n as f64) * b as f64 / (b - 1) as f64
+            } else {
+                f64::INFINITY
+            };
+            student_t95(b.saturating_sub(1)) * var.sqrt()
         };
-        let half = Z95 * (var / n as f64).sqrt();
         Interval {
             value: mean,
             low: mean - half,
@@ -127,12 +176,11 @@ pub fn weigh(
             };
         }
     }
-    let n = failures.len();
     let scores: Vec<f64> = failures
         .configurations()
         .map(|c| c.iter().map(|&m| gain[m as usize]).sum::<f64>() - score_const)
         .collect();
-    let sensitivity = Interval::of_mean(scores.iter().copied(), n);
+    let sensitivity = Interval::of_mean(&scores, &failures.batches);
     let ratios = scales
         .iter()
         .enumerate()
@@ -143,7 +191,7 @@ pub fn weigh(
                     (log_const[j] + c.iter().map(|&m| log_odds[j][m as usize]).sum::<f64>()).exp()
                 })
                 .collect();
-            let mut ratio = Interval::of_mean(w.iter().copied(), n);
+            let mut ratio = Interval::of_mean(&w, &failures.batches);
             ratio.low = ratio.low.max(0.0);
             let (s1, s2) = w.iter().fold((0.0, 0.0), |(a, b), &x| (a + x, b + x * x));
             Ratio {

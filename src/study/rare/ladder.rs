@@ -8,7 +8,10 @@ use rayon::prelude::*;
 
 use super::ratio::{bennett, integrated_time, ln_ratio_at, mean_and_variance_of_mean};
 use super::walk::{Odds, Symptoms, Walk};
-use super::{LadderPoint, Mixing, Splitting, SplittingEvent, SplittingOptions, Start, TopSampling};
+use super::{
+    LadderPoint, Mixing, Splitting, SplittingEvent, SplittingOptions, Start, TargetSamples,
+    TopSampling,
+};
 use crate::decode::Decoder;
 use crate::study::pipeline::StudyError;
 use crate::study::stats::Z95;
@@ -173,6 +176,25 @@ impl Recorded {
             })
             .collect()
     }
+}
+
+/// The configurations the walks recorded at the last rung, each sorted, walk by walk.
+fn target_samples(recs: &[Recorded]) -> TargetSamples {
+    let mut out = TargetSamples {
+        edges: Vec::new(),
+        starts: vec![0],
+        walks: vec![0],
+    };
+    for r in recs {
+        for w in r.start.windows(2) {
+            let at = out.edges.len();
+            out.edges.extend_from_slice(&r.edges[w[0]..w[1]]);
+            out.edges[at..].sort_unstable();
+            out.starts.push(out.edges.len());
+        }
+        out.walks.push(out.starts.len() - 1);
+    }
+    out
 }
 
 /// Runs every walk at one rung from its current state, after `burn` proposals of burn-in.
@@ -437,6 +459,7 @@ pub(super) fn run(
         proposals,
         start,
         warnings,
+        samples: None,
     };
     if top <= 1.0 {
         out.points.push(point(pr, 1.0, rate0.ln(), var0));
@@ -531,6 +554,7 @@ pub(super) fn run(
         expected: out.points.len(),
         scale: 1.0,
     });
+    out.samples = Some(target_samples(&recs));
     Ok(out)
 }
 

@@ -81,7 +81,7 @@ mod walk;
 #[cfg(test)]
 mod tests;
 
-use crate::decode::DecoderKind;
+use crate::decode::{Decoder, DecoderKind};
 use crate::study::pipeline::{Pipeline, StudyError};
 
 pub use ladder::{fit_exponent, ExponentFit};
@@ -230,6 +230,23 @@ pub struct Splitting {
     pub start: Start,
     /// Things the caller should tell the user (e.g. why a `shortest` start fell back).
     pub warnings: Vec<String>,
+    /// The configurations the walks recorded at the target (`None` when the target is the top,
+    /// sampled directly).
+    pub samples: Option<TargetSamples>,
+}
+
+/// The configurations the walks recorded at the target noise, after their burn-in: draws from
+/// `π_1` restricted to the decoder's failures, dependent along each walk (the error budget
+/// reweights them).
+#[derive(Clone, Debug, Default, PartialEq)]
+pub struct TargetSamples {
+    /// Fired edges of every sample (each sample sorted), concatenated.
+    pub edges: Vec<u32>,
+    /// Where each sample starts in `edges` (one more entry than samples).
+    pub starts: Vec<usize>,
+    /// Where each walk's samples start among the samples, in the order the walk recorded them
+    /// (one more entry than walks).
+    pub walks: Vec<usize>,
 }
 
 impl Splitting {
@@ -262,6 +279,42 @@ pub enum SplittingEvent {
         /// Its scale.
         scale: f64,
     },
+}
+
+/// Runs the splitting method on independent edges given directly: edge `m` flips
+/// `detectors[m]` and `observables[m]` and fires with `priors[m]` at the target; the ladder
+/// scales every prior by the same factor (as for a model file), and `decoder` is used at every
+/// rung. The error budget runs it on the priors of its own fault graph.
+pub fn splitting_on_edges(
+    detectors: &[Vec<u32>],
+    observables: &[Vec<u32>],
+    priors: &[f64],
+    decoder: &dyn Decoder,
+    opts: &SplittingOptions,
+    progress: impl FnMut(SplittingEvent),
+) -> Result<Splitting, StudyError> {
+    let count = |lists: &[Vec<u32>]| lists.iter().flatten().max().map_or(0, |&m| m as usize + 1);
+    let lists: Vec<(Vec<u32>, Vec<u32>)> = detectors
+        .iter()
+        .cloned()
+        .zip(observables.iter().cloned())
+        .collect();
+    let sym = walk::Symptoms::from_lists(count(detectors), count(observables), &lists);
+    let max = priors.iter().copied().fold(0.0, f64::max);
+    let scaled = |s: f64| Ok(priors.iter().map(|&p| (p * s).min(0.5)).collect());
+    ladder::run(
+        &ladder::Problem {
+            sym: &sym,
+            decoder,
+            priors: &scaled,
+            valid: &|s| max * s < 0.5,
+            preset_p: None,
+            // Edges given by the caller have no distance search behind them.
+            shortest: &[],
+        },
+        opts,
+        progress,
+    )
 }
 
 /// Runs the splitting method on `pipeline`'s fault graph with a decoder of `kind` (see the

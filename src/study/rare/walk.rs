@@ -55,8 +55,8 @@ impl Symptoms {
         s
     }
 
-    /// Symptoms given as `(detectors, observables)` per edge, for tests on hand-made graphs.
-    #[cfg(test)]
+    /// Symptoms given as `(detectors, observables)` per edge (hand-made graphs, and graphs whose
+    /// edges a caller already holds as lists).
     pub fn from_lists(
         num_detectors: usize,
         num_observables: usize,

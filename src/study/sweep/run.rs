@@ -263,6 +263,7 @@ fn run_splitting(
         top_failures: task.until_failures.unwrap_or(DEFAULT_TOP_FAILURES),
         max_shots: task.shots,
         seed: crate::study::sweep::spec::chunk_seed(&task.key, 0),
+        ..SplittingOptions::default()
     };
     let result = splitting(&pipeline, task.decoder, &opts, |e| {
         on_event(Event::Rung(task, e))
