@@ -45,6 +45,9 @@ const NEVER: i64 = i64::MAX;
 #[derive(Debug)]
 pub struct UnionFind {
     g: SparseGraph,
+    /// For each adjacency entry (node `v`, position `i`, neighbour `u`): the position of `v`
+    /// in `u`'s adjacency, so that an edge found from one end can be named from the other.
+    rev: Vec<u16>,
     pool: Pool<Scratch>,
 }
 
@@ -52,8 +55,19 @@ impl UnionFind {
     /// Builds the decoder for `graph`.
     pub fn new(graph: &MatchingGraph) -> Result<UnionFind, BuildError> {
         let prepared = Prepared::new(graph)?;
+        let g = SparseGraph::new(prepared, graph.num_observables, RESOLUTION_BITS);
+        let mut rev = vec![0u16; g.adj.len()];
+        for v in 0..=g.n() as u32 {
+            let start = g.adj_start[v as usize] as usize;
+            for (i, a) in g.neighbours(v).iter().enumerate() {
+                // Parallel edges are merged, so `v` appears once among `u`'s neighbours.
+                let j = g.neighbours(a.node).iter().position(|b| b.node == v);
+                rev[start + i] = j.unwrap_or(0) as u16;
+            }
+        }
         Ok(UnionFind {
-            g: SparseGraph::new(prepared, graph.num_observables, RESOLUTION_BITS),
+            g,
+            rev,
             pool: Pool::new(),
         })
     }
@@ -68,7 +82,7 @@ impl Decoder for UnionFind {
                 let mut list = std::mem::take(&mut s.events);
                 let bad = self.g.prepared.normalize_into(events, &mut list)
                     + self.g.drop_unpairable(&mut list, &mut s.component_count);
-                s.grow(&self.g, &list);
+                s.grow(&self.g, &self.rev, &list);
                 let mut d = s.peel(&self.g);
                 s.events = list;
                 d.unmatched += bad;
@@ -203,7 +217,7 @@ impl Scratch {
     }
 
     /// Grows clusters from `events` (sorted, distinct, in range) until none is active.
-    fn grow(&mut self, g: &SparseGraph, events: &[u32]) {
+    fn grow(&mut self, g: &SparseGraph, rev: &[u16], events: &[u32]) {
         for &e in events {
             if self.live == self.clusters.len() {
                 self.clusters.push(Cluster::default());
@@ -224,7 +238,7 @@ impl Scratch {
         }
         while let Some((time, v)) = self.queue.pop() {
             self.t = time as i64;
-            self.node_event(g, v);
+            self.node_event(g, rev, v);
         }
     }
 
@@ -278,13 +292,31 @@ impl Scratch {
         interior
     }
 
-    /// Looks at the neighbours of `v` in other active clusters.
-    fn wake_around(&mut self, g: &SparseGraph, v: u32) {
+    /// After `v`'s cluster became active at `v` (a node joined, or the cluster woke up): the
+    /// edges from `v` to other active clusters now grow from both ends, so each such
+    /// neighbour's pending event is moved earlier when that edge now completes first. Only
+    /// that one edge changed, so no scan of the neighbour's other edges is needed; an event
+    /// that turns out early later (a cluster stops) just rescans when popped.
+    fn wake_around(&mut self, g: &SparseGraph, rev: &[u16], v: u32) {
+        let t = self.t;
         let c = self.cluster[v as usize];
-        for a in g.neighbours(v) {
-            let cu = self.cluster[a.node as usize];
-            if cu != NONE && cu != c && self.slope(cu) > 0 {
-                self.look_at(g, a.node);
+        debug_assert!(self.slope(c) > 0);
+        let rv = self.node[v as usize].wrapped + self.radius(c);
+        let start = g.adj_start[v as usize] as usize;
+        for (i, a) in g.neighbours(v).iter().enumerate() {
+            let x = a.node;
+            let cx = self.cluster[x as usize];
+            if cx == NONE || cx == c || self.slope(cx) <= 0 {
+                continue;
+            }
+            let gap = a.len() - rv - (self.node[x as usize].wrapped + self.radius(cx));
+            debug_assert!(gap >= 0 && gap % 2 == 0);
+            let when = t + (gap >> 1);
+            let s = &mut self.node[x as usize];
+            if when < s.next {
+                s.next = when;
+                s.hint = rev[start + i];
+                self.queue.push(when as u64, x);
             }
         }
     }
@@ -292,7 +324,7 @@ impl Scratch {
     /// Handles a popped event of `v`: in one pass over its edges, takes every empty neighbour
     /// due now and finds the next completion; then acts on the first other edge due now.
     /// (Shortcut first: the edge that set the event, when it is a contact still due.)
-    fn node_event(&mut self, g: &SparseGraph, v: u32) {
+    fn node_event(&mut self, g: &SparseGraph, rev: &[u16], v: u32) {
         let t = self.t;
         if self.node[v as usize].next != t {
             return;
@@ -313,7 +345,7 @@ impl Scratch {
                 && a.len() == rv + self.node[a.node as usize].wrapped + self.radius(cu)
             {
                 self.record(g, v, h);
-                self.merge(g, c, cu);
+                self.merge(g, rev, c, cu);
                 self.look_at(g, v);
                 return;
             }
@@ -327,7 +359,7 @@ impl Scratch {
             }
             let when = if cu == NONE {
                 if a.len() == rv && a.node != boundary {
-                    self.claim(g, v, i);
+                    self.claim(g, rev, v, i);
                     continue;
                 }
                 t + a.len() - rv
@@ -355,7 +387,7 @@ impl Scratch {
             self.clusters[c as usize].boundary = true;
             self.set_slope(c, 0);
         } else {
-            self.merge(g, c, self.cluster[u as usize]);
+            self.merge(g, rev, c, self.cluster[u as usize]);
         }
         self.look_at(g, v);
     }
@@ -369,7 +401,7 @@ impl Scratch {
     }
 
     /// The cluster of `v` reaches the empty node at entry `i` of `v`'s adjacency.
-    fn claim(&mut self, g: &SparseGraph, v: u32, i: usize) {
+    fn claim(&mut self, g: &SparseGraph, rev: &[u16], v: u32, i: usize) {
         let a = g.neighbours(v)[i];
         let u = a.node;
         let c = self.cluster[v as usize];
@@ -384,11 +416,11 @@ impl Scratch {
         self.record(g, v, i);
         self.touched.push(u);
         self.look_at(g, u);
-        self.wake_around(g, u);
+        self.wake_around(g, rev, u);
     }
 
     /// Merges clusters `a != b` (one of them active) after an edge between them completed.
-    fn merge(&mut self, g: &SparseGraph, a: u32, b: u32) {
+    fn merge(&mut self, g: &SparseGraph, rev: &[u16], a: u32, b: u32) {
         let (ca, cb) = (&self.clusters[a as usize], &self.clusters[b as usize]);
         let odd = ca.odd ^ cb.odd;
         let boundary = ca.boundary | cb.boundary;
@@ -434,7 +466,7 @@ impl Scratch {
             };
             woken.retain(|&v| !self.look_at(g, v));
             for &v in &woken {
-                self.wake_around(g, v);
+                self.wake_around(g, rev, v);
             }
             if waking == small {
                 moved = woken;
