@@ -285,6 +285,7 @@ impl Expander {
                 if let Some(slot) = self.vars.last_mut() {
                     slot.1 = v;
                 }
+                self.evaluated += 1;
                 match self.estimate(body, in_layer, false) {
                     Ok(t) => total = total.plus(t).plus(Tally::STEP),
                     Err(d) => break Err(d),
@@ -348,6 +349,7 @@ impl Expander {
                     // t < trips, so the value lies below the loop's end and fits.
                     slot.1 = a + s * t as i64;
                 }
+                self.evaluated += 1;
                 period = period.plus(self.estimate(body, in_layer, false)?.plus(Tally::STEP));
             }
             if rest == len {

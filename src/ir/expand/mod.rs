@@ -189,6 +189,9 @@ struct Expander {
     /// reported again as undefined.
     refused: HashSet<String>,
     depth_loop: usize,
+    /// Loop iterations the up-front count evaluated one at a time (walked, or sampled in a
+    /// stretch): what its time grows with.
+    evaluated: u64,
 }
 
 type R<T> = Result<T, Diagnostic>;
@@ -229,6 +232,7 @@ impl Expander {
             pending: Vec::new(),
             refused: HashSet::new(),
             depth_loop: 0,
+            evaluated: 0,
         }
     }
 
