@@ -786,3 +786,59 @@ fn union_find_corrects_every_single_fault_at_distance_3() {
     assert_eq!(wrong_uf, wrong_mwpm, "of {} faults", faults.edges.len());
     assert!(wrong_mwpm.len() <= 1, "mwpm wrong on {wrong_mwpm:?}");
 }
+
+#[test]
+fn the_exponent_splits_by_class_as_the_class_distances_say() {
+    // Under strong bias, p_L at low rates goes as p_high^⌈d_high/2⌉ times the low-rate faults
+    // the cheapest failures need (none when the shortest logical error has no low-rate edge):
+    // the XZZX code's scaling under biased noise (Bonilla Ataides, Tuckett, Bartlett,
+    // Flammia, Brown, "The XZZX surface code", Nat. Commun. 12, 2172 (2021); the per-class
+    // exponent as a derivative is common practice). The splitting budget grouped by class
+    // measures d ln p_L / d ln s for each class at the target, which is that class's local
+    // exponent; `distance` gives the class distances it must match.
+    let circuit = "circuits/xzzx_d3_cx.slant";
+    let noise = "circuit p=0.0002 bias=1000";
+    let dist: serde_json::Value = serde_json::from_slice(&crate::support::stdout_of(
+        slant().args(["distance", circuit, "--noise", noise, "--json"]),
+    ))
+    .unwrap();
+    let d_high = dist["high_rate_distance"]["value"].as_u64().unwrap();
+    let low_in_shortest = dist["lexicographic"]["low"].as_u64().unwrap();
+    assert_eq!((d_high, low_in_shortest), (3, 0));
+    let budget: serde_json::Value =
+        serde_json::from_slice(&crate::support::stdout_of(slant().args([
+            "budget",
+            circuit,
+            "--noise",
+            noise,
+            "--by",
+            "class",
+            "--method",
+            "splitting",
+            "--json",
+        ])))
+        .unwrap();
+    let class = |key: &str| {
+        budget["sources"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|s| s["key"] == key)
+            .unwrap_or_else(|| panic!("no source {key}: {budget}"))["sensitivity"]
+            .clone()
+    };
+    let (high, low) = (class("high"), class("low"));
+    let f = |v: &serde_json::Value, k: &str| v[k].as_f64().unwrap();
+    let expected = d_high.div_ceil(2) as f64;
+    assert!(
+        f(&high, "low") <= expected && expected <= f(&high, "high"),
+        "high-rate exponent {high} against {expected}"
+    );
+    // At a finite rate, failures that trade high-rate faults for a low-rate one add a small
+    // positive low-rate exponent (it vanishes as p -> 0); it must stay far below the
+    // high-rate one and its interval must reach down to about zero.
+    assert!(
+        f(&low, "low") < 0.1 && f(&low, "value") < 0.25 * f(&high, "value"),
+        "low-rate exponent {low} against high-rate {high}"
+    );
+}

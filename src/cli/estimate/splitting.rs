@@ -307,7 +307,12 @@ fn scaling_line(fit: Option<&ExponentFit>, distance: Option<&Distance>) -> Strin
         None => s += "; no logical error found by the distance search",
     }
     if let Some(h) = distance.and_then(|d| d.high_rate) {
-        s += &format!("; high-rate distance {h}");
+        // Under bias the exponent splits by class; the budget measures each class's share.
+        s += &format!(
+            "; high-rate distance {h}, ceil/2 = {} (each class's exponent: `slant budget \
+             --by class --method splitting`)",
+            h.div_ceil(2)
+        );
     }
     s + "\n"
 }
