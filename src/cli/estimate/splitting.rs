@@ -1,7 +1,6 @@
 //! `slant estimate --method splitting`: the ladder of [`crate::study::splitting`], its report
 //! and the scaling check against the circuit distance.
 
-use crate::analysis::{distances, DistanceOptions};
 use crate::base::{count, Diagnostic, Severity};
 use crate::cli::common::{circuit_line, print_json, print_warnings};
 use crate::cli::estimate::{Args, MODEL_NOTE};
@@ -134,7 +133,10 @@ pub(super) fn run(args: &Args, pipeline: &Pipeline) -> Result<(), CliError> {
     let rounds = pipeline.noisy().rounds.max(1);
     let graph = pipeline.graph(&ExtractOptions::default());
     let (matching, stats) = graph.matching_graph();
-    let report = distances(&graph, &DistanceOptions::default()).map_err(CliError::Internal)?;
+    // `splitting` always runs the distance search on the target graph.
+    let report = result.distance.as_ref().ok_or_else(|| {
+        CliError::Internal("the splitting run returned no distance search".into())
+    })?;
     let distance = report.distance.as_ref().map(|d| Distance {
         value: d.value,
         lower: d.lower,

@@ -460,6 +460,7 @@ pub(super) fn run(
         start,
         warnings,
         samples: None,
+        distance: None,
     };
     if top <= 1.0 {
         out.points.push(point(pr, 1.0, rate0.ln(), var0));

@@ -81,6 +81,7 @@ mod walk;
 #[cfg(test)]
 mod tests;
 
+use crate::analysis::{DistanceOptions, DistanceReport};
 use crate::decode::{Decoder, DecoderKind};
 use crate::study::pipeline::{Pipeline, StudyError};
 
@@ -233,6 +234,10 @@ pub struct Splitting {
     /// The configurations the walks recorded at the target (`None` when the target is the top,
     /// sampled directly).
     pub samples: Option<TargetSamples>,
+    /// The distance search on the target's fault graph, which the exponent is compared with
+    /// and `Start::Shortest` starts from (`None` from [`splitting_on_edges`], which has no
+    /// circuit behind its edges).
+    pub distance: Option<DistanceReport>,
 }
 
 /// The configurations the walks recorded at the target noise, after their burn-in: draws from
@@ -330,11 +335,13 @@ pub fn splitting(
     let decoder = kind.build(&matching)?;
     let sym = walk::Symptoms::of(&family.graph);
     let preset_p = family.preset_p();
+    let report = crate::analysis::distances(&family.graph, &DistanceOptions::default())
+        .map_err(|e| StudyError::from(crate::base::Diagnostic::bare(e)))?;
     let shortest = match opts.start {
         Start::Sampling => Vec::new(),
-        Start::Shortest => shortest_errors(&family.graph)?,
+        Start::Shortest => shortest_errors(&report),
     };
-    ladder::run(
+    let mut result = ladder::run(
         &ladder::Problem {
             sym: &sym,
             decoder: decoder.as_ref(),
@@ -345,25 +352,25 @@ pub fn splitting(
         },
         opts,
         progress,
-    )
+    )?;
+    result.distance = Some(report);
+    Ok(result)
 }
 
 /// The distinct logical errors the distance search reports (fewest edges, fewest high-rate
 /// edges, fewest low-rate edges, most likely), as edge lists of `graph`.
-fn shortest_errors(graph: &crate::faults::FaultGraph) -> Result<Vec<Vec<u32>>, StudyError> {
-    let report = crate::analysis::distances(graph, &crate::analysis::DistanceOptions::default())
-        .map_err(|e| StudyError::from(crate::base::Diagnostic::bare(e)))?;
+fn shortest_errors(report: &DistanceReport) -> Vec<Vec<u32>> {
     let mut out: Vec<Vec<u32>> = Vec::new();
     let errors = [
-        report.distance.map(|c| c.error),
-        report.high_rate.map(|c| c.error),
-        report.lexicographic.map(|c| c.error),
-        report.weighted.map(|c| c.error),
+        report.distance.as_ref().map(|c| &c.error),
+        report.high_rate.as_ref().map(|c| &c.error),
+        report.lexicographic.as_ref().map(|c| &c.error),
+        report.weighted.as_ref().map(|c| &c.error),
     ];
     for e in errors.into_iter().flatten() {
         if !out.contains(&e.edges) {
-            out.push(e.edges);
+            out.push(e.edges.clone());
         }
     }
-    Ok(out)
+    out
 }

@@ -6,9 +6,7 @@ use std::collections::{BTreeMap, HashMap};
 
 use rayon::prelude::*;
 
-use crate::analysis::{distances, DistanceOptions};
 use crate::base::{Diagnostic, Source};
-use crate::faults::ExtractOptions;
 use crate::ir::Limits;
 use crate::study::montecarlo::{Experiment, RunOptions};
 use crate::study::pipeline::Pipeline;
@@ -270,13 +268,13 @@ fn run_splitting(
     })
     .map_err(|e| study_error(task, e))?;
     let rounds = pipeline.noisy().rounds.max(1);
-    let graph = pipeline.graph(&ExtractOptions::default());
-    let report = distances(&graph, &DistanceOptions::default())
-        .map_err(|e| Diagnostic::bare(format!("task `{}`: distance search: {e}", task.key)))?;
-    let circuit_distance = report.distance.as_ref().map(|d| DistanceRow {
-        value: d.value,
-        lower: d.lower,
-        high_rate: report.high_rate.as_ref().map(|h| h.value),
+    // `splitting` ran the distance search on the graph it walked.
+    let circuit_distance = result.distance.as_ref().and_then(|report| {
+        report.distance.as_ref().map(|d| DistanceRow {
+            value: d.value,
+            lower: d.lower,
+            high_rate: report.high_rate.as_ref().map(|h| h.value),
+        })
     });
     let expected_exponent = circuit_distance
         .filter(|d| d.value == d.lower)
