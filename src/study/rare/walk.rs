@@ -163,32 +163,9 @@ impl<'a> Walk<'a> {
 
     /// Fires edge `m` if it is off, and turns it off if it fired.
     pub fn toggle(&mut self, m: usize) {
-        let at = self.fired_pos[m];
-        if at == ABSENT {
-            self.fired_pos[m] = self.fired.len() as u32;
-            self.fired.push(m as u32);
-        } else {
-            let last = self.fired.pop().unwrap_or(m as u32);
-            if last as usize != m {
-                self.fired[at as usize] = last;
-                self.fired_pos[last as usize] = at;
-            }
-            self.fired_pos[m] = ABSENT;
-        }
+        flip_member(&mut self.fired, &mut self.fired_pos, m);
         for &d in self.sym.detectors(m) {
-            let d = d as usize;
-            let at = self.event_pos[d];
-            if at == ABSENT {
-                self.event_pos[d] = self.events.len() as u32;
-                self.events.push(d as u32);
-            } else {
-                let last = self.events.pop().unwrap_or(d as u32);
-                if last as usize != d {
-                    self.events[at as usize] = last;
-                    self.event_pos[last as usize] = at;
-                }
-                self.event_pos[d] = ABSENT;
-            }
+            flip_member(&mut self.events, &mut self.event_pos, d as usize);
         }
         for &o in self.sym.observables(m) {
             self.flips[o as usize] ^= true;
@@ -278,6 +255,23 @@ impl<'a> Walk<'a> {
             self.toggle(m);
             false
         }
+    }
+}
+
+/// Adds `x` to the set `items` if it is absent and removes it if present, in O(1): `pos[x]` is
+/// its index in `items` or `ABSENT`, and a removal moves the last item into the hole.
+fn flip_member(items: &mut Vec<u32>, pos: &mut [u32], x: usize) {
+    let at = pos[x];
+    if at == ABSENT {
+        pos[x] = items.len() as u32;
+        items.push(x as u32);
+    } else {
+        let last = items.pop().unwrap_or(x as u32);
+        if last as usize != x {
+            items[at as usize] = last;
+            pos[last as usize] = at;
+        }
+        pos[x] = ABSENT;
     }
 }
 
