@@ -3,7 +3,7 @@
 //! expanding (see the module docs of the expander for the rules).
 
 use crate::base::{Diagnostic, Span};
-use crate::ir::expand::shape::{visit, Shape};
+use crate::ir::expand::shape::{each_node, visit, Shape};
 use crate::ir::expand::{Expander, Tally, R};
 use crate::lang::{Expr, ExprKind, Index, NoiseTargets, Ref, Stmt, StmtKind};
 
@@ -446,19 +446,7 @@ const NODES_PER_STEP: u64 = 4;
 /// Number of nodes of an expression.
 pub(super) fn expr_nodes(e: &Expr) -> u64 {
     let mut n = 0;
-    // On the stack: this runs for every statement of every loop iteration the estimate walks.
-    let mut stack: smallvec::SmallVec<[&Expr; 32]> = smallvec::smallvec![e];
-    while let Some(e) = stack.pop() {
-        n += 1;
-        match &e.kind {
-            ExprKind::Var(_) | ExprKind::Int(_) | ExprKind::Float(_) => {}
-            ExprKind::Neg(a) | ExprKind::Not(a) => stack.push(a),
-            ExprKind::Binary(_, a, b) => {
-                stack.push(a);
-                stack.push(b);
-            }
-        }
-    }
+    each_node(e, |_| n += 1);
     n
 }
 
@@ -475,22 +463,12 @@ pub(super) fn counts_depend_on(stmts: &[Stmt], name: &str) -> bool {
 /// is built, not how much.
 pub(super) fn count_vars(stmts: &[Stmt], bound: &mut Vec<String>, free: &mut Vec<String>) {
     visit(stmts, bound, &mut |e, _, bound| {
-        // An explicit stack: expressions may be a thousand operators long.
-        let mut stack = vec![e];
-        while let Some(e) = stack.pop() {
-            match &e.kind {
-                ExprKind::Var(v) => {
-                    if !bound.contains(v) && !free.contains(v) {
-                        free.push(v.clone());
-                    }
-                }
-                ExprKind::Int(_) | ExprKind::Float(_) => {}
-                ExprKind::Neg(a) | ExprKind::Not(a) => stack.push(a),
-                ExprKind::Binary(_, a, b) => {
-                    stack.push(a);
-                    stack.push(b);
+        each_node(e, |x| {
+            if let ExprKind::Var(v) = &x.kind {
+                if !bound.contains(v) && !free.contains(v) {
+                    free.push(v.clone());
                 }
             }
-        }
+        })
     });
 }

@@ -285,10 +285,21 @@ impl Expander {
 
 /// Whether `e` reads the name `name`.
 fn mentions(e: &Expr, name: &str) -> bool {
-    let mut stack = vec![e];
+    let mut found = false;
+    each_node(e, |x| {
+        found |= matches!(&x.kind, ExprKind::Var(v) if v == name)
+    });
+    found
+}
+
+/// Calls `f` on every node of `e`. An explicit stack, not recursion: expressions may be a
+/// thousand operators long, and this runs for every statement of every loop iteration the
+/// up-front count walks.
+pub(super) fn each_node<'a>(e: &'a Expr, mut f: impl FnMut(&'a Expr)) {
+    let mut stack: smallvec::SmallVec<[&Expr; 32]> = smallvec::smallvec![e];
     while let Some(e) = stack.pop() {
+        f(e);
         match &e.kind {
-            ExprKind::Var(v) if v == name => return true,
             ExprKind::Var(_) | ExprKind::Int(_) | ExprKind::Float(_) => {}
             ExprKind::Neg(a) | ExprKind::Not(a) => stack.push(a),
             ExprKind::Binary(_, a, b) => {
@@ -297,7 +308,6 @@ fn mentions(e: &Expr, name: &str) -> bool {
             }
         }
     }
-    false
 }
 
 /// Calls `f(expr, is_condition, bound)` on every expression that what `stmts` count can depend
