@@ -4,7 +4,7 @@
 use std::path::PathBuf;
 
 use crate::base::{count, write_atomic, Diagnostic};
-use crate::cli::common::{CircuitArgs, NoiseArgs};
+use crate::cli::common::{CircuitArgs, NoiseArgs, WalkArgs};
 use crate::cli::progress::Progress;
 use crate::cli::CliError;
 use crate::decode::DecoderKind;
@@ -69,13 +69,9 @@ pub struct Args {
     /// graph) or `splitting` (the splitting method's walks at the target, for low rates).
     #[arg(long, value_name = "M", default_value = "sampling", value_parser = ["sampling", "splitting"])]
     pub method: String,
-    /// With `--method splitting`: independent walks per rung (at least 2).
-    #[arg(long, value_name = "K", default_value_t = 8, value_parser = clap::value_parser!(u64).range(2..))]
-    pub chains: u64,
-    /// With `--method splitting`: proposals per walk and rung, as a multiple of the number of
-    /// fault-graph edges.
-    #[arg(long, value_name = "N", default_value_t = 100.0)]
-    pub sweeps: f64,
+    /// The splitting method's walks.
+    #[command(flatten)]
+    pub walks: WalkArgs,
     /// With `--method splitting`: the top of the ladder as a multiple of the noise (default:
     /// chosen by pilot runs; `slant estimate` calls it `--top`).
     #[arg(long, value_name = "S")]
@@ -130,10 +126,10 @@ pub fn run(args: Args) -> Result<(), CliError> {
         return Err(Diagnostic::bare("`--min-effective` must be a non-negative number").into());
     }
     let splitting = args.method == "splitting";
-    if splitting && !(args.sweeps > 0.0 && args.sweeps.is_finite()) {
+    if splitting && !(args.walks.sweeps > 0.0 && args.walks.sweeps.is_finite()) {
         return Err(CliError::Usage(Diagnostic::bare(format!(
             "`--sweeps {}` must be a positive number",
-            args.sweeps
+            args.walks.sweeps
         ))));
     }
     let shots = args.shots.unwrap_or(DEFAULT_SHOTS);
@@ -144,8 +140,8 @@ pub fn run(args: Args) -> Result<(), CliError> {
     };
     let ladder = SplittingSampling {
         opts: SplittingOptions {
-            chains: args.chains as usize,
-            sweeps: args.sweeps,
+            chains: args.walks.chains as usize,
+            sweeps: args.walks.sweeps,
             top: args.ladder_top,
             top_failures: args.until_failures.unwrap_or(1000),
             max_shots: args.shots.unwrap_or(SplittingOptions::default().max_shots),

@@ -53,6 +53,18 @@ pub struct NoiseArgs {
     pub noise: Option<String>,
 }
 
+/// The walks of the splitting method, shared by `estimate` and `budget`.
+#[derive(Debug, clap::Args)]
+pub struct WalkArgs {
+    /// With `--method splitting`: independent walks per rung (at least 2).
+    #[arg(long, value_name = "K", default_value_t = 8, value_parser = clap::value_parser!(u64).range(2..))]
+    pub chains: u64,
+    /// With `--method splitting`: proposals per walk and rung, as a multiple of the number of
+    /// fault-graph edges.
+    #[arg(long, value_name = "N", default_value_t = 100.0)]
+    pub sweeps: f64,
+}
+
 /// Prints a report as pretty JSON on standard output.
 pub fn print_json<T: serde::Serialize>(report: &T) -> Result<(), crate::cli::CliError> {
     let text = serde_json::to_string_pretty(report)

@@ -11,7 +11,7 @@
 mod splitting;
 
 use crate::base::{count, Diagnostic};
-use crate::cli::common::{circuit_line, print_json, CircuitArgs, NoiseArgs};
+use crate::cli::common::{circuit_line, print_json, CircuitArgs, NoiseArgs, WalkArgs};
 use crate::cli::progress::Progress;
 use crate::cli::CliError;
 use crate::decode::DecoderKind;
@@ -59,13 +59,9 @@ pub struct Args {
     /// Metropolis walks over failing fault configurations, for rates far below sampling).
     #[arg(long, value_name = "M", default_value = "sampling", value_parser = ["sampling", "splitting"])]
     pub method: String,
-    /// With `--method splitting`: independent walks per rung (at least 2).
-    #[arg(long, value_name = "K", default_value_t = 8, value_parser = clap::value_parser!(u64).range(2..))]
-    pub chains: u64,
-    /// With `--method splitting`: proposals per walk and rung, as a multiple of the number of
-    /// fault-graph edges.
-    #[arg(long, value_name = "N", default_value_t = 100.0)]
-    pub sweeps: f64,
+    /// The splitting method's walks.
+    #[command(flatten)]
+    pub walks: WalkArgs,
     /// With `--method splitting`: the top of the ladder as a multiple of the noise (default:
     /// chosen by pilot runs).
     #[arg(long, value_name = "S")]

@@ -82,8 +82,8 @@ fn per_round_of(p: &LadderPoint, rounds: u32) -> Estimate {
 /// Runs the splitting method and prints its report.
 pub(super) fn run(args: &Args, pipeline: &Pipeline) -> Result<(), CliError> {
     let opts = SplittingOptions {
-        chains: args.chains as usize,
-        sweeps: args.sweeps,
+        chains: args.walks.chains as usize,
+        sweeps: args.walks.sweeps,
         top: args.top,
         top_failures: args.until_failures.unwrap_or(1000),
         max_shots: args.shots.unwrap_or(SplittingOptions::default().max_shots),
