@@ -82,7 +82,7 @@ pub fn slopes(points: &[Point], per_round: bool, below: Option<f64>) -> Vec<Slop
 
 /// Weighted least squares of `y` on `x` (module docs): `(slope, standard error, intercept)`,
 /// `None` with fewer than two distinct `x`.
-fn fit_line(data: &[(f64, f64, Option<f64>)]) -> Option<(f64, Option<f64>, f64)> {
+pub(crate) fn fit_line(data: &[(f64, f64, Option<f64>)]) -> Option<(f64, Option<f64>, f64)> {
     let n = data.len();
     if n < 2 {
         return None;

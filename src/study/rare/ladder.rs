@@ -14,6 +14,7 @@ use super::{
 };
 use crate::decode::Decoder;
 use crate::study::pipeline::StudyError;
+use crate::study::slope::fit_line;
 use crate::study::stats::Z95;
 
 /// Failure rate at which a pilot run accepts a scale as the top of the ladder.
@@ -584,14 +585,14 @@ pub fn fit_exponent(points: &[LadderPoint], max_scale: f64) -> Option<ExponentFi
     if used.len() < 2 {
         return None;
     }
-    let x: Vec<f64> = used.iter().map(|p| p.scale.ln()).collect();
+    // Unweighted: the walks' spread, not the fit's residuals, gives the error below.
     let slope = |y: &[f64]| -> Option<f64> {
-        let n = x.len() as f64;
-        let mx = x.iter().sum::<f64>() / n;
-        let my = y.iter().sum::<f64>() / n;
-        let sxx: f64 = x.iter().map(|a| (a - mx).powi(2)).sum();
-        let sxy: f64 = x.iter().zip(y).map(|(a, b)| (a - mx) * (b - my)).sum();
-        (sxx > 0.0).then(|| sxy / sxx)
+        let data: Vec<(f64, f64, Option<f64>)> = used
+            .iter()
+            .zip(y)
+            .map(|(p, &y)| (p.scale.ln(), y, None))
+            .collect();
+        fit_line(&data).map(|(slope, _, _)| slope)
     };
     let exponent = slope(&used.iter().map(|p| p.rate.ln()).collect::<Vec<_>>())?;
     let walks = used.iter().map(|p| p.walks.len()).min().unwrap_or(0);
