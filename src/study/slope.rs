@@ -18,6 +18,7 @@
 
 use std::collections::BTreeMap;
 
+use crate::study::stats::fit_line;
 use crate::study::sweep::Point;
 
 /// The fitted slope of one distance.
@@ -78,48 +79,6 @@ pub fn slopes(points: &[Point], per_round: bool, below: Option<f64>) -> Vec<Slop
             })
         })
         .collect()
-}
-
-/// Weighted least squares of `y` on `x` (module docs): `(slope, standard error, intercept)`,
-/// `None` with fewer than two distinct `x`.
-pub(crate) fn fit_line(data: &[(f64, f64, Option<f64>)]) -> Option<(f64, Option<f64>, f64)> {
-    let n = data.len();
-    if n < 2 {
-        return None;
-    }
-    let weighted = data.iter().all(|d| d.2.is_some_and(|s| s > 0.0));
-    let w = |d: &(f64, f64, Option<f64>)| match d.2 {
-        Some(s) if weighted => 1.0 / (s * s),
-        _ => 1.0,
-    };
-    let sw: f64 = data.iter().map(w).sum();
-    let mx = data.iter().map(|d| w(d) * d.0).sum::<f64>() / sw;
-    let my = data.iter().map(|d| w(d) * d.1).sum::<f64>() / sw;
-    let sxx: f64 = data.iter().map(|d| w(d) * (d.0 - mx).powi(2)).sum();
-    if sxx.is_nan() || sxx <= 0.0 {
-        return None;
-    }
-    let sxy: f64 = data.iter().map(|d| w(d) * (d.0 - mx) * (d.1 - my)).sum();
-    let slope = sxy / sxx;
-    let intercept = my - slope * mx;
-    let chi2: f64 = data
-        .iter()
-        .map(|d| w(d) * (d.1 - intercept - slope * d.0).powi(2))
-        .sum();
-    let dof = n as f64 - 2.0;
-    let error = if weighted {
-        let inflate = if dof > 0.0 {
-            (chi2 / dof).sqrt().max(1.0)
-        } else {
-            1.0
-        };
-        Some(inflate / sxx.sqrt())
-    } else if dof > 0.0 {
-        Some((chi2 / dof / sxx).sqrt())
-    } else {
-        None
-    };
-    Some((slope, error, intercept))
 }
 
 #[cfg(test)]

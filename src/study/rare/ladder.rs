@@ -14,7 +14,7 @@ use super::{
 };
 use crate::decode::Decoder;
 use crate::study::pipeline::StudyError;
-use crate::study::slope::fit_line;
+use crate::study::stats::fit_line;
 use crate::study::stats::Z95;
 
 /// Failure rate at which a pilot run accepts a scale as the top of the ladder.
